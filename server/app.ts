@@ -1,0 +1,89 @@
+import fs from 'node:fs'
+import path from 'node:path'
+import express, { type Express } from 'express'
+import session from 'express-session'
+import helmet from 'helmet'
+import cookieParser from 'cookie-parser'
+import type { AppContext } from './core/context'
+import { apiNotFound, errorHandler } from './core/errors'
+import { createApi } from './core/routes'
+import { sessionSecret } from './core/settings'
+import { createPassport } from './auth/passport'
+import { createCsrf } from './auth/csrf'
+import { SqliteSessionStore } from './auth/session-store'
+import { registerAuthRoutes } from './auth/auth.routes'
+import { registerTeamRoutes } from './team/team.routes'
+import { registerOutboxRoutes } from './mail/outbox.routes'
+import { registerHealthRoutes } from './health/health.routes'
+
+export interface BuiltApp {
+  app: Express
+  close(): Promise<void>
+}
+
+/** The HTTP app: middleware in order, then every feature's routes, then the one error handler. */
+export async function createApp(ctx: AppContext): Promise<BuiltApp> {
+  const app = express()
+  const secure = ctx.config.publicUrl.startsWith('https:')
+  const secret = await sessionSecret(ctx.db, ctx.config.sessionSecret)
+  const store = new SqliteSessionStore(ctx.db)
+  const passport = createPassport(ctx.db)
+  const csrf = createCsrf(secret, secure)
+
+  if (secure) app.set('trust proxy', 1)
+  app.disable('x-powered-by')
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          'img-src': ["'self'", 'data:', 'blob:'],
+          'media-src': ["'self'", 'blob:'],
+          'worker-src': ["'self'", 'blob:'],
+        },
+      },
+      crossOriginEmbedderPolicy: false,
+    }),
+  )
+  app.use(cookieParser())
+  app.use(express.json({ limit: '1mb' }))
+  app.use(
+    session({
+      name: 'sf.sid',
+      secret,
+      store,
+      resave: false,
+      saveUninitialized: false,
+      rolling: true,
+      cookie: { httpOnly: true, sameSite: 'lax', secure, maxAge: 14 * 24 * 60 * 60 * 1000 },
+    }),
+  )
+  app.use(passport.initialize())
+  app.use(passport.session())
+  app.use('/api', csrf.protect)
+
+  const api = createApi(app)
+  registerHealthRoutes(api, ctx)
+  registerAuthRoutes(api, ctx, { passport, store, csrfToken: csrf.generateCsrfToken })
+  registerTeamRoutes(api, ctx, { store, passport })
+  registerOutboxRoutes(api, ctx)
+  app.use('/api', api.router)
+  app.use('/api', apiNotFound)
+
+  serveClient(app, ctx.config.clientDir)
+  app.use(errorHandler)
+
+  return {
+    app,
+    async close() {
+      store.close()
+    },
+  }
+}
+
+/** The built client and its history-mode fallback, when a build exists. */
+function serveClient(app: Express, dir: string) {
+  const index = path.join(dir, 'index.html')
+  if (!fs.existsSync(index)) return
+  app.use(express.static(dir, { index: false, maxAge: '1h' }))
+  app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(index))
+}

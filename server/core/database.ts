@@ -1,0 +1,31 @@
+import fs from 'node:fs'
+import path from 'node:path'
+import SQLite from 'better-sqlite3'
+import { Kysely, Migrator, SqliteDialect } from 'kysely'
+import type { Database } from '../../db/schema'
+import { migrations } from '../../db/migrations'
+
+export type Db = Kysely<Database>
+
+/** Opens the SQLite file with WAL, a busy timeout and foreign keys on. */
+export function openDatabase(file: string): Db {
+  if (file !== ':memory:') fs.mkdirSync(path.dirname(file), { recursive: true })
+  const sqlite = new SQLite(file)
+  sqlite.pragma('journal_mode = WAL')
+  sqlite.pragma('busy_timeout = 5000')
+  sqlite.pragma('foreign_keys = ON')
+  sqlite.pragma('synchronous = NORMAL')
+  return new Kysely<Database>({ dialect: new SqliteDialect({ database: sqlite }) })
+}
+
+export async function migrateToLatest(db: Kysely<any>): Promise<void> {
+  const migrator = new Migrator({
+    db,
+    provider: { getMigrations: async () => migrations },
+  })
+  const { error, results } = await migrator.migrateToLatest()
+  const failed = results?.find((r) => r.status === 'Error')
+  if (error || failed) {
+    throw new Error(`Database migration failed${failed ? ` at ${failed.migrationName}` : ''}: ${String(error)}`)
+  }
+}

@@ -1,0 +1,148 @@
+// The one shape of a measured file: what the engine returns, what the API
+// serves inside a take, what the client draws and what the CLI prints.
+// Field names are fixed by the product's public API; keep them.
+import { z } from 'zod'
+
+/** A level in dB, or null where it is undefined (silence, below a gate). Never ±Infinity or NaN. */
+const Db = z.number().finite().nullable()
+
+export const WavFormat = z.object({
+  container: z.enum(['RIFF', 'RF64', 'BW64']),
+  encoding: z.enum(['pcm', 'float']),
+  bitsPerSample: z.number().int(),
+  validBitsPerSample: z.number().int(),
+  sampleRate: z.number().int(),
+  channels: z.number().int(),
+  /** WAVE_FORMAT_EXTENSIBLE speaker mask; 0 when the file has none. */
+  channelMask: z.number().int(),
+  frames: z.number().int(),
+  durationSeconds: z.number(),
+  /** true when the data size was 0 or 0xFFFFFFFF (recorder stopped mid-take) and was taken from the file length. */
+  recovered: z.boolean(),
+})
+export type WavFormat = z.infer<typeof WavFormat>
+
+export const ChannelLevels = z.object({
+  samplePeakDbfs: Db,
+  truePeakDbtp: Db,
+  rmsDbfs: Db,
+  /** Mean sample value as a fraction of full scale (−1..1). */
+  dcOffset: z.number(),
+  crestFactorDb: Db,
+  /** Samples that belong to runs of consecutive full-scale samples. */
+  clippedSamples: z.number().int(),
+})
+export type ChannelLevels = z.infer<typeof ChannelLevels>
+
+export const Levels = z.object({
+  samplePeakDbfs: Db,
+  truePeakDbtp: Db,
+  rmsDbfs: Db,
+  channels: z.array(ChannelLevels),
+})
+export type Levels = z.infer<typeof Levels>
+
+export const Loudness = z.object({
+  integratedLufs: Db,
+  loudnessRangeLu: z.number().finite().nullable(),
+  maxMomentaryLufs: Db,
+  maxShortTermLufs: Db,
+})
+export type Loudness = z.infer<typeof Loudness>
+
+export const TonalPeak = z.object({ hz: z.number(), db: z.number() })
+export type TonalPeak = z.infer<typeof TonalPeak>
+
+export const MainsHum = z.object({
+  hz: z.union([z.literal(50), z.literal(60)]).nullable(),
+  /** Energy at the fundamental and harmonics against the neighbouring bands, in dB, for the winning (or best) candidate. */
+  ratioDb: z.number().finite().nullable(),
+})
+export type MainsHum = z.infer<typeof MainsHum>
+
+export const Spectrum = z.object({
+  centroidHz: z.number().finite().nullable(),
+  tonalPeaks: z.array(TonalPeak),
+  mainsHum: MainsHum,
+})
+export type Spectrum = z.infer<typeof Spectrum>
+
+/** EBU Tech 3285 broadcast-wave extension chunk; loudness fields decoded to their units. */
+export const Bext = z.object({
+  description: z.string(),
+  originator: z.string(),
+  originatorReference: z.string(),
+  originationDate: z.string(),
+  originationTime: z.string(),
+  /** Sample count since midnight of the first sample (64-bit; a number is exact up to 2^53). */
+  timeReference: z.number(),
+  version: z.number().int(),
+  /** Hex string of the 64-byte UMID with trailing zero bytes removed; empty when unset. */
+  umid: z.string(),
+  loudnessValue: z.number().nullable(),
+  loudnessRange: z.number().nullable(),
+  maxTruePeakLevel: z.number().nullable(),
+  maxMomentaryLoudness: z.number().nullable(),
+  maxShortTermLoudness: z.number().nullable(),
+  codingHistory: z.string(),
+})
+export type Bext = z.infer<typeof Bext>
+
+export const Ixml = z.object({
+  project: z.string().nullable(),
+  scene: z.string().nullable(),
+  take: z.string().nullable(),
+  tape: z.string().nullable(),
+  note: z.string().nullable(),
+  /** The whole iXML document as the file holds it. */
+  raw: z.string(),
+})
+export type Ixml = z.infer<typeof Ixml>
+
+export const Cue = z.object({ id: z.number().int(), label: z.string().nullable(), frame: z.number().int() })
+export type Cue = z.infer<typeof Cue>
+
+export const Loop = z.object({
+  start: z.number().int(),
+  end: z.number().int(),
+  /** smpl loop type: 0 forward, 1 alternating, 2 backward; other values kept as they are. */
+  type: z.number().int(),
+})
+export type Loop = z.infer<typeof Loop>
+
+export const FileMetadata = z.object({
+  bext: Bext.nullable(),
+  ixml: Ixml.nullable(),
+  /** LIST/INFO entries keyed by their four-character id (INAM, ICMT, IART, ICRD, ISFT, IKEY…). */
+  info: z.record(z.string(), z.string()),
+  cues: z.array(Cue),
+  loops: z.array(Loop),
+  /** General tags as music-metadata reads them (title, artist, comment…), for display. */
+  tags: z.record(z.string(), z.string()).default({}),
+})
+export type FileMetadata = z.infer<typeof FileMetadata>
+
+export const Analysis = z.object({
+  levels: Levels,
+  loudness: Loudness,
+  noiseFloorDbfs: Db,
+  spectrum: Spectrum,
+  metadata: FileMetadata,
+})
+export type Analysis = z.infer<typeof Analysis>
+
+/** One element of `npm run analyze -- --json` output. */
+export const AnalyzeCliResult = z.union([
+  z.object({ file: z.string(), ok: z.literal(true), format: WavFormat, analysis: Analysis }),
+  z.object({ file: z.string(), ok: z.literal(false), error: z.object({ code: z.string(), message: z.string() }) }),
+])
+export type AnalyzeCliResult = z.infer<typeof AnalyzeCliResult>
+
+/** Waveform overview in the form wavesurfer.js takes directly: one array per channel, values −1..1, min/max interleaved. */
+export const Peaks = z.object({
+  durationSeconds: z.number(),
+  sampleRate: z.number().int(),
+  samplesPerPixel: z.number().int(),
+  data: z.array(z.array(z.number())),
+})
+export type Peaks = z.infer<typeof Peaks>
