@@ -1,0 +1,113 @@
+// The one HTTP client of the app. Views call stores or composables, which call
+// this; nothing else uses fetch. It keeps the CSRF token and turns every error
+// answer into an ApiError with the server's code and sentence.
+import type { ApiErrorBody } from '@shared/schemas/common'
+
+export class ApiError extends Error {
+  constructor(
+    public status: number,
+    public code: string,
+    message: string,
+    public details: Record<string, unknown> = {},
+  ) {
+    super(message)
+  }
+}
+
+let csrfToken: string | null = null
+
+async function fetchCsrf(): Promise<string> {
+  const res = await fetch('/api/auth/csrf', { credentials: 'same-origin' })
+  csrfToken = ((await res.json()) as { token: string }).token
+  return csrfToken
+}
+
+/** Forget the token: the session id changed (sign-in, sign-out). */
+export const resetCsrf = () => {
+  csrfToken = null
+}
+
+async function toApiError(res: Response): Promise<ApiError> {
+  try {
+    const body = (await res.json()) as ApiErrorBody
+    return new ApiError(res.status, body.error.code, body.error.message, body.error.details ?? {})
+  } catch {
+    return new ApiError(res.status, 'HTTP_' + res.status, `The server answered ${res.status} ${res.statusText}`)
+  }
+}
+
+export async function request<T>(method: string, url: string, body?: unknown, retried = false): Promise<T> {
+  const headers: Record<string, string> = {}
+  const unsafe = method !== 'GET' && method !== 'HEAD'
+  if (unsafe) headers['x-csrf-token'] = csrfToken ?? (await fetchCsrf())
+  if (body !== undefined) headers['content-type'] = 'application/json'
+  const res = await fetch(url, {
+    method,
+    headers,
+    credentials: 'same-origin',
+    body: body === undefined ? undefined : JSON.stringify(body),
+  })
+  if (res.ok) return (res.status === 204 ? undefined : await res.json()) as T
+  const err = await toApiError(res)
+  // A stale token (the session changed in another tab): fetch a new one once.
+  if (err.code === 'CSRF_INVALID' && !retried) {
+    resetCsrf()
+    return request<T>(method, url, body, true)
+  }
+  throw err
+}
+
+export const api = {
+  get: <T>(url: string) => request<T>('GET', url),
+  post: <T>(url: string, body?: unknown) => request<T>('POST', url, body ?? {}),
+  patch: <T>(url: string, body?: unknown) => request<T>('PATCH', url, body ?? {}),
+  put: <T>(url: string, body?: unknown) => request<T>('PUT', url, body ?? {}),
+  delete: <T>(url: string) => request<T>('DELETE', url),
+}
+
+/** Query string from an object, leaving out empty values. */
+export function qs(params: Record<string, unknown>): string {
+  const sp = new URLSearchParams()
+  for (const [k, v] of Object.entries(params)) {
+    if (v === undefined || v === null || v === '') continue
+    if (Array.isArray(v)) v.forEach((x) => sp.append(k, String(x)))
+    else sp.set(k, String(v))
+  }
+  const s = sp.toString()
+  return s ? `?${s}` : ''
+}
+
+export interface UploadHandle {
+  promise: Promise<unknown>
+  abort(): void
+}
+
+/** Multipart upload with progress (fetch has no upload progress; XMLHttpRequest does). */
+export function upload(url: string, file: File, onProgress: (fraction: number) => void, field = 'file'): UploadHandle {
+  const xhr = new XMLHttpRequest()
+  const promise = (async () => {
+    const token = csrfToken ?? (await fetchCsrf())
+    return new Promise<unknown>((resolve, reject) => {
+      xhr.open('POST', url)
+      xhr.setRequestHeader('x-csrf-token', token)
+      xhr.upload.onprogress = (e) => e.lengthComputable && onProgress(e.loaded / e.total)
+      xhr.onload = () => {
+        let body: unknown = null
+        try {
+          body = JSON.parse(xhr.responseText)
+        } catch {
+          /* not JSON: handled below */
+        }
+        if (xhr.status >= 200 && xhr.status < 300) return resolve(body)
+        const e = (body as ApiErrorBody | null)?.error
+        reject(new ApiError(xhr.status, e?.code ?? `HTTP_${xhr.status}`, e?.message ?? `Upload failed (${xhr.status})`, e?.details ?? {}))
+      }
+      xhr.onerror = () => reject(new ApiError(0, 'NETWORK', 'The connection to the server was lost'))
+      xhr.onabort = () => reject(new ApiError(0, 'ABORTED', 'Upload cancelled'))
+      const form = new FormData()
+      form.append(field, file, file.name)
+      xhr.send(form)
+    })
+  })()
+  return { promise, abort: () => xhr.abort() }
+}

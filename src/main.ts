@@ -1,0 +1,18 @@
+import { createApp } from 'vue'
+import { createPinia } from 'pinia'
+import ElementPlus from 'element-plus'
+import '@fontsource/space-grotesk/400.css'
+import '@fontsource/space-grotesk/500.css'
+import '@fontsource/space-grotesk/600.css'
+import '@fontsource/space-grotesk/700.css'
+import './styles/index.scss'
+import App from './App.vue'
+import { router } from './router'
+import { useThemeStore } from './stores/theme'
+
+const app = createApp(App)
+app.use(createPinia())
+useThemeStore()
+app.use(router)
+app.use(ElementPlus)
+app.mount('#app')

@@ -1,0 +1,49 @@
+import { createRouter, createWebHistory, type RouteRecordRaw } from 'vue-router'
+import type { Permission } from '@shared/permissions'
+import { useAuthStore } from '@/stores/auth'
+import { AREAS } from './areas'
+
+declare module 'vue-router' {
+  interface RouteMeta {
+    /** Open without signing in. */
+    public?: boolean
+    /** The permission this view needs (from shared/permissions). */
+    permission?: Permission
+    title?: string
+  }
+}
+
+const routes: RouteRecordRaw[] = [
+  { path: '/', redirect: '/captures' },
+  { path: '/sign-in', name: 'sign-in', component: () => import('@/views/SignInView.vue'), meta: { public: true, title: 'Sign in' } },
+  { path: '/join/:token', name: 'join', component: () => import('@/views/JoinView.vue'), meta: { public: true, title: 'Join the team' } },
+  { path: '/reset/:token', name: 'reset', component: () => import('@/views/ResetView.vue'), meta: { public: true, title: 'New password' } },
+  { path: '/captures', name: 'captures', component: () => import('@/views/CapturesView.vue'), meta: { permission: 'library:browse', title: 'Captures' } },
+  { path: '/library', name: 'library', component: () => import('@/views/LibraryView.vue'), meta: { permission: 'library:browse', title: 'Library' } },
+  { path: '/sources', name: 'sources', component: () => import('@/views/SourcesView.vue'), meta: { permission: 'library:browse', title: 'Sources' } },
+  { path: '/packs', name: 'packs', component: () => import('@/views/PacksView.vue'), meta: { permission: 'packs:receive', title: 'Packs' } },
+  { path: '/team', name: 'team', component: () => import('@/views/TeamView.vue'), meta: { permission: 'team:manage', title: 'Team' } },
+  { path: '/outbox', name: 'outbox', component: () => import('@/views/OutboxView.vue'), meta: { permission: 'team:manage', title: 'Outbox' } },
+  { path: '/not-allowed', name: 'not-allowed', component: () => import('@/views/NotAllowedView.vue'), meta: { title: 'Not for your role' } },
+  { path: '/:rest(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { public: true, title: 'Not found' } },
+]
+
+export const router = createRouter({ history: createWebHistory(), routes })
+
+/** The one guard: signed in for every non-public view, and the view's permission from the shared table. */
+router.beforeEach(async (to) => {
+  const auth = useAuthStore()
+  const user = await auth.check()
+  if (to.meta.public) return to.name === 'sign-in' && user ? firstArea(auth.can) : true
+  if (!user) return { name: 'sign-in', query: { next: to.fullPath } }
+  if (to.meta.permission && !auth.can(to.meta.permission)) return { name: 'not-allowed', query: { from: to.fullPath } }
+  return true
+})
+
+router.afterEach((to) => {
+  document.title = to.meta.title ? `${to.meta.title} · Strayfield` : 'Strayfield'
+})
+
+export function firstArea(can: (p: Permission) => boolean): string {
+  return AREAS.find((a) => can(a.permission))?.path ?? '/not-allowed'
+}
