@@ -10,11 +10,6 @@ const alias = {
 export default defineConfig({
   plugins: [vue()],
   resolve: { alias },
-  css: {
-    preprocessorOptions: {
-      scss: { api: 'modern-compiler' },
-    },
-  },
   build: { outDir: 'dist', chunkSizeWarningLimit: 1500 },
   server: {
     port: 5173,
