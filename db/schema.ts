@@ -60,6 +60,108 @@ export interface MailMessageTable {
 }
 export type MailMessageRow = Selectable<MailMessageTable>
 
+export interface SourceTable {
+  id: Generated<number>
+  name: string
+  kind: string
+  make_model: string | null
+  notes: string | null
+  created_by: number | null
+  created_at: Generated<string>
+}
+export type SourceRow = Selectable<SourceTable>
+
+export interface CaptureSessionTable {
+  id: Generated<number>
+  title: string
+  date: string
+  location: Generated<string>
+  pickup: Generated<string>
+  gain_db: number | null
+  recorder: Generated<string>
+  rig_notes: Generated<string>
+  default_source_id: number | null
+  default_state: Generated<string>
+  created_by: number | null
+  created_at: Generated<string>
+  updated_at: Generated<string>
+}
+export type CaptureSessionRow = Selectable<CaptureSessionTable>
+export type CaptureSessionUpdate = Updateable<CaptureSessionTable>
+
+export type TakeStatus = 'queued' | 'analyzing' | 'ready' | 'failed'
+
+export interface TakeTable {
+  id: Generated<number>
+  session_id: number
+  uploader_id: number | null
+  filename: string
+  title: Generated<string>
+  description: Generated<string>
+  notes: Generated<string>
+  audio_path: string
+  size_bytes: number
+  sha256: string
+  status: Generated<TakeStatus>
+  progress: Generated<number>
+  error: string | null
+  format_json: string | null
+  analysis_json: string | null
+  thumb_json: string | null
+  duration_seconds: number | null
+  sample_rate: number | null
+  channels: number | null
+  bits_per_sample: number | null
+  integrated_lufs: number | null
+  true_peak_dbtp: number | null
+  loudness_range_lu: number | null
+  sample_peak_dbfs: number | null
+  noise_floor_dbfs: number | null
+  hum_hz: number | null
+  bext_description: Generated<string>
+  created_at: Generated<string>
+  updated_at: Generated<string>
+}
+export type TakeRow = Selectable<TakeTable>
+export type NewTake = Insertable<TakeTable>
+export type TakeUpdate = Updateable<TakeTable>
+
+export interface TakeSourceTable {
+  take_id: number
+  source_id: number
+  state: Generated<string>
+}
+
+export interface TakeTagTable {
+  take_id: number
+  tag: string
+}
+
+export interface TakeEventTable {
+  id: Generated<number>
+  take_id: number
+  user_id: number | null
+  kind: string
+  summary: string
+  created_at: Generated<string>
+}
+
+export type JobStatus = 'queued' | 'running' | 'done' | 'failed'
+
+export interface JobTable {
+  id: Generated<number>
+  kind: string
+  ref_id: number
+  status: Generated<JobStatus>
+  progress: Generated<number>
+  error: string | null
+  attempts: Generated<number>
+  created_at: Generated<string>
+  started_at: string | null
+  finished_at: string | null
+}
+export type JobRow = Selectable<JobTable>
+
 export interface Database {
   users: UserTable
   sessions: SessionTable
@@ -67,4 +169,11 @@ export interface Database {
   invitations: InvitationTable
   password_resets: PasswordResetTable
   mail_messages: MailMessageTable
+  sources: SourceTable
+  capture_sessions: CaptureSessionTable
+  takes: TakeTable
+  take_sources: TakeSourceTable
+  take_tags: TakeTagTable
+  take_events: TakeEventTable
+  jobs: JobTable
 }

@@ -15,6 +15,10 @@ import { registerAuthRoutes } from './auth/auth.routes'
 import { registerTeamRoutes } from './team/team.routes'
 import { registerOutboxRoutes } from './mail/outbox.routes'
 import { registerHealthRoutes } from './health/health.routes'
+import { registerCaptureRoutes } from './captures/captures.routes'
+import { registerIngestRoutes } from './ingest/ingest.routes'
+import { registerTakeRoutes } from './takes/takes.routes'
+import { registerSourceRoutes } from './sources/sources.routes'
 
 export interface BuiltApp {
   app: Express
@@ -66,6 +70,10 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerAuthRoutes(api, ctx, { passport, store, csrfToken: csrf.generateCsrfToken })
   registerTeamRoutes(api, ctx, { store, passport })
   registerOutboxRoutes(api, ctx)
+  registerCaptureRoutes(api, ctx)
+  registerIngestRoutes(api, ctx)
+  registerTakeRoutes(api, ctx)
+  registerSourceRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

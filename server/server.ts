@@ -6,6 +6,10 @@ import { createMailer } from './mail/mailer'
 import { createApp } from './app'
 import { seedDemo } from './demo/seed'
 import type { AppContext } from './core/context'
+import { Storage } from './core/storage'
+import { JobRunner } from './jobs/job-runner'
+import { createAnalysisPool } from './audio/pool'
+import { analysisJob } from './ingest/analysis.job'
 
 export interface RunningServer {
   url: string
@@ -21,10 +25,19 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
   const mailer = await createMailer(config, db)
-  const ctx: AppContext = { config, db, mailer }
+  const storage = new Storage(config.storageDir)
+  storage.sweepIncoming()
+  const pool = createAnalysisPool(config.analysisWorkers || undefined)
+  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner }
+  ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool) })
   if (config.demo) await seedDemo(ctx)
+  if (config.runJobs) await ctx.jobs.start()
   const built = await createApp(ctx)
   const server = http.createServer(built.app)
+  // Long takes upload for a long time: lift Node's 5-minute whole-request limit
+  // (headers must still arrive within a minute).
+  server.requestTimeout = 0
+  server.headersTimeout = 60_000
   await new Promise<void>((resolve, reject) => {
     server.once('error', reject)
     server.listen(config.port, resolve)
@@ -40,6 +53,8 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
         server.close(() => resolve())
         server.closeAllConnections()
       })
+      await ctx.jobs.stop()
+      await pool.close()
       await built.close()
       await mailer.close()
       await db.destroy()

@@ -3,7 +3,11 @@
 // tests/api/migrations.test.ts fails if a file in this folder is missing here.
 import type { Migration } from 'kysely'
 import * as foundation from './20261201120000_foundation'
+import * as capturesAndTakes from './20261201130000_captures_and_takes'
+import * as takeSearch from './20261201140000_take_search'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
+  '20261201130000_captures_and_takes': capturesAndTakes,
+  '20261201140000_take_search': takeSearch,
 }

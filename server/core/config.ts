@@ -19,6 +19,12 @@ export interface Config {
   /** Port of the embedded mail catcher (0: any free port). */
   mailCatcherPort: number
   analysisWorkers: number
+  /** Largest upload accepted, in bytes (at least 4 GiB for long takes). */
+  maxUploadBytes: number
+  /** Start the durable job runner (tests of the queue itself may start it by hand). */
+  runJobs: boolean
+  /** With the demo team, also synthesise and measure the demo capture session. */
+  demoAudio: boolean
 }
 
 export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Partial<Config> = {}): Config {
@@ -37,6 +43,9 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     mailCatcher: !env.SMTP_URL,
     mailCatcherPort: Number(env.STRAYFIELD_MAIL_CATCHER_PORT ?? 0),
     analysisWorkers: Number(env.STRAYFIELD_ANALYSIS_WORKERS ?? 0),
+    maxUploadBytes: Number(env.STRAYFIELD_MAX_UPLOAD_BYTES ?? 8 * 2 ** 30),
+    runJobs: true,
+    demoAudio: true,
   }
   return { ...base, ...overrides }
 }

@@ -1,10 +1,14 @@
 import type { Config } from './config'
 import type { Db } from './database'
+import type { Storage } from './storage'
 import type { Mailer } from '../mail/mailer'
+import type { JobRunner } from '../jobs/job-runner'
 
 /** What every feature's routes and services are handed: no globals. */
 export interface AppContext {
   config: Config
   db: Db
   mailer: Mailer
+  storage: Storage
+  jobs: JobRunner
 }

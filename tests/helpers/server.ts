@@ -16,6 +16,7 @@ export async function startTestServer(overrides: Partial<Config> = {}): Promise<
       dbFile: path.join(dir, 'test.sqlite'),
       storageDir: path.join(dir, 'storage'),
       demo: true,
+      demoAudio: false,
       clientDir: path.join(dir, 'no-client'),
       ...overrides,
     },

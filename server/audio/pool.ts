@@ -1,0 +1,144 @@
+// A pool of worker threads running analyzeFile, so long analyses never block
+// the API's event loop. One task per worker at a time; tasks queue in order.
+// A worker that crashes or exits is replaced and its task rejected, so a
+// caller never waits on a promise that cannot settle.
+import { readFileSync } from 'node:fs'
+import { createRequire } from 'node:module'
+import { availableParallelism } from 'node:os'
+import { dirname, join } from 'node:path'
+import { pathToFileURL } from 'node:url'
+import { Worker } from 'node:worker_threads'
+import type { AnalyzeResult } from './analyze'
+import type { WorkerError, WorkerReply, WorkerTask } from './analyze-worker'
+import { WavFormatError } from './wav-reader'
+
+export interface AnalysisPool {
+  readonly size: number
+  run(path: string, peaksPath?: string, onProgress?: (fraction: number) => void): Promise<AnalyzeResult>
+  /** Rejects queued and running tasks and stops the workers. */
+  close(): Promise<void>
+}
+
+export interface PoolOptions {
+  /** Worker entry; defaults to analyze-worker beside this file (.ts under tsx, .js when built). */
+  workerUrl?: URL
+}
+
+interface Task extends WorkerTask {
+  onProgress?: (fraction: number) => void
+  resolve: (r: AnalyzeResult) => void
+  reject: (e: Error) => void
+}
+
+interface Slot {
+  worker: Worker
+  task: Task | null
+}
+
+export function defaultPoolSize(): number {
+  return Math.max(1, availableParallelism() - 1)
+}
+
+function defaultWorkerUrl(): URL {
+  const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
+  return new URL(`./analyze-worker${ext}`, import.meta.url)
+}
+
+/**
+ * tsx's ESM API (its `exports` entry for import), resolved from this file so it works whatever the cwd.
+ * Node 20 does not apply `--import tsx` from a worker's execArgv to the worker's modules, so a .ts
+ * worker is started by a bootstrap that loads it through tsx's tsImport instead.
+ */
+function tsxApiUrl(): string {
+  const pkgPath = createRequire(import.meta.url).resolve('tsx/package.json')
+  const pkg = JSON.parse(readFileSync(pkgPath, 'utf8')) as { exports: Record<string, { import: { default: string } }> }
+  return pathToFileURL(join(dirname(pkgPath), pkg.exports['./esm/api'].import.default)).href
+}
+
+function spawn(url: URL): Worker {
+  if (!url.pathname.endsWith('.ts')) return new Worker(url)
+  const target = JSON.stringify(url.href)
+  const boot = `import(${JSON.stringify(tsxApiUrl())}).then((tsx) => tsx.tsImport(${target}, ${target}))`
+  return new Worker(boot, { eval: true })
+}
+
+function revive(e: WorkerError): Error {
+  if (e.name === 'WavFormatError') return new WavFormatError(e.reason ?? e.message)
+  const err = new Error(e.message) as NodeJS.ErrnoException
+  if (e.code) err.code = e.code
+  return err
+}
+
+export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions = {}): AnalysisPool {
+  const url = opts.workerUrl ?? defaultWorkerUrl()
+  const slots: Slot[] = []
+  const queue: Task[] = []
+  let nextId = 1
+  let closed = false
+
+  function settle(slot: Slot): void {
+    slot.task = null
+    slot.worker.unref() // an idle worker must not keep the process alive
+    dispatch()
+  }
+
+  function start(): Slot {
+    const slot: Slot = { worker: spawn(url), task: null }
+    slot.worker.on('message', (m: WorkerReply) => {
+      const task = slot.task
+      if (!task || m.id !== task.id) return
+      if (m.type === 'progress') task.onProgress?.(m.fraction)
+      else if (m.type === 'done') {
+        settle(slot)
+        task.resolve(m.result)
+      } else {
+        settle(slot)
+        task.reject(revive(m.error))
+      }
+    })
+    let failure: Error | null = null
+    slot.worker.on('error', (err) => {
+      failure = err
+    })
+    slot.worker.on('exit', (code) => {
+      slots.splice(slots.indexOf(slot), 1)
+      const task = slot.task
+      slot.task = null
+      if (task) {
+        const why = failure ? failure.message : `exit code ${code}`
+        task.reject(new Error(closed ? 'analysis pool closed' : `analysis worker crashed: ${why}`))
+      }
+      if (!closed) dispatch()
+    })
+    slots.push(slot)
+    return slot
+  }
+
+  function dispatch(): void {
+    while (queue.length > 0) {
+      const slot = slots.find((s) => s.task === null) ?? (slots.length < size ? start() : null)
+      if (!slot) return
+      const task = queue.shift()!
+      slot.task = task
+      slot.worker.ref()
+      const message: WorkerTask = { id: task.id, path: task.path, peaksPath: task.peaksPath }
+      slot.worker.postMessage(message)
+    }
+  }
+
+  return {
+    size,
+    run(path, peaksPath, onProgress) {
+      if (closed) return Promise.reject(new Error('analysis pool closed'))
+      return new Promise<AnalyzeResult>((resolve, reject) => {
+        queue.push({ id: nextId++, path, peaksPath, onProgress, resolve, reject })
+        dispatch()
+      })
+    },
+    async close() {
+      closed = true
+      for (const task of queue.splice(0)) task.reject(new Error('analysis pool closed'))
+      await Promise.all(slots.map((s) => s.worker.terminate()))
+    },
+  }
+}

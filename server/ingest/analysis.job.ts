@@ -1,0 +1,77 @@
+import type { Analysis, WavFormat } from '@shared/schemas/analysis'
+import type { AppContext } from '../core/context'
+import type { JobHandler } from '../jobs/job-runner'
+import type { AnalysisPool } from '../audio/pool'
+import { readPeaks } from '../audio/peaks'
+import { addEvent, findTake, updateTake } from '../takes/takes.repository'
+
+const THUMB_POINTS = 48
+
+/** A tiny 0..1 envelope for lists and the capture board, from the stored overview. */
+async function thumbnail(peaksPath: string): Promise<number[]> {
+  const peaks = await readPeaks(peaksPath, { maxPoints: THUMB_POINTS * 4 })
+  const pairs = peaks.data[0].length / 2
+  const out: number[] = []
+  for (let i = 0; i < THUMB_POINTS; i++) {
+    const from = Math.floor((i * pairs) / THUMB_POINTS)
+    const to = Math.max(from + 1, Math.floor(((i + 1) * pairs) / THUMB_POINTS))
+    let m = 0
+    for (const ch of peaks.data) for (let j = from; j < to && j < pairs; j++) m = Math.max(m, Math.abs(ch[2 * j]), Math.abs(ch[2 * j + 1]))
+    out.push(Math.round(Math.min(1, m) * 1000) / 1000)
+  }
+  return out
+}
+
+const fmt = (v: number | null, unit: string) => (v === null ? `— ${unit}` : `${v.toFixed(1)} ${unit}`)
+
+export function measuredColumns(format: WavFormat, analysis: Analysis) {
+  return {
+    format_json: JSON.stringify(format),
+    analysis_json: JSON.stringify(analysis),
+    duration_seconds: format.durationSeconds,
+    sample_rate: format.sampleRate,
+    channels: format.channels,
+    bits_per_sample: format.bitsPerSample,
+    integrated_lufs: analysis.loudness.integratedLufs,
+    true_peak_dbtp: analysis.levels.truePeakDbtp,
+    loudness_range_lu: analysis.loudness.loudnessRangeLu,
+    sample_peak_dbfs: analysis.levels.samplePeakDbfs,
+    noise_floor_dbfs: analysis.noiseFloorDbfs,
+    hum_hz: analysis.spectrum.mainsHum.hz,
+    bext_description: analysis.metadata.bext?.description ?? '',
+  }
+}
+
+/** Measures one take in the worker pool and stores every number with it. */
+export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
+  return {
+    concurrency: pool.size,
+    async run(job, progress) {
+      const take = await findTake(ctx.db, job.ref_id)
+      if (!take) return // deleted meanwhile
+      await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
+      let last = 0
+      const peaksPath = ctx.storage.peaksPath(take.id)
+      const { format, analysis } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
+        // A database write per 2 % is plenty for a live progress bar.
+        if (p - last < 0.02) return
+        last = p
+        void updateTake(ctx.db, take.id, { progress: p }).catch(() => undefined)
+        void progress(p).catch(() => undefined)
+      })
+      const thumb = await thumbnail(peaksPath)
+      await updateTake(ctx.db, take.id, { ...measuredColumns(format, analysis), thumb_json: JSON.stringify(thumb), status: 'ready', progress: 1 })
+      await addEvent(
+        ctx.db,
+        take.id,
+        null,
+        'measured',
+        `Measured: ${fmt(analysis.loudness.integratedLufs, 'LUFS')}, true peak ${fmt(analysis.levels.truePeakDbtp, 'dBTP')}`,
+      )
+    },
+    async failed(job, message) {
+      await updateTake(ctx.db, job.ref_id, { status: 'failed', error: message }).catch(() => undefined)
+      await addEvent(ctx.db, job.ref_id, null, 'failed', `Could not be measured: ${message}`).catch(() => undefined)
+    },
+  }
+}

@@ -1,0 +1,60 @@
+import { IdParams } from '@shared/schemas/common'
+import type { AppContext } from '../core/context'
+import { AppError, notFound } from '../core/errors'
+import type { Api } from '../core/routes'
+import { params } from '../core/validate'
+import { readPeaks } from '../audio/peaks'
+import { findTake } from './takes.repository'
+import { takeRowToTake, takeRowsToTakes } from './takes.mapper'
+import { searchTakeRows } from './takes.search'
+import { TakeQuery } from '@shared/schemas/takes'
+import { z } from 'zod'
+
+const PeaksQuery = z.object({ maxPoints: z.coerce.number().int().min(16).max(200_000).optional() })
+
+export function registerTakeRoutes(api: Api, ctx: AppContext) {
+  const load = async (id: number) => {
+    const row = await findTake(ctx.db, id)
+    if (!row) throw notFound('take', 'TAKE_NOT_FOUND')
+    return row
+  }
+
+  /** The library: full-text search, filters, sort, one page at a time. */
+  api.route('get', '/takes', 'library:browse', async (req, res) => {
+    const q = TakeQuery.parse(req.query)
+    const { rows, total } = await searchTakeRows(ctx.db, q)
+    res.json({ items: await takeRowsToTakes(ctx.db, rows, { withoutFileMetadata: true }), total, page: q.page, pageSize: q.pageSize })
+  })
+
+  api.route('get', '/takes/:id', 'library:browse', async (req, res) => {
+    res.json({ take: await takeRowToTake(ctx.db, await load(params(req, IdParams).id)) })
+  })
+
+  /** Waveform overview in the form wavesurfer.js takes: one min/max array per channel, −1..1. */
+  api.route('get', '/takes/:id/peaks', 'library:browse', async (req, res) => {
+    const row = await load(params(req, IdParams).id)
+    if (row.status !== 'ready') throw new AppError(409, 'NOT_MEASURED', `Take ${row.id} is ${row.status}; its waveform exists once it is measured`)
+    const { maxPoints } = PeaksQuery.parse(req.query)
+    res.set('Cache-Control', 'private, max-age=3600')
+    res.json(await readPeaks(ctx.storage.peaksPath(row.id), { maxPoints }))
+  })
+
+  /** The audio itself, with HTTP Range support (206, 416, Accept-Ranges) from Express's send. */
+  api.route('get', '/takes/:id/audio', 'library:browse', async (req, res, next) => {
+    const row = await load(params(req, IdParams).id)
+    res.sendFile(ctx.storage.abs(row.audio_path), {
+      acceptRanges: true,
+      headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, max-age=3600' },
+    }, (err?: Error & { status?: number }) => {
+      if (!err || res.headersSent) return
+      if (err.status === 416) {
+        res
+          .status(416)
+          .set('Content-Range', `bytes */${row.size_bytes}`)
+          .json({ error: { code: 'RANGE_NOT_SATISFIABLE', message: `The requested range lies outside the file's ${row.size_bytes} bytes`, details: { sizeBytes: row.size_bytes } } })
+        return
+      }
+      next(err)
+    })
+  })
+}

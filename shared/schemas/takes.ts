@@ -1,0 +1,93 @@
+import { z } from 'zod'
+import { Analysis, WavFormat } from './analysis'
+import { SourceKind } from './sources'
+
+export const TAKE_STATUSES = ['queued', 'analyzing', 'ready', 'failed'] as const
+export const TakeStatus = z.enum(TAKE_STATUSES)
+export type TakeStatus = z.infer<typeof TakeStatus>
+
+export const TakeSource = z.object({ sourceId: z.number().int(), name: z.string(), kind: SourceKind, state: z.string() })
+export type TakeSource = z.infer<typeof TakeSource>
+
+export const Take = z.object({
+  id: z.number().int(),
+  sessionId: z.number().int(),
+  sessionTitle: z.string(),
+  /** The original file name, always kept. */
+  filename: z.string(),
+  title: z.string(),
+  description: z.string(),
+  notes: z.string(),
+  status: TakeStatus,
+  /** 0..1 while analysing. */
+  progress: z.number(),
+  error: z.string().nullable(),
+  sizeBytes: z.number().int(),
+  sha256: z.string(),
+  uploader: z.object({ id: z.number().int(), name: z.string() }).nullable(),
+  createdAt: z.string(),
+  updatedAt: z.string(),
+  sources: z.array(TakeSource),
+  tags: z.array(z.string()),
+  /** Tiny overview for lists: 0..1 amplitudes. */
+  thumb: z.array(z.number()),
+  format: WavFormat.nullable(),
+  analysis: Analysis.nullable(),
+})
+export type Take = z.infer<typeof Take>
+
+/** The answer to an upload. */
+export const UploadedTake = z.object({ id: z.number().int(), filename: z.string(), status: TakeStatus })
+
+export const TAKE_SORTS = [
+  'createdAt',
+  'title',
+  'filename',
+  'session',
+  'duration',
+  'sampleRate',
+  'channels',
+  'integratedLufs',
+  'truePeak',
+  'loudnessRange',
+  'samplePeak',
+  'noiseFloor',
+  'hum',
+  'status',
+  'relevance',
+] as const
+export const TakeSort = z.enum(TAKE_SORTS)
+export type TakeSort = z.infer<typeof TakeSort>
+
+const num = z.coerce.number().finite()
+const int = z.coerce.number().int()
+/** A query value that may come once or repeated (?tag=a&tag=b). */
+const many = <T extends z.ZodTypeAny>(s: T) => z.preprocess((v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]), z.array(s).optional())
+
+/** GET /api/takes query. Names are part of the public API. */
+export const TakeQuery = z.object({
+  q: z.string().max(500).optional(),
+  sourceId: many(int.positive()),
+  sourceKind: many(SourceKind),
+  tag: many(z.string().max(80)),
+  sessionId: int.positive().optional(),
+  uploaderId: int.positive().optional(),
+  sampleRate: int.positive().optional(),
+  channels: int.positive().optional(),
+  minDuration: num.optional(),
+  maxDuration: num.optional(),
+  minLufs: num.optional(),
+  maxLufs: num.optional(),
+  minTruePeak: num.optional(),
+  maxTruePeak: num.optional(),
+  hum: z.enum(['50', '60', 'none']).optional(),
+  status: TakeStatus.optional(),
+  sort: TakeSort.optional(),
+  order: z.enum(['asc', 'desc']).optional(),
+  page: int.min(1).default(1),
+  pageSize: int.min(1).max(200).default(50),
+})
+export type TakeQuery = z.infer<typeof TakeQuery>
+
+export const TakePage = z.object({ items: z.array(Take), total: z.number().int(), page: z.number().int(), pageSize: z.number().int() })
+export type TakePage = z.infer<typeof TakePage>

@@ -1,0 +1,67 @@
+// Clipping and noise floor. References: sox's own count of the samples its
+// gain effect clipped, and sox stats' 50 ms windowed RMS trough ("RMS Tr dB")
+// and RMS level of the same noise. The clipping and noise-floor rules
+// themselves are common practice, documented in levels.ts and noise-floor.ts.
+import { execFileSync } from 'node:child_process'
+import { mkdtempSync, rmSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import { join } from 'node:path'
+import { afterAll, describe, expect, it } from 'vitest'
+import { analyzeFile } from '../../server/audio/analyze'
+import { sox, soxStats } from '../helpers/reference-tools'
+import { measure } from '../helpers/signals'
+
+const dir = mkdtempSync(join(tmpdir(), 'strayfield-levels-'))
+afterAll(() => rmSync(dir, { recursive: true, force: true }))
+
+function soxRmsTrough(path: string): number {
+  const out = execFileSync('sh', ['-c', 'sox "$1" -n stats 2>&1', 'sox', path], { encoding: 'utf8' })
+  return Number(/RMS Tr dB\s+(-?[0-9.]+)/.exec(out)![1])
+}
+
+describe('clipped samples', () => {
+  it('equal the count sox reports for a sine driven 6 dB past full scale (24-bit, sox gain effect)', async () => {
+    const file = join(dir, 'clipped.wav')
+    const log = execFileSync('sh', ['-c', 'sox -D -n -r 48000 -b 24 -c 1 "$1" synth 0.5 sine 1000 gain 6 2>&1', 'sox', file], {
+      encoding: 'utf8',
+    })
+    const soxCount = Number(/gain clipped (\d+) samples/.exec(log)![1])
+    const { levels } = (await analyzeFile(file)).analysis
+    expect(soxCount).toBeGreaterThan(1000)
+    expect(levels.channels[0].clippedSamples).toBe(soxCount)
+  })
+
+  it('count runs of ≥ 2 full-scale samples of one polarity, not single touches (common practice; rule in levels.ts)', () => {
+    const lsb = 2 ** -15
+    const top = 1 - lsb
+    // A single touch, a run of 3 at the top, a run of 2 at the bottom, alternating rails, a run across blocks.
+    const x = Float32Array.from([0, top, 0.5, top, top, top, 0, -1, -1, 0.2, top, -1, top, -1, 0, 0, top, top])
+    const r = measure([x], { sampleRate: 48000, channelMask: 0, encoding: 'pcm', validBitsPerSample: 16 }, 17)
+    expect(r.levels.channels[0].clippedSamples).toBe(3 + 2 + 2)
+  })
+
+  it('in float files only |x| ≥ 1.0 is full scale (common practice)', () => {
+    const x = Float32Array.from([0.99999, 0.99999, 0, 1.0, 1.3, 0, -1.2, -2.5, -1.0, 0])
+    const r = measure([x], { sampleRate: 48000, channelMask: 0, encoding: 'float' })
+    expect(r.levels.channels[0].clippedSamples).toBe(2 + 3)
+  })
+})
+
+describe('noise floor (10th percentile of 50 ms RMS windows, digital zero ignored)', () => {
+  it('of steady noise lies between sox stats’ 50 ms RMS trough and its overall RMS, despite tone and leading silence', async () => {
+    const noise = join(dir, 'noise.wav')
+    const tone = join(dir, 'tone.wav')
+    const take = join(dir, 'take.wav')
+    sox(['-n', '-r', '48000', '-b', '24', '-c', '2', noise, 'synth', '8', 'whitenoise', 'vol', '-60dB'])
+    sox(['-n', '-r', '48000', '-b', '24', '-c', '2', tone, 'synth', '2', 'sine', '440', 'vol', '-10dB'])
+    // 2 s of digital silence, the noise, then the tone.
+    sox([noise, tone, take, 'pad', '2', '0'])
+    const [overall] = soxStats(noise)
+    const trough = soxRmsTrough(noise)
+    const floor = (await analyzeFile(take)).analysis.noiseFloorDbfs
+    expect(floor).not.toBeNull()
+    expect(floor!).toBeGreaterThanOrEqual(trough - 0.01)
+    expect(floor!).toBeLessThanOrEqual(overall.rmsDb + 0.01)
+    expect(overall.rmsDb - trough).toBeLessThan(1) // the bounds are tight enough to mean something
+  })
+})
