@@ -162,7 +162,11 @@ export interface JobTable {
 }
 export type JobRow = Selectable<JobTable>
 
-export interface Database {
+// Feature tables added later live in their own files and join here.
+import type { LibraryTables } from './schema-library'
+import type { PackTables } from './schema-packs'
+
+export interface Database extends LibraryTables, PackTables {
   users: UserTable
   sessions: SessionTable
   settings: SettingTable
