@@ -18,7 +18,10 @@ import { registerHealthRoutes } from './health/health.routes'
 import { registerCaptureRoutes } from './captures/captures.routes'
 import { registerIngestRoutes } from './ingest/ingest.routes'
 import { registerTakeRoutes } from './takes/takes.routes'
+import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
+import { registerRegionRoutes } from './regions/regions.routes'
+import { registerCommentRoutes } from './comments/comments.routes'
 
 export interface BuiltApp {
   app: Express
@@ -73,7 +76,10 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerCaptureRoutes(api, ctx)
   registerIngestRoutes(api, ctx)
   registerTakeRoutes(api, ctx)
+  registerSpectrogramRoutes(api, ctx)
   registerSourceRoutes(api, ctx)
+  registerRegionRoutes(api, ctx)
+  registerCommentRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

@@ -39,6 +39,7 @@ export class LoudnessMeter {
   private readonly opts: LoudnessOptions
   private readonly c: Float64Array // b0 b1 b2 a1 a2 of stage 1, then a1 a2 of stage 2
   private readonly state: Float64Array // 4 per channel
+  private readonly activeChannels: number[] // channels with a non-zero weight (LFE is skipped)
   private readonly subEnergy = new Float64Array(SHORT_TERM_SUBBLOCKS)
   private readonly subFrames = new Float64Array(SHORT_TERM_SUBBLOCKS)
   private subCount = 0
@@ -57,6 +58,7 @@ export class LoudnessMeter {
     const s2 = rlbHighPass(opts.sampleRate)
     this.c = Float64Array.of(s1.b0, s1.b1, s1.b2, s1.a1, s1.a2, s2.a1, s2.a2)
     this.state = new Float64Array(4 * opts.channels)
+    this.activeChannels = opts.weights.map((w, ch) => (w === 0 ? -1 : ch)).filter((ch) => ch >= 0)
     this.nextBoundary = this.boundary(1)
   }
 
@@ -67,13 +69,20 @@ export class LoudnessMeter {
 
   push(planar: Float32Array[]): void {
     const frames = planar[0]?.length ?? 0
+    const active = this.activeChannels
     let offset = 0
     while (offset < frames) {
       const end = Math.min(frames, offset + (this.nextBoundary - this.position))
-      for (let ch = 0; ch < this.opts.channels; ch++) {
-        const w = this.opts.weights[ch]
-        if (w === 0) continue
-        this.currentEnergy += w * this.filterEnergy(ch, planar[ch], offset, end)
+      // Channels go through the filters two at a time: two independent recursions keep the CPU busy.
+      let k = 0
+      for (; k + 1 < active.length; k += 2) {
+        const a = active[k]
+        const b = active[k + 1]
+        this.currentEnergy += this.filterPair(a, b, planar[a], planar[b], offset, end)
+      }
+      if (k < active.length) {
+        const a = active[k]
+        this.currentEnergy += this.filterPair(a, -1, planar[a], planar[a], offset, end)
       }
       this.currentFrames += end - offset
       this.position += end - offset
@@ -82,30 +91,49 @@ export class LoudnessMeter {
     }
   }
 
-  /** Runs both K-weighting stages over x[from..to) and returns the energy of the output. */
-  private filterEnergy(ch: number, x: Float32Array, from: number, to: number): number {
+  /**
+   * Runs both K-weighting stages over x[from..to) of channels a and b (b = −1: only a) and returns
+   * the weighted energy of the outputs.
+   */
+  private filterPair(a: number, b: number, xa: Float32Array, xb: Float32Array, from: number, to: number): number {
     const c = this.c
     const b0 = c[0], b1 = c[1], b2 = c[2], a1 = c[3], a2 = c[4], c1 = c[5], c2 = c[6]
     const st = this.state
-    const o = 4 * ch
-    let z1 = st[o], z2 = st[o + 1], w1 = st[o + 2], w2 = st[o + 3]
-    let energy = 0
+    const oa = 4 * a
+    const ob = b < 0 ? oa : 4 * b
+    let z1 = st[oa], z2 = st[oa + 1], w1 = st[oa + 2], w2 = st[oa + 3]
+    let q1 = st[ob], q2 = st[ob + 1], r1 = st[ob + 2], r2 = st[ob + 3]
+    let ea = 0
+    let eb = 0
     for (let i = from; i < to; i++) {
-      const v = x[i] + DENORMAL_GUARD
       // Transposed direct form II, stage 1 (shelf) then stage 2 (high-pass, numerator 1 −2 1).
+      const v = xa[i] + DENORMAL_GUARD
       const y = b0 * v + z1
       z1 = b1 * v - a1 * y + z2
       z2 = b2 * v - a2 * y
       const u = y + w1
       w1 = -2 * y - c1 * u + w2
       w2 = y - c2 * u
-      energy += u * u
+      ea += u * u
+      const p = xb[i] + DENORMAL_GUARD
+      const g = b0 * p + q1
+      q1 = b1 * p - a1 * g + q2
+      q2 = b2 * p - a2 * g
+      const t = g + r1
+      r1 = -2 * g - c1 * t + r2
+      r2 = g - c2 * t
+      eb += t * t
     }
-    st[o] = z1
-    st[o + 1] = z2
-    st[o + 2] = w1
-    st[o + 3] = w2
-    return energy
+    st[oa] = z1
+    st[oa + 1] = z2
+    st[oa + 2] = w1
+    st[oa + 3] = w2
+    if (b < 0) return this.opts.weights[a] * ea
+    st[ob] = q1
+    st[ob + 1] = q2
+    st[ob + 2] = r1
+    st[ob + 3] = r2
+    return this.opts.weights[a] * ea + this.opts.weights[b] * eb
   }
 
   private completeSubBlock(): void {

@@ -64,10 +64,15 @@ export class Meter {
 
   push(planar: Float32Array[]): void {
     if (planar.length !== this.channels) throw new Error(`expected ${this.channels} channels, got ${planar.length}`)
-    this.levels.push(planar)
+    // Levels run window by window so their sums of squares also feed the noise floor.
+    const n = planar[0]?.length ?? 0
+    for (let from = 0; from < n; ) {
+      const to = Math.min(n, from + this.noiseFloor.framesToBoundary())
+      this.noiseFloor.add(to - from, this.levels.pushRange(planar, from, to))
+      from = to
+    }
     this.truePeak.push(planar)
     this.loudness.push(planar)
-    this.noiseFloor.push(planar)
     this.spectrum.push(planar)
   }
 

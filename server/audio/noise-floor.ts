@@ -3,7 +3,9 @@
 // channels together. Windows of pure digital zero (before a take starts, after
 // an edit) are ignored: they say nothing about the recording chain. A trailing
 // partial window is used only when the take is shorter than one window.
-// Levels are binned at 0.01 dB, so memory does not grow with the take.
+// Levels are binned at 0.01 dB, so memory does not grow with the take. The
+// sums of squares come from the levels pass (Meter splits blocks at window
+// boundaries), so the samples are not read twice.
 import { LevelHistogram } from './level-histogram'
 
 const WINDOW_SECONDS = 0.05
@@ -29,25 +31,20 @@ export class NoiseFloorMeter {
     return Math.max(1, Math.round(k * WINDOW_SECONDS * this.sampleRate))
   }
 
-  push(planar: Float32Array[]): void {
-    const n = planar[0]?.length ?? 0
-    let offset = 0
-    while (offset < n) {
-      const end = Math.min(n, offset + (this.nextBoundary - this.position))
-      let e = 0
-      for (let ch = 0; ch < this.channels; ch++) {
-        const x = planar[ch]
-        for (let i = offset; i < end; i++) e += x[i] * x[i]
-      }
-      this.energy += e
-      this.frames += end - offset
-      this.position += end - offset
-      offset = end
-      if (this.position === this.nextBoundary) {
-        this.closeWindow()
-        this.windows++
-        this.nextBoundary = this.boundary(this.windows + 1)
-      }
+  /** Frames left in the current window: the caller splits blocks there. */
+  framesToBoundary(): number {
+    return this.nextBoundary - this.position
+  }
+
+  /** Adds the Σx² over all channels of `frames` frames that do not cross a window boundary. */
+  add(frames: number, energy: number): void {
+    this.energy += energy
+    this.frames += frames
+    this.position += frames
+    if (this.position === this.nextBoundary) {
+      this.closeWindow()
+      this.windows++
+      this.nextBoundary = this.boundary(this.windows + 1)
     }
   }
 

@@ -9,7 +9,7 @@ import { dirname, join } from 'node:path'
 import { pathToFileURL } from 'node:url'
 import { Worker } from 'node:worker_threads'
 import type { AnalyzeResult } from './analyze'
-import type { WorkerError, WorkerReply, WorkerTask } from './analyze-worker'
+import type { WorkerError, WorkerReply, WorkerTask } from './analyze-worker-serve'
 import { WavFormatError } from './wav-reader'
 
 export interface AnalysisPool {

@@ -19,6 +19,18 @@ export interface PowerSpectrum {
   windowEnergy: number
 }
 
+/** dst[at..] = mean over channels of planar[·][from..to), one contiguous pass per channel. */
+function mixInto(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
+  const scale = 1 / planar.length
+  const first = planar[0]
+  for (let i = from, j = at; i < to; i++, j++) dst[j] = first[i]
+  for (let ch = 1; ch < planar.length; ch++) {
+    const x = planar[ch]
+    for (let i = from, j = at; i < to; i++, j++) dst[j] += x[i]
+  }
+  if (scale !== 1) for (let j = at, end = at + (to - from); j < end; j++) dst[j] *= scale
+}
+
 export function fftSizeFor(sampleRate: number): number {
   return 2 ** Math.ceil(Math.log2(sampleRate))
 }
@@ -76,13 +88,7 @@ export class SpectrumMeter {
       const from = Math.max(0, seg.start + seg.filled - this.position)
       const to = Math.min(n, seg.start + this.length - this.position)
       if (to <= from) continue
-      const b = seg.buffer
-      const scale = 1 / this.channels
-      for (let i = from, j = seg.filled; i < to; i++, j++) {
-        let v = 0
-        for (let ch = 0; ch < this.channels; ch++) v += planar[ch][i]
-        b[j] = v * scale
-      }
+      mixInto(seg.buffer, seg.filled, planar, from, to)
       seg.filled += to - from
     }
     this.position = blockEnd
@@ -101,10 +107,15 @@ export class SpectrumMeter {
     mean /= len
     const w = this.hann(len)
     for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i]
-    b.fill(0, len)
-    this.fft.realTransform(this.out, b)
+    if (len < b.length) b.fill(0, len)
     const o = this.out
-    for (let k = 0; k < this.sum.length; k++) this.sum[k] += o[2 * k] * o[2 * k] + o[2 * k + 1] * o[2 * k + 1]
+    this.fft.realTransform(o, b)
+    const sum = this.sum
+    for (let k = 0, m = sum.length; k < m; k++) {
+      const re = o[2 * k]
+      const im = o[2 * k + 1]
+      sum[k] += re * re + im * im
+    }
     this.segments++
   }
 

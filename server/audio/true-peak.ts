@@ -28,10 +28,21 @@ export const TRUE_PEAK_PHASES: readonly (readonly number[])[] = [
 
 const TAPS = 12
 const HISTORY = TAPS - 1
-// Interpolation is skipped for a chunk of CHUNK outputs when its bound cannot beat the running maximum.
-const CHUNK = 8
-// Largest Σ|h| of a phase (phases 1 and 2): no interpolated value exceeds it × the largest |x| under the taps.
-const BOUND = PHASE_1.reduce((s, h) => s + Math.abs(h), 0)
+// Interpolation is skipped for a chunk of CHUNK outputs when a bound on them cannot beat the running
+// maximum. Outputs of one chunk read CHUNK + HISTORY samples: the chunk and PREVIOUS chunks before it.
+// CHUNK is 4 and three previous chunks cover the 11 older samples; scan() is written out for that.
+const CHUNK = 4
+// With c the midrange and d the half-range of the samples under a phase's taps h, its outputs obey
+// |y| = |c·Σh + Σh·(x − c)| ≤ |c|·|Σh| + d·Σ|h|. Far tighter than max|x|·Σ|h| for smooth or
+// one-signed stretches (hum, low notes), where most chunks then need no interpolation at all.
+// Phases 1 and 2 (between the samples' midpoints) can overshoot more than phases 0 and 3, so each pair
+// has its own bound and is computed only when that bound can beat the running maximum.
+const gain = (p: readonly number[]) => Math.abs(p.reduce((s, h) => s + h, 0))
+const absGain = (p: readonly number[]) => p.reduce((s, h) => s + Math.abs(h), 0)
+const INNER_GAIN = gain(PHASE_1)
+const INNER_ABS_GAIN = absGain(PHASE_1)
+const OUTER_GAIN = gain(PHASE_0)
+const OUTER_ABS_GAIN = absGain(PHASE_0)
 
 /** Per-channel true-peak meter; values are linear (1.0 = full scale). */
 export class TruePeakMeter {
@@ -40,7 +51,6 @@ export class TruePeakMeter {
   private readonly history: Float32Array[] // the last HISTORY samples of each channel
   private filled = 0 // how many real samples the history holds (0..HISTORY)
   private work = new Float32Array(0)
-  private chunkMax = new Float32Array(0)
 
   constructor(channels: number) {
     this.channels = channels
@@ -51,10 +61,7 @@ export class TruePeakMeter {
   push(planar: Float32Array[]): void {
     const frames = planar[0]?.length ?? 0
     if (frames === 0) return
-    if (this.work.length < HISTORY + frames) {
-      this.work = new Float32Array(HISTORY + frames)
-      this.chunkMax = new Float32Array(Math.ceil((HISTORY + frames) / CHUNK) + 1)
-    }
+    if (this.work.length < HISTORY + frames) this.work = new Float32Array(HISTORY + frames)
     const keep = this.filled
     for (let ch = 0; ch < this.channels; ch++) {
       const x = this.work
@@ -70,34 +77,42 @@ export class TruePeakMeter {
 
   /** Largest |value| of samples and interpolated points over x[0..n), given a running maximum. */
   private scan(x: Float32Array, n: number, running: number): number {
-    // Chunk maxima of |x|; chunks of outputs start at index HISTORY, which lines chunk c up with x[HISTORY + c·CHUNK ..].
-    const cm = this.chunkMax
-    let peak = running
-    const chunks = Math.ceil((n - HISTORY) / CHUNK)
-    let head = 0
-    for (let j = 0; j < Math.min(n, HISTORY); j++) head = Math.max(head, Math.abs(x[j]))
-    if (head > peak) peak = head
-    for (let c = 0; c < chunks; c++) {
-      let m = 0
-      const end = Math.min(n, HISTORY + (c + 1) * CHUNK)
-      for (let j = HISTORY + c * CHUNK; j < end; j++) {
-        // Math.abs and a select, not branches: on noise a sign branch mispredicts half the time.
-        const a = Math.abs(x[j])
-        m = a > m ? a : m
-      }
-      cm[c] = m
-      if (m > peak) peak = m
+    // x[0..HISTORY) is the head; chunk c holds x[HISTORY + c·CHUNK ..], the positions whose outputs it covers.
+    let headLo = Infinity
+    let headHi = -Infinity
+    for (let j = 0; j < Math.min(n, HISTORY); j++) {
+      headLo = Math.min(headLo, x[j])
+      headHi = Math.max(headHi, x[j])
     }
-    for (let c = 0; c < chunks; c++) {
-      // Outputs of chunk c read x[HISTORY + c·CHUNK − 11 ..]: this chunk, the one before and the history or the one before that.
-      let local = cm[c]
-      if (c >= 1 && cm[c - 1] > local) local = cm[c - 1]
-      if (c >= 2) {
-        if (cm[c - 2] > local) local = cm[c - 2]
-      } else if (head > local) local = head
-      if (local * BOUND <= peak) continue
-      const start = HISTORY + c * CHUNK
-      peak = interpolate(x, start, Math.min(n, start + CHUNK), peak)
+    let peak = Math.max(running, -headLo, headHi)
+    // Lows and highs of the previous three chunks (the head stands in for chunks before the first).
+    let l1 = headLo, h1 = headHi, l2 = headLo, h2 = headHi, l3 = headLo, h3 = headHi
+    let start = HISTORY
+    for (; start + CHUNK <= n; start += CHUNK) {
+      const a = x[start], b = x[start + 1], c = x[start + 2], d = x[start + 3]
+      // Selects, not branches: on noise a branch here mispredicts half the time.
+      const lab = a < b ? a : b, hab = a < b ? b : a
+      const lcd = c < d ? c : d, hcd = c < d ? d : c
+      const l = lab < lcd ? lab : lcd
+      const h = hab > hcd ? hab : hcd
+      peak = Math.max(peak, h, -l) // the sample peak
+      const wl = Math.min(l, l1, l2, l3)
+      const wh = Math.max(h, h1, h2, h3)
+      const mid = Math.abs(0.5 * (wh + wl))
+      const half = 0.5 * (wh - wl)
+      if (mid * INNER_GAIN + half * INNER_ABS_GAIN > peak) peak = interpolateInner(x, start, start + CHUNK, peak)
+      if (mid * OUTER_GAIN + half * OUTER_ABS_GAIN > peak) peak = interpolateOuter(x, start, start + CHUNK, peak)
+      l3 = l2
+      h3 = h2
+      l2 = l1
+      h2 = h1
+      l1 = l
+      h1 = h
+    }
+    // The last, partial chunk: few samples, no bound needed.
+    if (start < n) {
+      for (let j = start; j < n; j++) peak = Math.max(peak, Math.abs(x[j]))
+      peak = interpolate(x, start, n, peak)
     }
     return peak
   }
@@ -108,16 +123,17 @@ export class TruePeakMeter {
 }
 
 // The four phases of TRUE_PEAK_PHASES written out term by term (this runs for every sample of loud
-// passages); exported so a test can hold it against the table.
+// passages). Exported so a test can hold them against the table.
 export function interpolate(x: Float32Array, from: number, to: number, running: number): number {
+  return interpolateOuter(x, from, to, interpolateInner(x, from, to, running))
+}
+
+/** Phases 1 and 2. */
+export function interpolateInner(x: Float32Array, from: number, to: number, running: number): number {
   let peak = running
   for (let i = from; i < to; i++) {
     const x0 = x[i], x1 = x[i - 1], x2 = x[i - 2], x3 = x[i - 3], x4 = x[i - 4], x5 = x[i - 5]
     const x6 = x[i - 6], x7 = x[i - 7], x8 = x[i - 8], x9 = x[i - 9], x10 = x[i - 10], x11 = x[i - 11]
-    const y0 =
-      0.001708984375 * x0 + 0.010986328125 * x1 - 0.0196533203125 * x2 + 0.033203125 * x3 -
-      0.0594482421875 * x4 + 0.1373291015625 * x5 + 0.97216796875 * x6 - 0.102294921875 * x7 +
-      0.047607421875 * x8 - 0.026611328125 * x9 + 0.014892578125 * x10 - 0.00830078125 * x11
     const y1 =
       -0.0291748046875 * x0 + 0.029296875 * x1 - 0.0517578125 * x2 + 0.089111328125 * x3 -
       0.16650390625 * x4 + 0.465087890625 * x5 + 0.77978515625 * x6 - 0.2003173828125 * x7 +
@@ -126,11 +142,27 @@ export function interpolate(x: Float32Array, from: number, to: number, running: 
       -0.0189208984375 * x0 + 0.0330810546875 * x1 - 0.0582275390625 * x2 + 0.1015625 * x3 -
       0.2003173828125 * x4 + 0.77978515625 * x5 + 0.465087890625 * x6 - 0.16650390625 * x7 +
       0.089111328125 * x8 - 0.0517578125 * x9 + 0.029296875 * x10 - 0.0291748046875 * x11
+    const a = Math.max(Math.abs(y1), Math.abs(y2))
+    peak = a > peak ? a : peak
+  }
+  return peak
+}
+
+/** Phases 0 and 3. */
+export function interpolateOuter(x: Float32Array, from: number, to: number, running: number): number {
+  let peak = running
+  for (let i = from; i < to; i++) {
+    const x0 = x[i], x1 = x[i - 1], x2 = x[i - 2], x3 = x[i - 3], x4 = x[i - 4], x5 = x[i - 5]
+    const x6 = x[i - 6], x7 = x[i - 7], x8 = x[i - 8], x9 = x[i - 9], x10 = x[i - 10], x11 = x[i - 11]
+    const y0 =
+      0.001708984375 * x0 + 0.010986328125 * x1 - 0.0196533203125 * x2 + 0.033203125 * x3 -
+      0.0594482421875 * x4 + 0.1373291015625 * x5 + 0.97216796875 * x6 - 0.102294921875 * x7 +
+      0.047607421875 * x8 - 0.026611328125 * x9 + 0.014892578125 * x10 - 0.00830078125 * x11
     const y3 =
       -0.00830078125 * x0 + 0.014892578125 * x1 - 0.026611328125 * x2 + 0.047607421875 * x3 -
       0.102294921875 * x4 + 0.97216796875 * x5 + 0.1373291015625 * x6 - 0.0594482421875 * x7 +
       0.033203125 * x8 - 0.0196533203125 * x9 + 0.010986328125 * x10 + 0.001708984375 * x11
-    const a = Math.max(Math.abs(y0), Math.abs(y1), Math.abs(y2), Math.abs(y3))
+    const a = Math.max(Math.abs(y0), Math.abs(y3))
     peak = a > peak ? a : peak
   }
   return peak

@@ -25,3 +25,19 @@ export function passwordResetMail(to: string, link: string): OutgoingMail {
       sign,
   }
 }
+
+export function mentionMail(to: string, m: { author: string; takeTitle: string; time: string; link: string; body: string }): OutgoingMail {
+  const quoted = m.body.length > 1000 ? `${m.body.slice(0, 1000)}…` : m.body
+  return {
+    to,
+    subject: `${m.author} mentioned you on \u201c${m.takeTitle}\u201d`.replace(/\s+/g, ' ').slice(0, 200),
+    text:
+      `${m.author} mentioned you in a comment on the take \u201c${m.takeTitle}\u201d at ${m.time}:\n\n` +
+      quoted
+        .split(/\r?\n/)
+        .map((l) => `> ${l}`)
+        .join('\n') +
+      `\n\nListen from that point:\n${m.link}` +
+      sign,
+  }
+}

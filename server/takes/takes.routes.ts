@@ -8,7 +8,10 @@ import { findTake } from './takes.repository'
 import { takeRowToTake, takeRowsToTakes } from './takes.mapper'
 import { searchTakeRows } from './takes.search'
 import { TakeQuery } from '@shared/schemas/takes'
+import { BulkEditBody, StatesQuery, TagsQuery, UpdateTakeBody } from '@shared/schemas/library'
 import { z } from 'zod'
+import { body, query } from '../core/validate'
+import { bulkEdit, editTake, stateSuggestions, tagSuggestions, takeHistory } from './takes.service'
 
 const PeaksQuery = z.object({ maxPoints: z.coerce.number().int().min(16).max(200_000).optional() })
 
@@ -56,5 +59,33 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
       }
       next(err)
     })
+  })
+
+  // ---- editing ----
+
+  /** Title, description, notes, tags and device links; own takes for recordists, any take for designers and admins. */
+  api.route('patch', '/takes/:id', 'takes:edit-own', async (req, res) => {
+    res.json({ take: await editTake(ctx.db, req.user!, params(req, IdParams).id, body(req, UpdateTakeBody)) })
+  })
+
+  /** Tags, devices and capture session of many takes at once, in one transaction. */
+  api.route('post', '/takes/bulk', 'takes:edit-any', async (req, res) => {
+    res.json(await bulkEdit(ctx.db, req.user!, body(req, BulkEditBody)))
+  })
+
+  api.route('get', '/takes/:id/history', 'library:browse', async (req, res) => {
+    res.json({ events: await takeHistory(ctx.db, params(req, IdParams).id) })
+  })
+
+  // ---- suggestions for the editors ----
+
+  api.route('get', '/tags', 'library:browse', async (req, res) => {
+    const q = query(req, TagsQuery)
+    res.json({ tags: await tagSuggestions(ctx.db, q.q, q.limit) })
+  })
+
+  api.route('get', '/states', 'library:browse', async (req, res) => {
+    const q = query(req, StatesQuery)
+    res.json({ states: await stateSuggestions(ctx.db, q) })
   })
 }

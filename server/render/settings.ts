@@ -1,0 +1,44 @@
+// Render settings of an item (the pack's, with the item's override on top) and
+// the gain they ask for, worked out from the source range's measurement.
+import { DEFAULT_RENDER_SETTINGS, RenderSettings, type RenderSettingsPatch } from '@shared/schemas/packs'
+
+export function effectiveSettings(pack: RenderSettingsPatch | null | undefined, item?: RenderSettingsPatch | null): RenderSettings {
+  return RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...(pack ?? {}), ...(item ?? {}) })
+}
+
+export interface SourceLevels {
+  integratedLufs: number | null
+  truePeakDbtp: number | null
+}
+
+export interface GainPlan {
+  gainDb: number
+  /** What the level mode asked for before the ceiling; null when the mode has no target. */
+  wantedGainDb: number | null
+  /** The mode actually used: loudness falls back to peak when the range has no integrated loudness (shorter than 0.4 s, or silent). */
+  mode: RenderSettings['normalize']
+  /** The true-peak ceiling held the gain below what the mode asked for. */
+  limited: boolean
+}
+
+/**
+ * Gain only, no limiter: the mode's gain (loudness target − integrated, peak target − true peak,
+ * or 0), lowered to (ceiling − true peak) when that is smaller. Digital silence gets 0 dB.
+ */
+export function planGain(src: SourceLevels, s: RenderSettings): GainPlan {
+  if (src.truePeakDbtp === null) return { gainDb: 0, wantedGainDb: null, mode: s.normalize, limited: false }
+  let mode = s.normalize
+  if (mode === 'loudness' && src.integratedLufs === null) mode = 'peak'
+  const wanted =
+    mode === 'loudness' ? s.loudnessTargetLufs - src.integratedLufs! : mode === 'peak' ? s.peakTargetDbtp - src.truePeakDbtp : 0
+  const ceilingGain = s.truePeakCeilingDbtp - src.truePeakDbtp
+  const limited = ceilingGain < wanted
+  return { gainDb: limited ? ceilingGain : wanted, wantedGainDb: mode === 'none' ? null : wanted, mode, limited }
+}
+
+/** The level the mode aims at, in the unit it is measured in (LUFS for loudness, dBTP for peak). */
+export function modeTarget(mode: RenderSettings['normalize'], s: RenderSettings): number | null {
+  return mode === 'loudness' ? s.loudnessTargetLufs : mode === 'peak' ? s.peakTargetDbtp : null
+}
+
+export const round2 = (v: number | null): number | null => (v === null ? null : Math.round(v * 100) / 100)

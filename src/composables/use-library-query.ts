@@ -1,0 +1,48 @@
+import { computed } from 'vue'
+import { useRoute, useRouter, type LocationQuery } from 'vue-router'
+
+/** Every library filter the URL can carry (the names of GET /api/takes). */
+export const QUERY_KEYS = [
+  'q', 'sourceId', 'sourceKind', 'tag', 'sessionId', 'uploaderId', 'sampleRate', 'channels',
+  'minDuration', 'maxDuration', 'minLufs', 'maxLufs', 'minTruePeak', 'maxTruePeak', 'hum', 'status',
+  'sort', 'order', 'page', 'pageSize',
+] as const
+export type QueryKey = (typeof QUERY_KEYS)[number]
+export type LibraryQuery = Partial<Record<QueryKey, string | string[]>>
+
+function pick(q: LocationQuery): LibraryQuery {
+  const out: LibraryQuery = {}
+  for (const k of QUERY_KEYS) {
+    const v = q[k]
+    if (v === undefined || v === null || v === '') continue
+    out[k] = Array.isArray(v) ? (v.filter((x) => x !== null) as string[]) : String(v)
+  }
+  return out
+}
+
+/** The library's whole query lives in the URL, so a search can be bookmarked and shared. */
+export function useLibraryQuery() {
+  const route = useRoute()
+  const router = useRouter()
+  const query = computed(() => pick(route.query))
+
+  function set(patch: LibraryQuery, opts: { keepPage?: boolean } = {}) {
+    const next: LibraryQuery = { ...query.value, ...patch }
+    if (!opts.keepPage && !('page' in patch)) delete next.page
+    for (const k of Object.keys(next) as QueryKey[]) {
+      const v = next[k]
+      if (v === undefined || v === '' || (Array.isArray(v) && !v.length)) delete next[k]
+    }
+    void router.replace({ query: next })
+  }
+  const clear = () => void router.replace({ query: {} })
+  const one = (k: QueryKey) => {
+    const v = query.value[k]
+    return Array.isArray(v) ? v[0] : v
+  }
+  const many = (k: QueryKey) => {
+    const v = query.value[k]
+    return v === undefined ? [] : Array.isArray(v) ? v : [v]
+  }
+  return { query, set, clear, one, many }
+}

@@ -1,0 +1,66 @@
+import { acceptHMRUpdate, defineStore } from 'pinia'
+import { computed, ref } from 'vue'
+import type { Peaks } from '@shared/schemas/analysis'
+import type { Take } from '@shared/schemas/takes'
+import type { Comment, Region, HistoryEvent, UpdateTakeBody } from '@shared/schemas/library'
+import { api } from '@/api/client'
+
+/** The listening bench: one take, its regions, its discussion and its history. */
+export const useBenchStore = defineStore('bench', () => {
+  const take = ref<Take | null>(null)
+  const peaks = ref<Peaks | null>(null)
+  const regions = ref<Region[]>([])
+  const comments = ref<Comment[]>([])
+  const history = ref<HistoryEvent[]>([])
+  const id = computed(() => take.value?.id ?? 0)
+
+  async function open(takeId: number) {
+    take.value = (await api.get<{ take: Take }>(`/api/takes/${takeId}`)).take
+    peaks.value = null
+    regions.value = []
+    comments.value = []
+    const tasks: Promise<unknown>[] = [loadRegions(), loadComments(), loadHistory()]
+    if (take.value.status === 'ready') tasks.push(api.get<Peaks>(`/api/takes/${takeId}/peaks?maxPoints=8000`).then((p) => (peaks.value = p)))
+    await Promise.all(tasks)
+  }
+
+  const loadRegions = async () => (regions.value = (await api.get<{ regions: Region[] }>(`/api/takes/${id.value}/regions`)).regions)
+  const loadComments = async () => (comments.value = (await api.get<{ comments: Comment[] }>(`/api/takes/${id.value}/comments`)).comments)
+  const loadHistory = async () => (history.value = (await api.get<{ events: HistoryEvent[] }>(`/api/takes/${id.value}/history`)).events)
+
+  async function edit(patch: UpdateTakeBody) {
+    take.value = (await api.patch<{ take: Take }>(`/api/takes/${id.value}`, patch)).take
+    await loadHistory()
+  }
+
+  async function addRegion(name: string, startSeconds: number, endSeconds: number) {
+    const { region } = await api.post<{ region: Region }>(`/api/takes/${id.value}/regions`, { name, startSeconds, endSeconds })
+    regions.value = [...regions.value, region].sort((a, b) => a.startSeconds - b.startSeconds)
+    await loadHistory()
+    return region
+  }
+
+  async function removeRegion(regionId: number) {
+    await api.delete(`/api/takes/${id.value}/regions/${regionId}`)
+    regions.value = regions.value.filter((r) => r.id !== regionId)
+  }
+
+  async function comment(body: string, atSeconds?: number | null, parentId?: number | null, regionId?: number | null) {
+    await api.post(`/api/takes/${id.value}/comments`, {
+      body,
+      ...(atSeconds !== null && atSeconds !== undefined ? { atSeconds } : {}),
+      ...(parentId ? { parentId } : {}),
+      ...(regionId ? { regionId } : {}),
+    })
+    await Promise.all([loadComments(), loadHistory()])
+  }
+
+  async function updateComment(commentId: number, patch: { body?: string; resolved?: boolean }) {
+    await api.patch(`/api/takes/${id.value}/comments/${commentId}`, patch)
+    await loadComments()
+  }
+
+  return { take, peaks, regions, comments, history, open, edit, addRegion, removeRegion, comment, updateComment, loadHistory }
+})
+
+if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useBenchStore, import.meta.hot))
