@@ -37,7 +37,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     let reported = 0
     for await (const block of readFrames(path, info)) {
       meter.push(block)
-      peaks?.push(block)
+      peaks?.push(block, meter.lastScan)
       done += block[0]?.length ?? 0
       const fraction = format.frames > 0 ? done / format.frames : 1
       if (opts.onProgress && fraction - reported >= 0.01) {

@@ -7,6 +7,8 @@
 // more consecutive full-scale samples of the same polarity in one channel: a
 // single sample touching full scale is a peak, a flat top is a clip.
 
+import { CHUNK, type BlockScan } from './block-scan'
+
 export interface LevelsOptions {
   channels: number
   encoding: 'pcm' | 'float'
@@ -45,56 +47,25 @@ export class LevelsMeter {
     this.run = new Float64Array(opts.channels)
   }
 
-  push(planar: Float32Array[]): void {
-    this.pushRange(planar, 0, planar[0]?.length ?? 0)
-  }
-
-  /** Measures frames [from..to) of the block; returns their Σx² over all channels (for the noise floor). */
-  pushRange(planar: Float32Array[], from: number, to: number): number {
+  /** Adds a block, given the summaries of its scan (see block-scan.ts). */
+  add(planar: Float32Array[], scan: BlockScan): void {
     const t = this.threshold
-    let energy = 0
     for (let ch = 0; ch < this.channels; ch++) {
-      const x = planar[ch]
-      // Four partial sums and maxima: independent chains the CPU can run side by side.
-      let s0 = 0, s1 = 0, s2 = 0, s3 = 0
-      let q0 = 0, q1 = 0, q2 = 0, q3 = 0
-      let m0 = 0, m1 = 0, m2 = 0, m3 = 0
-      let i = from
-      for (; i + 3 < to; i += 4) {
-        const a = x[i], b = x[i + 1], c = x[i + 2], d = x[i + 3]
-        s0 += a
-        s1 += b
-        s2 += c
-        s3 += d
-        q0 += a * a
-        q1 += b * b
-        q2 += c * c
-        q3 += d * d
-        // Math.abs and selects, not branches: on noise a sign branch mispredicts half the time.
-        const aa = Math.abs(a), ab = Math.abs(b), ac = Math.abs(c), ad = Math.abs(d)
-        m0 = aa > m0 ? aa : m0
-        m1 = ab > m1 ? ab : m1
-        m2 = ac > m2 ? ac : m2
-        m3 = ad > m3 ? ad : m3
+      const lo = scan.lo[ch]
+      const hi = scan.hi[ch]
+      let peak = this.peak[ch]
+      for (let c = 0; c < scan.chunks; c++) {
+        const m = Math.max(hi[c], -lo[c])
+        peak = m > peak ? m : peak
+        // Full scale is rare: only chunks that reach it are looked at sample by sample.
+        if (m >= t) this.scanClips(ch, planar[ch], c * CHUNK, Math.min(scan.frames, (c + 1) * CHUNK))
+        else this.run[ch] = 0
       }
-      for (; i < to; i++) {
-        const a = x[i]
-        s0 += a
-        q0 += a * a
-        const aa = Math.abs(a)
-        m0 = aa > m0 ? aa : m0
-      }
-      const m = Math.max(m0, m1, m2, m3) // of this range only
-      if (m > this.peak[ch]) this.peak[ch] = m
-      // Full scale is rare: the clip scan runs only over ranges that reach it, or that continue a run.
-      if (m >= t || this.run[ch] !== 0) this.scanClips(ch, x, from, to)
-      const q = q0 + q1 + q2 + q3
-      this.sum[ch] += s0 + s1 + s2 + s3
-      this.sumSquares[ch] += q
-      energy += q
+      this.peak[ch] = peak
+      this.sum[ch] += scan.sum[ch]
+      this.sumSquares[ch] += scan.sumSquares[ch]
     }
-    this.frames += to - from
-    return energy
+    this.frames += scan.frames
   }
 
   private scanClips(ch: number, x: Float32Array, from: number, to: number): void {

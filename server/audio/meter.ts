@@ -2,6 +2,7 @@
 // meter; finish() turns the totals into the shared result shape. Memory is
 // bounded by the block size and fixed-size tables, not by the take's length.
 import type { Levels, Loudness, Spectrum } from '@shared/schemas/analysis'
+import { BlockScan } from './block-scan'
 import { channelWeights } from './channel-weights'
 import { LevelsMeter } from './levels'
 import { LoudnessMeter, type LoudnessOptions } from './loudness'
@@ -42,9 +43,11 @@ export class Meter {
   private readonly loudness: LoudnessMeter
   private readonly noiseFloor: NoiseFloorMeter
   private readonly spectrum: SpectrumMeter
+  private readonly scan: BlockScan
 
   constructor(f: MeterFormat) {
     this.channels = f.channels
+    this.scan = new BlockScan(f.channels)
     this.levels = new LevelsMeter({
       channels: f.channels,
       encoding: f.encoding ?? 'pcm',
@@ -64,16 +67,17 @@ export class Meter {
 
   push(planar: Float32Array[]): void {
     if (planar.length !== this.channels) throw new Error(`expected ${this.channels} channels, got ${planar.length}`)
-    // Levels run window by window so their sums of squares also feed the noise floor.
-    const n = planar[0]?.length ?? 0
-    for (let from = 0; from < n; ) {
-      const to = Math.min(n, from + this.noiseFloor.framesToBoundary())
-      this.noiseFloor.add(to - from, this.levels.pushRange(planar, from, to))
-      from = to
-    }
-    this.truePeak.push(planar)
+    this.scan.scan(planar)
+    this.levels.add(planar, this.scan)
+    this.noiseFloor.add(this.scan)
+    this.truePeak.push(planar, this.scan)
     this.loudness.push(planar)
     this.spectrum.push(planar)
+  }
+
+  /** Summaries of the block pushed last, for other consumers of the same pass (the waveform overview). */
+  get lastScan(): BlockScan {
+    return this.scan
   }
 
   finish(): MeterResult {

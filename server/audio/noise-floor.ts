@@ -4,8 +4,10 @@
 // an edit) are ignored: they say nothing about the recording chain. A trailing
 // partial window is used only when the take is shorter than one window.
 // Levels are binned at 0.01 dB, so memory does not grow with the take. The
-// sums of squares come from the levels pass (Meter splits blocks at window
-// boundaries), so the samples are not read twice.
+// sums of squares come from the shared block scan in 4-frame chunks, so a
+// window ends on the first chunk boundary at or after its 50 ms mark (within
+// 3 frames; the window's own frame count is used for its mean).
+import { CHUNK, type BlockScan } from './block-scan'
 import { LevelHistogram } from './level-histogram'
 
 const WINDOW_SECONDS = 0.05
@@ -31,20 +33,19 @@ export class NoiseFloorMeter {
     return Math.max(1, Math.round(k * WINDOW_SECONDS * this.sampleRate))
   }
 
-  /** Frames left in the current window: the caller splits blocks there. */
-  framesToBoundary(): number {
-    return this.nextBoundary - this.position
-  }
-
-  /** Adds the Σx² over all channels of `frames` frames that do not cross a window boundary. */
-  add(frames: number, energy: number): void {
-    this.energy += energy
-    this.frames += frames
-    this.position += frames
-    if (this.position === this.nextBoundary) {
-      this.closeWindow()
-      this.windows++
-      this.nextBoundary = this.boundary(this.windows + 1)
+  /** Adds a block's per-chunk energies (Σx² over all channels, see block-scan.ts). */
+  add(scan: BlockScan): void {
+    const e = scan.energy
+    for (let c = 0; c < scan.chunks; c++) {
+      const frames = Math.min(CHUNK, scan.frames - c * CHUNK)
+      this.energy += e[c]
+      this.frames += frames
+      this.position += frames
+      if (this.position >= this.nextBoundary) {
+        this.closeWindow()
+        this.windows++
+        this.nextBoundary = this.boundary(this.windows + 1)
+      }
     }
   }
 

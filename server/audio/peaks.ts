@@ -23,6 +23,7 @@
 import { closeSync, openSync, readFileSync, renameSync, rmSync, writeSync } from 'node:fs'
 import { open } from 'node:fs/promises'
 import type { Peaks } from '@shared/schemas/analysis'
+import { CHUNK, type BlockScan } from './block-scan'
 
 const MAGIC = 'SFPK'
 const VERSION = 1
@@ -132,20 +133,35 @@ export class PeaksBuilder {
     this.levels = planLevels(f.frames, f.channels).map((p) => new LevelWriter(p, f.channels, this.fd))
   }
 
-  push(planar: Float32Array[]): void {
+  /**
+   * Adds a block. With the block's scan (block-scan.ts) and the block starting on a 4-frame boundary,
+   * pixels are built from its chunk lows and highs instead of from every sample.
+   */
+  push(planar: Float32Array[], scan?: BlockScan): void {
     const n = Math.min(planar[0]?.length ?? 0, this.f.frames - this.frames)
+    const fromChunks = scan !== undefined && scan.frames === (planar[0]?.length ?? 0) && this.frames % CHUNK === 0
     const finest = this.levels[0]
     let offset = 0
     while (offset < n) {
       const end = Math.min(n, offset + BASE_SAMPLES_PER_PIXEL - this.inPixel)
       for (let c = 0; c < this.f.channels; c++) {
-        const x = planar[c]
         let lo = finest.min[c]
         let hi = finest.max[c]
-        for (let i = offset; i < end; i++) {
-          const v = x[i]
-          if (v < lo) lo = v
-          if (v > hi) hi = v
+        if (fromChunks) {
+          // offset is a multiple of CHUNK here; a partial last chunk covers exactly the block's end.
+          const l = scan.lo[c]
+          const h = scan.hi[c]
+          for (let k = offset / CHUNK, last = Math.ceil(end / CHUNK); k < last; k++) {
+            if (l[k] < lo) lo = l[k]
+            if (h[k] > hi) hi = h[k]
+          }
+        } else {
+          const x = planar[c]
+          for (let i = offset; i < end; i++) {
+            const v = x[i]
+            if (v < lo) lo = v
+            if (v > hi) hi = v
+          }
         }
         finest.min[c] = lo
         finest.max[c] = hi

@@ -10,6 +10,8 @@
 // peak is never below the sample peak. Interpolation runs only where all 12
 // taps lie on samples of the take; nothing is assumed before or after it.
 
+import { CHUNK, type BlockScan } from './block-scan'
+
 const PHASE_0 = [
   0.001708984375, 0.010986328125, -0.0196533203125, 0.033203125, -0.0594482421875, 0.1373291015625,
   0.97216796875, -0.102294921875, 0.047607421875, -0.0266113281250, 0.014892578125, -0.00830078125,
@@ -30,8 +32,7 @@ const TAPS = 12
 const HISTORY = TAPS - 1
 // Interpolation is skipped for a chunk of CHUNK outputs when a bound on them cannot beat the running
 // maximum. Outputs of one chunk read CHUNK + HISTORY samples: the chunk and PREVIOUS chunks before it.
-// CHUNK is 4 and three previous chunks cover the 11 older samples; scan() is written out for that.
-const CHUNK = 4
+// Chunks of 4 (block-scan.ts): three previous chunks cover the 11 older samples; scan() is written for that.
 // With c the midrange and d the half-range of the samples under a phase's taps h, its outputs obey
 // |y| = |c·Σh + Σh·(x − c)| ≤ |c|·|Σh| + d·Σ|h|. Far tighter than max|x|·Σ|h| for smooth or
 // one-signed stretches (hum, low notes), where most chunks then need no interpolation at all.
@@ -58,7 +59,8 @@ export class TruePeakMeter {
     this.history = Array.from({ length: channels }, () => new Float32Array(HISTORY))
   }
 
-  push(planar: Float32Array[]): void {
+  /** Adds a block, given the summaries of its scan (see block-scan.ts). */
+  push(planar: Float32Array[], scan: BlockScan): void {
     const frames = planar[0]?.length ?? 0
     if (frames === 0) return
     if (this.work.length < HISTORY + frames) this.work = new Float32Array(HISTORY + frames)
@@ -68,51 +70,45 @@ export class TruePeakMeter {
       x.set(this.history[ch].subarray(HISTORY - keep), 0)
       x.set(planar[ch], keep)
       const total = keep + frames
-      this.peaks[ch] = this.scan(x, total, this.peaks[ch])
+      this.peaks[ch] = this.scan(x, total, scan.lo[ch], scan.hi[ch], scan.chunks, this.peaks[ch])
       const tail = Math.min(HISTORY, total)
       this.history[ch].set(x.subarray(total - tail, total), HISTORY - tail)
     }
     this.filled = Math.min(HISTORY, keep + frames)
   }
 
-  /** Largest |value| of samples and interpolated points over x[0..n), given a running maximum. */
-  private scan(x: Float32Array, n: number, running: number): number {
-    // x[0..HISTORY) is the head; chunk c holds x[HISTORY + c·CHUNK ..], the positions whose outputs it covers.
+  /**
+   * Largest |value| of samples and interpolated points over x[0..n), given a running maximum.
+   * x[0..HISTORY) is the history; chunk c (lows lo[c], highs hi[c]) holds x[HISTORY + c·CHUNK ..].
+   */
+  private scan(x: Float32Array, n: number, lo: Float32Array, hi: Float32Array, chunks: number, running: number): number {
     let headLo = Infinity
     let headHi = -Infinity
     for (let j = 0; j < Math.min(n, HISTORY); j++) {
       headLo = Math.min(headLo, x[j])
       headHi = Math.max(headHi, x[j])
     }
-    let peak = Math.max(running, -headLo, headHi)
-    // Lows and highs of the previous three chunks (the head stands in for chunks before the first).
+    let peak = running // the sample peak of the history was counted with its own block
+    // Lows and highs of the previous three chunks; the history stands in for chunks before the first.
     let l1 = headLo, h1 = headHi, l2 = headLo, h2 = headHi, l3 = headLo, h3 = headHi
-    let start = HISTORY
-    for (; start + CHUNK <= n; start += CHUNK) {
-      const a = x[start], b = x[start + 1], c = x[start + 2], d = x[start + 3]
-      // Selects, not branches: on noise a branch here mispredicts half the time.
-      const lab = a < b ? a : b, hab = a < b ? b : a
-      const lcd = c < d ? c : d, hcd = c < d ? d : c
-      const l = lab < lcd ? lab : lcd
-      const h = hab > hcd ? hab : hcd
+    for (let c = 0; c < chunks; c++) {
+      const l = lo[c]
+      const h = hi[c]
       peak = Math.max(peak, h, -l) // the sample peak
       const wl = Math.min(l, l1, l2, l3)
       const wh = Math.max(h, h1, h2, h3)
       const mid = Math.abs(0.5 * (wh + wl))
       const half = 0.5 * (wh - wl)
-      if (mid * INNER_GAIN + half * INNER_ABS_GAIN > peak) peak = interpolateInner(x, start, start + CHUNK, peak)
-      if (mid * OUTER_GAIN + half * OUTER_ABS_GAIN > peak) peak = interpolateOuter(x, start, start + CHUNK, peak)
+      const start = HISTORY + c * CHUNK
+      const end = Math.min(n, start + CHUNK)
+      if (mid * INNER_GAIN + half * INNER_ABS_GAIN > peak) peak = interpolateInner(x, start, end, peak)
+      if (mid * OUTER_GAIN + half * OUTER_ABS_GAIN > peak) peak = interpolateOuter(x, start, end, peak)
       l3 = l2
       h3 = h2
       l2 = l1
       h2 = h1
       l1 = l
       h1 = h
-    }
-    // The last, partial chunk: few samples, no bound needed.
-    if (start < n) {
-      for (let j = start; j < n; j++) peak = Math.max(peak, Math.abs(x[j]))
-      peak = interpolate(x, start, n, peak)
     }
     return peak
   }

@@ -30,8 +30,35 @@ export const apiNotFound: RequestHandler = (req) => {
   throw new AppError(404, 'ROUTE_NOT_FOUND', `No API route ${req.method} ${req.path}`)
 }
 
+const DRAIN_LIMIT = 64 * 1024 * 1024
+
+/**
+ * A request refused before its body was read (an upload to an unknown session,
+ * or by a role that may not upload): when the body is small enough, read and
+ * discard it first, so the client gets to see the answer instead of a broken
+ * pipe; a large one is cut off once the answer is out.
+ */
+function afterDrain(req: Parameters<ErrorRequestHandler>[1], res: Parameters<ErrorRequestHandler>[2], send: () => void) {
+  if (req.complete || req.readableEnded || !req.readable) return send()
+  const announced = Number(req.headers['content-length'] ?? Infinity)
+  if (announced > DRAIN_LIMIT) {
+    res.set('Connection', 'close')
+    send()
+    res.on('finish', () => req.socket.destroy())
+    return
+  }
+  req.on('end', send)
+  req.on('error', send)
+  req.resume()
+}
+
 /** The one error middleware: every failure leaves the server in the same shape. */
-export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
+export const errorHandler: ErrorRequestHandler = (err, req, res, next) => {
+  afterDrain(req, res, () => respond(err, req, res, next))
+}
+
+const respond: ErrorRequestHandler = (err, req, res, _next) => {
+  if (res.headersSent) return
   if (err instanceof AppError) {
     res.status(err.status).json({ error: { code: err.code, message: err.message, details: err.details ?? {} } })
     return

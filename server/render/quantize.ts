@@ -34,50 +34,62 @@ export interface DitherState {
 
 export const ditherState = (seed: number): DitherState => ({ state: seed >>> 0 || 0x2545f491 })
 
+// Adding then subtracting 1.5 · 2^52 rounds a double to the nearest integer (ties to even)
+// in two additions, much cheaper than Math.round in the hot loop.
+const ROUND = 6755399441055744
+
 /** Processes frames [pos, pos + n) of the item held in block[c][0..n). */
 export function processBlock(block: Float32Array[], pos: number, env: Envelope, q: Quantizer, rng: DitherState): void {
   const n = block[0]?.length ?? 0
   if (n === 0) return
   const g = env.gain
-  const fi = env.fadeIn
-  const fo = env.fadeOut
-  const foStart = env.total - fo
   const scale = q.scale
-  const inv = scale > 0 ? 1 / scale : 0
-  const hi = scale - 1
-  const lo = -scale
   const halfPi = Math.PI / 2
-  // Frames of this block that are rounded without dither (or -1).
+  const fadeInEnd = Math.min(n, env.fadeIn - pos)
+  const fadeOutFrom = Math.max(0, env.total - env.fadeOut - pos)
+  // Frames of this block rounded without dither (loop boundaries), or -1.
   const kFirst = q.plainFirst && pos === 0 ? 0 : -1
   const kLast = q.plainLast && env.total - 1 - pos < n ? env.total - 1 - pos : -1
   let s = rng.state
   for (let c = 0; c < block.length; c++) {
     const x = block[c]
-    // Gain, with the fade envelope only where a fade lies.
-    const fadeInEnd = Math.min(n, fi - pos)
-    let i = 0
-    for (; i < fadeInEnd; i++) x[i] *= g * Math.sin((halfPi * (pos + i)) / fi)
-    const plainEnd = Math.min(n, foStart - pos)
-    for (; i < plainEnd; i++) x[i] *= g
-    for (; i < n; i++) x[i] *= g * Math.sin((halfPi * (env.total - 1 - (pos + i))) / fo)
-    if (scale === 0) continue
+    // The fade envelopes touch only the first and last few milliseconds.
+    for (let i = 0; i < fadeInEnd; i++) x[i] *= Math.sin((halfPi * (pos + i)) / env.fadeIn)
+    for (let i = fadeOutFrom; i < n; i++) x[i] *= Math.sin((halfPi * (env.total - 1 - (pos + i))) / env.fadeOut)
+    if (scale === 0) {
+      for (let k = 0; k < n; k++) x[k] *= g
+      continue
+    }
+    const gs = g * scale
+    const inv = 1 / scale
+    const hi = scale - 1
+    const lo = -scale
+    const rawFirst = kFirst >= 0 ? x[kFirst] : 0
+    const rawLast = kLast >= 0 ? x[kLast] : 0
     if (q.dither) {
       for (let k = 0; k < n; k++) {
         s ^= s << 13
         s ^= s >>> 17
         s ^= s << 5
-        const d = k === kFirst || k === kLast ? 0 : ((s & 0xffff) - (s >>> 16)) * (1 / 65536)
-        let v = Math.round(x[k] * scale + d)
-        v = v > hi ? hi : v < lo ? lo : v === v ? v : 0 // the last test maps NaN to 0
-        x[k] = v * inv
+        let v = x[k] * gs + ((s & 0xffff) - (s >>> 16)) * (1 / 65536)
+        v = v + ROUND - ROUND
+        x[k] = (v > hi ? hi : v < lo ? lo : v === v ? v : 0) * inv // the last test maps NaN to 0
       }
     } else {
       for (let k = 0; k < n; k++) {
-        let v = Math.round(x[k] * scale)
-        v = v > hi ? hi : v < lo ? lo : v === v ? v : 0
-        x[k] = v * inv
+        let v = x[k] * gs
+        v = v + ROUND - ROUND
+        x[k] = (v > hi ? hi : v < lo ? lo : v === v ? v : 0) * inv
       }
     }
+    if (kFirst >= 0) x[kFirst] = plain(rawFirst * gs, lo, hi) * inv
+    if (kLast >= 0) x[kLast] = plain(rawLast * gs, lo, hi) * inv
   }
   rng.state = s
+}
+
+/** Rounding alone: a sample ≥ 0 stays ≥ 0 and one < 0 stays ≤ 0, so a zero crossing survives. */
+function plain(v: number, lo: number, hi: number): number {
+  const r = Math.round(v)
+  return r > hi ? hi : r < lo ? lo : r === r ? r : 0
 }

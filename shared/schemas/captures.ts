@@ -46,7 +46,9 @@ export const UpdateCaptureSessionBody = z
     title: text(200).min(1),
     date: isoDate,
     location: text(200),
-    rig: Rig.partial(),
+    rig: z
+      .object({ pickup: text(120), gainDb: z.number().min(-20).max(90).nullable(), recorder: text(120), notes: text(4000) })
+      .partial(),
     defaultSourceId: z.number().int().positive().nullable(),
     defaultState: text(80),
   })

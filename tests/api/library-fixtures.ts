@@ -72,7 +72,7 @@ export const FIXTURE_TAKES: FixtureTake[] = [
     tags: ['data burst', 'chirp'], links: [{ source: 'radio', state: 'transmitting' }], createdAt: '2026-11-05T10:00:00.000Z',
   },
   {
-    key: 'F', title: 'Workstation seek chirps', filename: 'F_workstation.wav', session: 'basement', uploader: null,
+    key: 'F', title: 'Workstation seek chirps', filename: 'F_seek_0193.wav', session: 'basement', uploader: null,
     sampleRate: 48000, channels: 2, duration: 60, ...m(-42, -20, 12, -21, -90), hum: 50, status: 'ready',
     tags: ['chirp', 'crackle'], links: [{ source: 'workstation', state: 'disk seeking' }, { source: 'charger', state: 'idle' }],
     createdAt: '2026-11-06T10:00:00.000Z',

@@ -1,0 +1,267 @@
+// Renders one pack item (a take, or a range of one) to a WAV file to spec, in
+// a streaming way: memory is a few blocks, whatever the item's length.
+//
+//   1. Range in frames; loops move both ends to rising zero crossings (zero-crossing.ts).
+//   2. Levels of the source range: given (the take's analysis for a whole take, or a
+//      cached range measurement), else a first measuring pass with the engine's Meter.
+//   3. Gain from the settings (settings.ts): loudness or peak normalisation or none,
+//      always under the true-peak ceiling; no limiter.
+//   4. One streaming pass: read a block, apply gain and fades, reduce the word length
+//      with TPDF dither (quantize.ts), meter the exact output samples (loudness, range,
+//      true peak), write the block.
+//   5. Fades and quantisation move a short item's loudness slightly. When the measured
+//      result misses the target by more than 0.1 LU (or 0.1 dB in peak mode), or its true
+//      peak is above the ceiling, the pass is thrown away and run once more with the
+//      gain corrected by the miss (still capped by the ceiling). Otherwise bext's loudness
+//      fields get the measured values and the file is closed into place.
+import { randomBytes } from 'node:crypto'
+import type { ItemKind, RenderSettings } from '@shared/schemas/packs'
+import { probeWav, readFrames, type WavInfo } from '../audio/wav-reader'
+import { WavWriter, type WavWriteOptions } from '../audio/wav-writer'
+import { LevelMeter, measureRange, type LevelReading } from './level-meter'
+import { bextFor, codingHistory, infoFor, type ItemMetadata } from './metadata'
+import { ditherState, processBlock } from './quantize'
+import { modeTarget, planGain, round2, type GainPlan, type SourceLevels } from './settings'
+import { loopCut } from './zero-crossing'
+
+export const RENDER_BLOCK_FRAMES = 65536
+/** A miss larger than this (LU, or dB in peak mode) triggers the one corrective pass. */
+export const TARGET_TOLERANCE = 0.1
+
+export class RenderStopped extends Error {
+  constructor() {
+    super('render stopped')
+  }
+}
+
+export interface RenderRequest {
+  sourcePath: string
+  /** null: from the start of the take. */
+  startSeconds: number | null
+  /** null: to the end of the take. */
+  endSeconds: number | null
+  kind: ItemKind
+  settings: RenderSettings
+  /** Levels of exactly the asked range, when already known; measured otherwise. */
+  sourceLevels?: SourceLevels | null
+  metadata: ItemMetadata
+  /** Seed of the dither generator; the same request renders the same bytes. */
+  ditherSeed?: number
+  /** Frames rendered so far in this request (over all passes). */
+  onFrames?: (frames: number) => void
+  /** Checked between blocks; true aborts with RenderStopped and leaves no file. */
+  shouldStop?: () => boolean
+  /** A probe of sourcePath the caller already made. */
+  sourceInfo?: WavInfo
+}
+
+export interface RenderResult {
+  path: string
+  bytes: number
+  frames: number
+  durationSeconds: number
+  sampleRate: number
+  channels: number
+  bitDepth: number
+  encoding: 'pcm' | 'float'
+  /** The source frames rendered, [start, end). */
+  sourceStartFrame: number
+  sourceEndFrame: number
+  sourceLevels: SourceLevels
+  gainDb: number
+  mode: RenderSettings['normalize']
+  /** The ceiling kept the item below its target. */
+  limited: boolean
+  /** null when the item reached its target; else how far short (LU in loudness mode, dB in peak mode). */
+  underTargetDb: number | null
+  /** Measured on the samples written. */
+  levels: LevelReading
+  /** smpl loop of the file (start and end inclusive), loops only. */
+  loop: { start: number; end: number; onCrossings: boolean } | null
+  dithered: boolean
+  fadeInFrames: number
+  fadeOutFrames: number
+  /** 1, or 2 when the corrective pass ran. */
+  passes: number
+}
+
+function clampFrame(seconds: number | null, rate: number, frames: number, dflt: number): number {
+  if (seconds === null) return dflt
+  return Math.min(frames, Math.max(0, Math.round(seconds * rate)))
+}
+
+/** Fade lengths in frames; when both do not fit, each gets at most half the item. */
+export function fadeFrames(kind: ItemKind, s: RenderSettings, rate: number, total: number): { fadeIn: number; fadeOut: number } {
+  if (kind === 'loop') return { fadeIn: 0, fadeOut: 0 }
+  let fadeIn = Math.round((s.fadeInMs / 1000) * rate)
+  let fadeOut = Math.round((s.fadeOutMs / 1000) * rate)
+  if (fadeIn + fadeOut > total) {
+    fadeIn = Math.min(fadeIn, Math.floor(total / 2))
+    fadeOut = Math.min(fadeOut, total - fadeIn)
+  }
+  return { fadeIn, fadeOut }
+}
+
+/** Whether a sample can leave the output grid: PCM output of a float or deeper source, or any change of level. */
+function needsDither(info: WavInfo, s: RenderSettings, gain: number, fades: boolean): boolean {
+  if (s.bitDepth === 32) return false
+  const f = info.format
+  return f.encoding === 'float' || f.validBitsPerSample > s.bitDepth || gain !== 1 || fades
+}
+
+function seedOf(r: RenderRequest): number {
+  return r.ditherSeed ?? randomBytes(4).readUInt32LE(0)
+}
+
+export async function renderItem(req: RenderRequest, outPath: string): Promise<RenderResult> {
+  const info = req.sourceInfo ?? (await probeWav(req.sourcePath))
+  const f = info.format
+  const s = req.settings
+  let start = clampFrame(req.startSeconds, f.sampleRate, f.frames, 0)
+  let end = clampFrame(req.endSeconds, f.sampleRate, f.frames, f.frames)
+  if (end <= start) throw new RangeError(`the range ${start}..${end} holds no frames`)
+  let loop: RenderResult['loop'] = null
+  if (req.kind === 'loop') {
+    const cut = await loopCut(req.sourcePath, info, start, end)
+    start = cut.start
+    end = cut.end
+    loop = { start: 0, end: end - start - 1, onCrossings: cut.onCrossings }
+  }
+  const total = end - start
+  const source = req.sourceLevels ?? (await measureRange(req.sourcePath, info, start, end))
+  const { fadeIn, fadeOut } = fadeFrames(req.kind, s, f.sampleRate, total)
+  const seed = seedOf(req)
+  let plan: GainPlan = planGain(source, s)
+  let done = 0
+  const progress = (n: number) => {
+    done += n
+    req.onFrames?.(done)
+  }
+
+  const first = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress)
+  let pass = first
+  let passes = 1
+  const correction = correctionDb(plan, s, first.levels)
+  if (correction !== null) {
+    await first.writer.abort()
+    plan = { ...plan, gainDb: plan.gainDb + correction.db, limited: plan.limited || correction.capped }
+    pass = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress)
+    passes = 2
+  }
+  const history = pass.history
+  pass.writer.updateBext(bextFor(req.metadata, history, pass.levels))
+  const closed = await pass.writer.close()
+
+  const target = modeTarget(plan.mode, s)
+  const reached = plan.mode === 'loudness' ? pass.levels.integratedLufs : plan.mode === 'peak' ? pass.levels.truePeakDbtp : null
+  const under = plan.limited && target !== null && reached !== null && target - reached > 0.005 ? round2(target - reached) : null
+  return {
+    path: outPath,
+    bytes: closed.bytes,
+    frames: closed.frames,
+    durationSeconds: closed.frames / f.sampleRate,
+    sampleRate: f.sampleRate,
+    channels: f.channels,
+    bitDepth: s.bitDepth,
+    encoding: s.bitDepth === 32 ? 'float' : 'pcm',
+    sourceStartFrame: start,
+    sourceEndFrame: end,
+    sourceLevels: source,
+    gainDb: plan.gainDb,
+    mode: plan.mode,
+    limited: plan.limited,
+    underTargetDb: under,
+    levels: pass.levels,
+    loop,
+    dithered: pass.dithered,
+    fadeInFrames: fadeIn,
+    fadeOutFrames: fadeOut,
+    passes,
+  }
+}
+
+/** The gain change of the corrective pass, or null when the first pass is good. */
+export function correctionDb(plan: GainPlan, s: RenderSettings, got: LevelReading): { db: number; capped: boolean } | null {
+  const tp = got.truePeakDbtp
+  if (tp === null) return null
+  const room = s.truePeakCeilingDbtp - tp
+  const target = modeTarget(plan.mode, s)
+  const reached = plan.mode === 'loudness' ? got.integratedLufs : plan.mode === 'peak' ? tp : null
+  let want = 0
+  if (!plan.limited && target !== null && reached !== null && Math.abs(target - reached) > TARGET_TOLERANCE) want = target - reached
+  else if (plan.limited && room > TARGET_TOLERANCE) want = room // the fades took the peak away: there is headroom left
+  const over = room < -0.005
+  if (want === 0 && !over) return null
+  const capped = want > room
+  return { db: Math.min(want, room), capped }
+}
+
+interface Pass {
+  writer: WavWriter
+  levels: LevelReading
+  dithered: boolean
+  history: string
+}
+
+async function renderPass(
+  req: RenderRequest,
+  info: WavInfo,
+  outPath: string,
+  start: number,
+  end: number,
+  gainDb: number,
+  fadeIn: number,
+  fadeOut: number,
+  loop: RenderResult['loop'],
+  seed: number,
+  progress: (n: number) => void,
+): Promise<Pass> {
+  const f = info.format
+  const s = req.settings
+  const total = end - start
+  const gain = 10 ** (gainDb / 20)
+  const dithered = needsDither(info, s, gain, fadeIn + fadeOut > 0)
+  const float = s.bitDepth === 32
+  const history = codingHistory([
+    { encoding: f.encoding, sampleRate: f.sampleRate, bits: f.validBitsPerSample, channels: f.channels, text: 'source take' },
+    {
+      encoding: float ? 'float' : 'pcm',
+      sampleRate: f.sampleRate,
+      bits: s.bitDepth,
+      channels: f.channels,
+      text: `${req.metadata.originatorReference ? req.metadata.originatorReference + ' ' : ''}render, gain ${gainDb >= 0 ? '+' : ''}${gainDb.toFixed(2)} dB, ` +
+        `${req.kind === 'loop' ? 'loop on zero crossings' : `fades ${fadeIn}/${fadeOut} frames`}${dithered ? ', TPDF dither' : ''}`,
+    },
+  ])
+  const opts: WavWriteOptions = {
+    sampleRate: f.sampleRate,
+    channels: f.channels,
+    encoding: float ? 'float' : 'pcm',
+    bitsPerSample: s.bitDepth,
+    channelMask: f.channelMask,
+    bext: bextFor(req.metadata, history, null),
+    info: infoFor(req.metadata),
+    loops: loop ? [{ start: loop.start, end: loop.end }] : undefined,
+  }
+  const writer = await WavWriter.open(outPath, opts)
+  try {
+    const meter = new LevelMeter(f.sampleRate, f.channels, f.channelMask)
+    const env = { gain, total, fadeIn, fadeOut }
+    const q = { scale: float ? 0 : 2 ** (s.bitDepth - 1), dither: dithered, plainFirst: loop !== null, plainLast: loop !== null }
+    const rng = ditherState(seed)
+    let pos = 0
+    for await (const block of readFrames(req.sourcePath, info, { startFrame: start, endFrame: end, blockFrames: RENDER_BLOCK_FRAMES })) {
+      if (req.shouldStop?.()) throw new RenderStopped()
+      processBlock(block, pos, env, q, rng)
+      meter.push(block)
+      await writer.write(block)
+      pos += block[0].length
+      progress(block[0].length)
+    }
+    if (pos !== total) throw new Error(`the source ended after ${pos} of ${total} frames`)
+    return { writer, levels: meter.finish(), dithered, history }
+  } catch (err) {
+    await writer.abort()
+    throw err
+  }
+}
