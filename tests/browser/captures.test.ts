@@ -1,0 +1,66 @@
+// A recordist creates a capture session and drops a folder of takes on it in
+// Debian's Chromium: each file shows its own progress and state, refused files
+// say why, and the measured numbers appear as the takes are analysed.
+import fs from 'node:fs'
+import path from 'node:path'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import type { Browser } from 'playwright-core'
+import { startTestServer } from '../helpers/server'
+import { launchBrowser, screenshot, signInThroughForm } from '../helpers/browser'
+import { soxWav } from '../helpers/uploads'
+
+type Server = Awaited<ReturnType<typeof startTestServer>>
+let server: Server
+let browser: Browser
+
+beforeAll(async () => {
+  server = await startTestServer({ clientDir: path.resolve('dist') })
+  browser = await launchBrowser()
+})
+afterAll(async () => {
+  await browser?.close()
+  await server?.stop()
+})
+
+describe('capture session upload in the browser', () => {
+  it('uploads a folder of takes in parallel and shows their measurements', async () => {
+    const dir = path.join(server.dir, 'card')
+    const files = [
+      soxWav(path.join(dir, 'REC0001.WAV'), { rate: 48000, bits: 24, channels: 2, seconds: 4, synth: ['sine', '50'] }),
+      soxWav(path.join(dir, 'REC0002.WAV'), { rate: 44100, bits: 16, channels: 1, seconds: 3, synth: ['pinknoise'] }),
+      soxWav(path.join(dir, 'REC0003.WAV'), { rate: 96000, bits: 24, channels: 1, seconds: 2, synth: ['sine', '9000'] }),
+    ]
+    const notWav = path.join(dir, 'NOTES.WAV')
+    fs.writeFileSync(notWav, 'not audio at all, just a text file someone renamed')
+
+    const page = await browser.newPage({ viewport: { width: 1400, height: 1000 } })
+    await signInThroughForm(page, server.url, 'recordist@example.test')
+    await page.goto(`${server.url}/captures`)
+    await page.locator('[data-test=new-session]').click()
+    await page.locator('input[name=title]').fill('Bench sweep, browser test')
+    await page.locator('input[name=location]').fill('Test bench')
+    await page.locator('input[name=pickup]').fill('Telephone pickup coil')
+    await page.locator('[data-test=save-session]').click()
+    await page.waitForURL(/\/captures\/\d+$/)
+    await expect.poll(() => page.locator('[data-test=session-facts]').innerText()).toContain('Telephone pickup coil')
+    await expect.poll(() => page.locator('[data-test=capture-caution]').innerText()).toMatch(/electrical codes/)
+
+    await page.locator('[data-test=file-input]').setInputFiles([...files, notWav])
+    const queue = page.locator('[data-test=upload-queue] li')
+    await expect.poll(() => queue.count()).toBe(4)
+    // Each file ends with its own state; the renamed text file is refused with the reason.
+    await expect.poll(() => page.locator('[data-test=upload-queue] li[data-state=done]').count(), { timeout: 30_000 }).toBe(3)
+    await expect.poll(() => page.locator('[data-test=upload-queue] li[data-state=failed]').innerText()).toMatch(/NOTES\.WAV: .*RIFF/)
+
+    // Takes move to Ready and show their integrated loudness.
+    const rows = page.locator('[data-test=session-takes] .take-row')
+    await expect.poll(() => rows.count(), { timeout: 30_000 }).toBe(3)
+    await expect.poll(() => page.locator('[data-test=session-takes] [data-status=ready]').count(), { timeout: 60_000 }).toBe(3)
+    const text = await page.locator('[data-test=session-takes]').innerText()
+    expect(text).toMatch(/LUFS/)
+    expect(text).toMatch(/50 Hz/)
+    expect(text).toContain('REC0003.WAV')
+    await screenshot(page, 'capture-upload')
+    await page.close()
+  })
+})
