@@ -1,0 +1,77 @@
+import { acceptHMRUpdate, defineStore } from 'pinia'
+import { ref } from 'vue'
+import type { AddItemBody, CreatePackBody, Pack, PackBuild, PackDetail, PackItem, ShareLink, UpdateItemBody, UpdatePackBody } from '@shared/schemas/packs'
+import { api } from '@/api/client'
+
+/** Packs: curating, building, publishing and sharing. */
+export const usePacksStore = defineStore('packs', () => {
+  const packs = ref<Pack[]>([])
+  const current = ref<PackDetail | null>(null)
+  const builds = ref<PackBuild[]>([])
+
+  async function load() {
+    packs.value = (await api.get<{ packs: Pack[] }>('/api/packs')).packs
+  }
+  async function open(id: number) {
+    current.value = (await api.get<{ pack: PackDetail }>(`/api/packs/${id}`)).pack
+    builds.value = (await api.get<{ builds: PackBuild[] }>(`/api/packs/${id}/builds`)).builds
+  }
+  const reload = () => (current.value ? open(current.value.id) : Promise.resolve())
+
+  const create = async (body: Partial<CreatePackBody> & { name: string }) => (await api.post<{ pack: Pack }>('/api/packs', body)).pack
+  async function update(patch: UpdatePackBody) {
+    await api.patch(`/api/packs/${current.value!.id}`, patch)
+    await reload()
+  }
+  async function remove(id: number) {
+    await api.delete(`/api/packs/${id}`)
+    packs.value = packs.value.filter((p) => p.id !== id)
+  }
+
+  async function addItems(packId: number, items: AddItemBody[]) {
+    const res = await api.post<{ items: PackItem[] }>(`/api/packs/${packId}/items/batch`, { items })
+    if (current.value?.id === packId) await reload()
+    return res.items
+  }
+  async function updateItem(itemId: number, patch: UpdateItemBody) {
+    await api.patch(`/api/packs/${current.value!.id}/items/${itemId}`, patch)
+    await reload()
+  }
+  async function removeItem(itemId: number) {
+    await api.delete(`/api/packs/${current.value!.id}/items/${itemId}`)
+    await reload()
+  }
+  async function reorder(itemIds: number[]) {
+    await api.put(`/api/packs/${current.value!.id}/items/order`, { itemIds })
+    await reload()
+  }
+
+  async function build() {
+    const { build } = await api.post<{ build: PackBuild }>(`/api/packs/${current.value!.id}/builds`)
+    await reload()
+    return build
+  }
+  const getBuild = async (id: number) => (await api.get<{ build: PackBuild }>(`/api/pack-builds/${id}`)).build
+  async function publish(buildId: number) {
+    await api.post(`/api/pack-builds/${buildId}/publish`)
+    await reload()
+  }
+
+  async function follow(packId: number, on: boolean) {
+    if (on) await api.post(`/api/packs/${packId}/follow`)
+    else await api.delete(`/api/packs/${packId}/follow`)
+    packs.value = packs.value.map((p) => (p.id === packId ? { ...p, following: on } : p))
+    if (current.value?.id === packId) current.value = { ...current.value, following: on }
+  }
+
+  const shareLinks = async (buildId: number) => (await api.get<{ links: ShareLink[] }>(`/api/pack-builds/${buildId}/share-links`)).links
+  const createShareLink = async (buildId: number, expiresAt: string, maxDownloads: number | null) =>
+    (await api.post<{ link: ShareLink }>(`/api/pack-builds/${buildId}/share-links`, { expiresAt, maxDownloads })).link
+  const revokeShareLink = (id: number) => api.delete(`/api/share-links/${id}`)
+
+  const previewUrl = (itemId: number) => `/api/packs/${current.value!.id}/items/${itemId}/preview`
+
+  return { packs, current, builds, load, open, reload, create, update, remove, addItems, updateItem, removeItem, reorder, build, getBuild, publish, follow, shareLinks, createShareLink, revokeShareLink, previewUrl }
+})
+
+if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(usePacksStore, import.meta.hot))
