@@ -271,15 +271,34 @@ export async function readPeaks(path: string, opts: { maxPoints?: number } = {})
         data[c][2 * p + 1] = raw.readInt16LE(at + 2) / SCALE
       }
     }
+    // Even the coarsest level can hold more pairs than asked for (a short take):
+    // merge neighbouring pixels so the answer never exceeds maxPoints pairs.
+    const factor = Math.ceil(level.pixels / Math.max(1, maxPoints))
     return {
       durationSeconds: h.frames / h.sampleRate,
       sampleRate: h.sampleRate,
-      samplesPerPixel: level.samplesPerPixel,
-      data,
+      samplesPerPixel: level.samplesPerPixel * factor,
+      data: factor > 1 ? data.map((ch) => mergePairs(ch, factor)) : data,
     }
   } finally {
     await fh.close()
   }
+}
+
+/** Every `factor` min/max pairs become one: the min of the mins and the max of the maxes. */
+function mergePairs(ch: number[], factor: number): number[] {
+  const pairs = ch.length / 2
+  const out: number[] = []
+  for (let p = 0; p < pairs; p += factor) {
+    let lo = Infinity
+    let hi = -Infinity
+    for (let q = p; q < Math.min(pairs, p + factor); q++) {
+      lo = Math.min(lo, ch[2 * q])
+      hi = Math.max(hi, ch[2 * q + 1])
+    }
+    out.push(lo, hi)
+  }
+  return out
 }
 
 /** All levels of a peaks file, for tests and tools that need more than one resolution. */

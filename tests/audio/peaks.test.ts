@@ -8,7 +8,8 @@ import { join } from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Peaks } from '@shared/schemas/analysis'
 import { analyzeFile } from '../../server/audio/analyze'
-import { readAllPeakLevels, readPeaks } from '../../server/audio/peaks'
+import { Meter } from '../../server/audio/meter'
+import { PeaksBuilder, readAllPeakLevels, readPeaks } from '../../server/audio/peaks'
 import { ffmpeg, sox } from '../helpers/reference-tools'
 
 const dir = mkdtempSync(join(tmpdir(), 'strayfield-peaks-'))
@@ -65,6 +66,22 @@ describe('peaks pyramid', () => {
     }
   })
 
+  it('odd block sizes (not whole 4-frame chunks or pixels) build the same pyramid', () => {
+    const frames = planar[0].length
+    for (const block of [1000, 333, 4097]) {
+      const file = join(dir, `odd-${block}.peaks`)
+      const meter = new Meter({ sampleRate: 8000, channels: 2, channelMask: 0, frames })
+      const builder = new PeaksBuilder(file, { sampleRate: 8000, channels: 2, frames })
+      for (let i = 0; i < frames; i += block) {
+        const part = planar.map((c) => c.subarray(i, Math.min(frames, i + block)))
+        meter.push(part)
+        builder.push(part, meter.lastScan)
+      }
+      builder.finish()
+      expect(readAllPeakLevels(file)).toEqual(readAllPeakLevels(peaksFile))
+    }
+  })
+
   it('readPeaks returns the finest level within maxPoints, in the shared Peaks (wavesurfer.js) form', async () => {
     const p = Peaks.parse(await readPeaks(peaksFile))
     // Default 8000 pairs: 256 spp gives 18751 pixels, 1024 spp gives 4688.
@@ -82,8 +99,13 @@ describe('peaks pyramid', () => {
     }
     expect((await readPeaks(peaksFile, { maxPoints: 20000 })).samplesPerPixel).toBe(256)
     expect((await readPeaks(peaksFile, { maxPoints: 2000 })).samplesPerPixel).toBe(4096)
-    // Nothing fits 10 pairs: the coarsest level is the answer.
-    expect((await readPeaks(peaksFile, { maxPoints: 10 })).samplesPerPixel).toBe(4096)
+    // Nothing fits 10 pairs: the coarsest level is merged down until it does.
+    const tiny = await readPeaks(peaksFile, { maxPoints: 10 })
+    expect(tiny.data[0].length).toBeLessThanOrEqual(20)
+    expect(tiny.samplesPerPixel % 4096).toBe(0)
+    const coarse = await readPeaks(peaksFile, { maxPoints: 2000 })
+    expect(Math.max(...tiny.data[0])).toBe(Math.max(...coarse.data[0]))
+    expect(Math.min(...tiny.data[0])).toBe(Math.min(...coarse.data[0]))
   })
 
   it('clamps float samples beyond full scale to −1..1 (wavesurfer.js expects that range)', async () => {
