@@ -193,14 +193,17 @@ const quantile = (xs: number[], p: number) => {
 
 async function main(): Promise<void> {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'strayfield-bench-'))
+  // BENCH_DB=file keeps the seeded database there and reuses it on the next run (for working on queries).
+  const keep = process.env.BENCH_DB ? path.resolve(process.env.BENCH_DB) : null
+  const reuse = keep !== null && fs.existsSync(keep)
   const server = await startServer(
-    { port: 0, dbFile: path.join(dir, 'bench.sqlite'), storageDir: path.join(dir, 'storage'), demo: true, demoAudio: false, runJobs: false, clientDir: path.join(dir, 'none') },
+    { port: 0, dbFile: keep ?? path.join(dir, 'bench.sqlite'), storageDir: path.join(dir, 'storage'), demo: true, demoAudio: false, runJobs: false, clientDir: path.join(dir, 'none') },
     { ...process.env, SMTP_URL: '', SESSION_SECRET: '' },
   )
   try {
     const db = server.ctx.db
     const sourceId = async (name: string) => (await db.selectFrom('sources').select('id').where('name', '=', name).executeTakeFirstOrThrow()).id
-    await seed(db)
+    if (!reuse) await seed(db)
     const anySession = (await db.selectFrom('capture_sessions').select('id').orderBy('id').limit(1).offset(41).executeTakeFirstOrThrow()).id
     const anyUploader = (await db.selectFrom('users').select('id').where('email', '=', 'recordist@example.test').executeTakeFirstOrThrow()).id
     const fanId = await sourceId('Desk fan 3')

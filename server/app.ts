@@ -22,6 +22,7 @@ import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
 import { registerCommentRoutes } from './comments/comments.routes'
+import { registerPackRoutes } from './packs/packs.routes'
 
 export interface BuiltApp {
   app: Express
@@ -80,6 +81,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerSourceRoutes(api, ctx)
   registerRegionRoutes(api, ctx)
   registerCommentRoutes(api, ctx)
+  registerPackRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

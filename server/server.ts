@@ -10,6 +10,7 @@ import { Storage } from './core/storage'
 import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
+import { buildPackJob } from './packs/build.job'
 
 export interface RunningServer {
   url: string
@@ -29,7 +30,7 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
   storage.sweepIncoming()
   const pool = createAnalysisPool(config.analysisWorkers || undefined)
   const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner }
-  ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool) })
+  ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
   const built = await createApp(ctx)

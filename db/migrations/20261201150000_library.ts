@@ -41,9 +41,41 @@ export async function up(db: Kysely<any>): Promise<void> {
 
   // History lists newest first per take.
   await db.schema.createIndex('take_events_take_time').on('take_events').columns(['take_id', 'created_at']).execute()
+
+  // Library search. Take rows are wide (each holds its whole analysis), so
+  // filters and sorts read this narrow covering index instead of the rows.
+  await db.schema.createIndex('takes_facets').on('takes').columns(FACETS).execute()
+  // Tag and device conditions read take ids straight from their indexes.
+  await db.schema.dropIndex('take_tags_tag').execute()
+  await db.schema.createIndex('take_tags_tag_take').on('take_tags').columns(['tag', 'take_id']).execute()
+  await db.schema.dropIndex('take_sources_source').execute()
+  await db.schema.createIndex('take_sources_source_take').on('take_sources').columns(['source_id', 'take_id', 'state']).execute()
 }
 
+const FACETS = [
+  'status',
+  'hum_hz',
+  'sample_rate',
+  'channels',
+  'session_id',
+  'uploader_id',
+  'duration_seconds',
+  'integrated_lufs',
+  'true_peak_dbtp',
+  'loudness_range_lu',
+  'sample_peak_dbfs',
+  'noise_floor_dbfs',
+  'created_at',
+  'title',
+  'filename',
+]
+
 export async function down(db: Kysely<any>): Promise<void> {
+  await db.schema.dropIndex('take_sources_source_take').execute()
+  await db.schema.createIndex('take_sources_source').on('take_sources').column('source_id').execute()
+  await db.schema.dropIndex('take_tags_tag_take').execute()
+  await db.schema.createIndex('take_tags_tag').on('take_tags').column('tag').execute()
+  await db.schema.dropIndex('takes_facets').execute()
   await db.schema.dropIndex('take_events_take_time').execute()
   await db.schema.dropTable('comments').execute()
   await db.schema.dropTable('regions').execute()

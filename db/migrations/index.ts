@@ -6,10 +6,12 @@ import * as foundation from './20261201120000_foundation'
 import * as capturesAndTakes from './20261201130000_captures_and_takes'
 import * as takeSearch from './20261201140000_take_search'
 import * as library from './20261201150000_library'
+import * as packs from './20261201160000_packs'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
   '20261201130000_captures_and_takes': capturesAndTakes,
   '20261201140000_take_search': takeSearch,
   '20261201150000_library': library,
+  '20261201160000_packs': packs,
 }

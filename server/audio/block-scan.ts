@@ -37,46 +37,72 @@ export class BlockScan {
     }
     this.frames = n
     this.chunks = chunks
+    // Channels go two at a time: independent chains for the CPU, and one store per chunk energy.
+    let ch = 0
+    for (; ch + 1 < this.channels; ch += 2) this.scanPair(ch, ch + 1, planar[ch], planar[ch + 1], n, ch > 0)
+    if (ch < this.channels) this.scanPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
+  }
+
+  /** Scans channels a and b (b = −1: a only); adds to the chunk energies when `accumulate`, else sets them. */
+  private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
     const e = this.energy
-    e.fill(0, 0, chunks)
-    for (let ch = 0; ch < this.channels; ch++) {
-      const x = planar[ch]
-      const lo = this.lo[ch]
-      const hi = this.hi[ch]
-      let s = 0
-      let q = 0
-      let c = 0
-      let i = 0
-      for (; i + 3 < n; i += 4, c++) {
-        const a = x[i], b = x[i + 1], d = x[i + 2], f = x[i + 3]
-        s += a + b + (d + f)
-        const qc = a * a + b * b + (d * d + f * f)
-        q += qc
-        e[c] += qc
-        // Selects, not branches: on noise a branch here mispredicts half the time.
-        const lab = a < b ? a : b, hab = a < b ? b : a
-        const ldf = d < f ? d : f, hdf = d < f ? f : d
-        lo[c] = lab < ldf ? lab : ldf
-        hi[c] = hab > hdf ? hab : hdf
-      }
-      if (i < n) {
-        let l = Infinity
-        let h = -Infinity
-        let qc = 0
-        for (; i < n; i++) {
-          const v = x[i]
+    const loA = this.lo[a], hiA = this.hi[a]
+    const loB = b < 0 ? loA : this.lo[b], hiB = b < 0 ? hiA : this.hi[b]
+    const both = b >= 0 ? 1 : 0
+    let sa = 0, qa = 0, sb = 0, qb = 0
+    let c = 0
+    let i = 0
+    for (; i + 3 < n; i += 4, c++) {
+      const a0 = xa[i], a1 = xa[i + 1], a2 = xa[i + 2], a3 = xa[i + 3]
+      const b0 = xb[i], b1 = xb[i + 1], b2 = xb[i + 2], b3 = xb[i + 3]
+      sa += a0 + a1 + (a2 + a3)
+      sb += b0 + b1 + (b2 + b3)
+      const ea = a0 * a0 + a1 * a1 + (a2 * a2 + a3 * a3)
+      const eb = b0 * b0 + b1 * b1 + (b2 * b2 + b3 * b3)
+      qa += ea
+      qb += eb
+      const ec = ea + both * eb
+      e[c] = accumulate ? e[c] + ec : ec
+      // Selects, not branches: on noise a branch here mispredicts half the time.
+      const la = a0 < a1 ? a0 : a1, ha = a0 < a1 ? a1 : a0, ma = a2 < a3 ? a2 : a3, na = a2 < a3 ? a3 : a2
+      const lb = b0 < b1 ? b0 : b1, hb = b0 < b1 ? b1 : b0, mb = b2 < b3 ? b2 : b3, nb = b2 < b3 ? b3 : b2
+      loA[c] = la < ma ? la : ma
+      hiA[c] = ha > na ? ha : na
+      loB[c] = lb < mb ? lb : mb
+      hiB[c] = hb > nb ? hb : nb
+    }
+    if (i < n) {
+      // The partial last chunk, channel by channel.
+      const tail = (x: Float32Array, lo: Float32Array, hi: Float32Array) => {
+        let l = Infinity, h = -Infinity, s = 0, q = 0
+        for (let j = i; j < n; j++) {
+          const v = x[j]
           s += v
-          qc += v * v
+          q += v * v
           l = Math.min(l, v)
           h = Math.max(h, v)
         }
-        q += qc
-        e[c] += qc
         lo[c] = l
         hi[c] = h
+        return { s, q }
       }
-      this.sum[ch] = s
-      this.sumSquares[ch] = q
+      const ta = tail(xa, loA, hiA)
+      sa += ta.s
+      qa += ta.q
+      let ec = ta.q
+      if (b >= 0) {
+        const tb = tail(xb, loB, hiB)
+        sb += tb.s
+        qb += tb.q
+        ec += tb.q
+      }
+      e[c] = accumulate ? e[c] + ec : ec
+    }
+    this.sum[a] = sa
+    this.sumSquares[a] = qa
+    if (b >= 0) {
+      this.sum[b] = sb
+      this.sumSquares[b] = qb
     }
   }
 }

@@ -94,9 +94,12 @@ export class TruePeakMeter {
     for (let c = 0; c < chunks; c++) {
       const l = lo[c]
       const h = hi[c]
-      peak = Math.max(peak, h, -l) // the sample peak
-      const wl = Math.min(l, l1, l2, l3)
-      const wh = Math.max(h, h1, h2, h3)
+      const m = h > -l ? h : -l
+      peak = m > peak ? m : peak // the sample peak
+      const l12 = l1 < l2 ? l1 : l2, l3c = l3 < l ? l3 : l
+      const h12 = h1 > h2 ? h1 : h2, h3c = h3 > h ? h3 : h
+      const wl = l12 < l3c ? l12 : l3c
+      const wh = h12 > h3c ? h12 : h3c
       const mid = Math.abs(0.5 * (wh + wl))
       const half = 0.5 * (wh - wl)
       const start = HISTORY + c * CHUNK

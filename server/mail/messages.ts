@@ -41,3 +41,14 @@ export function mentionMail(to: string, m: { author: string; takeTitle: string; 
       sign,
   }
 }
+
+export function packPublishedMail(to: string, packName: string, version: number, link: string): OutgoingMail {
+  return {
+    to,
+    subject: `New version of the pack "${packName}": version ${version}`,
+    text:
+      `Version ${version} of the sample pack "${packName}", which you follow, is published and ready to download:\n${link}\n\n` +
+      `You get this message because you follow the pack; unfollow it on the same page.` +
+      sign,
+  }
+}

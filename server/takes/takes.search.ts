@@ -1,7 +1,6 @@
-import { sql, type SelectQueryBuilder } from 'kysely'
+import { sql, type RawBuilder } from 'kysely'
 import { normalizeTag } from '@shared/schemas/library'
 import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
-import type { Database } from '../../db/schema'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
 
@@ -34,96 +33,99 @@ const SORT_COLUMNS: Record<Exclude<TakeSort, 'relevance'>, string> = {
   status: 'takes.status',
 }
 
-/** Columns that are never NULL: they sort on their index without the "unmeasured last" term. */
+/** Columns that are never NULL: they sort without the "unmeasured last" term (and on their own index). */
 const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session', 'status'])
 
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
-type TakesQuery<O> = SelectQueryBuilder<Database, 'takes' | any, O>
-
 /**
- * Every filter of GET /api/takes as conditions on `takes` alone: repeated
- * sourceId and tag values must all hold, repeated sourceKind values are
- * alternatives. Device and tag conditions are sets of take ids read from their
- * indexes, so they narrow the scan instead of being checked row by row.
+ * Every filter of GET /api/takes as a condition on `takes` (parameters bound,
+ * never spliced). Repeated sourceId and tag values must all hold; repeated
+ * sourceKind values are alternatives.
  */
-function applyFilters<O>(base: TakesQuery<O>, q: TakeQuery, fts: string | undefined): TakesQuery<O> {
-  let b = base
-  if (fts) b = b.where('takes.id', 'in', sql<number>`(SELECT rowid FROM take_fts WHERE take_fts MATCH ${fts})`)
-  for (const id of new Set(q.sourceId ?? []))
-    b = b.where('takes.id', 'in', (eb) => eb.selectFrom('take_sources').select('take_sources.take_id').where('take_sources.source_id', '=', id))
+function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
+  const c: RawBuilder<unknown>[] = []
+  for (const id of new Set(q.sourceId ?? [])) c.push(sql`takes.id IN (SELECT take_id FROM take_sources WHERE source_id = ${id})`)
   if (q.sourceKind?.length) {
     const kinds = [...new Set(q.sourceKind)]
-    b = b.where('takes.id', 'in', (eb) =>
-      eb
-        .selectFrom('take_sources')
-        .innerJoin('sources', 'sources.id', 'take_sources.source_id')
-        .select('take_sources.take_id')
-        .where('sources.kind', 'in', kinds),
-    )
+    c.push(sql`takes.id IN (SELECT ts.take_id FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE s.kind IN (${sql.join(kinds)}))`)
   }
-  for (const tag of new Set((q.tag ?? []).map(normalizeTag)))
-    b = b.where('takes.id', 'in', (eb) => eb.selectFrom('take_tags').select('take_tags.take_id').where('take_tags.tag', '=', tag))
-  if (q.sessionId) b = b.where('takes.session_id', '=', q.sessionId)
-  if (q.uploaderId) b = b.where('takes.uploader_id', '=', q.uploaderId)
-  if (q.sampleRate) b = b.where('takes.sample_rate', '=', q.sampleRate)
-  if (q.channels) b = b.where('takes.channels', '=', q.channels)
-  if (q.minDuration !== undefined) b = b.where('takes.duration_seconds', '>=', q.minDuration)
-  if (q.maxDuration !== undefined) b = b.where('takes.duration_seconds', '<=', q.maxDuration)
-  if (q.minLufs !== undefined) b = b.where('takes.integrated_lufs', '>=', q.minLufs)
-  if (q.maxLufs !== undefined) b = b.where('takes.integrated_lufs', '<=', q.maxLufs)
-  if (q.minTruePeak !== undefined) b = b.where('takes.true_peak_dbtp', '>=', q.minTruePeak)
-  if (q.maxTruePeak !== undefined) b = b.where('takes.true_peak_dbtp', '<=', q.maxTruePeak)
-  if (q.hum === '50' || q.hum === '60') b = b.where('takes.hum_hz', '=', Number(q.hum))
-  if (q.hum === 'none') b = b.where('takes.hum_hz', 'is', null).where('takes.status', '=', 'ready')
-  if (q.status) b = b.where('takes.status', '=', q.status)
-  return b
+  for (const tag of new Set((q.tag ?? []).map(normalizeTag))) c.push(sql`takes.id IN (SELECT take_id FROM take_tags WHERE tag = ${tag})`)
+  if (q.sessionId) c.push(sql`takes.session_id = ${q.sessionId}`)
+  if (q.uploaderId) c.push(sql`takes.uploader_id = ${q.uploaderId}`)
+  if (q.sampleRate) c.push(sql`takes.sample_rate = ${q.sampleRate}`)
+  if (q.channels) c.push(sql`takes.channels = ${q.channels}`)
+  if (q.minDuration !== undefined) c.push(sql`takes.duration_seconds >= ${q.minDuration}`)
+  if (q.maxDuration !== undefined) c.push(sql`takes.duration_seconds <= ${q.maxDuration}`)
+  if (q.minLufs !== undefined) c.push(sql`takes.integrated_lufs >= ${q.minLufs}`)
+  if (q.maxLufs !== undefined) c.push(sql`takes.integrated_lufs <= ${q.maxLufs}`)
+  if (q.minTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp >= ${q.minTruePeak}`)
+  if (q.maxTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp <= ${q.maxTruePeak}`)
+  if (q.hum === '50' || q.hum === '60') c.push(sql`takes.hum_hz = ${Number(q.hum)}`)
+  if (q.hum === 'none') c.push(sql`takes.hum_hz IS NULL AND takes.status = 'ready'`)
+  if (q.status) c.push(sql`takes.status = ${q.status}`)
+  return c
 }
+
+const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
 /**
  * One page of takes for GET /api/takes, and the total that matches.
  *
- * Three short queries instead of one wide one: the count runs on `takes`
- * alone; the page is chosen as bare ids (so a deep OFFSET walks an index, not
- * full rows); only the page's rows are then read in full.
+ * Takes rows are wide (the whole analysis is stored with them), so filtering
+ * never reads them: a filtered query scans the narrow covering index
+ * `takes_facets` (every filter and sort column, about 150 bytes a take) and
+ * checks tag, device and text conditions against id sets read once from their
+ * own indexes. Text alone is counted and ranked inside the full-text index.
+ * The page is chosen as bare ids (a deep OFFSET walks an index, not rows), and
+ * only the page's rows are then read in full.
  */
 export async function searchTakeRows(db: Db, q: TakeQuery): Promise<{ rows: TakeJoined[]; total: number }> {
   const fts = q.q?.trim() ? ftsQuery(q.q) : undefined
   if (fts === null) return { rows: [], total: 0 }
 
-  const counted = await applyFilters(db.selectFrom('takes'), q, fts)
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .executeTakeFirstOrThrow()
-  const total = Number(counted.n)
-  const offset = (q.page - 1) * q.pageSize
-  if (total === 0 || offset >= total) return { rows: [], total }
+  const filters = filterConditions(q)
+  const all = fts ? [sql`takes.id IN (SELECT rowid FROM take_fts WHERE take_fts MATCH ${fts})`, ...filters] : filters
+  // With any condition, scan the covering index; with none, let each sort use its own index.
+  const from = all.length ? sql`takes INDEXED BY takes_facets` : sql`takes`
 
   // Relevance needs words to rank by; without them the list is newest first.
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
-  const order = q.order ?? (sort === 'createdAt' ? 'desc' : 'asc')
+  const order = sql.raw(q.order ?? (sort === 'createdAt' ? 'desc' : 'asc'))
+  const offset = (q.page - 1) * q.pageSize
+  const limit = sql`LIMIT ${q.pageSize} OFFSET ${offset}`
+  // Where conditions make the scan the cost, the page carries the total with it
+  // (a window count over the same scan) instead of scanning twice.
+  const windowTotal = sql`count(*) OVER () AS total`
 
-  let ids: number[] = []
-  if (sort === 'relevance' && fts) {
-    // bm25 is smaller for better matches; computed once per match by joining the match set.
-    const page = applyFilters(
-      db
-        .selectFrom('takes')
-        .innerJoin(sql<{ rowid: number; score: number }>`(SELECT rowid, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts})`.as('m'), 'm.rowid', 'takes.id')
-        .select('takes.id'),
-      q,
-      undefined,
-    )
-    ids = (await page.orderBy('m.score', order).orderBy('takes.id', order).limit(q.pageSize).offset(offset).execute()).map((r) => r.id)
-  } else if (sort !== 'relevance') {
-    let page = applyFilters(db.selectFrom('takes').select('takes.id'), q, fts)
-    if (sort === 'session') page = page.innerJoin('capture_sessions', 'capture_sessions.id', 'takes.session_id')
+  let idQuery: RawBuilder<{ id: number; total?: number }>
+  if (sort === 'relevance') {
+    // bm25 is smaller for better matches. The unary + keeps the id set a
+    // filter: pushed into FTS5 as a rowid constraint it would rerun the match per id.
+    idQuery = filters.length
+      ? sql`SELECT m.id, ${windowTotal} FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
+            WHERE +m.id IN (SELECT takes.id FROM takes INDEXED BY takes_facets ${whereAll(filters)})
+            ORDER BY m.score ${order}, m.id ${order} ${limit}`
+      : sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} ORDER BY bm25(take_fts) ${order}, rowid ${order} ${limit}`
+  } else {
     const col = sql.ref(SORT_COLUMNS[sort])
+    const join = sort === 'session' ? sql`JOIN capture_sessions ON capture_sessions.id = takes.session_id` : sql``
     // Unmeasured takes (null numbers) sort last either way.
-    if (!NOT_NULL.has(sort)) page = page.orderBy(sql`${col} IS NULL`)
-    ids = (await page.orderBy(col, order).orderBy('takes.id', order).limit(q.pageSize).offset(offset).execute()).map((r) => r.id)
+    const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${col} IS NULL, `
+    idQuery = sql`SELECT takes.id AS id${all.length ? sql`, ${windowTotal}` : sql``} FROM ${from} ${join} ${whereAll(all)}
+                  ORDER BY ${nullsLast}${col} ${order}, takes.id ${order} ${limit}`
   }
-  if (!ids.length) return { rows: [], total }
+  const countQuery: RawBuilder<{ n: number }> =
+    fts && !filters.length
+      ? sql`SELECT count(*) AS n FROM take_fts WHERE take_fts MATCH ${fts}`
+      : sql`SELECT count(*) AS n FROM ${from} ${whereAll(all)}`
+
+  const page = (await idQuery.execute(db)).rows
+  const windowed = page.length > 0 && page[0].total !== undefined
+  // An empty page past the end still reports the total; the plain count is cheap where no window ran.
+  const count = windowed ? Number(page[0].total) : page.length === 0 && offset === 0 ? 0 : Number((await countQuery.execute(db)).rows[0]?.n ?? 0)
+  const ids = page.map((r) => r.id)
+  if (!ids.length) return { rows: [], total: count }
 
   const rows = await selectTakes(db).where('takes.id', 'in', ids).execute()
   const byId = new Map(rows.map((r) => [r.id, r]))
-  return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total }
+  return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total: count }
 }

@@ -48,16 +48,19 @@ describe('clipped samples', () => {
 })
 
 describe('noise floor (10th percentile of 50 ms RMS windows, digital zero ignored)', () => {
-  it('of steady noise lies between sox stats’ 50 ms RMS trough and its overall RMS, despite tone and leading silence', async () => {
-    const noise = join(dir, 'noise.wav')
+  it('lies in the quietest tenth: between sox stats’ 50 ms RMS trough and RMS of the quiet noise', async () => {
+    // 2 s digital silence, 3 s noise at −60 dB, 7 s noise at −40 dB, 2 s tone: 30 % of the non-silent
+    // windows are quiet noise, so the 10th percentile must fall there (the median would not).
+    const quiet = join(dir, 'quiet.wav')
+    const loud = join(dir, 'loud.wav')
     const tone = join(dir, 'tone.wav')
     const take = join(dir, 'take.wav')
-    sox(['-n', '-r', '48000', '-b', '24', '-c', '2', noise, 'synth', '8', 'whitenoise', 'vol', '-60dB'])
+    sox(['-n', '-r', '48000', '-b', '24', '-c', '2', quiet, 'synth', '3', 'whitenoise', 'vol', '-60dB'])
+    sox(['-n', '-r', '48000', '-b', '24', '-c', '2', loud, 'synth', '7', 'whitenoise', 'vol', '-40dB'])
     sox(['-n', '-r', '48000', '-b', '24', '-c', '2', tone, 'synth', '2', 'sine', '440', 'vol', '-10dB'])
-    // 2 s of digital silence, the noise, then the tone.
-    sox([noise, tone, take, 'pad', '2', '0'])
-    const [overall] = soxStats(noise)
-    const trough = soxRmsTrough(noise)
+    sox([quiet, loud, tone, take, 'pad', '2', '0'])
+    const [overall] = soxStats(quiet)
+    const trough = soxRmsTrough(quiet)
     const floor = (await analyzeFile(take)).analysis.noiseFloorDbfs
     expect(floor).not.toBeNull()
     expect(floor!).toBeGreaterThanOrEqual(trough - 0.01)
