@@ -1,0 +1,104 @@
+// One item as the renderer needs it: the take's file, the range, the effective
+// settings, the output name and the metadata written into the file. Builds
+// freeze these specs when they are asked for (BuildSnapshot), so a build renders
+// what the pack held at that moment, however the pack is edited afterwards.
+import type { ItemKind, RenderSettings } from '@shared/schemas/packs'
+import type { ItemMetadata } from '../render/metadata'
+import type { RenderRequest } from '../render/render'
+import type { SourceLevels } from '../render/settings'
+
+export interface ItemSpec {
+  itemId: number | null
+  /** 1-based. */
+  position: number
+  takeId: number
+  regionId: number | null
+  startSeconds: number | null
+  endSeconds: number | null
+  kind: ItemKind
+  settings: RenderSettings
+  /** Without `.wav`. */
+  outputName: string
+  fileName: string
+  /** Relative to the storage root. */
+  audioPath: string
+  sourceLevels: SourceLevels | null
+  sampleRate: number | null
+  /** Of the whole take. */
+  takeDurationSeconds: number
+  title: string
+  description: string
+  /** "name (state)" of each source device. */
+  sources: string[]
+  tags: string[]
+  /** The source's bext time reference (samples since midnight), if it has one. */
+  sourceTimeReference: number | null
+}
+
+export interface BuildSnapshot {
+  pack: {
+    id: number
+    name: string
+    description: string
+    licenceText: string
+    namingTemplate: string
+    settings: RenderSettings
+  }
+  items: ItemSpec[]
+}
+
+/** bext description: the title, the sources and the tags, within the chunk's 256 characters. */
+/** Frames the item will render, for progress (loops move by a few frames). */
+export function expectedFrames(spec: ItemSpec): number {
+  const seconds = (spec.endSeconds ?? spec.takeDurationSeconds) - (spec.startSeconds ?? 0)
+  return Math.max(1, Math.round(seconds * (spec.sampleRate ?? 48000)))
+}
+
+export function describeItem(spec: Pick<ItemSpec, 'title' | 'description' | 'sources' | 'tags'>): string {
+  const parts = [spec.title || spec.description, spec.sources.length ? `Sources: ${spec.sources.join('; ')}` : '', spec.tags.length ? `Tags: ${spec.tags.join(', ')}` : '']
+  return parts.filter(Boolean).join('. ').slice(0, 256)
+}
+
+export function itemMetadata(spec: ItemSpec, originatorReference: string, createdAt: Date): ItemMetadata {
+  const keywords = [...new Set([...spec.tags, ...spec.sources.map((s) => s.replace(/ \(.*\)$/, ''))])]
+  const startFrame = spec.startSeconds !== null && spec.sampleRate ? Math.round(spec.startSeconds * spec.sampleRate) : 0
+  return {
+    title: spec.title || spec.outputName,
+    description: describeItem(spec),
+    keywords,
+    originatorReference,
+    timeReference: spec.sourceTimeReference !== null ? spec.sourceTimeReference + startFrame : 0,
+    createdAt,
+  }
+}
+
+export function renderRequest(spec: ItemSpec, sourcePath: string, originatorReference: string, createdAt: Date): RenderRequest {
+  return {
+    sourcePath,
+    startSeconds: spec.startSeconds,
+    endSeconds: spec.endSeconds,
+    kind: spec.kind,
+    settings: spec.settings,
+    sourceLevels: spec.sourceLevels,
+    metadata: itemMetadata(spec, originatorReference, createdAt),
+    // Reproducible: the same item renders the same samples in a preview and in every build.
+    ditherSeed: ditherSeedOf(spec),
+  }
+}
+
+function ditherSeedOf(spec: ItemSpec): number {
+  let h = 0x811c9dc5
+  const key = `${spec.takeId}:${spec.startSeconds}:${spec.endSeconds}:${spec.kind}`
+  for (let i = 0; i < key.length; i++) h = Math.imul(h ^ key.charCodeAt(i), 0x01000193)
+  return h >>> 0
+}
+
+/** "item 3 (hum_transformer_01): take 12's audio file is missing" */
+export function describeItemFailure(spec: Pick<ItemSpec, 'position' | 'outputName' | 'takeId'>, err: unknown): string {
+  const e = err as NodeJS.ErrnoException & { reason?: string }
+  let why: string
+  if (e?.code === 'ENOENT') why = `take ${spec.takeId}'s audio file is missing`
+  else if (e?.name === 'WavFormatError') why = `take ${spec.takeId}'s audio file cannot be read: ${e.message}`
+  else why = e instanceof Error ? e.message : String(err)
+  return `item ${spec.position} (${spec.outputName}): ${why}`
+}

@@ -1,0 +1,120 @@
+// Output file names of pack items: a naming template filled per item, then made
+// portable: ASCII letters, digits, '-' and '_' only, at most 80 characters
+// before '.wav', unique within the pack (case-insensitively, since the common
+// desktop file systems ignore case), never a name Windows reserves.
+import { MAX_OUTPUT_NAME, NAMING_TOKENS, type NamingToken } from '@shared/schemas/packs'
+
+/** Letters that Unicode decomposition does not reduce to ASCII (common practice transliterations). */
+const SPECIAL: Record<string, string> = {
+  ß: 'ss', ẞ: 'SS', æ: 'ae', Æ: 'AE', œ: 'oe', Œ: 'OE', ø: 'o', Ø: 'O', ł: 'l', Ł: 'L', đ: 'd', Đ: 'D',
+  ð: 'd', Ð: 'D', þ: 'th', Þ: 'Th', ı: 'i', ħ: 'h', Ħ: 'H', ŋ: 'ng', Ŋ: 'NG', ĸ: 'k', ſ: 's',
+  µ: 'u', '&': 'and', '+': 'plus', '%': 'pct', '°': 'deg', '#': 'no',
+}
+
+/** Device names Windows refuses as file names, whatever the extension (CON.wav too). */
+const RESERVED = /^(con|prn|aux|nul|com[0-9]|lpt[0-9])$/i
+
+/** Unicode text to the portable ASCII form: accents dropped, other characters and spaces to '_', runs collapsed. */
+export function transliterate(text: string): string {
+  let out = ''
+  for (const ch of text.normalize('NFKD')) {
+    if (/\p{M}/u.test(ch)) continue // combining marks: the accents NFKD split off
+    if (/[A-Za-z0-9_-]/.test(ch)) out += ch
+    else if (SPECIAL[ch] !== undefined) out += SPECIAL[ch]
+    else out += '_'
+  }
+  return out
+}
+
+/**
+ * A portable file name stem: transliterated, separator runs collapsed (a run holding a '-'
+ * becomes '-', any other run '_'), no separator at either end, at most `max` characters,
+ * never empty (falls back to "item") and never a reserved device name.
+ */
+export function sanitizeName(text: string, max = MAX_OUTPUT_NAME): string {
+  let s = transliterate(text)
+    .replace(/[-_]{2,}/g, (run) => (run.includes('-') ? '-' : '_'))
+    .replace(/^[-_]+|[-_]+$/g, '')
+  if (s.length > max) s = s.slice(0, max).replace(/[-_]+$/, '')
+  if (!s) s = 'item'
+  if (RESERVED.test(s)) s = `${s}_file`.slice(0, max)
+  return s
+}
+
+/**
+ * Makes each name unique in order: the first keeps its name, later ones get _2, _3…, cut so
+ * the whole stays within `max`; compared without regard to case. Names must already be sanitised.
+ */
+export function uniquify(names: string[], max = MAX_OUTPUT_NAME): string[] {
+  const taken = new Set<string>()
+  // Reserve every name as given first, so an explicit "hum_2" is not taken by a generated suffix.
+  const wanted = new Map<string, number>()
+  for (const n of names) wanted.set(n.toLowerCase(), (wanted.get(n.toLowerCase()) ?? 0) + 1)
+  return names.map((name) => {
+    const key = name.toLowerCase()
+    if (!taken.has(key)) {
+      taken.add(key)
+      return name
+    }
+    for (let k = 2; ; k++) {
+      const suffix = `_${k}`
+      const stem = name.slice(0, max - suffix.length).replace(/[-_]+$/, '') || 'item'
+      const candidate = `${stem}${suffix}`
+      const ck = candidate.toLowerCase()
+      if (!taken.has(ck) && !wanted.has(ck)) {
+        taken.add(ck)
+        return candidate
+      }
+    }
+  })
+}
+
+export interface NamingFacts {
+  devices: { name: string; state: string }[]
+  tags: string[]
+  title: string
+  filename: string
+  sessionTitle: string
+  sessionDate: string
+  takeId: number
+  kind: 'one-shot' | 'loop'
+  packName: string
+  /** 1-based position. */
+  index: number
+  /** Items in the pack, for the width of {index}. */
+  count: number
+}
+
+export function tokenValues(f: NamingFacts): Record<NamingToken, string> {
+  const width = Math.max(2, String(f.count).length)
+  const firstWord = f.title.trim().split(/\s+/)[0] ?? ''
+  return {
+    device: f.devices[0]?.name ?? '',
+    state: f.devices[0]?.state ?? '',
+    kind: f.kind,
+    descriptor: f.tags[0] ?? firstWord,
+    session: f.sessionTitle,
+    date: f.sessionDate.replace(/-/g, ''),
+    index: String(f.index).padStart(width, '0'),
+    take: String(f.takeId),
+    title: f.title,
+    file: f.filename.replace(/\.[^.]*$/, ''),
+    pack: f.packName,
+  }
+}
+
+/** Fills a template; unknown tokens (refused by the schema) are left out. The result still needs sanitizeName. */
+export function fillTemplate(template: string, f: NamingFacts): string {
+  const v = tokenValues(f)
+  return template.replace(/\{([^}]*)\}/g, (_m, token: string) => ((NAMING_TOKENS as readonly string[]).includes(token) ? v[token as NamingToken] : ''))
+}
+
+/** Output names (without .wav) of a pack's items in order: explicit names or the template, sanitised, then made unique. */
+export function outputNames(template: string, items: { name: string | null; facts: NamingFacts }[]): string[] {
+  return uniquify(items.map((i) => sanitizeName(i.name ?? fillTemplate(template, i.facts))))
+}
+
+/** The zip's download name: `<pack-name>_v<version>.zip`. */
+export function buildFileName(packName: string, version: number): string {
+  return `${sanitizeName(packName, 60)}_v${version}.zip`
+}

@@ -1,0 +1,157 @@
+// The zip of a build, written by archiver with every entry stored (WAV noise
+// does not compress, so deflating would cost time for nothing). archiver moves
+// to ZIP64 records by itself once an entry, an offset or the central directory
+// passes 4 GiB (compress-commons' isZip64), so forceZip64 is not needed.
+// The zip goes to a temp name beside its final place and is renamed there only
+// after it is complete and fsynced; the SHA-256 of each entry and of the whole
+// zip are computed on the bytes as they stream through.
+import { createHash } from 'node:crypto'
+import { createReadStream, createWriteStream } from 'node:fs'
+import { open, rename, rm } from 'node:fs/promises'
+import { PassThrough, Transform, type TransformCallback } from 'node:stream'
+import { ZipArchive } from 'archiver'
+import type { ManifestItem } from '@shared/schemas/packs'
+
+class Hashing extends Transform {
+  readonly hash = createHash('sha256')
+  bytes = 0
+  override _transform(chunk: Buffer, _enc: BufferEncoding, cb: TransformCallback): void {
+    this.hash.update(chunk)
+    this.bytes += chunk.length
+    cb(null, chunk)
+  }
+}
+
+export interface ZipEntryResult {
+  sha256: string
+  bytes: number
+}
+
+export class PackZip {
+  private readonly archive: ZipArchive
+  private readonly zipHash = new Hashing()
+  private readonly out
+  private readonly done: Promise<void>
+  private failure: Error | null = null
+  private readonly waiting = new Map<string, () => void>()
+
+  private constructor(
+    private readonly tmpPath: string,
+    private readonly finalPath: string,
+    private readonly date: Date,
+  ) {
+    this.archive = new ZipArchive({ store: true, zlib: { level: 0 }, highWaterMark: 1 << 20 })
+    this.out = createWriteStream(tmpPath, { flags: 'wx', highWaterMark: 1 << 20 })
+    this.done = new Promise<void>((resolve, reject) => {
+      this.out.once('close', () => (this.failure ? reject(this.failure) : resolve()))
+      const fail = (err: Error) => {
+        this.failure ??= err
+        for (const w of this.waiting.values()) w()
+        this.out.destroy()
+      }
+      this.archive.once('error', fail)
+      this.archive.on('warning', fail)
+      this.zipHash.once('error', fail)
+      this.out.once('error', fail)
+    })
+    this.done.catch(() => undefined)
+    this.archive.on('entry', (e) => {
+      this.waiting.get(e.name)?.()
+      this.waiting.delete(e.name)
+    })
+    this.archive.pipe(this.zipHash).pipe(this.out)
+  }
+
+  static create(tmpPath: string, finalPath: string, date: Date): PackZip {
+    return new PackZip(tmpPath, finalPath, date)
+  }
+
+  private entryDone(name: string): Promise<void> {
+    return new Promise<void>((resolve, reject) => {
+      this.waiting.set(name, () => (this.failure ? reject(this.failure) : resolve()))
+    })
+  }
+
+  /** Adds a file and resolves once archiver has read all of it (so the caller may delete it). */
+  async addFile(name: string, path: string): Promise<ZipEntryResult> {
+    if (this.failure) throw this.failure
+    const hashing = new Hashing()
+    const source = createReadStream(path, { highWaterMark: 1 << 20 })
+    source.once('error', (err) => hashing.destroy(err))
+    const entry = this.entryDone(name)
+    this.archive.append(source.pipe(hashing), { name, store: true, date: this.date })
+    await entry
+    return { sha256: hashing.hash.digest('hex'), bytes: hashing.bytes }
+  }
+
+  async addBuffer(name: string, data: Buffer): Promise<void> {
+    if (this.failure) throw this.failure
+    const entry = this.entryDone(name)
+    const s = new PassThrough()
+    s.end(data)
+    this.archive.append(s, { name, store: true, date: this.date })
+    await entry
+  }
+
+  /** Finishes the zip, fsyncs it and renames it into place. */
+  async finish(): Promise<ZipEntryResult> {
+    if (this.failure) throw this.failure
+    await this.archive.finalize()
+    await this.done
+    const fh = await open(this.tmpPath, 'r+')
+    try {
+      await fh.sync()
+    } finally {
+      await fh.close()
+    }
+    await rename(this.tmpPath, this.finalPath)
+    return { sha256: this.zipHash.hash.digest('hex'), bytes: this.zipHash.bytes }
+  }
+
+  /** Stops writing and deletes the partial zip. */
+  async abort(): Promise<void> {
+    this.failure ??= new Error('zip aborted')
+    this.archive.abort()
+    this.out.destroy()
+    await this.done.catch(() => undefined)
+    await rm(this.tmpPath, { force: true })
+  }
+}
+
+// ---- manifests ----
+
+export const MANIFEST_COLUMNS = [
+  'file',
+  'durationSeconds',
+  'sampleRate',
+  'bitDepth',
+  'channels',
+  'integratedLufs',
+  'truePeakDbtp',
+  'loudnessRangeLu',
+  'underTargetDb',
+  'sources',
+  'tags',
+  'takeId',
+  'licence',
+  'sha256',
+] as const satisfies readonly (keyof ManifestItem)[]
+
+/** RFC 4180: fields with a comma, quote, CR or LF are quoted, quotes doubled; lines end in CRLF. */
+export function csvField(v: string): string {
+  return /[",\r\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v
+}
+
+function csvValue(item: ManifestItem, col: (typeof MANIFEST_COLUMNS)[number]): string {
+  const v = item[col]
+  if (v === null) return ''
+  if (col === 'sources') return (v as string[]).join('; ')
+  if (col === 'tags') return (v as string[]).join(';')
+  return String(v)
+}
+
+export function manifestCsv(items: ManifestItem[]): string {
+  const lines = [MANIFEST_COLUMNS.join(',')]
+  for (const it of items) lines.push(MANIFEST_COLUMNS.map((c) => csvField(csvValue(it, c))).join(','))
+  return lines.join('\r\n') + '\r\n'
+}

@@ -1,0 +1,228 @@
+import { stat } from 'node:fs/promises'
+import type { NextFunction, Response } from 'express'
+import { z } from 'zod'
+import { Id, IdParams, TokenParams } from '@shared/schemas/common'
+import {
+  AddItemBody,
+  AddItemsBody,
+  CreatePackBody,
+  CreateShareLinkBody,
+  QuickExportQuery,
+  ReorderItemsBody,
+  UpdateItemBody,
+  UpdatePackBody,
+} from '@shared/schemas/packs'
+import type { AppContext } from '../core/context'
+import type { Api } from '../core/routes'
+import { body, params, query } from '../core/validate'
+import * as repo from './packs.repository'
+import {
+  addItems,
+  createPack,
+  exportSpec,
+  itemNotFound,
+  itemSpecs,
+  managesPacks,
+  packDetail,
+  packsToApi,
+  removeItem,
+  reorderItems,
+  updateItem,
+  updatePackFields,
+  visiblePack,
+} from './packs.service'
+import { buildZip, deletePackAndBuilds, listBuilds, publishBuild, requestBuild, visibleBuild } from './builds.service'
+import { buildToApi } from './builds.mapper'
+import { buildFileName } from './naming'
+import { renderedPreview } from './preview'
+import { createShareLink, listShareLinks, revokeShareLink, shareDownload, shareInfo } from './share.service'
+
+const ItemParams = z.object({ id: Id, itemId: Id })
+
+interface SendOptions {
+  contentType: string
+  /** Set: Content-Disposition attachment with this name. */
+  downloadName?: string
+  cache: string
+}
+
+/**
+ * Sends a file through Express's send: Content-Length, Accept-Ranges, 206 for a satisfiable
+ * Range, and a 416 in the API's error shape with Content-Range: bytes * /size otherwise.
+ */
+function sendWithRanges(res: Response, next: NextFunction, file: string, size: number, o: SendOptions): void {
+  const opts = { acceptRanges: true, headers: { 'Content-Type': o.contentType, 'Cache-Control': o.cache } }
+  const done = (err?: Error & { status?: number }) => {
+    if (!err || res.headersSent) return
+    if (err.status === 416) {
+      // send set the file's headers before it looked at the range: take them back.
+      for (const h of ['Content-Disposition', 'Content-Type', 'ETag', 'Last-Modified']) res.removeHeader(h)
+      res
+        .status(416)
+        .set('Content-Range', `bytes */${size}`)
+        .json({ error: { code: 'RANGE_NOT_SATISFIABLE', message: `The requested range lies outside the file's ${size} bytes`, details: { sizeBytes: size } } })
+      return
+    }
+    next(err)
+  }
+  if (o.downloadName) res.download(file, o.downloadName, opts, done)
+  else res.sendFile(file, opts, done)
+}
+
+/** Whether a request asks for the file from its first byte (no Range, or a range starting at 0). */
+export const startsAtZero = (range: string | undefined) => !range || /^\s*bytes\s*=\s*0\s*-/.test(range)
+
+export function registerPackRoutes(api: Api, ctx: AppContext) {
+  // ---- packs ----
+
+  api.route('get', '/packs', 'packs:receive', async (req, res) => {
+    const rows = await repo.listPacks(ctx.db, !managesPacks(req.user!))
+    res.json({ packs: await packsToApi(ctx, req.user!, rows) })
+  })
+
+  api.route('post', '/packs', 'packs:manage', async (req, res) => {
+    res.status(201).json({ pack: await createPack(ctx, req.user!, body(req, CreatePackBody)) })
+  })
+
+  api.route('get', '/packs/:id', 'packs:receive', async (req, res) => {
+    const pack = await visiblePack(ctx.db, req.user!, params(req, IdParams).id)
+    res.json({ pack: await packDetail(ctx, req.user!, pack) })
+  })
+
+  api.route('patch', '/packs/:id', 'packs:manage', async (req, res) => {
+    const { id } = params(req, IdParams)
+    res.json({ pack: await updatePackFields(ctx, req.user!, id, body(req, UpdatePackBody)) })
+  })
+
+  api.route('delete', '/packs/:id', 'packs:manage', async (req, res) => {
+    await deletePackAndBuilds(ctx, params(req, IdParams).id)
+    res.status(204).end()
+  })
+
+  // ---- items ----
+
+  api.route('post', '/packs/:id/items', 'packs:manage', async (req, res) => {
+    const { id } = params(req, IdParams)
+    const [item] = await addItems(ctx, req.user!, id, [body(req, AddItemBody)])
+    res.status(201).json({ item })
+  })
+
+  /** Many at once ("add to a pack" from a library selection): all or none. */
+  api.route('post', '/packs/:id/items/batch', 'packs:manage', async (req, res) => {
+    const { id } = params(req, IdParams)
+    res.status(201).json({ items: await addItems(ctx, req.user!, id, body(req, AddItemsBody).items) })
+  })
+
+  api.route('put', '/packs/:id/items/order', 'packs:manage', async (req, res) => {
+    const { id } = params(req, IdParams)
+    res.json({ items: await reorderItems(ctx, id, body(req, ReorderItemsBody).itemIds) })
+  })
+
+  api.route('patch', '/packs/:id/items/:itemId', 'packs:manage', async (req, res) => {
+    const { id, itemId } = params(req, ItemParams)
+    res.json({ item: await updateItem(ctx, id, itemId, body(req, UpdateItemBody)) })
+  })
+
+  api.route('delete', '/packs/:id/items/:itemId', 'packs:manage', async (req, res) => {
+    const { id, itemId } = params(req, ItemParams)
+    await removeItem(ctx, id, itemId)
+    res.status(204).end()
+  })
+
+  /** The item rendered as a build would render it, for the player (Range supported). */
+  api.route('get', '/packs/:id/items/:itemId/preview', 'packs:receive', async (req, res, next) => {
+    const { id, itemId } = params(req, ItemParams)
+    const pack = await visiblePack(ctx.db, req.user!, id)
+    const rows = await repo.itemsOf(ctx.db, id)
+    const found = (await itemSpecs(ctx.db, pack, rows)).find((s) => s.row.id === itemId)
+    if (!found) throw itemNotFound()
+    const file = await renderedPreview(ctx, found.spec, `SF-P${pack.id}-preview-${found.spec.position}`)
+    const size = (await stat(file)).size
+    res.set('Content-Disposition', `inline; filename="${found.spec.fileName}"`)
+    sendWithRanges(res, next, file, size, { contentType: 'audio/wav', cache: 'private, max-age=300' })
+  })
+
+  /** A take or a range of it rendered with a pack's settings (or the defaults), as one WAV download. */
+  api.route('get', '/takes/:id/export', 'packs:manage', async (req, res, next) => {
+    const { id } = params(req, IdParams)
+    const spec = await exportSpec(ctx, id, query(req, QuickExportQuery))
+    const file = await renderedPreview(ctx, spec, `SF-T${id}-export`)
+    const size = (await stat(file)).size
+    sendWithRanges(res, next, file, size, { contentType: 'audio/wav', downloadName: spec.fileName, cache: 'private, no-cache' })
+  })
+
+  // ---- builds ----
+
+  api.route('post', '/packs/:id/builds', 'packs:manage', async (req, res) => {
+    res.status(202).json({ build: await requestBuild(ctx, req.user!, params(req, IdParams).id) })
+  })
+
+  api.route('get', '/packs/:id/builds', 'packs:receive', async (req, res) => {
+    res.json({ builds: await listBuilds(ctx, req.user!, params(req, IdParams).id) })
+  })
+
+  api.route('get', '/pack-builds/:id', 'packs:receive', async (req, res) => {
+    res.json({ build: buildToApi(await visibleBuild(ctx, req.user!, params(req, IdParams).id)) })
+  })
+
+  api.route('get', '/pack-builds/:id/download', 'packs:receive', async (req, res, next) => {
+    const { path, build } = await buildZip(ctx, req.user!, params(req, IdParams).id)
+    sendWithRanges(res, next, path, build.size_bytes ?? 0, {
+      contentType: 'application/zip',
+      downloadName: buildFileName(build.pack_name, build.version),
+      cache: 'private, no-cache',
+    })
+  })
+
+  api.route('post', '/pack-builds/:id/publish', 'packs:manage', async (req, res) => {
+    res.json({ build: await publishBuild(ctx, req.user!, params(req, IdParams).id) })
+  })
+
+  // ---- followers ----
+
+  const followAnswer = async (packId: number, userId: number) => {
+    const [f] = await repo.followInfo(ctx.db, [packId], userId)
+    return { following: Number(f?.mine ?? 0) === 1, followerCount: Number(f?.count ?? 0) }
+  }
+
+  api.route('post', '/packs/:id/follow', 'packs:receive', async (req, res) => {
+    const pack = await visiblePack(ctx.db, req.user!, params(req, IdParams).id)
+    await repo.follow(ctx.db, pack.id, req.user!.id)
+    res.json(await followAnswer(pack.id, req.user!.id))
+  })
+
+  api.route('delete', '/packs/:id/follow', 'packs:receive', async (req, res) => {
+    const pack = await visiblePack(ctx.db, req.user!, params(req, IdParams).id)
+    await repo.unfollow(ctx.db, pack.id, req.user!.id)
+    res.json(await followAnswer(pack.id, req.user!.id))
+  })
+
+  // ---- share links ----
+
+  api.route('post', '/pack-builds/:id/share-links', 'packs:manage', async (req, res) => {
+    const { id } = params(req, IdParams)
+    res.status(201).json({ link: await createShareLink(ctx, req.user!, id, body(req, CreateShareLinkBody)) })
+  })
+
+  api.route('get', '/pack-builds/:id/share-links', 'packs:manage', async (req, res) => {
+    res.json({ links: await listShareLinks(ctx, params(req, IdParams).id) })
+  })
+
+  api.route('delete', '/share-links/:id', 'packs:manage', async (req, res) => {
+    res.json({ link: await revokeShareLink(ctx, params(req, IdParams).id) })
+  })
+
+  api.route('get', '/share/:token', 'public', async (req, res) => {
+    res.json({ share: await shareInfo(ctx, params(req, TokenParams).token) })
+  })
+
+  api.route('get', '/share/:token/download', 'public', async (req, res, next) => {
+    const { token } = params(req, TokenParams)
+    const { path, build } = await shareDownload(ctx, token, startsAtZero(req.headers.range))
+    sendWithRanges(res, next, path, build.size_bytes ?? 0, {
+      contentType: 'application/zip',
+      downloadName: buildFileName(build.pack_name, build.version),
+      cache: 'private, no-store',
+    })
+  })
+}

@@ -1,0 +1,131 @@
+// Share links of a finished build for people without an account.
+//
+// Download counting: a request that starts at byte 0 (no Range header, or a
+// range starting at 0) is a new download. It is counted, in one statement that
+// also checks the link is not revoked, not expired and under its limit; when
+// that fails the answer is 410. A request starting past byte 0 resumes a
+// download already under way: it is served while the link is neither revoked
+// nor expired, and not counted (unless no download was counted yet: then it
+// counts as the first). So a broken download can always be finished, and the
+// limit counts whole downloads.
+import type { User } from '@shared/schemas/auth'
+import type { CreateShareLinkBody, ShareInfo, ShareLink } from '@shared/schemas/packs'
+import type { AppContext } from '../core/context'
+import { AppError } from '../core/errors'
+import { sessionSecret } from '../core/settings'
+import { buildNotFound } from './builds.service'
+import { buildFileName } from './naming'
+import * as repo from './packs.repository'
+import { newNonce, shareToken, verifyShareToken } from './share-tokens'
+
+const secretOf = (ctx: AppContext) => sessionSecret(ctx.db, ctx.config.sessionSecret)
+
+export const linkNotFound = () => new AppError(404, 'SHARE_LINK_NOT_FOUND', 'No share link with that id')
+const shareNotFound = () => new AppError(404, 'SHARE_NOT_FOUND', 'This share link does not exist; check that it was copied whole')
+
+export function linkState(l: repo.ShareLinkJoined, at = new Date().toISOString()): ShareLink['state'] {
+  if (l.revoked_at) return 'revoked'
+  if (l.expires_at <= at) return 'expired'
+  if (l.max_downloads !== null && l.downloads >= l.max_downloads) return 'used-up'
+  return 'active'
+}
+
+function linkToApi(ctx: AppContext, secret: string, l: repo.ShareLinkJoined): ShareLink {
+  const token = shareToken(secret, l.id, l.nonce)
+  return {
+    id: l.id,
+    buildId: l.build_id,
+    url: `${ctx.config.publicUrl}/share/${token}`,
+    downloadUrl: `${ctx.config.publicUrl}/api/share/${token}/download`,
+    token,
+    expiresAt: l.expires_at,
+    maxDownloads: l.max_downloads,
+    downloads: l.downloads,
+    revokedAt: l.revoked_at,
+    state: linkState(l),
+    createdBy: l.created_by && l.creator_name ? { id: l.created_by, name: l.creator_name } : null,
+    createdAt: l.created_at,
+    lastDownloadAt: l.last_download_at,
+  }
+}
+
+export async function createShareLink(ctx: AppContext, user: User, buildId: number, body: CreateShareLinkBody): Promise<ShareLink> {
+  const b = await repo.findBuild(ctx.db, buildId)
+  if (!b) throw buildNotFound()
+  if (b.status !== 'done') throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; share it once it is done`)
+  const expires = new Date(body.expiresAt)
+  if (expires.getTime() <= Date.now()) throw new AppError(400, 'EXPIRY_IN_PAST', 'Choose an expiry in the future')
+  const { id } = await repo.insertShareLink(ctx.db, {
+    build_id: buildId,
+    nonce: newNonce(),
+    expires_at: expires.toISOString(),
+    max_downloads: body.maxDownloads ?? null,
+    created_by: user.id,
+  })
+  return linkToApi(ctx, await secretOf(ctx), (await repo.findShareLink(ctx.db, id))!)
+}
+
+export async function listShareLinks(ctx: AppContext, buildId: number): Promise<ShareLink[]> {
+  if (!(await repo.findBuild(ctx.db, buildId))) throw buildNotFound()
+  const secret = await secretOf(ctx)
+  return (await repo.linksOf(ctx.db, buildId)).map((l) => linkToApi(ctx, secret, l))
+}
+
+export async function revokeShareLink(ctx: AppContext, id: number): Promise<ShareLink> {
+  if (!(await repo.findShareLink(ctx.db, id))) throw linkNotFound()
+  await repo.revokeShareLink(ctx.db, id)
+  return linkToApi(ctx, await secretOf(ctx), (await repo.findShareLink(ctx.db, id))!)
+}
+
+function gone(state: ShareLink['state']): AppError {
+  const messages = {
+    revoked: ['SHARE_REVOKED', 'This share link was withdrawn by the team that made it'],
+    expired: ['SHARE_EXPIRED', 'This share link has expired'],
+    'used-up': ['SHARE_USED_UP', 'This share link has been used as many times as it allows'],
+  } as const
+  const [code, message] = messages[state as keyof typeof messages]
+  return new AppError(410, code, message)
+}
+
+async function resolve(ctx: AppContext, token: string) {
+  const parsed = verifyShareToken(await secretOf(ctx), token)
+  if (!parsed) throw shareNotFound()
+  const link = await repo.findShareLink(ctx.db, parsed.id)
+  if (!link || link.nonce !== parsed.nonce) throw shareNotFound()
+  const build = await repo.findBuild(ctx.db, link.build_id)
+  if (!build || build.status !== 'done' || !build.zip_path) throw shareNotFound()
+  return { link, build }
+}
+
+export async function shareInfo(ctx: AppContext, token: string): Promise<ShareInfo> {
+  const { link, build } = await resolve(ctx, token)
+  const state = linkState(link)
+  if (state !== 'active') throw gone(state)
+  const pack = await repo.findPack(ctx.db, build.pack_id)
+  return {
+    packName: build.pack_name,
+    description: pack?.description ?? '',
+    licenceText: pack?.licence_text ?? '',
+    version: build.version,
+    fileName: buildFileName(build.pack_name, build.version),
+    sizeBytes: build.size_bytes ?? 0,
+    itemCount: build.item_count,
+    expiresAt: link.expires_at,
+    downloadsLeft: link.max_downloads === null ? null : Math.max(0, link.max_downloads - link.downloads),
+    downloadUrl: `/api/share/${token}/download`,
+  }
+}
+
+/** Checks (and for a new download, counts) a download through the link; returns the zip to send. */
+export async function shareDownload(ctx: AppContext, token: string, startsAtZero: boolean) {
+  const { link, build } = await resolve(ctx, token)
+  const at = new Date().toISOString()
+  // A resume needs a download under way; a range request before any download counts as one.
+  if (startsAtZero || link.downloads === 0) {
+    if (!(await repo.countDownload(ctx.db, link.id, at))) throw gone(linkState((await repo.findShareLink(ctx.db, link.id))!, at))
+  } else {
+    const state = linkState(link, at)
+    if (state === 'revoked' || state === 'expired') throw gone(state)
+  }
+  return { path: ctx.storage.abs(build.zip_path!), build }
+}
