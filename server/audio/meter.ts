@@ -14,7 +14,10 @@ export interface MeterFormat {
   sampleRate: number
   channels: number
   channelMask: number
-  /** Frame count announced by the header; places the spectrum segments. Defaults to 10 minutes. */
+  /**
+   * Frame count announced by the header; places the spectrum segments. Without it segments are placed
+   * as for a 10-minute take (a longer take is then sampled in its first 10 minutes only).
+   */
   frames?: number
   encoding?: 'pcm' | 'float'
   /** Valid bits of PCM samples, for the full-scale threshold of the clipping rule. Default 24. */
@@ -62,7 +65,7 @@ export class Meter {
       onShortTerm: f.onShortTerm,
     })
     this.noiseFloor = new NoiseFloorMeter(f.sampleRate, f.channels)
-    this.spectrum = new SpectrumMeter(f.sampleRate, f.channels, f.frames ?? f.sampleRate * 600)
+    this.spectrum = new SpectrumMeter(f.sampleRate, f.frames ?? f.sampleRate * 600)
   }
 
   push(planar: Float32Array[]): void {

@@ -51,7 +51,6 @@ interface Segment {
 
 export class SpectrumMeter {
   private readonly sampleRate: number
-  private readonly channels: number
   private readonly size: number
   private readonly starts: number[]
   private nextStart = 0
@@ -66,9 +65,8 @@ export class SpectrumMeter {
   private position = 0
   private readonly length: number // segment length: the FFT size, or the whole take when shorter
 
-  constructor(sampleRate: number, channels: number, frames: number) {
+  constructor(sampleRate: number, frames: number) {
     this.sampleRate = sampleRate
-    this.channels = channels
     this.size = fftSizeFor(sampleRate)
     this.length = Math.max(1, Math.min(this.size, frames))
     this.starts = segmentStarts(frames, this.size)

@@ -31,8 +31,8 @@ export const TRUE_PEAK_PHASES: readonly (readonly number[])[] = [
 const TAPS = 12
 const HISTORY = TAPS - 1
 // Interpolation is skipped for a chunk of CHUNK outputs when a bound on them cannot beat the running
-// maximum. Outputs of one chunk read CHUNK + HISTORY samples: the chunk and PREVIOUS chunks before it.
-// Chunks of 4 (block-scan.ts): three previous chunks cover the 11 older samples; scan() is written for that.
+// maximum. Outputs of one chunk read CHUNK + HISTORY samples: with chunks of 4 (block-scan.ts), the
+// chunk and the three before it; scan() is written for that.
 // With c the midrange and d the half-range of the samples under a phase's taps h, its outputs obey
 // |y| = |c·Σh + Σh·(x − c)| ≤ |c|·|Σh| + d·Σ|h|. Far tighter than max|x|·Σ|h| for smooth or
 // one-signed stretches (hum, low notes), where most chunks then need no interpolation at all.
@@ -64,31 +64,43 @@ export class TruePeakMeter {
     const frames = planar[0]?.length ?? 0
     if (frames === 0) return
     if (this.work.length < HISTORY + frames) this.work = new Float32Array(HISTORY + frames)
-    const keep = this.filled
+    // Layout: x[0..HISTORY) the history (its last `filled` entries real), x[HISTORY..] the block, so
+    // chunk c of the scan is x[HISTORY + c·CHUNK ..]. Outputs need 12 real samples under the taps.
+    const realFrom = HISTORY - this.filled
+    const firstOutput = realFrom + HISTORY
+    const total = HISTORY + frames
     for (let ch = 0; ch < this.channels; ch++) {
       const x = this.work
-      x.set(this.history[ch].subarray(HISTORY - keep), 0)
-      x.set(planar[ch], keep)
-      const total = keep + frames
-      this.peaks[ch] = this.scan(x, total, scan.lo[ch], scan.hi[ch], scan.chunks, this.peaks[ch])
-      const tail = Math.min(HISTORY, total)
-      this.history[ch].set(x.subarray(total - tail, total), HISTORY - tail)
+      x.set(this.history[ch], 0)
+      x.set(planar[ch], HISTORY)
+      this.peaks[ch] = this.scan(x, total, realFrom, firstOutput, scan.lo[ch], scan.hi[ch], scan.chunks, this.peaks[ch])
+      this.history[ch].set(x.subarray(total - HISTORY, total))
     }
-    this.filled = Math.min(HISTORY, keep + frames)
+    this.filled = Math.min(HISTORY, this.filled + frames)
   }
 
   /**
-   * Largest |value| of samples and interpolated points over x[0..n), given a running maximum.
-   * x[0..HISTORY) is the history; chunk c (lows lo[c], highs hi[c]) holds x[HISTORY + c·CHUNK ..].
+   * Largest |value| of samples and interpolated points of the block in x[HISTORY..n), given a running
+   * maximum. x[realFrom..HISTORY) is real history; outputs start at firstOutput. Chunk c of the scan
+   * (lows lo[c], highs hi[c]) is x[HISTORY + c·CHUNK ..].
    */
-  private scan(x: Float32Array, n: number, lo: Float32Array, hi: Float32Array, chunks: number, running: number): number {
+  private scan(
+    x: Float32Array,
+    n: number,
+    realFrom: number,
+    firstOutput: number,
+    lo: Float32Array,
+    hi: Float32Array,
+    chunks: number,
+    running: number,
+  ): number {
     let headLo = Infinity
     let headHi = -Infinity
-    for (let j = 0; j < Math.min(n, HISTORY); j++) {
+    for (let j = realFrom; j < HISTORY; j++) {
       headLo = Math.min(headLo, x[j])
       headHi = Math.max(headHi, x[j])
     }
-    let peak = running // the sample peak of the history was counted with its own block
+    let peak = running // the history's samples were counted with their own block
     // Lows and highs of the previous three chunks; the history stands in for chunks before the first.
     let l1 = headLo, h1 = headHi, l2 = headLo, h2 = headHi, l3 = headLo, h3 = headHi
     for (let c = 0; c < chunks; c++) {
@@ -102,10 +114,12 @@ export class TruePeakMeter {
       const wh = h12 > h3c ? h12 : h3c
       const mid = Math.abs(0.5 * (wh + wl))
       const half = 0.5 * (wh - wl)
-      const start = HISTORY + c * CHUNK
-      const end = Math.min(n, start + CHUNK)
-      if (mid * INNER_GAIN + half * INNER_ABS_GAIN > peak) peak = interpolateInner(x, start, end, peak)
-      if (mid * OUTER_GAIN + half * OUTER_ABS_GAIN > peak) peak = interpolateOuter(x, start, end, peak)
+      const start = Math.max(firstOutput, HISTORY + c * CHUNK)
+      const end = Math.min(n, HISTORY + (c + 1) * CHUNK)
+      if (start < end) {
+        if (mid * INNER_GAIN + half * INNER_ABS_GAIN > peak) peak = interpolateInner(x, start, end, peak)
+        if (mid * OUTER_GAIN + half * OUTER_ABS_GAIN > peak) peak = interpolateOuter(x, start, end, peak)
+      }
       l3 = l2
       h3 = h2
       l2 = l1

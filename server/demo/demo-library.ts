@@ -6,6 +6,12 @@ import type { WavWriteOptions } from '../audio/wav-layout'
 import { ingestFile } from '../ingest/ingest.service'
 import { createHash } from 'node:crypto'
 import type { SourceKind } from '@shared/schemas/sources'
+import type { User } from '@shared/schemas/auth'
+import type { Role } from '@shared/permissions'
+import { editTake } from '../takes/takes.service'
+import { createRegion } from '../regions/regions.service'
+import { createComment, editComment } from '../comments/comments.service'
+import { DEMO_ACCOUNTS } from './demo-team'
 
 // An invented catalogue and capture session. Devices are described generically:
 // no brand, product or person is real.
@@ -111,6 +117,7 @@ export async function seedDemoLibrary(ctx: AppContext, recordistId: number): Pro
     .returning('id')
     .executeTakeFirstOrThrow()
 
+  const takeIds: Record<string, number> = {}
   for (const t of takes()) {
     const planar = t.make()
     const path = ctx.storage.incomingPath()
@@ -124,5 +131,73 @@ export async function seedDemoLibrary(ctx: AppContext, recordistId: number): Pro
     })
     await ctx.db.deleteFrom('take_sources').where('take_id', '=', take.id).execute()
     await ctx.db.insertInto('take_sources').values({ take_id: take.id, source_id: ids[t.source], state: t.state }).execute()
+    takeIds[t.file] = take.id
+  }
+  await seedDemoDiscussion(ctx, takeIds)
+}
+
+// ---- the team's work on the session: tags, regions and comment threads ----
+
+const DEMO_TAGS: Record<string, string[]> = {
+  'T001_transformer_hum.wav': ['hum', 'drone', 'mains 50 hz', 'bed'],
+  'T002_fan_hum_60.wav': ['hum', 'mains 60 hz', 'motor'],
+  'T003_monitor_whine.wav': ['whine', 'high pitch', 'display'],
+  'T004_radio_bursts.wav': ['data burst', 'chirp', 'loud'],
+  'T005_fan_spin_up.wav': ['sweep', 'motor', 'drone'],
+  'T006_room_tone.wav': ['room tone', 'hum', 'bed'],
+  'T007_charger_charging.wav': ['whine', 'crackle', 'power supply'],
+}
+
+const DEMO_REGIONS: { file: string; name: string; start: number; end: number }[] = [
+  { file: 'T001_transformer_hum.wav', name: 'Steady bed', start: 2, end: 26 },
+  { file: 'T003_monitor_whine.wav', name: 'Usable whine', start: 1.5, end: 13 },
+  { file: 'T004_radio_bursts.wav', name: 'Three clean bursts', start: 0.4, end: 3.2 },
+]
+
+/**
+ * Tags, regions and threads written through the same services the API uses
+ * (so the history reads as it would), by the invented demo team. Mentions are
+ * not mailed while seeding.
+ */
+async function seedDemoDiscussion(ctx: AppContext, takeIds: Record<string, number>): Promise<void> {
+  const rows = await ctx.db.selectFrom('users').select(['id', 'email', 'name', 'role']).execute()
+  const person = {} as Record<Role, User>
+  for (const a of DEMO_ACCOUNTS) {
+    const r = rows.find((x) => x.email === a.email)
+    if (r) person[a.role] = { id: r.id, email: r.email, name: r.name, role: r.role as Role }
+  }
+  const { designer, recordist, producer, collaborator, admin } = person
+  if (!designer || !recordist || !producer || !collaborator || !admin) return
+
+  for (const [file, tags] of Object.entries(DEMO_TAGS)) {
+    if (takeIds[file]) await editTake(ctx.db, file === 'T006_room_tone.wav' ? recordist : designer, takeIds[file], { tags })
+  }
+  const regionIds: Record<string, number> = {}
+  for (const r of DEMO_REGIONS) {
+    if (takeIds[r.file]) regionIds[r.name] = (await createRegion(ctx.db, designer, takeIds[r.file], { name: r.name, startSeconds: r.start, endSeconds: r.end })).id
+  }
+
+  const quiet = { notify: false }
+  const say = (who: User, file: string, body: string, extra: { atSeconds?: number; regionId?: number; parentId?: number } = {}) =>
+    createComment(ctx, who, takeIds[file], { body, ...extra }, quiet)
+
+  if (takeIds['T001_transformer_hum.wav']) {
+    const q = await say(designer, 'T001_transformer_hum.wav', 'Lovely steady bed. @rory was the coil flat on the housing the whole time?', { atSeconds: 4 })
+    await say(recordist, 'T001_transformer_hum.wav', 'Yes, flat against the left side on the 1 m lead. The right side was noisier.', { parentId: q.id })
+    await say(producer, 'T001_transformer_hum.wav', 'This region would work under the basement scene.', { regionId: regionIds['Steady bed'] })
+  }
+  if (takeIds['T002_fan_hum_60.wav']) {
+    const q = await say(producer, 'T002_fan_hum_60.wav', 'Can we have this one a little longer? 20 s is tight for a loop.')
+    await say(recordist, 'T002_fan_hum_60.wav', 'Recorded a 2-minute version in the next session.', { parentId: q.id })
+    await editComment(ctx, designer, takeIds['T002_fan_hum_60.wav'], q.id, { resolved: true })
+  }
+  if (takeIds['T003_monitor_whine.wav']) {
+    const q = await say(collaborator, 'T003_monitor_whine.wav', 'There is a slight wobble here. Intentional?', { atSeconds: 6.2 })
+    await say(designer, 'T003_monitor_whine.wav', 'It follows the brightness steps. Keeping it, it sounds alive.', { parentId: q.id })
+  }
+  if (takeIds['T004_radio_bursts.wav']) {
+    await say(admin, 'T004_radio_bursts.wav', 'Loud bursts from 0:00.4 on: audition at a low level first. @dana please check the true peak before packing.', {
+      atSeconds: 0.4,
+    })
   }
 }

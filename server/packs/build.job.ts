@@ -16,7 +16,9 @@ import type { AppContext } from '../core/context'
 import { nowIso } from '../core/time'
 import type { JobHandler } from '../jobs/job-runner'
 import type { NewPackBuildItem } from '../../db/schema-packs'
-import { renderItem, RenderStopped, type RenderRequest, type RenderResult } from '../render/render'
+import { renderItem, RenderStopped, type RenderRequest } from '../render/render'
+import { hashFile } from '../render/hash-file'
+import { createRenderPool, type RenderedFile } from '../render/render-pool'
 import { round2 } from '../render/settings'
 import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot, type ItemSpec } from './item-spec'
 import { manifestCsv, PackZip } from './pack-zip'
@@ -26,15 +28,25 @@ import * as repo from './packs.repository'
 export interface RenderExecutor {
   /** Renders that may run at once. */
   readonly parallel: number
-  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderResult>
+  /** Renders and hashes the file written. */
+  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
   close(): Promise<void>
 }
 
 export const inProcessExecutor = (): RenderExecutor => ({
   parallel: 1,
-  render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath),
+  render: async (req, outPath, signal) => {
+    const r = await renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath)
+    return { ...r, sha256: (await hashFile(r.path)).sha256 }
+  },
   close: async () => undefined,
 })
+
+/** Renders in worker threads (render-pool.ts): a pool per build, closed when the build ends. */
+export const workerExecutor = (workers?: number): RenderExecutor => {
+  const pool = createRenderPool(workers)
+  return { parallel: pool.size, render: (req, out, signal) => pool.render(req, out, signal), close: () => pool.close() }
+}
 
 export interface BuildPaths {
   dirRel: string
@@ -63,7 +75,16 @@ export function licenceFile(snap: BuildSnapshot, version: number): string {
   return `${snap.pack.name}, version ${version}\n\n${snap.pack.licenceText.trim()}\n`
 }
 
-export function buildPackJob(ctx: AppContext, makeExecutor: () => RenderExecutor = inProcessExecutor): JobHandler {
+/** Below this much audio (samples over all channels, about a minute of 48 kHz stereo) starting worker threads costs more than it saves. */
+export const WORKER_THRESHOLD_SAMPLES = 6_000_000
+
+/** Worker threads for large builds, this thread for small ones. */
+export function executorFor(snap: BuildSnapshot): RenderExecutor {
+  const samples = snap.items.reduce((n, s) => n + expectedFrames(s) * (s.channels ?? 2), 0)
+  return samples >= WORKER_THRESHOLD_SAMPLES ? workerExecutor() : inProcessExecutor()
+}
+
+export function buildPackJob(ctx: AppContext, makeExecutor: (snap: BuildSnapshot) => RenderExecutor = executorFor): JobHandler {
   return {
     concurrency: 1,
     run: (job, progress) => runBuild(ctx, job.ref_id, progress, makeExecutor),
@@ -74,7 +95,7 @@ export function buildPackJob(ctx: AppContext, makeExecutor: () => RenderExecutor
   }
 }
 
-export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p: number) => Promise<void>, makeExecutor: () => RenderExecutor): Promise<void> {
+export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p: number) => Promise<void>, makeExecutor: (snap: BuildSnapshot) => RenderExecutor): Promise<void> {
   const build = await repo.findBuild(ctx.db, buildId)
   if (!build || build.status === 'done') return // deleted meanwhile, or finished before a crash
   const snap = JSON.parse(build.snapshot_json) as BuildSnapshot
@@ -117,9 +138,9 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
   const stopWatch = setInterval(() => {
     if (ctx.jobs.isStopped) signal.stopped = true
   }, 50)
-  const executor = makeExecutor()
+  const executor = makeExecutor(snap)
   const zip = PackZip.create(paths.tmpZip, ctx.storage.abs(paths.finalRel), createdAt)
-  const inflight: Promise<RenderResult>[] = []
+  const inflight: Promise<RenderedFile>[] = []
   let next = 0
   const startNext = () => {
     if (next >= snap.items.length) return
@@ -146,7 +167,7 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
       const r = await inflight[k]
       if (signal.stopped) throw new BuildStopped()
       startNext()
-      const entry = await zip.addFile(spec.fileName, r.path)
+      const entry = { sha256: r.sha256, bytes: await zip.addFile(spec.fileName, r.path) }
       await fs.rm(r.path, { force: true })
       const item: ManifestItem = {
         file: spec.fileName,

@@ -24,6 +24,7 @@ export interface ItemSpec {
   audioPath: string
   sourceLevels: SourceLevels | null
   sampleRate: number | null
+  channels: number | null
   /** Of the whole take. */
   takeDurationSeconds: number
   title: string

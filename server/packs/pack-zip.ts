@@ -4,10 +4,11 @@
 // passes 4 GiB (compress-commons' isZip64), so forceZip64 is not needed.
 // The zip goes to a temp name beside its final place and is renamed there only
 // after it is complete and fsynced; the SHA-256 of each entry and of the whole
-// zip are computed on the bytes as they stream through.
+// zip is computed on the bytes as they stream out (each entry's is computed
+// beside its render, see build.job.ts).
 import { createHash } from 'node:crypto'
 import { createReadStream, createWriteStream } from 'node:fs'
-import { open, rename, rm } from 'node:fs/promises'
+import { open, rename, rm, stat } from 'node:fs/promises'
 import { PassThrough, Transform, type TransformCallback } from 'node:stream'
 import { ZipArchive } from 'archiver'
 import type { ManifestItem } from '@shared/schemas/packs'
@@ -72,16 +73,14 @@ export class PackZip {
     })
   }
 
-  /** Adds a file and resolves once archiver has read all of it (so the caller may delete it). */
-  async addFile(name: string, path: string): Promise<ZipEntryResult> {
+  /** Adds a file and resolves with its size once archiver has read all of it (so the caller may delete it). */
+  async addFile(name: string, path: string): Promise<number> {
     if (this.failure) throw this.failure
-    const hashing = new Hashing()
-    const source = createReadStream(path, { highWaterMark: 1 << 20 })
-    source.once('error', (err) => hashing.destroy(err))
+    const { size } = await stat(path)
     const entry = this.entryDone(name)
-    this.archive.append(source.pipe(hashing), { name, store: true, date: this.date })
+    this.archive.append(createReadStream(path, { highWaterMark: 1 << 20 }), { name, store: true, date: this.date })
     await entry
-    return { sha256: hashing.hash.digest('hex'), bytes: hashing.bytes }
+    return size
   }
 
   async addBuffer(name: string, data: Buffer): Promise<void> {

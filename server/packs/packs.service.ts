@@ -153,6 +153,7 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
       audioPath: e.take.audio_path,
       sourceLevels,
       sampleRate: e.take.sample_rate,
+      channels: e.take.channels,
       takeDurationSeconds: e.take.duration_seconds ?? 0,
       title: e.row.name ?? e.take.title,
       description: e.take.description,

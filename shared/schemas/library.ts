@@ -165,6 +165,8 @@ export type UpdateRegionBody = z.infer<typeof UpdateRegionBody>
 
 /** Sorted by start time. */
 export const RegionsResponse = z.object({ regions: z.array(Region) })
+/** POST (201) and PATCH answers. */
+export const RegionResponse = z.object({ region: Region })
 
 // ---- comments ----
 
@@ -196,6 +198,8 @@ export type Comment = z.infer<typeof Comment>
 
 /** In time order; threads are rebuilt from parentId. */
 export const CommentsResponse = z.object({ comments: z.array(Comment) })
+/** POST (201) and PATCH answers. */
+export const CommentResponse = z.object({ comment: Comment })
 
 const commentBody = z
   .string()

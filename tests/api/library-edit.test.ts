@@ -1,6 +1,7 @@
 // Editing takes: PATCH /api/takes/:id, POST /api/takes/bulk, the tag and
 // state suggestions, and the history every change leaves behind.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { BulkEditResponse, HistoryResponse, StatesResponse, TagsResponse, TakeResponse } from '@shared/schemas/library'
 import { signedIn, startTestServer, type Client } from '../helpers/server'
 import { seedLibrary, type SeededLibrary } from './library-fixtures'
 
@@ -22,12 +23,13 @@ afterAll(async () => {
 
 const tagsOf = async (id: number) => (await designer.get(`/api/takes/${id}`).expect(200)).body.take.tags as string[]
 const historyOf = async (id: number) =>
-  (await designer.get(`/api/takes/${id}/history`).expect(200)).body.events as { id: number; kind: string; summary: string; user: { id: number; name: string } | null; createdAt: string }[]
+  HistoryResponse.parse((await designer.get(`/api/takes/${id}/history`).expect(200)).body).events as { id: number; kind: string; summary: string; user: { id: number; name: string } | null; createdAt: string }[]
 
 describe('PATCH /api/takes/:id', () => {
   it('changes title, description and notes, and answers with the whole take', async () => {
     const res = await designer.patch(`/api/takes/${lib.take.D}`, { title: '  Monitor whine, bright setting ', description: 'Coil on the back panel', notes: 'Use the first 5 s' })
     expect(res.status).toBe(200)
+    TakeResponse.parse(res.body)
     expect(res.body.take).toMatchObject({ id: lib.take.D, title: 'Monitor whine, bright setting', description: 'Coil on the back panel', notes: 'Use the first 5 s' })
     expect(res.body.take.updatedAt).not.toBe('2026-11-04T10:00:00.000Z')
     const again = (await designer.get(`/api/takes/${lib.take.D}`)).body.take
@@ -123,6 +125,7 @@ describe('POST /api/takes/bulk', () => {
     await designer.patch(`/api/takes/${lib.take.E}`, { tags: ['data burst', 'chirp'] }).expect(200)
     const res = await designer.post('/api/takes/bulk', { ids: [lib.take.A, lib.take.E, lib.take.A], addTags: ['Keeper', 'chirp'], removeTags: ['whine'] })
     expect(res.status).toBe(200)
+    BulkEditResponse.parse(res.body)
     expect(res.body.updated).toBe(2)
     expect(res.body.takes.map((t: { id: number }) => t.id)).toEqual([lib.take.A, lib.take.E])
     expect(res.body.takes[0].tags).toEqual(['chirp', 'keeper', 'power supply'])
@@ -211,6 +214,7 @@ describe('GET /api/tags and GET /api/states', () => {
 
     const res = await designer.get('/api/tags?limit=500')
     expect(res.status).toBe(200)
+    TagsResponse.parse(res.body)
     expect(res.body.tags).toEqual(expected)
     expect(res.body.tags[0]).toEqual({ tag: 'chirp', count: 3 })
 
@@ -225,6 +229,7 @@ describe('GET /api/tags and GET /api/states', () => {
     await designer.patch(`/api/takes/${lib.take.D}`, { sources: [{ sourceId: lib.source.monitor, state: 'standby' }] }).expect(200)
     const monitor = await designer.get(`/api/states?sourceId=${lib.source.monitor}`)
     expect(monitor.status).toBe(200)
+    StatesResponse.parse(monitor.body)
     expect(monitor.body.states).toEqual([{ state: 'standby', count: 2 }])
 
     const all = await designer.get('/api/states')

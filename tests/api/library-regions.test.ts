@@ -1,5 +1,6 @@
 // Regions of a take: named time ranges, checked against the take's duration.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { RegionResponse, RegionsResponse } from '@shared/schemas/library'
 import { signedIn, startTestServer, type Client } from '../helpers/server'
 import { insertSession, insertTakeRow, userIds } from './library-fixtures'
 
@@ -23,12 +24,13 @@ afterAll(async () => {
   await server.stop()
 })
 
-const regions = async (id = take) => (await producer.get(`/api/takes/${id}/regions`).expect(200)).body.regions as { id: number; name: string; startSeconds: number; endSeconds: number }[]
+const regions = async (id = take) => RegionsResponse.parse((await producer.get(`/api/takes/${id}/regions`).expect(200)).body).regions as { id: number; name: string; startSeconds: number; endSeconds: number }[]
 
 describe('regions', () => {
   it('creates regions and lists them by start time for everyone', async () => {
     const late = await designer.post(`/api/takes/${take}/regions`, { name: '  Clean loop ', startSeconds: 12.5, endSeconds: 20 })
     expect(late.status).toBe(201)
+    RegionResponse.parse(late.body)
     expect(late.body.region).toMatchObject({ takeId: take, name: 'Clean loop', startSeconds: 12.5, endSeconds: 20, createdBy: { name: 'Dana Humbucker' } })
     expect(typeof late.body.region.createdAt).toBe('string')
     const early = await designer.post(`/api/takes/${take}/regions`, { name: 'Switch-on click', startSeconds: 0, endSeconds: 0.25 })

@@ -2,7 +2,7 @@
 // filter, each sort column in both orders, paging, full-text search over every
 // field that feeds it, and hostile search strings.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { TAKE_SORTS, type TakeSort } from '@shared/schemas/takes'
+import { TAKE_SORTS, TakePage, type TakeSort } from '@shared/schemas/takes'
 import { signedIn, startTestServer, type Client } from '../helpers/server'
 import { FIXTURE_SESSIONS, FIXTURE_TAKES, seedLibrary, type FixtureTake, type SeededLibrary } from './library-fixtures'
 
@@ -23,6 +23,7 @@ afterAll(async () => {
 async function search(qs: string) {
   const res = await reader.get(`/api/takes?pageSize=200${qs ? `&${qs}` : ''}`)
   expect(res.status, `${qs} → ${JSON.stringify(res.body)}`).toBe(200)
+  TakePage.parse(res.body)
   return res.body as { items: { id: number }[]; total: number; page: number; pageSize: number }
 }
 
@@ -139,6 +140,14 @@ describe('sorting', () => {
     }
   }
 
+  // A condition that holds for every take sends the query down the filtered path (the covering index).
+  for (const sort of TAKE_SORTS.filter((s): s is Exclude<TakeSort, 'relevance'> => s !== 'relevance')) {
+    it(`sort=${sort} on a filtered list`, async () => {
+      expect(await ordered(`minDuration=0&sort=${sort}&order=desc`)).toBe(expectedOrder(sort, 'desc'))
+      expect(await ordered(`sort=${sort}&order=asc&minDuration=0`)).toBe(expectedOrder(sort, 'asc'))
+    })
+  }
+
   it('spells out a few orders by hand', async () => {
     expect(await ordered('sort=integratedLufs&order=asc')).toBe('FDCABEGH')
     expect(await ordered('sort=integratedLufs&order=desc')).toBe('EBACDFHG')
@@ -156,6 +165,15 @@ describe('sorting', () => {
     expect(await ordered('q=crackle')).toBe('HF')
     expect(await ordered('q=crackle&sort=relevance')).toBe('HF')
     expect(await ordered('q=crackle&sort=createdAt&order=asc')).toBe('FH')
+    // The same ranking where other filters apply too.
+    expect(await ordered('q=crackle&minDuration=0')).toBe('HF')
+    expect(await ordered('q=crackle&minDuration=0&order=desc')).toBe('FH')
+    expect(await ordered('q=crackle&status=ready')).toBe('F')
+  })
+
+  it('without text, sort=relevance lists newest first', async () => {
+    expect(await ordered('sort=relevance')).toBe('HGFEDCBA')
+    expect(await ordered('sort=relevance&status=ready')).toBe('FEDCBA')
   })
 })
 
@@ -175,6 +193,16 @@ describe('paging', () => {
     const res = await reader.get('/api/takes?status=ready&sort=integratedLufs&order=desc&pageSize=2&page=2')
     expect(res.body.total).toBe(6)
     expect(res.body.items.map((t: { id: number }) => lib.keyOf(t.id)).join('')).toBe('AC')
+  })
+
+  it('reports the total on an empty page past the end of a filtered list', async () => {
+    const res = await reader.get('/api/takes?status=ready&pageSize=4&page=3')
+    expect(res.body).toMatchObject({ total: 6, page: 3, items: [] })
+    const text = await reader.get('/api/takes?q=whine&pageSize=1&page=2')
+    expect(text.body.total).toBe(2)
+    expect(text.body.items).toHaveLength(1)
+    const past = await reader.get('/api/takes?q=whine&pageSize=1&page=3')
+    expect(past.body).toMatchObject({ total: 2, items: [] })
   })
 
   it('defaults to page 1 of 50', async () => {

@@ -5,6 +5,7 @@
 import { execFileSync } from 'node:child_process'
 import fs from 'node:fs'
 import path from 'node:path'
+import type { Stream } from 'node:stream'
 import type { Client } from '../helpers/server'
 import { createSession, uploadTake, waitForTake } from '../helpers/uploads'
 import type { RunningServer } from '../../server/server'
@@ -74,7 +75,7 @@ export function filesUnder(dir: string): string[] {
 }
 
 /** A superagent parser that keeps a binary body as a Buffer. */
-export const binary = (res: NodeJS.ReadableStream, cb: (err: Error | null, body: Buffer) => void) => {
+export const binary = (res: Stream, cb: (err: Error | null, body: Buffer) => void) => {
   const parts: Buffer[] = []
   res.on('data', (c: Buffer) => parts.push(c))
   res.on('end', () => cb(null, Buffer.concat(parts)))

@@ -20,9 +20,9 @@ beforeAll(() => {
   sox(['-n', '-r', '96000', '-e', 'floating-point', '-b', '32', '-c', '1', src('tone-96kf-mono.wav'), 'synth', '3', 'sine', '1000', 'vol', '-35dB'])
   sox(['-n', '-r', '96000', '-b', '24', '-c', '2', src('brown-96k24-stereo.wav'), 'synth', '4', 'brownnoise', 'vol', '-12dB'])
   ffmpeg(['-f', 'lavfi', '-i', 'anoisesrc=color=pink:amplitude=0.05:sample_rate=44100:duration=4:seed=3', '-ac', '2', '-c:a', 'pcm_f32le', src('pink-44kf-stereo.wav')])
-  // A quiet 440 Hz tone with one loud 3 kHz burst: reaching −18 LUFS would need about +25 dB, the ceiling allows none.
+  // A quiet 440 Hz tone with one loud 5 ms burst of 3 kHz: reaching −18 LUFS would need about +10 dB, the ceiling allows none.
   ffmpeg([
-    '-f', 'lavfi', '-i', "aevalsrc='0.01*sin(2*PI*440*t)+if(between(t,1,1.03),0.9*sin(2*PI*3000*t),0)':s=48000:d=4",
+    '-f', 'lavfi', '-i', "aevalsrc='0.05*sin(2*PI*440*t)+if(between(t,2,2.005),0.9*sin(2*PI*3000*t),0)':s=48000:d=6",
     '-c:a', 'pcm_s24le', src('burst-48k24-mono.wav'),
   ])
   sox(['-n', '-r', '48000', '-e', 'floating-point', '-b', '32', '-c', '1', src('noise-short-float.wav'), 'synth', '0.6', 'whitenoise', 'vol', '-20dB'])
@@ -81,7 +81,7 @@ describe('the true-peak ceiling (gain only, no limiter)', () => {
     // The highest gain the ceiling allows: the peak sits at the ceiling, not below it.
     expect(ref.truePeakDbtp).toBeGreaterThanOrEqual(-1 - 0.3)
     expect(r.underTargetDb).not.toBeNull()
-    expect(r.underTargetDb!).toBeGreaterThan(15)
+    expect(r.underTargetDb!).toBeGreaterThan(5)
     // "How much": the target minus the loudness ffmpeg measures on the file.
     expect(Math.abs(r.underTargetDb! - (-18 - ref.integratedLufs))).toBeLessThanOrEqual(0.2)
   })
@@ -130,8 +130,8 @@ describe('short items and fades', () => {
     const [y] = decode(out, 1)
     const [x] = decode(src('tone-96kf-mono.wav'), 1)
     const g = 10 ** (r.gainDb / 20)
-    expect(y[0]).toBe(0)
-    expect(y[y.length - 1]).toBe(0)
+    expect(Math.abs(y[0])).toBe(0)
+    expect(Math.abs(y[y.length - 1])).toBe(0)
     const n = y.length
     for (let k = 1; k < 960; k++) {
       if (Math.abs(x[k]) < 1e-3) continue

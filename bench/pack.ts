@@ -1,0 +1,251 @@
+// `npm run bench:pack`: builds a pack of about 1 GB of source audio (12 takes
+// of 5 minutes, 48 kHz 24-bit stereo) with the real build job, and in the same
+// run times `zip -0` (Info-ZIP, no compression) of the same rendered files,
+// then writes bench/results/pack.md.
+//
+// The build runs in a child process under /usr/bin/time -v (peak resident
+// memory of the whole process, worker threads included); its seconds are the
+// build alone, measured inside the child (not Node's or tsx's start-up). The
+// child makes a fresh database and storage folder, hard-links the takes into
+// storage, records them as measured (levels from one analysis of each file,
+// kept beside the files) and calls the 'build-pack' job's runBuild directly.
+// The rendered files are then unpacked from the build's zip and handed to
+// `zip -0`, warm in the page cache like the build's sources were.
+// Sources are made by sox once and kept in bench/.data/pack/ (git-ignored).
+import { execFileSync, spawnSync } from 'node:child_process'
+import { existsSync, linkSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync, copyFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import { dirname, join, relative } from 'node:path'
+import { fileURLToPath } from 'node:url'
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..')
+const dataDir = join(root, 'bench', '.data', 'pack')
+const resultsFile = join(root, 'bench', 'results', 'pack.md')
+const TIME = '/usr/bin/time'
+const TAKES = 12
+const MINUTES = 5
+
+interface Levels {
+  file: string
+  frames: number
+  integratedLufs: number | null
+  truePeakDbtp: number | null
+  loudnessRangeLu: number | null
+}
+
+interface ChildReport {
+  buildSeconds: number
+  zipPath: string
+  zipBytes: number
+  sourceBytes: number
+  items: number
+  workers: number
+  maxRssMb: number
+}
+
+function makeSources(): string[] {
+  mkdirSync(dataDir, { recursive: true })
+  const files: string[] = []
+  for (let i = 0; i < TAKES; i++) {
+    const file = join(dataDir, `take-${String(i + 1).padStart(2, '0')}-5min-48k24.wav`)
+    files.push(file)
+    if (existsSync(file)) continue
+    process.stdout.write(`generating ${relative(root, file)} with sox…\n`)
+    const tmp = `${file}.part.wav`
+    // Pink noise with a tone and mains hum at a different level per take.
+    const hz = 200 + 150 * i
+    execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '2', tmp, 'synth', String(MINUTES * 60), 'pinknoise', 'synth', 'sine', 'mix', String(hz), 'synth', 'sine', 'mix', '50', 'vol', `-${14 + i}dB`])
+    renameSync(tmp, file)
+  }
+  return files
+}
+
+/** The engine's measurement of each source, once (it is what ingest stores with a take). */
+async function levelsOf(files: string[]): Promise<Levels[]> {
+  const cache = join(dataDir, 'levels.json')
+  if (existsSync(cache)) {
+    const kept = JSON.parse(readFileSync(cache, 'utf8')) as Levels[]
+    if (kept.length === files.length && kept.every((l, i) => l.file === relative(root, files[i]))) return kept
+  }
+  const { analyzeFile } = await import('../server/audio/analyze')
+  const out: Levels[] = []
+  for (const f of files) {
+    process.stdout.write(`measuring ${relative(root, f)}…\n`)
+    const { format, analysis } = await analyzeFile(f)
+    out.push({
+      file: relative(root, f),
+      frames: format.frames,
+      integratedLufs: analysis.loudness.integratedLufs,
+      truePeakDbtp: analysis.levels.truePeakDbtp,
+      loudnessRangeLu: analysis.loudness.loudnessRangeLu,
+    })
+  }
+  writeFileSync(cache, JSON.stringify(out, null, 2))
+  return out
+}
+
+/** Child mode: `tsx bench/pack.ts --child WORKDIR` builds the pack in this process. */
+async function child(work: string): Promise<void> {
+  const { loadConfig } = await import('../server/core/config')
+  const { migrateToLatest, openDatabase } = await import('../server/core/database')
+  const { Storage } = await import('../server/core/storage')
+  const { JobRunner } = await import('../server/jobs/job-runner')
+  const { seedDemo } = await import('../server/demo/seed')
+  const { addItems } = await import('../server/packs/packs.service')
+  const { requestBuild } = await import('../server/packs/builds.service')
+  const { runBuild, executorFor, inProcessExecutor, workerExecutor } = await import('../server/packs/build.job')
+  const { probeWav } = await import('../server/audio/wav-reader')
+  type Ctx = import('../server/core/context').AppContext
+
+  const levels = JSON.parse(readFileSync(join(dataDir, 'levels.json'), 'utf8')) as Levels[]
+  const config = loadConfig({}, { dbFile: join(work, 'db.sqlite'), storageDir: join(work, 'storage'), demo: true, demoAudio: false, runJobs: false })
+  const db = openDatabase(config.dbFile)
+  await migrateToLatest(db)
+  const storage = new Storage(config.storageDir)
+  const mailer = { send: async () => undefined, describe: () => 'none', close: async () => undefined }
+  const ctx: Ctx = { config, db, mailer, storage, jobs: new JobRunner(db, {}) }
+  await seedDemo(ctx)
+  const designer = await db.selectFrom('users').select(['id', 'email', 'name', 'role']).where('role', '=', 'designer').executeTakeFirstOrThrow()
+  const user = { ...designer, role: 'designer' as const }
+  const session = await db.insertInto('capture_sessions').values({ title: 'Benchmark capture', date: '2026-12-01' }).returning('id').executeTakeFirstOrThrow()
+  const takeIds: number[] = []
+  let sourceBytes = 0
+  for (const [i, l] of levels.entries()) {
+    const src = join(root, l.file)
+    const sha = `${String(i).padStart(2, '0')}${'0'.repeat(62)}`
+    const rel = storage.audioRelative(sha)
+    mkdirSync(dirname(storage.abs(rel)), { recursive: true })
+    try {
+      linkSync(src, storage.abs(rel))
+    } catch {
+      copyFileSync(src, storage.abs(rel))
+    }
+    const info = await probeWav(src)
+    sourceBytes += statSync(src).size
+    const t = await db
+      .insertInto('takes')
+      .values({
+        session_id: session.id,
+        filename: l.file.split('/').pop()!,
+        title: `Bench take ${i + 1}`,
+        audio_path: rel,
+        size_bytes: statSync(src).size,
+        sha256: sha,
+        status: 'ready',
+        format_json: JSON.stringify(info.format),
+        duration_seconds: info.format.durationSeconds,
+        sample_rate: info.format.sampleRate,
+        channels: info.format.channels,
+        bits_per_sample: info.format.bitsPerSample,
+        integrated_lufs: l.integratedLufs,
+        true_peak_dbtp: l.truePeakDbtp,
+        loudness_range_lu: l.loudnessRangeLu,
+      })
+      .returning('id')
+      .executeTakeFirstOrThrow()
+    takeIds.push(t.id)
+  }
+  const pack = await db
+    .insertInto('packs')
+    .values({ name: 'Benchmark pack', naming_template: '{title}_{index}', settings_json: JSON.stringify({}), created_by: user.id })
+    .returning('id')
+    .executeTakeFirstOrThrow()
+  await addItems(ctx, user, pack.id, takeIds.map((takeId) => ({ takeId, kind: 'one-shot' as const })))
+  const build = await requestBuild(ctx, user, pack.id)
+  let workers = 0
+  const t0 = performance.now()
+  // BENCH_PACK_WORKERS=0 renders in the build's own thread, N in N worker threads; unset: what the job chooses.
+  const forced = process.env.BENCH_PACK_WORKERS
+  await runBuild(ctx, build.id, async () => undefined, (snap) => {
+    const e = forced === undefined ? executorFor(snap) : forced === '0' ? inProcessExecutor() : workerExecutor(Number(forced))
+    workers = e.parallel
+    return e
+  })
+  const buildSeconds = (performance.now() - t0) / 1000
+  const row = await db.selectFrom('pack_builds').selectAll().where('id', '=', build.id).executeTakeFirstOrThrow()
+  if (row.status !== 'done') throw new Error(`build ended ${row.status}: ${row.error}`)
+  await db.destroy()
+  const report: ChildReport = {
+    buildSeconds,
+    zipPath: storage.abs(row.zip_path!),
+    zipBytes: row.size_bytes!,
+    sourceBytes,
+    items: levels.length,
+    workers,
+    maxRssMb: process.resourceUsage().maxRSS / 1024,
+  }
+  process.stdout.write(`${JSON.stringify(report)}\n`)
+}
+
+function timed(cmd: string, args: string[], cwd = root): { seconds: number; maxRssMb: number; stdout: string } {
+  const t0 = performance.now()
+  const r = spawnSync(TIME, ['-v', cmd, ...args], { encoding: 'utf8', maxBuffer: 1 << 28, cwd })
+  const seconds = (performance.now() - t0) / 1000
+  if (r.status !== 0) throw new Error(`${cmd} failed (${r.status}): ${r.stderr.slice(-3000)}`)
+  const rss = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr)
+  if (!rss) throw new Error(`no memory figure from ${TIME}`)
+  return { seconds, maxRssMb: Number(rss[1]) / 1024, stdout: r.stdout }
+}
+
+const warm = (files: string[]) => execFileSync('sh', ['-c', 'cat "$@" > /dev/null', 'sh', ...files])
+
+async function main(): Promise<void> {
+  if (process.argv[2] === '--child') return child(process.argv[3])
+  if (!existsSync(TIME)) throw new Error(`${TIME} is missing: install the Debian package "time"`)
+  const files = makeSources()
+  await levelsOf(files)
+  const work = mkdtempSync(join(tmpdir(), 'strayfield-bench-pack-'))
+  try {
+    warm(files)
+    const self = fileURLToPath(import.meta.url)
+    const run = timed(process.execPath, ['--import', 'tsx', self, '--child', work])
+    const report = JSON.parse(run.stdout.trim().split('\n').pop()!) as ChildReport
+
+    // The same rendered files, unpacked (untimed), then zip -0 (timed).
+    const unpacked = join(work, 'unpacked')
+    execFileSync('unzip', ['-q', report.zipPath, '-d', unpacked])
+    const wavs = readdirSync(unpacked).filter((f) => f.endsWith('.wav')).sort()
+    warm(wavs.map((f) => join(unpacked, f)))
+    const zip0 = timed('zip', ['-0', '-q', join(work, 'zip0.zip'), ...wavs], unpacked)
+    const renderedBytes = wavs.reduce((n, f) => n + statSync(join(unpacked, f)).size, 0)
+
+    const mb = (b: number) => b / 1e6
+    const ratio = report.buildSeconds / zip0.seconds
+    const cpu = execFileSync('sh', ['-c', "grep -m1 'model name' /proc/cpuinfo | cut -d: -f2"], { encoding: 'utf8' }).trim()
+    const load = readFileSync('/proc/loadavg', 'utf8').split(' ').slice(0, 3).join(' ')
+    const row = [
+      `${report.items} × ${MINUTES} min`,
+      `${(mb(report.sourceBytes) / 1000).toFixed(2)} GB`,
+      report.workers,
+      report.buildSeconds.toFixed(1),
+      `${(mb(report.sourceBytes) / report.buildSeconds).toFixed(0)} MB/s`,
+      `${run.maxRssMb.toFixed(0)} MB`,
+      zip0.seconds.toFixed(1),
+      `**${ratio.toFixed(2)}**`,
+    ]
+    const md = [
+      '# Pack build benchmark',
+      '',
+      `Generated by \`npm run bench:pack\` on ${new Date().toISOString().slice(0, 10)}; Node ${process.version}, ${cpu}, load average at the end ${load}.`,
+      `Sources: sox pink noise with a tone and 50 Hz hum, 48 kHz 24-bit stereo, ${TAKES} takes of ${MINUTES} minutes. The build renders each to`,
+      '−18 LUFS under a −1 dBTP ceiling at 24 bits (TPDF dither, 5 ms fades), measures loudness, range and true peak on the samples it writes,',
+      'patches bext, and stores all with manifest.json, manifest.csv and LICENSE.txt in one zip (archiver, store).',
+      'Build seconds: the build alone, inside its process; throughput: source megabytes per build second; peak memory: the build process',
+      `(worker threads included) by \`/usr/bin/time -v\`; \`zip -0\`: Info-ZIP storing the same rendered files (${(mb(renderedBytes) / 1000).toFixed(2)} GB), warm in the page cache.`,
+      'Targets: build ÷ zip -0 < 2, peak memory < 200 MB.',
+      '',
+      '| pack | source audio | render workers | build seconds | throughput | peak memory | zip -0 seconds | build ÷ zip -0 |',
+      '| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
+      `| ${row.join(' | ')} |`,
+      '',
+    ].join('\n')
+    process.stdout.write(`${md}\n`)
+    mkdirSync(dirname(resultsFile), { recursive: true })
+    writeFileSync(resultsFile, md)
+    process.stdout.write(`wrote ${relative(root, resultsFile)}\n`)
+  } finally {
+    rmSync(work, { recursive: true, force: true })
+  }
+}
+
+await main()

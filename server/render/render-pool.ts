@@ -1,0 +1,141 @@
+// Renders in worker threads, so a build uses more than one core and never
+// holds the API's event loop. One render per worker at a time; a pool lives for
+// one build and is closed at its end. The workers load TypeScript through tsx
+// the same way the analysis pool does (server/audio/pool.ts).
+import { readFileSync } from 'node:fs'
+import { createRequire } from 'node:module'
+import { availableParallelism } from 'node:os'
+import { dirname, join } from 'node:path'
+import { pathToFileURL } from 'node:url'
+import { Worker } from 'node:worker_threads'
+import { WavFormatError } from '../audio/wav-errors'
+import { RenderStopped, type RenderRequest, type RenderResult } from './render'
+
+/** A render and the SHA-256 of the file it wrote. */
+export type RenderedFile = RenderResult & { sha256: string }
+
+type PlainRequest = Omit<RenderRequest, 'onFrames' | 'shouldStop' | 'sourceInfo'>
+
+export interface RenderTask {
+  type: 'render'
+  id: number
+  req: PlainRequest
+  outPath: string
+}
+
+export type RenderReply =
+  | { type: 'frames'; id: number; frames: number }
+  | { type: 'done'; id: number; result: RenderedFile }
+  | { type: 'error'; id: number; error: { name: string; message: string; code?: string; reason?: string } }
+
+export interface RenderPool {
+  readonly size: number
+  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
+  close(): Promise<void>
+}
+
+/** Renders at once: one per core, at most two (a build's zip needs a share of the CPU too). */
+export const defaultRenderWorkers = () => Math.max(1, Math.min(2, availableParallelism()))
+
+function tsxApiUrl(): string {
+  const pkgPath = createRequire(import.meta.url).resolve('tsx/package.json')
+  const pkg = JSON.parse(readFileSync(pkgPath, 'utf8')) as { exports: Record<string, { import: { default: string } }> }
+  return pathToFileURL(join(dirname(pkgPath), pkg.exports['./esm/api'].import.default)).href
+}
+
+function spawn(): Worker {
+  const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
+  const url = new URL(`./render-worker${ext}`, import.meta.url)
+  if (ext === '.js') return new Worker(url)
+  const target = JSON.stringify(url.href)
+  return new Worker(`import(${JSON.stringify(tsxApiUrl())}).then((tsx) => tsx.tsImport(${target}, ${target}))`, { eval: true })
+}
+
+function revive(e: { name: string; message: string; code?: string; reason?: string }): Error {
+  if (e.name === 'WavFormatError') return new WavFormatError(e.reason ?? e.message)
+  if (e.name === 'Error' && e.message === 'render stopped') return new RenderStopped()
+  const err = new Error(e.message) as NodeJS.ErrnoException
+  err.name = e.name
+  if (e.code) err.code = e.code
+  return err
+}
+
+interface Slot {
+  worker: Worker
+  busy: boolean
+}
+
+export function createRenderPool(size = defaultRenderWorkers()): RenderPool {
+  const slots: Slot[] = []
+  const waiting: ((s: Slot) => void)[] = []
+  const tasks = new Map<number, { resolve: (r: RenderedFile) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }>()
+  let nextId = 1
+  let closed = false
+
+  const release = (slot: Slot) => {
+    slot.busy = false
+    const w = waiting.shift()
+    if (w) {
+      slot.busy = true
+      w(slot)
+    }
+  }
+
+  const start = (): Slot => {
+    const slot: Slot = { worker: spawn(), busy: false }
+    slot.worker.on('message', (m: RenderReply) => {
+      const t = tasks.get(m.id)
+      if (!t) return
+      if (m.type === 'frames') return t.onFrames?.(m.frames)
+      tasks.delete(m.id)
+      release(slot)
+      if (m.type === 'done') t.resolve(m.result)
+      else t.reject(revive(m.error))
+    })
+    slot.worker.on('exit', (code) => {
+      slots.splice(slots.indexOf(slot), 1)
+      for (const [id, t] of tasks) {
+        if (t.slot !== slot) continue
+        tasks.delete(id)
+        t.reject(new Error(closed ? 'render pool closed' : `render worker stopped (exit code ${code})`))
+      }
+    })
+    slots.push(slot)
+    return slot
+  }
+
+  const acquire = (): Promise<Slot> => {
+    const free = slots.find((s) => !s.busy) ?? (slots.length < size ? start() : null)
+    if (free) {
+      free.busy = true
+      return Promise.resolve(free)
+    }
+    return new Promise((resolve) => waiting.push(resolve))
+  }
+
+  return {
+    size,
+    async render(req, outPath, signal) {
+      if (closed) throw new Error('render pool closed')
+      const slot = await acquire()
+      const id = nextId++
+      const { onFrames, shouldStop: _s, sourceInfo: _i, ...plain } = req
+      const watch = setInterval(() => {
+        if (signal.stopped) slot.worker.postMessage({ type: 'stop', id })
+      }, 50)
+      try {
+        return await new Promise<RenderedFile>((resolve, reject) => {
+          tasks.set(id, { resolve, reject, onFrames, slot })
+          const task: RenderTask = { type: 'render', id, req: plain, outPath }
+          slot.worker.postMessage(task)
+        })
+      } finally {
+        clearInterval(watch)
+      }
+    },
+    async close() {
+      closed = true
+      await Promise.all(slots.map((s) => s.worker.terminate()))
+    },
+  }
+}

@@ -1,0 +1,41 @@
+// Worker-thread entry of the render pool (render-pool.ts): renders one request
+// at a time, reports frames now and then, and stops between blocks when asked.
+import { parentPort } from 'node:worker_threads'
+import { hashFile } from './hash-file'
+import { renderItem } from './render'
+import type { RenderTask, RenderReply } from './render-pool'
+
+const port = parentPort
+if (!port) throw new Error('render-worker must run in a worker thread')
+
+const stopped = new Set<number>()
+
+port.on('message', (m: RenderTask | { type: 'stop'; id: number }) => {
+  if (m.type === 'stop') {
+    stopped.add(m.id)
+    return
+  }
+  const reply = (r: RenderReply) => port.postMessage(r)
+  let sent = 0
+  renderItem(
+    {
+      ...m.req,
+      onFrames: (frames) => {
+        if (frames - sent < 1 << 18) return // about every 5 s of 48 kHz audio
+        sent = frames
+        reply({ type: 'frames', id: m.id, frames })
+      },
+      shouldStop: () => stopped.has(m.id),
+    },
+    m.outPath,
+  )
+    // Hashing here, beside the render, keeps that pass off the thread that writes the zip.
+    .then(async (result) => ({ ...result, sha256: (await hashFile(result.path)).sha256 }))
+    .then(
+    (result) => reply({ type: 'done', id: m.id, result }),
+    (err: unknown) => {
+      const e = err as NodeJS.ErrnoException & { reason?: string }
+      reply({ type: 'error', id: m.id, error: { name: e?.name ?? 'Error', message: e?.message ?? String(err), code: e?.code, reason: e?.reason } })
+    },
+  ).finally(() => stopped.delete(m.id))
+})
