@@ -1,7 +1,9 @@
 // `npm run bench:pack`: builds a pack of about 1 GB of source audio (12 takes
-// of 5 minutes, 48 kHz 24-bit stereo) with the real build job, and in the same
-// run times `zip -0` (Info-ZIP, no compression) of the same rendered files,
-// then writes bench/results/pack.md.
+// of 5 minutes, 48 kHz 24-bit stereo) with the real build job, three times
+// (the job's choice of render threads, two worker threads, the build's own
+// thread), times `zip -0` (Info-ZIP, no compression) of the same rendered
+// files in the same run, builds one 60-minute take to show memory does not
+// grow with an item's length, and writes bench/results/pack.md.
 //
 // The build runs in a child process under /usr/bin/time -v (peak resident
 // memory of the whole process, worker threads included); its seconds are the
@@ -14,7 +16,7 @@
 // Sources are made by sox once and kept in bench/.data/pack/ (git-ignored).
 import { execFileSync, spawnSync } from 'node:child_process'
 import { existsSync, linkSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync, copyFileSync } from 'node:fs'
-import { tmpdir } from 'node:os'
+import { availableParallelism, tmpdir } from 'node:os'
 import { dirname, join, relative } from 'node:path'
 import { fileURLToPath } from 'node:url'
 
@@ -43,6 +45,18 @@ interface ChildReport {
   maxRssMb: number
 }
 
+/** One 60-minute take (the same file bench:analyze uses): memory must not grow with an item's length. */
+function makeLongSource(): string {
+  const file = join(root, 'bench', '.data', 'take-60min-48k24.wav')
+  if (existsSync(file)) return file
+  mkdirSync(dirname(file), { recursive: true })
+  process.stdout.write(`generating ${relative(root, file)} with sox…\n`)
+  const tmp = `${file}.part.wav`
+  execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '2', tmp, 'synth', '3600', 'pinknoise', 'synth', 'sine', 'mix', '1000', 'synth', 'sine', 'mix', '50', 'vol', '-16dB'])
+  renameSync(tmp, file)
+  return file
+}
+
 function makeSources(): string[] {
   mkdirSync(dataDir, { recursive: true })
   const files: string[] = []
@@ -61,8 +75,7 @@ function makeSources(): string[] {
 }
 
 /** The engine's measurement of each source, once (it is what ingest stores with a take). */
-async function levelsOf(files: string[]): Promise<Levels[]> {
-  const cache = join(dataDir, 'levels.json')
+async function levelsOf(files: string[], cache: string): Promise<Levels[]> {
   if (existsSync(cache)) {
     const kept = JSON.parse(readFileSync(cache, 'utf8')) as Levels[]
     if (kept.length === files.length && kept.every((l, i) => l.file === relative(root, files[i]))) return kept
@@ -84,8 +97,8 @@ async function levelsOf(files: string[]): Promise<Levels[]> {
   return out
 }
 
-/** Child mode: `tsx bench/pack.ts --child WORKDIR` builds the pack in this process. */
-async function child(work: string): Promise<void> {
+/** Child mode: `tsx bench/pack.ts --child WORKDIR LEVELS.json` builds a pack of those takes in this process. */
+async function child(work: string, levelsFile: string): Promise<void> {
   const { loadConfig } = await import('../server/core/config')
   const { migrateToLatest, openDatabase } = await import('../server/core/database')
   const { Storage } = await import('../server/core/storage')
@@ -97,7 +110,7 @@ async function child(work: string): Promise<void> {
   const { probeWav } = await import('../server/audio/wav-reader')
   type Ctx = import('../server/core/context').AppContext
 
-  const levels = JSON.parse(readFileSync(join(dataDir, 'levels.json'), 'utf8')) as Levels[]
+  const levels = JSON.parse(readFileSync(levelsFile, 'utf8')) as Levels[]
   const config = loadConfig({}, { dbFile: join(work, 'db.sqlite'), storageDir: join(work, 'storage'), demo: true, demoAudio: false, runJobs: false })
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
@@ -158,7 +171,7 @@ async function child(work: string): Promise<void> {
   const forced = process.env.BENCH_PACK_WORKERS
   await runBuild(ctx, build.id, async () => undefined, (snap) => {
     const e = forced === undefined ? executorFor(snap) : forced === '0' ? inProcessExecutor() : workerExecutor(Number(forced))
-    workers = e.parallel
+    workers = e.workers
     return e
   })
   const buildSeconds = (performance.now() - t0) / 1000
@@ -177,9 +190,9 @@ async function child(work: string): Promise<void> {
   process.stdout.write(`${JSON.stringify(report)}\n`)
 }
 
-function timed(cmd: string, args: string[], cwd = root): { seconds: number; maxRssMb: number; stdout: string } {
+function timed(cmd: string, args: string[], cwd = root, env: NodeJS.ProcessEnv = process.env): { seconds: number; maxRssMb: number; stdout: string } {
   const t0 = performance.now()
-  const r = spawnSync(TIME, ['-v', cmd, ...args], { encoding: 'utf8', maxBuffer: 1 << 28, cwd })
+  const r = spawnSync(TIME, ['-v', cmd, ...args], { encoding: 'utf8', maxBuffer: 1 << 28, cwd, env })
   const seconds = (performance.now() - t0) / 1000
   if (r.status !== 0) throw new Error(`${cmd} failed (${r.status}): ${r.stderr.slice(-3000)}`)
   const rss = /Maximum resident set size \(kbytes\): (\d+)/.exec(r.stderr)
@@ -190,56 +203,77 @@ function timed(cmd: string, args: string[], cwd = root): { seconds: number; maxR
 const warm = (files: string[]) => execFileSync('sh', ['-c', 'cat "$@" > /dev/null', 'sh', ...files])
 
 async function main(): Promise<void> {
-  if (process.argv[2] === '--child') return child(process.argv[3])
+  if (process.argv[2] === '--child') return child(process.argv[3], process.argv[4])
   if (!existsSync(TIME)) throw new Error(`${TIME} is missing: install the Debian package "time"`)
   const files = makeSources()
-  await levelsOf(files)
+  const long = makeLongSource()
+  mkdirSync(dataDir, { recursive: true })
+  const packLevels = join(dataDir, 'levels.json')
+  const longLevels = join(dataDir, 'levels-60min.json')
+  await levelsOf(files, packLevels)
+  await levelsOf([long], longLevels)
+  const self = fileURLToPath(import.meta.url)
   const work = mkdtempSync(join(tmpdir(), 'strayfield-bench-pack-'))
+  const mb = (b: number) => b / 1e6
   try {
-    warm(files)
-    const self = fileURLToPath(import.meta.url)
-    const run = timed(process.execPath, ['--import', 'tsx', self, '--child', work])
-    const report = JSON.parse(run.stdout.trim().split('\n').pop()!) as ChildReport
+    const build = (label: string, levelsFile: string, sources: string[], workers: string | undefined) => {
+      const dir = mkdtempSync(join(work, 'build-'))
+      warm(sources)
+      const env = { ...process.env }
+      if (workers === undefined) delete env.BENCH_PACK_WORKERS
+      else env.BENCH_PACK_WORKERS = workers
+      const run = timed(process.execPath, ['--import', 'tsx', self, '--child', dir, levelsFile], root, env)
+      const report = JSON.parse(run.stdout.trim().split('\n').pop()!) as ChildReport
+      process.stdout.write(`${label}: ${report.buildSeconds.toFixed(1)} s, ${run.maxRssMb.toFixed(0)} MB, ${report.workers} render thread(s)\n`)
+      return { label, dir, report, maxRssMb: run.maxRssMb }
+    }
+    // The job's own choice first (worker threads for a build this size), then two workers, then none.
+    const runs = [
+      build(`${TAKES} × ${MINUTES} min`, packLevels, files, undefined),
+      build(`${TAKES} × ${MINUTES} min`, packLevels, files, '2'),
+      build(`${TAKES} × ${MINUTES} min`, packLevels, files, '0'),
+    ]
 
     // The same rendered files, unpacked (untimed), then zip -0 (timed).
     const unpacked = join(work, 'unpacked')
-    execFileSync('unzip', ['-q', report.zipPath, '-d', unpacked])
+    execFileSync('unzip', ['-q', runs[0].report.zipPath, '-d', unpacked])
     const wavs = readdirSync(unpacked).filter((f) => f.endsWith('.wav')).sort()
+    const renderedBytes = wavs.reduce((n, f) => n + statSync(join(unpacked, f)).size, 0)
+    for (const r of runs) rmSync(r.dir, { recursive: true, force: true })
     warm(wavs.map((f) => join(unpacked, f)))
     const zip0 = timed('zip', ['-0', '-q', join(work, 'zip0.zip'), ...wavs], unpacked)
-    const renderedBytes = wavs.reduce((n, f) => n + statSync(join(unpacked, f)).size, 0)
+    rmSync(unpacked, { recursive: true, force: true })
+    rmSync(join(work, 'zip0.zip'), { force: true })
+    process.stdout.write(`zip -0: ${zip0.seconds.toFixed(1)} s\n`)
 
-    const mb = (b: number) => b / 1e6
-    const ratio = report.buildSeconds / zip0.seconds
+    const longRun = build('1 × 60 min', longLevels, [long], undefined)
+    rmSync(longRun.dir, { recursive: true, force: true })
+
+    const row = (r: { label: string; report: ChildReport; maxRssMb: number }, zipSeconds: number | null) =>
+      `| ${r.label} | ${(mb(r.report.sourceBytes) / 1000).toFixed(2)} GB | ${r.report.workers === 0 ? 'build thread' : `${r.report.workers} worker${r.report.workers > 1 ? 's' : ''}`} | ` +
+      `${r.report.buildSeconds.toFixed(1)} | ${(mb(r.report.sourceBytes) / r.report.buildSeconds).toFixed(0)} MB/s | ${r.maxRssMb.toFixed(0)} MB | ` +
+      `${zipSeconds === null ? '—' : zipSeconds.toFixed(1)} | ${zipSeconds === null ? '—' : `**${(r.report.buildSeconds / zipSeconds).toFixed(2)}**`} |`
     const cpu = execFileSync('sh', ['-c', "grep -m1 'model name' /proc/cpuinfo | cut -d: -f2"], { encoding: 'utf8' }).trim()
     const load = readFileSync('/proc/loadavg', 'utf8').split(' ').slice(0, 3).join(' ')
-    const row = [
-      `${report.items} × ${MINUTES} min`,
-      `${(mb(report.sourceBytes) / 1000).toFixed(2)} GB`,
-      report.workers,
-      report.buildSeconds.toFixed(1),
-      `${(mb(report.sourceBytes) / report.buildSeconds).toFixed(0)} MB/s`,
-      `${run.maxRssMb.toFixed(0)} MB`,
-      zip0.seconds.toFixed(1),
-      `**${ratio.toFixed(2)}**`,
-    ]
     const md = [
       '# Pack build benchmark',
       '',
-      `Generated by \`npm run bench:pack\` on ${new Date().toISOString().slice(0, 10)}; Node ${process.version}, ${cpu}, load average at the end ${load}.`,
-      `Sources: sox pink noise with a tone and 50 Hz hum, 48 kHz 24-bit stereo, ${TAKES} takes of ${MINUTES} minutes. The build renders each to`,
-      '−18 LUFS under a −1 dBTP ceiling at 24 bits (TPDF dither, 5 ms fades), measures loudness, range and true peak on the samples it writes,',
-      'patches bext, and stores all with manifest.json, manifest.csv and LICENSE.txt in one zip (archiver, store).',
-      'Build seconds: the build alone, inside its process; throughput: source megabytes per build second; peak memory: the build process',
+      `Generated by \`npm run bench:pack\` on ${new Date().toISOString().slice(0, 10)}; Node ${process.version}, ${availableParallelism()} × ${cpu}, load average at the end ${load}.`,
+      `Sources: sox pink noise with a tone and 50 Hz hum, 48 kHz 24-bit stereo: ${TAKES} takes of ${MINUTES} minutes, and one take of 60 minutes. The build renders`,
+      'each to −18 LUFS under a −1 dBTP ceiling at 24 bits (TPDF dither, 5 ms fades), measures loudness, range and true peak on the samples it',
+      'writes, patches bext, and stores all with manifest.json, manifest.csv and LICENSE.txt in one zip (archiver, store), fsynced.',
+      'Build seconds: the build alone, inside its process; throughput: source megabytes per build second; peak memory: the whole build process',
       `(worker threads included) by \`/usr/bin/time -v\`; \`zip -0\`: Info-ZIP storing the same rendered files (${(mb(renderedBytes) / 1000).toFixed(2)} GB), warm in the page cache.`,
+      'Render threads: the job\'s choice (one worker thread for a large build on this machine), then two workers, then the build\'s own thread.',
       'Targets: build ÷ zip -0 < 2, peak memory < 200 MB.',
       '',
-      '| pack | source audio | render workers | build seconds | throughput | peak memory | zip -0 seconds | build ÷ zip -0 |',
-      '| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
-      `| ${row.join(' | ')} |`,
+      '| pack | source audio | render threads | build seconds | throughput | peak memory | zip -0 seconds | build ÷ zip -0 |',
+      '| --- | ---: | --- | ---: | ---: | ---: | ---: | ---: |',
+      ...runs.map((r) => row(r, zip0.seconds)),
+      row(longRun, null),
       '',
     ].join('\n')
-    process.stdout.write(`${md}\n`)
+    process.stdout.write(`\n${md}\n`)
     mkdirSync(dirname(resultsFile), { recursive: true })
     writeFileSync(resultsFile, md)
     process.stdout.write(`wrote ${relative(root, resultsFile)}\n`)

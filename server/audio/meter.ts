@@ -65,7 +65,7 @@ export class Meter {
       onShortTerm: f.onShortTerm,
     })
     this.noiseFloor = new NoiseFloorMeter(f.sampleRate, f.channels)
-    this.spectrum = new SpectrumMeter(f.sampleRate, f.frames ?? f.sampleRate * 600)
+    this.spectrum = new SpectrumMeter(f.sampleRate, f.channels, f.frames ?? f.sampleRate * 600)
   }
 
   push(planar: Float32Array[]): void {

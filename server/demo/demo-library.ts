@@ -8,6 +8,7 @@ import { createHash } from 'node:crypto'
 import type { SourceKind } from '@shared/schemas/sources'
 import type { User } from '@shared/schemas/auth'
 import type { Role } from '@shared/permissions'
+import { CreateCommentBody, CreateRegionBody, UpdateTakeBody } from '@shared/schemas/library'
 import { editTake } from '../takes/takes.service'
 import { createRegion } from '../regions/regions.service'
 import { createComment, editComment } from '../comments/comments.service'
@@ -170,16 +171,16 @@ async function seedDemoDiscussion(ctx: AppContext, takeIds: Record<string, numbe
   if (!designer || !recordist || !producer || !collaborator || !admin) return
 
   for (const [file, tags] of Object.entries(DEMO_TAGS)) {
-    if (takeIds[file]) await editTake(ctx.db, file === 'T006_room_tone.wav' ? recordist : designer, takeIds[file], { tags })
+    if (takeIds[file]) await editTake(ctx.db, file === 'T006_room_tone.wav' ? recordist : designer, takeIds[file], UpdateTakeBody.parse({ tags }))
   }
   const regionIds: Record<string, number> = {}
   for (const r of DEMO_REGIONS) {
-    if (takeIds[r.file]) regionIds[r.name] = (await createRegion(ctx.db, designer, takeIds[r.file], { name: r.name, startSeconds: r.start, endSeconds: r.end })).id
+    if (takeIds[r.file]) regionIds[r.name] = (await createRegion(ctx.db, designer, takeIds[r.file], CreateRegionBody.parse({ name: r.name, startSeconds: r.start, endSeconds: r.end }))).id
   }
 
   const quiet = { notify: false }
   const say = (who: User, file: string, body: string, extra: { atSeconds?: number; regionId?: number; parentId?: number } = {}) =>
-    createComment(ctx, who, takeIds[file], { body, ...extra }, quiet)
+    createComment(ctx, who, takeIds[file], CreateCommentBody.parse({ body, ...extra }), quiet)
 
   if (takeIds['T001_transformer_hum.wav']) {
     const q = await say(designer, 'T001_transformer_hum.wav', 'Lovely steady bed. @rory was the coil flat on the housing the whole time?', { atSeconds: 4 })

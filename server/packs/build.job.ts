@@ -28,6 +28,8 @@ import * as repo from './packs.repository'
 export interface RenderExecutor {
   /** Renders that may run at once. */
   readonly parallel: number
+  /** Worker threads it renders in (0: this thread). */
+  readonly workers: number
   /** Renders and hashes the file written. */
   render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
   close(): Promise<void>
@@ -35,6 +37,7 @@ export interface RenderExecutor {
 
 export const inProcessExecutor = (): RenderExecutor => ({
   parallel: 1,
+  workers: 0,
   render: async (req, outPath, signal) => {
     const r = await renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath)
     return { ...r, sha256: (await hashFile(r.path)).sha256 }
@@ -45,7 +48,7 @@ export const inProcessExecutor = (): RenderExecutor => ({
 /** Renders in worker threads (render-pool.ts): a pool per build, closed when the build ends. */
 export const workerExecutor = (workers?: number): RenderExecutor => {
   const pool = createRenderPool(workers)
-  return { parallel: pool.size, render: (req, out, signal) => pool.render(req, out, signal), close: () => pool.close() }
+  return { parallel: pool.size, workers: pool.size, render: (req, out, signal) => pool.render(req, out, signal), close: () => pool.close() }
 }
 
 export interface BuildPaths {
@@ -90,7 +93,12 @@ export function buildPackJob(ctx: AppContext, makeExecutor: (snap: BuildSnapshot
     run: (job, progress) => runBuild(ctx, job.ref_id, progress, makeExecutor),
     async failed(job, message) {
       const b = await repo.findBuild(ctx.db, job.ref_id)
-      if (b && b.status !== 'failed' && b.status !== 'done') await repo.updateBuild(ctx.db, b.id, { status: 'failed', error: message, finished_at: nowIso() })
+      if (!b) return
+      if (b.status !== 'failed' && b.status !== 'done') await repo.updateBuild(ctx.db, b.id, { status: 'failed', error: message, finished_at: nowIso() })
+      // Given up after interrupted attempts: sweep what the last one left.
+      const paths = buildPaths(ctx, b)
+      await fs.rm(paths.tmpZip, { force: true })
+      await fs.rm(paths.workDir, { recursive: true, force: true })
     },
   }
 }

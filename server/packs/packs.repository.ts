@@ -202,18 +202,18 @@ export const insertBuildItems = async (db: Db, rows: NewPackBuildItem[]) => {
 
 export const deleteBuildItems = (db: Db, buildId: number) => db.deleteFrom('pack_build_items').where('build_id', '=', buildId).execute()
 
-/** For each item id: its rendered numbers from the newest finished build that holds it. */
-export async function latestRendered(db: Db, itemIds: number[]) {
+/** For each item id: its rendered numbers from the newest finished (or published) build that holds it. */
+export async function latestRendered(db: Db, itemIds: number[], onlyPublished = false) {
   if (!itemIds.length) return []
-  return db
+  let q = db
     .selectFrom('pack_build_items')
     .innerJoin('pack_builds', 'pack_builds.id', 'pack_build_items.build_id')
     .selectAll('pack_build_items')
     .select(['pack_builds.version'])
     .where('pack_build_items.item_id', 'in', itemIds)
     .where('pack_builds.status', '=', 'done')
-    .orderBy('pack_builds.version', 'desc')
-    .execute()
+  if (onlyPublished) q = q.where('pack_builds.published_at', 'is not', null)
+  return q.orderBy('pack_builds.version', 'desc').execute()
 }
 
 // ---- followers ----

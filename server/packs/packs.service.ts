@@ -165,9 +165,10 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
   })
 }
 
-export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRow[]): Promise<PackItem[]> {
+/** `publishedOnly`: rendered numbers from published builds only (what producers may see). */
+export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRow[], publishedOnly = false): Promise<PackItem[]> {
   const specs = await itemSpecs(db, pack, rows)
-  const rendered = await repo.latestRendered(db, rows.map((r) => r.id))
+  const rendered = await repo.latestRendered(db, rows.map((r) => r.id), publishedOnly)
   return specs.map(({ row, take, naming, spec }) => {
     const r = rendered.find((x) => x.item_id === row.id)
     const plan = spec.sourceLevels ? planGain(spec.sourceLevels, spec.settings) : null
@@ -226,7 +227,7 @@ export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRo
 
 export async function packDetail(ctx: AppContext, user: User, pack: repo.PackJoined): Promise<PackDetail> {
   const [api] = await packsToApi(ctx, user, [pack])
-  return { ...api, items: await itemsToApi(ctx.db, pack, await repo.itemsOf(ctx.db, pack.id)) }
+  return { ...api, items: await itemsToApi(ctx.db, pack, await repo.itemsOf(ctx.db, pack.id), !managesPacks(user)) }
 }
 
 // ---- packs ----

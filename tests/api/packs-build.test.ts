@@ -243,6 +243,12 @@ describe('publishing, following and producers', () => {
     expect(v2).toMatchObject({ status: 'done', version: 2 })
     // Builds are immutable versions: v1's zip is untouched.
     expect((await designer.get(downloadPath()).buffer(true).parse(binary)).body.equals(zipBytes)).toBe(true)
+    // Until v2 is published, a producer sees v1's rendered numbers and no trace of v2.
+    const seen = (await producer.get(`/api/packs/${packId}`).expect(200)).body.pack
+    expect(seen.items[0].rendered.version).toBe(1)
+    expect(seen.latestBuild.version).toBe(1)
+    expect((await producer.get(`/api/pack-builds/${v2.id}`)).status).toBe(404)
+    expect((await designer.get(`/api/packs/${packId}`)).body.pack.items[0].rendered.version).toBe(2)
     await designer.post(`/api/pack-builds/${v2.id}/publish`).expect(200)
     const mail = await smtp.waitFor('producer@example.test')
     expect(mail.subject).toContain('Bench Hums & Hiss')
