@@ -10,6 +10,7 @@
 // job runner at the next start and re-runs from scratch (leftovers of the
 // interrupted attempt are swept first).
 import fs from 'node:fs/promises'
+import { availableParallelism } from 'node:os'
 import path from 'node:path'
 import type { ManifestItem } from '@shared/schemas/packs'
 import type { AppContext } from '../core/context'
@@ -81,10 +82,15 @@ export function licenceFile(snap: BuildSnapshot, version: number): string {
 /** Below this much audio (samples over all channels, about a minute of 48 kHz stereo) starting worker threads costs more than it saves. */
 export const WORKER_THRESHOLD_SAMPLES = 6_000_000
 
-/** Worker threads for large builds, this thread for small ones. */
-export function executorFor(snap: BuildSnapshot): RenderExecutor {
+/**
+ * Where a build renders. On four cores or more a large build renders in two worker threads
+ * while this thread writes the zip. On fewer cores it renders in this thread: measured on two
+ * cores (bench/results/pack.md) two workers were only about 15 % faster for about 150 MB more
+ * memory, one worker was slower than none, and either left no core for the API and analyses.
+ */
+export function executorFor(snap: BuildSnapshot, cores = availableParallelism()): RenderExecutor {
   const samples = snap.items.reduce((n, s) => n + expectedFrames(s) * (s.channels ?? 2), 0)
-  return samples >= WORKER_THRESHOLD_SAMPLES ? workerExecutor() : inProcessExecutor()
+  return cores >= 4 && samples >= WORKER_THRESHOLD_SAMPLES ? workerExecutor(2) : inProcessExecutor()
 }
 
 export function buildPackJob(ctx: AppContext, makeExecutor: (snap: BuildSnapshot) => RenderExecutor = executorFor): JobHandler {

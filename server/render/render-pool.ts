@@ -34,12 +34,8 @@ export interface RenderPool {
   close(): Promise<void>
 }
 
-/**
- * One render worker by default: the build's own thread writes the zip meanwhile, so a build
- * uses two cores; a second worker is a little faster but costs about 90 MB more and leaves
- * nothing for the API and the analysis pool on a two-core machine (bench/results/pack.md).
- */
-export const defaultRenderWorkers = () => (availableParallelism() >= 4 ? 2 : 1)
+/** One per core, at most two (the zip, written by the build's own thread, needs a share of the CPU too). */
+export const defaultRenderWorkers = () => Math.max(1, Math.min(2, availableParallelism()))
 
 function tsxApiUrl(): string {
   const pkgPath = createRequire(import.meta.url).resolve('tsx/package.json')
