@@ -87,14 +87,22 @@ function refinedHz(s: PowerSpectrum, k: number): number {
  * harmonic number to follow a mains frequency that is off by up to 0.5 %.
  */
 function mainsHum(s: PowerSpectrum): MainsHum {
-  const candidates = ([50, 60] as const).map((f0) => ({ hz: f0, ratioDb: humRatioDb(s, f0) }))
-  const measured = candidates.filter((c): c is { hz: 50 | 60; ratioDb: number } => c.ratioDb !== null)
+  let total = 0
+  for (let k = 1; k < s.power.length; k++) total += s.power[k]
+  const candidates = ([50, 60] as const).map((f0) => ({ hz: f0, ...humBands(s, f0) }))
+  const measured = candidates.filter((c): c is { hz: 50 | 60; ratioDb: number; inBand: number } => c.ratioDb !== null)
   if (measured.length === 0) return { hz: null, ratioDb: null }
   const best = measured.reduce((a, b) => (b.ratioDb > a.ratioDb ? b : a))
-  return { hz: best.ratioDb >= HUM_THRESHOLD_DB ? best.hz : null, ratioDb: best.ratioDb }
+  // A hum must also carry a share of the take's energy: in a clean high whine the
+  // hum bands hold only quantisation noise, whose ratio to its neighbours is chance.
+  const audible = total > 0 && best.inBand / total >= HUM_MIN_SHARE
+  return { hz: best.ratioDb >= HUM_THRESHOLD_DB && audible ? best.hz : null, ratioDb: best.ratioDb }
 }
 
-function humRatioDb(s: PowerSpectrum, f0: number): number | null {
+/** Hum bands must hold at least this share of the total power (−70 dB; common practice, chosen here). */
+const HUM_MIN_SHARE = 1e-7
+
+function humBands(s: PowerSpectrum, f0: number): { ratioDb: number | null; inBand: number } {
   const hz = binHz(s)
   const nyquist = s.sampleRate / 2
   let inBand = 0
@@ -121,6 +129,6 @@ function humRatioDb(s: PowerSpectrum, f0: number): number | null {
     inBand += band
     if (sideBins > 0) expected += (side / sideBins) * (hi - lo + 1)
   }
-  if (!(inBand > 0) || !(expected > 0)) return null
-  return 10 * Math.log10(inBand / expected)
+  if (!(inBand > 0) || !(expected > 0)) return { ratioDb: null, inBand }
+  return { ratioDb: 10 * Math.log10(inBand / expected), inBand }
 }

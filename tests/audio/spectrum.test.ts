@@ -74,6 +74,16 @@ describe('mains hum', () => {
     expect(mainsHum.ratioDb!).toBeGreaterThan(6)
   })
 
+  it('is null for a clean high whine whose quantisation spurs fall on mains harmonics', async () => {
+    // 7.8 kHz at 44.1 kHz repeats every 147 samples, so undithered 24-bit rounding
+    // (sox -D) leaves spurs at multiples of 300 Hz: the 6th harmonic of 50 and the
+    // 5th of 60. They stand far above their neighbours yet carry no audible energy.
+    const file = join(dir, 'whine.wav')
+    sox(['-D', '-n', '-r', '44100', '-b', '24', '-c', '1', file, 'synth', '10', 'sine', '7800', 'vol', '-24dB'])
+    const { mainsHum } = (await analyzeFile(file)).analysis.spectrum
+    expect(mainsHum.hz).toBeNull()
+  })
+
   it('is null for plain noise, with a ratio near 0 dB', async () => {
     const { mainsHum } = (await analyzeFile(take('nohum', 48000, [], -30, 10))).analysis.spectrum
     expect(mainsHum.hz).toBeNull()
