@@ -18,7 +18,6 @@ import { nowIso } from '../core/time'
 import type { JobHandler } from '../jobs/job-runner'
 import type { NewPackBuildItem } from '../../db/schema-packs'
 import { renderItem, RenderStopped, type RenderRequest } from '../render/render'
-import { hashFile } from '../render/hash-file'
 import { createRenderPool, type RenderedFile } from '../render/render-pool'
 import { round2 } from '../render/settings'
 import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot, type ItemSpec } from './item-spec'
@@ -31,7 +30,7 @@ export interface RenderExecutor {
   readonly parallel: number
   /** Worker threads it renders in (0: this thread). */
   readonly workers: number
-  /** Renders and hashes the file written. */
+  /** Renders (a worker-thread executor also hashes the file beside the render). */
   render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
   close(): Promise<void>
 }
@@ -39,10 +38,8 @@ export interface RenderExecutor {
 export const inProcessExecutor = (): RenderExecutor => ({
   parallel: 1,
   workers: 0,
-  render: async (req, outPath, signal) => {
-    const r = await renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath)
-    return { ...r, sha256: (await hashFile(r.path)).sha256 }
-  },
+  // The zip hashes each file as it reads it: no extra pass in this thread.
+  render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath),
   close: async () => undefined,
 })
 
@@ -84,9 +81,10 @@ export const WORKER_THRESHOLD_SAMPLES = 6_000_000
 
 /**
  * Where a build renders. On four cores or more a large build renders in two worker threads
- * while this thread writes the zip. On fewer cores it renders in this thread: measured on two
- * cores (bench/results/pack.md) two workers were only about 15 % faster for about 150 MB more
- * memory, one worker was slower than none, and either left no core for the API and analyses.
+ * while this thread writes the zip. On fewer cores it renders in this thread, leaving a core
+ * to the API and the analysis pool: measured on two cores (bench/results/pack.md), two
+ * workers built about 35 % faster but took about 150 MB more memory, and one worker was no
+ * faster than none.
  */
 export function executorFor(snap: BuildSnapshot, cores = availableParallelism()): RenderExecutor {
   const samples = snap.items.reduce((n, s) => n + expectedFrames(s) * (s.channels ?? 2), 0)
@@ -181,7 +179,8 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
       const r = await inflight[k]
       if (signal.stopped) throw new BuildStopped()
       startNext()
-      const entry = { sha256: r.sha256, bytes: await zip.addFile(spec.fileName, r.path) }
+      const added = await zip.addFile(spec.fileName, r.path, r.sha256 === undefined)
+      const entry = { bytes: added.bytes, sha256: r.sha256 ?? added.sha256! }
       await fs.rm(r.path, { force: true })
       const item: ManifestItem = {
         file: spec.fileName,

@@ -4,8 +4,8 @@
 // passes 4 GiB (compress-commons' isZip64), so forceZip64 is not needed.
 // The zip goes to a temp name beside its final place and is renamed there only
 // after it is complete and fsynced; the SHA-256 of each entry and of the whole
-// zip is computed on the bytes as they stream out (each entry's is computed
-// beside its render, see build.job.ts).
+// zip is computed on the bytes as they stream out, each entry's likewise or
+// beside its render in a worker thread (see build.job.ts).
 import { createHash } from 'node:crypto'
 import { createReadStream, createWriteStream } from 'node:fs'
 import { open, rename, rm, stat } from 'node:fs/promises'
@@ -73,14 +73,23 @@ export class PackZip {
     })
   }
 
-  /** Adds a file and resolves with its size once archiver has read all of it (so the caller may delete it). */
-  async addFile(name: string, path: string): Promise<number> {
+  /**
+   * Adds a file and resolves once archiver has read all of it (so the caller may delete it),
+   * with its size and, when asked, the SHA-256 of the bytes that went in.
+   */
+  async addFile(name: string, path: string, hash: boolean): Promise<{ bytes: number; sha256: string | null }> {
     if (this.failure) throw this.failure
     const { size } = await stat(path)
     const entry = this.entryDone(name)
-    this.archive.append(createReadStream(path, { highWaterMark: 1 << 20 }), { name, store: true, date: this.date })
+    const source = createReadStream(path, { highWaterMark: 1 << 20 })
+    let hashing: Hashing | null = null
+    if (hash) {
+      hashing = new Hashing()
+      source.once('error', (err) => hashing!.destroy(err))
+    }
+    this.archive.append(hashing ? source.pipe(hashing) : source, { name, store: true, date: this.date })
     await entry
-    return size
+    return { bytes: size, sha256: hashing ? hashing.hash.digest('hex') : null }
   }
 
   async addBuffer(name: string, data: Buffer): Promise<void> {

@@ -11,8 +11,8 @@ import { Worker } from 'node:worker_threads'
 import { WavFormatError } from '../audio/wav-errors'
 import { RenderStopped, type RenderRequest, type RenderResult } from './render'
 
-/** A render and the SHA-256 of the file it wrote. */
-export type RenderedFile = RenderResult & { sha256: string }
+/** A render and, when the executor hashed it, the SHA-256 of the file it wrote. */
+export type RenderedFile = RenderResult & { sha256?: string }
 
 type PlainRequest = Omit<RenderRequest, 'onFrames' | 'shouldStop' | 'sourceInfo'>
 
