@@ -4,7 +4,7 @@ import pluginVue from 'eslint-plugin-vue'
 import globals from 'globals'
 
 export default tseslint.config(
-  { ignores: ['dist/**', 'node_modules/**', 'storage/**', 'db/*.sqlite*', 'tests/.artifacts/**', 'bench/.data/**'] },
+  { ignores: ['dist/**', 'node_modules/**', 'storage/**', 'db/*.sqlite*', 'tests/.artifacts/**', 'bench/.data/**', 'tmp-smoke/**'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   ...pluginVue.configs['flat/recommended'],
