@@ -13,7 +13,7 @@ export default defineConfig({
   build: { outDir: 'dist', chunkSizeWarningLimit: 1500 },
   server: {
     port: 5173,
-    proxy: { '/api': 'http://localhost:5170' },
+    proxy: { '/api': `http://localhost:${process.env.PORT ?? 5170}` },
   },
   test: {
     include: ['tests/**/*.test.ts', 'src/**/*.test.ts', 'server/**/*.test.ts'],
