@@ -29,6 +29,12 @@ export class Tpdf {
   }
 }
 
+/** One PCM sample on the valid-bits grid: rounded (with dither when given), clipped; NaN maps to 0. */
+function quantize(x: number, scale: number, lo: number, hi: number, dither: Tpdf | null): number {
+  const v = Math.round(x * scale + (dither ? dither.next() : 0))
+  return v > hi ? hi : v < lo ? lo : v === v ? v : 0 // the last test maps NaN to 0
+}
+
 /**
  * Encode frames [from, from+frames) of `planar` into `buf` (byteOffset a multiple of 8).
  * `dither` (PCM only) adds ±1 LSB triangular noise before rounding.
@@ -39,14 +45,14 @@ export function encodeInterleaved(planar: ArrayLike<number>[], from: number, fra
   const ab = buf.buffer
   const off = buf.byteOffset
   if (f.encoding === 'float') {
-    const dst = f.bitsPerSample === 32 ? new Float32Array(n) : new Float64Array(n)
+    // Little-endian hosts interleave straight into buf (aligned: byteOffset a multiple of 8).
+    const dst = f.bitsPerSample === 32 ? (LE ? new Float32Array(ab, off, n) : new Float32Array(n)) : LE ? new Float64Array(ab, off, n) : new Float64Array(n)
     for (let c = 0; c < ch; c++) {
       const src = planar[c]
       for (let i = 0, j = c; i < frames; i++, j += ch) dst[j] = src[from + i]
     }
-    const bytes = new Uint8Array(dst.buffer, 0, dst.byteLength)
-    if (LE) buf.set(bytes)
-    else if (f.bitsPerSample === 32) for (let i = 0; i < n; i++) buf.writeFloatLE(dst[i], i * 4)
+    if (LE) return
+    if (f.bitsPerSample === 32) for (let i = 0; i < n; i++) buf.writeFloatLE(dst[i], i * 4)
     else for (let i = 0; i < n; i++) buf.writeDoubleLE(dst[i], i * 8)
     return
   }
@@ -54,36 +60,47 @@ export function encodeInterleaved(planar: ArrayLike<number>[], from: number, fra
   const lo = -scale
   const hi = scale - 1
   const shift = 2 ** (f.bitsPerSample - f.validBitsPerSample)
-  const q = new Int32Array(n)
-  for (let c = 0; c < ch; c++) {
-    const src = planar[c]
-    for (let i = 0, j = c; i < frames; i++, j += ch) {
-      const x = src[from + i]
-      let v = Math.round(x * scale + (dither ? dither.next() : 0))
-      v = v > hi ? hi : v < lo ? lo : v === v ? v : 0 // the last test maps NaN to 0
-      q[j] = v * shift
-    }
-  }
+  // Each sample is rounded, clipped and stored straight into its interleaved place (channel by
+  // channel, so the dither sequence is the same as ever): no intermediate array, one pass.
   switch (f.bitsPerSample) {
     case 8:
-      for (let i = 0; i < n; i++) buf[i] = q[i] + 128
-      return
-    case 16:
-      if (LE) new Int16Array(ab, off, n).set(q)
-      else for (let i = 0; i < n; i++) buf.writeInt16LE(q[i], i * 2)
-      return
-    case 24:
-      for (let i = 0, p = 0; i < n; i++, p += 3) {
-        const v = q[i]
-        buf[p] = v & 0xff
-        buf[p + 1] = (v >> 8) & 0xff
-        buf[p + 2] = (v >> 16) & 0xff
+      for (let c = 0; c < ch; c++) {
+        const src = planar[c]
+        for (let i = 0, j = c; i < frames; i++, j += ch) buf[j] = quantize(src[from + i], scale, lo, hi, dither) * shift + 128
       }
       return
-    case 32:
-      if (LE) new Int32Array(ab, off, n).set(q)
-      else for (let i = 0; i < n; i++) buf.writeInt32LE(q[i], i * 4)
+    case 16: {
+      const dst = LE ? new Int16Array(ab, off, n) : new Int16Array(n)
+      for (let c = 0; c < ch; c++) {
+        const src = planar[c]
+        for (let i = 0, j = c; i < frames; i++, j += ch) dst[j] = quantize(src[from + i], scale, lo, hi, dither) * shift
+      }
+      if (!LE) for (let i = 0; i < n; i++) buf.writeInt16LE(dst[i], i * 2)
       return
+    }
+    case 24: {
+      const dst = new Uint8Array(ab, off, n * 3)
+      const step = ch * 3
+      for (let c = 0; c < ch; c++) {
+        const src = planar[c]
+        for (let i = 0, p = c * 3; i < frames; i++, p += step) {
+          const v = quantize(src[from + i], scale, lo, hi, dither) * shift
+          dst[p] = v & 0xff
+          dst[p + 1] = (v >> 8) & 0xff
+          dst[p + 2] = (v >> 16) & 0xff
+        }
+      }
+      return
+    }
+    case 32: {
+      const dst = LE ? new Int32Array(ab, off, n) : new Int32Array(n)
+      for (let c = 0; c < ch; c++) {
+        const src = planar[c]
+        for (let i = 0, j = c; i < frames; i++, j += ch) dst[j] = quantize(src[from + i], scale, lo, hi, dither) * shift
+      }
+      if (!LE) for (let i = 0; i < n; i++) buf.writeInt32LE(dst[i], i * 4)
+      return
+    }
     default:
       throw new RangeError(`no encoder for ${f.bitsPerSample}-bit PCM`)
   }

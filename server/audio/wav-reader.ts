@@ -191,6 +191,12 @@ export interface ReadFramesOptions {
   endFrame?: number
   /** Frames per yielded block; default 65536. */
   blockFrames?: number
+  /**
+   * Yield blocks from a ring of this many sets of arrays (at least 2) instead of fresh arrays: the
+   * caller must be done with a block (and every reference to it) before the one `recycle` blocks
+   * later is yielded. Saves an allocation per block in hot loops; default: fresh arrays.
+   */
+  recycle?: number
 }
 
 function clampInt(v: number | undefined, lo: number, hi: number, dflt: number): number {
@@ -211,23 +217,48 @@ export async function* readFrames(path: string, info: WavInfo, opts: ReadFramesO
   const block = clampInt(opts.blockFrames, 1, 1 << 24, 65536)
   if (start >= end) return
   const fh = await open(path, 'r')
+  // Two read buffers: the next block is read while the caller works on the one yielded.
+  let ahead: Promise<Buffer> | null = null
   try {
     // allocUnsafeSlow: not from the shared pool, so byteOffset is 0 and typed views are aligned.
-    const buf = Buffer.allocUnsafeSlow(Math.min(block, end - start) * blockAlign)
+    const bytes = Math.min(block, end - start) * blockAlign
+    let buf = Buffer.allocUnsafeSlow(bytes)
+    let spare = end - start > block ? Buffer.allocUnsafeSlow(bytes) : null
+    const ring: (Float32Array[] | undefined)[] | null = opts.recycle ? new Array(Math.max(2, Math.floor(opts.recycle))) : null
+    let turn = 0
     let frame = start
+    ahead = readAt(fh, dataOffset + frame * blockAlign, Math.min(block, end - frame) * blockAlign, buf)
     while (frame < end) {
       const want = Math.min(block, end - frame)
-      const got = await readAt(fh, dataOffset + frame * blockAlign, want * blockAlign, buf)
+      const got = await ahead
+      ahead = null
       const frames = Math.floor(got.length / blockAlign)
       if (frames === 0) break // the file shrank since it was probed
-      const out: Float32Array[] = []
-      for (let c = 0; c < format.channels; c++) out.push(new Float32Array(frames))
+      let out: Float32Array[]
+      if (ring && frames === block) {
+        const k = turn++ % ring.length
+        out = ring[k] ??= Array.from({ length: format.channels }, () => new Float32Array(block))
+      } else {
+        out = []
+        for (let c = 0; c < format.channels; c++) out.push(new Float32Array(frames))
+      }
       decodeInterleaved(buf, frames, format, out)
-      yield out
       frame += frames
-      if (frames < want) break
+      if (frames < want) {
+        yield out
+        break
+      }
+      if (frame < end && spare) {
+        const next = spare
+        spare = buf
+        buf = next
+        ahead = readAt(fh, dataOffset + frame * blockAlign, Math.min(block, end - frame) * blockAlign, buf)
+        ahead.catch(() => undefined) // awaited at the next turn, or settled in finally
+      }
+      yield out
     }
   } finally {
+    if (ahead) await ahead.catch(() => undefined)
     await fh.close()
   }
 }

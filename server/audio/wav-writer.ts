@@ -1,6 +1,7 @@
 // Streaming WAVE writer. Samples go to a temp file beside the target, which is renamed
 // over the target only after sizes are patched and the file is fsynced, so the final
-// name never holds a half-written take.
+// name never holds a half-written take. A scratch file (e.g. a render that is
+// copied into a zip and deleted) may skip the fsync: WavWriterOpenOptions.durable.
 import { open, rename, unlink, type FileHandle } from 'node:fs/promises'
 import { randomBytes } from 'node:crypto'
 import { basename, dirname, join } from 'node:path'
@@ -10,7 +11,12 @@ import { bextSize, type BextInput } from './wav-bext'
 
 export type { WavWriteOptions, BextInput }
 
-const BLOCK_FRAMES = 16384
+const BLOCK_FRAMES = 65536
+
+export interface WavWriterOpenOptions {
+  /** fsync before the rename into place (default true). false: for scratch files that are read back and deleted. */
+  durable?: boolean
+}
 
 function checkPlanar(planar: ArrayLike<number>[], channels: number): number {
   if (planar.length !== channels) throw new RangeError(`expected ${channels} channel arrays, got ${planar.length}`)
@@ -44,6 +50,7 @@ export class WavWriter {
     private readonly tmp: string,
     private readonly opts: WavWriteOptions,
     private readonly plan: Plan,
+    private readonly durable: boolean,
   ) {
     this.pos = plan.header.length
     this.bext = opts.bext
@@ -52,7 +59,7 @@ export class WavWriter {
     this.buf = Buffer.allocUnsafeSlow(BLOCK_FRAMES * plan.blockAlign) // aligned for typed views
   }
 
-  static async open(path: string, opts: WavWriteOptions): Promise<WavWriter> {
+  static async open(path: string, opts: WavWriteOptions, open_: WavWriterOpenOptions = {}): Promise<WavWriter> {
     const plan = planLayout(opts)
     const tmp = join(dirname(path), `.${basename(path)}.${randomBytes(6).toString('hex')}.part`)
     const fh = await open(tmp, 'wx')
@@ -63,7 +70,7 @@ export class WavWriter {
       await unlink(tmp).catch(() => {})
       throw e
     }
-    return new WavWriter(fh, path, tmp, opts, plan)
+    return new WavWriter(fh, path, tmp, opts, plan, open_.durable ?? true)
   }
 
   /** Appends frames (one array per channel, equal lengths). PCM is clipped to its range, float is not. */
@@ -93,7 +100,7 @@ export class WavWriter {
     this.bext = b
   }
 
-  /** Patches sizes (and ds64), appends the after-data chunks, fsyncs and renames into place. `bytes` is the file size. */
+  /** Patches sizes (and ds64), appends the after-data chunks, fsyncs (unless opened with durable: false) and renames into place. `bytes` is the file size. */
   async close(): Promise<{ frames: number; bytes: number }> {
     if (this.done) throw new Error('WavWriter is closed')
     this.done = true
@@ -106,7 +113,7 @@ export class WavWriter {
       for (const p of finalPatches(this.plan, this.opts, this.frames, fileSize, this.bext)) {
         await this.writeAll(p.bytes, p.bytes.length, p.at)
       }
-      await this.fh.sync()
+      if (this.durable) await this.fh.sync()
       await this.fh.close()
       await rename(this.tmp, this.path)
       return { frames: this.frames, bytes: fileSize }

@@ -39,7 +39,8 @@ export const inProcessExecutor = (): RenderExecutor => ({
   parallel: 1,
   workers: 0,
   // The zip hashes each file as it reads it: no extra pass in this thread.
-  render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath),
+  // Temp renders are read into the zip and deleted: only the zip is fsynced.
+  render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath, { durable: false }),
   close: async () => undefined,
 })
 

@@ -28,6 +28,7 @@ port.on('message', (m: RenderTask | { type: 'stop'; id: number }) => {
       shouldStop: () => stopped.has(m.id),
     },
     m.outPath,
+    { durable: false }, // a temp render of a build: zipped and deleted, only the zip is fsynced
   )
     // Hashing here, beside the render, keeps that pass off the thread that writes the zip.
     .then(async (result) => ({ ...result, sha256: (await hashFile(result.path)).sha256 }))

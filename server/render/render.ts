@@ -113,7 +113,13 @@ function seedOf(r: RenderRequest): number {
   return r.ditherSeed ?? randomBytes(4).readUInt32LE(0)
 }
 
-export async function renderItem(req: RenderRequest, outPath: string): Promise<RenderResult> {
+export interface RenderItemOptions {
+  /** fsync the file before it takes its name (default true); false for a temp render that is zipped and deleted. */
+  durable?: boolean
+}
+
+export async function renderItem(req: RenderRequest, outPath: string, options: RenderItemOptions = {}): Promise<RenderResult> {
+  const durable = options.durable ?? true
   const info = req.sourceInfo ?? (await probeWav(req.sourcePath))
   const f = info.format
   const s = req.settings
@@ -138,14 +144,14 @@ export async function renderItem(req: RenderRequest, outPath: string): Promise<R
     req.onFrames?.(done)
   }
 
-  const first = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress)
+  const first = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress, durable)
   let pass = first
   let passes = 1
   const correction = correctionDb(plan, s, first.levels)
   if (correction !== null) {
     await first.writer.abort()
     plan = { ...plan, gainDb: plan.gainDb + correction.db, limited: plan.limited || correction.capped }
-    pass = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress)
+    pass = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress, durable)
     passes = 2
   }
   const history = pass.history
@@ -215,6 +221,7 @@ async function renderPass(
   loop: RenderResult['loop'],
   seed: number,
   progress: (n: number) => void,
+  durable: boolean,
 ): Promise<Pass> {
   const f = info.format
   const s = req.settings
@@ -243,21 +250,28 @@ async function renderPass(
     info: infoFor(req.metadata),
     loops: loop ? [{ start: loop.start, end: loop.end }] : undefined,
   }
-  const writer = await WavWriter.open(outPath, opts)
+  const writer = await WavWriter.open(outPath, opts, { durable })
   try {
     const meter = new LevelMeter(f.sampleRate, f.channels, f.channelMask)
     const env = { gain, total, fadeIn, fadeOut }
     const q = { scale: float ? 0 : 2 ** (s.bitDepth - 1), dither: dithered, plainFirst: loop !== null, plainLast: loop !== null }
     const rng = ditherState(seed)
     let pos = 0
-    for await (const block of readFrames(req.sourcePath, info, { startFrame: start, endFrame: end, blockFrames: RENDER_BLOCK_FRAMES })) {
+    // One block's write stays in flight while the next is read, processed and metered. Blocks come
+    // from a ring of three sets of arrays: when block k is decoded into a set, the write of block
+    // k − 3 that used it has long been awaited (the loop awaits write k − 2 before queueing k − 1).
+    let writing: Promise<void> | null = null
+    for await (const block of readFrames(req.sourcePath, info, { startFrame: start, endFrame: end, blockFrames: RENDER_BLOCK_FRAMES, recycle: 3 })) {
       if (req.shouldStop?.()) throw new RenderStopped()
       processBlock(block, pos, env, q, rng)
       meter.push(block)
-      await writer.write(block)
+      if (writing) await writing
+      writing = writer.write(block)
+      writing.catch(() => undefined) // awaited before the next write or after the loop
       pos += block[0].length
       progress(block[0].length)
     }
+    if (writing) await writing
     if (pos !== total) throw new Error(`the source ended after ${pos} of ${total} frames`)
     return { writer, levels: meter.finish(), dithered, history }
   } catch (err) {
