@@ -1,6 +1,9 @@
 // One Database interface, built from one interface per table. Rows use the
 // database's snake_case; services turn them into camelCase API objects.
 import type { Generated, Insertable, Selectable, Updateable } from 'kysely'
+// Feature tables added later live in their own files and join the Database interface below.
+import type { LibraryTables } from './schema-library'
+import type { PackTables } from './schema-packs'
 
 export interface UserTable {
   id: Generated<number>
@@ -161,10 +164,6 @@ export interface JobTable {
   finished_at: string | null
 }
 export type JobRow = Selectable<JobTable>
-
-// Feature tables added later live in their own files and join here.
-import type { LibraryTables } from './schema-library'
-import type { PackTables } from './schema-packs'
 
 export interface Database extends LibraryTables, PackTables {
   users: UserTable
