@@ -230,7 +230,7 @@ export async function* readFrames(path: string, info: WavInfo, opts: ReadFramesO
     ahead = readAt(fh, dataOffset + frame * blockAlign, Math.min(block, end - frame) * blockAlign, buf)
     while (frame < end) {
       const want = Math.min(block, end - frame)
-      const got = await ahead
+      const got = await (ahead as Promise<Buffer>)
       ahead = null
       const frames = Math.floor(got.length / blockAlign)
       if (frames === 0) break // the file shrank since it was probed
