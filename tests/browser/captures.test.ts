@@ -3,28 +3,15 @@
 // say why, and the measured numbers appear as the takes are analysed.
 import fs from 'node:fs'
 import path from 'node:path'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import type { Browser } from 'playwright-core'
-import { startTestServer } from '../helpers/server'
-import { launchBrowser, screenshot, signInThroughForm } from '../helpers/browser'
+import { describe, expect, it } from 'vitest'
+import { screenshot, signInThroughForm, useBrowserServer } from '../helpers/browser'
 import { soxWav } from '../helpers/uploads'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
-let browser: Browser
-
-beforeAll(async () => {
-  server = await startTestServer({ clientDir: path.resolve('dist') })
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await browser?.close()
-  await server?.stop()
-})
+const env = useBrowserServer()
 
 describe('capture session upload in the browser', () => {
   it('uploads a folder of takes in parallel and shows their measurements', async () => {
-    const dir = path.join(server.dir, 'card')
+    const dir = path.join(env.server.dir, 'card')
     const files = [
       soxWav(path.join(dir, 'REC0001.WAV'), { rate: 48000, bits: 24, channels: 2, seconds: 4, synth: ['sine', '50'] }),
       soxWav(path.join(dir, 'REC0002.WAV'), { rate: 44100, bits: 16, channels: 1, seconds: 3, synth: ['pinknoise'] }),
@@ -33,9 +20,9 @@ describe('capture session upload in the browser', () => {
     const notWav = path.join(dir, 'NOTES.WAV')
     fs.writeFileSync(notWav, 'not audio at all, just a text file someone renamed')
 
-    const page = await browser.newPage({ viewport: { width: 1400, height: 1000 } })
-    await signInThroughForm(page, server.url, 'recordist@example.test')
-    await page.goto(`${server.url}/captures`)
+    const page = await env.browser.newPage({ viewport: { width: 1400, height: 1000 } })
+    await signInThroughForm(page, env.server.url, 'recordist@example.test')
+    await page.goto(`${env.server.url}/captures`)
     await page.locator('[data-test=new-session]').click()
     await page.locator('input[name=title]').fill('Bench sweep, browser test')
     await page.locator('input[name=location]').fill('Test bench')

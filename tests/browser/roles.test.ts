@@ -1,30 +1,16 @@
 // Each demo role signs in through the real form in Debian's Chromium and sees
 // exactly the areas the shared permission table gives it.
-import path from 'node:path'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import type { Browser } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
 import { ROLES, can } from '@shared/permissions'
 import { AREAS } from '@/router/areas'
-import { startTestServer } from '../helpers/server'
-import { launchBrowser, screenshot, signInThroughForm } from '../helpers/browser'
+import { screenshot, signInThroughForm, useBrowserServer } from '../helpers/browser'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
-let browser: Browser
-
-beforeAll(async () => {
-  server = await startTestServer({ clientDir: path.resolve('dist') })
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await browser?.close()
-  await server?.stop()
-})
+const env = useBrowserServer()
 
 describe('sign-in page', () => {
   it('shows the demo accounts while demo mode is on', async () => {
-    const page = await browser.newPage()
-    await page.goto(`${server.url}/library`)
+    const page = await env.browser.newPage()
+    await page.goto(`${env.server.url}/library`)
     await page.waitForURL(/\/sign-in/)
     await expect.poll(() => page.locator('[data-test=demo-accounts]').innerText()).toContain('strayfield-demo')
     await screenshot(page, 'sign-in')
@@ -32,8 +18,8 @@ describe('sign-in page', () => {
   })
 
   it('says what was wrong with a bad password', async () => {
-    const page = await browser.newPage()
-    await page.goto(`${server.url}/sign-in`)
+    const page = await env.browser.newPage()
+    await page.goto(`${env.server.url}/sign-in`)
     await page.locator('input[name=email]').fill('admin@example.test')
     await page.locator('input[name=password]').fill('definitely-wrong')
     await page.locator('[data-test=sign-in]').click()
@@ -45,9 +31,9 @@ describe('sign-in page', () => {
 describe('each role sees its own areas', () => {
   for (const role of ROLES) {
     it(`${role}`, async () => {
-      const context = await browser.newContext({ viewport: { width: 1400, height: 900 } })
+      const context = await env.browser.newContext({ viewport: { width: 1400, height: 900 } })
       const page = await context.newPage()
-      await signInThroughForm(page, server.url, `${role}@example.test`)
+      await signInThroughForm(page, env.server.url, `${role}@example.test`)
       await page.locator('nav[aria-label=Areas] a').first().waitFor()
       const shown = await page.locator('nav[aria-label=Areas] a').evaluateAll((as) => as.map((a) => a.getAttribute('data-area')))
       const expected = AREAS.filter((a) => can(role, a.permission)).map((a) => a.name)
@@ -56,10 +42,10 @@ describe('each role sees its own areas', () => {
       // A view outside the role is refused by the router guard, not just hidden.
       const denied = AREAS.find((a) => !can(role, a.permission))
       if (denied) {
-        await page.goto(`${server.url}${denied.path}`)
+        await page.goto(`${env.server.url}${denied.path}`)
         await expect.poll(() => page.locator('h1').first().innerText()).toBe('Not for your role')
       }
-      await page.goto(`${server.url}${expected.length ? AREAS.find((a) => a.name === expected[expected.length - 1])!.path : '/'}`)
+      await page.goto(`${env.server.url}${expected.length ? AREAS.find((a) => a.name === expected[expected.length - 1])!.path : '/'}`)
       await page.locator('h1').first().waitFor()
       await screenshot(page, `role-${role}`)
       await context.close()

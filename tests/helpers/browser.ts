@@ -1,6 +1,11 @@
 import fs from 'node:fs'
 import path from 'node:path'
+import { afterAll, beforeAll } from 'vitest'
 import { chromium, type Browser, type Page } from 'playwright-core'
+import type { Config } from '../../server/core/config'
+import { startTestServer } from './server'
+
+type RunningTestServer = Awaited<ReturnType<typeof startTestServer>>
 
 export const SCREENSHOTS = path.resolve('tests/.artifacts/screenshots')
 
@@ -34,4 +39,21 @@ export async function signInThroughForm(page: Page, baseUrl: string, email: stri
   await page.locator('input[name=password]').fill(password)
   await page.locator('[data-test=sign-in]').click()
   await page.waitForURL((u) => !u.pathname.startsWith('/sign-in'))
+}
+
+/**
+ * A real server on the built client plus Debian's Chromium for one test file,
+ * started before its tests and stopped after them.
+ */
+export function useBrowserServer(overrides: Partial<Config> = {}) {
+  const env = {} as { server: RunningTestServer; browser: Browser }
+  beforeAll(async () => {
+    env.server = await startTestServer({ clientDir: path.resolve('dist'), ...overrides })
+    env.browser = await launchBrowser()
+  })
+  afterAll(async () => {
+    await env.browser?.close()
+    await env.server?.stop()
+  })
+  return env
 }
