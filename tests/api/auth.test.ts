@@ -1,8 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { Client, startTestServer } from '../helpers/server'
+import { Client, startTestServer, type TestServer } from '../helpers/server'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 
 beforeAll(async () => {
   server = await startTestServer()

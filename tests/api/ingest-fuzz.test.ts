@@ -8,11 +8,10 @@ import fc from 'fast-check'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { encodeWav } from '../../server/audio/wav-writer'
 import { sine } from '../helpers/signals'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { createSession, uploadTake, waitForTake } from '../helpers/uploads'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let rec: Client
 let sessionId: number
 

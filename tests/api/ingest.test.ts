@@ -5,11 +5,10 @@ import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Take } from '@shared/schemas/takes'
 import { Peaks } from '@shared/schemas/analysis'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { createSession, soxWav, uploadTake, waitForTake } from '../helpers/uploads'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let rec: Client
 let sessionId: number
 let dir: string

@@ -8,10 +8,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Response } from 'supertest'
 import { encodeWav } from '../../server/audio/wav-writer'
 import { mainsHum } from '../../server/audio/synth'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let listener: Client
 let takeId: number
 let onDisk: Buffer

@@ -3,13 +3,12 @@
 import net from 'node:net'
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest'
 import { CommentResponse, CommentsResponse, resolveMentions } from '@shared/schemas/library'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { startTestSmtp } from '../helpers/smtp'
 import { insertSession, insertTakeRow, userIds } from './library-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
 let smtp: Awaited<ReturnType<typeof startTestSmtp>>
-let server: Server
+let server: TestServer
 let users: Awaited<ReturnType<typeof userIds>>
 let take: number
 let otherTake: number
@@ -268,7 +267,7 @@ describe('@mentions', () => {
 })
 
 describe('a mail server that does not answer', () => {
-  let down: Server
+  let down: TestServer
   beforeAll(async () => {
     const port = await new Promise<number>((resolve) => {
       const probe = net.createServer().listen(0, '127.0.0.1', () => {

@@ -1,9 +1,8 @@
 // The demo scenario's library: tagged takes, regions and threads by the invented team.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let designer: Client
 
 beforeAll(async () => {

@@ -2,11 +2,10 @@
 // state suggestions, and the history every change leaves behind.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { BulkEditResponse, HistoryResponse, StatesResponse, TagsResponse, TakeResponse } from '@shared/schemas/library'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { seedLibrary, type SeededLibrary } from './library-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let lib: SeededLibrary
 let designer: Client
 let recordist: Client

@@ -6,11 +6,10 @@
 //   comments:write (everyone): comment, reply, resolve and reopen; change only one's own text
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { ROLES, type Role } from '@shared/permissions'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { insertSession, insertTakeRow, userIds } from './library-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 const as = {} as Record<Role, Client>
 let users: Awaited<ReturnType<typeof userIds>>
 /** One take uploaded under each role's name (producers and collaborators cannot upload; their rows are written directly). */

@@ -1,11 +1,10 @@
 // Regions of a take: named time ranges, checked against the take's duration.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { RegionResponse, RegionsResponse } from '@shared/schemas/library'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { insertSession, insertTakeRow, userIds } from './library-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let designer: Client
 let producer: Client
 let take: number

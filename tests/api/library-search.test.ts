@@ -3,11 +3,10 @@
 // field that feeds it, and hostile search strings.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { TAKE_SORTS, TakePage, type TakeSort } from '@shared/schemas/takes'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { FIXTURE_SESSIONS, FIXTURE_TAKES, seedLibrary, type FixtureTake, type SeededLibrary } from './library-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let lib: SeededLibrary
 let reader: Client
 

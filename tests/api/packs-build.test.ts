@@ -9,14 +9,13 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { PackBuild, PackDetail } from '@shared/schemas/packs'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { startTestSmtp } from '../helpers/smtp'
 import { ffmpegEbur128 } from '../helpers/reference-tools'
 import { binary, describeTake, filesUnder, newSession, SIGNALS, uploadMeasured, waitForBuild, type FixtureTake } from './packs-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
 let smtp: Awaited<ReturnType<typeof startTestSmtp>>
-let server: Server
+let server: TestServer
 let admin: Client
 let designer: Client
 let producer: Client

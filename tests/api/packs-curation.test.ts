@@ -9,12 +9,11 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { DEFAULT_RENDER_SETTINGS, LICENCE_TEMPLATES, PackDetail, PackItem } from '@shared/schemas/packs'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { ffmpegEbur128 } from '../helpers/reference-tools'
 import { binary, describeTake, newSession, SIGNALS, uploadMeasured, type FixtureTake } from './packs-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let designer: Client
 let producer: Client
 let recordist: Client

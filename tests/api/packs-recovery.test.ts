@@ -9,10 +9,9 @@ import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { startServer, type RunningServer } from '../../server/server'
 import { binary, filesUnder, newSession, SIGNALS, soxMake, uploadMeasured, waitForBuild } from './packs-fixtures'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let designer: Client
 let admin: Client
 let sessionId: number

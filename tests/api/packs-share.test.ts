@@ -6,11 +6,10 @@
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { ShareInfo, ShareLink } from '@shared/schemas/packs'
-import { Client, signedIn, startTestServer } from '../helpers/server'
+import { Client, signedIn, startTestServer, type TestServer } from '../helpers/server'
 import { binary, newSession, SIGNALS, uploadMeasured, waitForBuild } from './packs-fixtures'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let designer: Client
 let anon: Client
 let buildId: number

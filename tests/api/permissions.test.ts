@@ -4,10 +4,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { ROLES, can } from '@shared/permissions'
 import { listRoutes, type RouteSpec } from '../../server/core/routes'
-import { Client, signedIn, startTestServer } from '../helpers/server'
+import { Client, signedIn, startTestServer, type TestServer } from '../helpers/server'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let routes: RouteSpec[]
 const clients: Record<string, Client> = {}
 

@@ -6,13 +6,12 @@ import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { PNG } from 'pngjs'
 import type { Response } from 'supertest'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { makeTmpDir } from '../helpers/audio-files'
 import { sox } from '../helpers/reference-tools'
 import { updateTake } from '../../server/takes/takes.repository'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let recordist: Client
 let producer: Client
 let takeId: number

@@ -1,10 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { Client, signedIn, startTestServer } from '../helpers/server'
+import { Client, signedIn, startTestServer, type TestServer } from '../helpers/server'
 import { linkToken, startTestSmtp } from '../helpers/smtp'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
 let smtp: Awaited<ReturnType<typeof startTestSmtp>>
-let server: Server
+let server: TestServer
 let admin: Client
 
 beforeAll(async () => {

@@ -5,12 +5,11 @@ import path from 'node:path'
 import fs from 'node:fs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { signedIn, startTestServer, type Client } from '../helpers/server'
+import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { launchBrowser, screenshot, signInThroughForm } from '../helpers/browser'
 import { createSession, soxWav, uploadTake, waitForTake } from '../helpers/uploads'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let browser: Browser
 let page: Page
 let longId: number

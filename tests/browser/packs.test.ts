@@ -3,12 +3,11 @@
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Browser } from 'playwright-core'
-import { signedIn, startTestServer } from '../helpers/server'
+import { signedIn, startTestServer, type TestServer } from '../helpers/server'
 import { launchBrowser, screenshot, signInThroughForm } from '../helpers/browser'
 import { createSession, soxWav, uploadTake, waitForTake } from '../helpers/uploads'
 
-type Server = Awaited<ReturnType<typeof startTestServer>>
-let server: Server
+let server: TestServer
 let browser: Browser
 let packId = 0
 

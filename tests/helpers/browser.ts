@@ -3,9 +3,7 @@ import path from 'node:path'
 import { afterAll, beforeAll } from 'vitest'
 import { chromium, type Browser, type Page } from 'playwright-core'
 import type { Config } from '../../server/core/config'
-import { startTestServer } from './server'
-
-type RunningTestServer = Awaited<ReturnType<typeof startTestServer>>
+import { startTestServer, type TestServer } from './server'
 
 export const SCREENSHOTS = path.resolve('tests/.artifacts/screenshots')
 
@@ -46,7 +44,7 @@ export async function signInThroughForm(page: Page, baseUrl: string, email: stri
  * started before its tests and stopped after them.
  */
 export function useBrowserServer(overrides: Partial<Config> = {}) {
-  const env = {} as { server: RunningTestServer; browser: Browser }
+  const env = {} as { server: TestServer; browser: Browser }
   beforeAll(async () => {
     env.server = await startTestServer({ clientDir: path.resolve('dist'), ...overrides })
     env.browser = await launchBrowser()

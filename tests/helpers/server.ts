@@ -7,8 +7,10 @@ import { startServer, type RunningServer } from '../../server/server'
 
 export const DEMO_PASSWORD = 'strayfield-demo'
 
+export type TestServer = RunningServer & { dir: string }
+
 /** A real server on a free loopback port with a fresh SQLite file and storage folder. */
-export async function startTestServer(overrides: Partial<Config> = {}): Promise<RunningServer & { dir: string }> {
+export async function startTestServer(overrides: Partial<Config> = {}): Promise<TestServer> {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'strayfield-test-'))
   const server = await startServer(
     {
