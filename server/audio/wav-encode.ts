@@ -142,3 +142,58 @@ function encodeStereo24(l: ArrayLike<number>, r: ArrayLike<number>, from: number
     dst[p + 5] = (b >> 16) & 0xff
   }
 }
+
+/**
+ * Integer samples already on the output grid (a render's: quantize.ts), one Int32Array per
+ * channel, into interleaved little-endian PCM of `bits` (16 or 24) in `buf` (byteOffset a
+ * multiple of 4). No rounding or clipping is left to do, so this is pure byte packing.
+ */
+export function encodeIntsInterleaved(ints: Int32Array[], frames: number, bits: 16 | 24, buf: Buffer): void {
+  const ch = ints.length
+  if (bits === 16) {
+    const dst = LE ? new Int16Array(buf.buffer, buf.byteOffset, frames * ch) : null
+    for (let c = 0; c < ch; c++) {
+      const src = ints[c]
+      if (dst) for (let i = 0, j = c; i < frames; i++, j += ch) dst[j] = src[i]
+      else for (let i = 0, j = c * 2; i < frames; i++, j += ch * 2) buf.writeInt16LE(src[i], j)
+    }
+    return
+  }
+  if (LE && ch === 2 && buf.byteOffset % 4 === 0) {
+    // Two frames (12 bytes) as three 32-bit words.
+    const w = new Int32Array(buf.buffer, buf.byteOffset, 3 * (frames >> 1))
+    const l = ints[0]
+    const r = ints[1]
+    const pairs = frames >> 1
+    for (let p = 0, i = 0, j = 0; p < pairs; p++, i += 2, j += 3) {
+      const a = l[i], b = r[i], c = l[i + 1], d = r[i + 1]
+      w[j] = (a & 0xffffff) | (b << 24)
+      w[j + 1] = ((b >> 8) & 0xffff) | (c << 16)
+      w[j + 2] = ((c >> 16) & 0xff) | (d << 8)
+    }
+    if (frames & 1) {
+      const i = frames - 1
+      const o = buf.byteOffset + i * 6
+      const u = new Uint8Array(buf.buffer, o, 6)
+      const a = l[i], b = r[i]
+      u[0] = a & 0xff
+      u[1] = (a >> 8) & 0xff
+      u[2] = (a >> 16) & 0xff
+      u[3] = b & 0xff
+      u[4] = (b >> 8) & 0xff
+      u[5] = (b >> 16) & 0xff
+    }
+    return
+  }
+  const dst = new Uint8Array(buf.buffer, buf.byteOffset, frames * ch * 3)
+  const step = ch * 3
+  for (let c = 0; c < ch; c++) {
+    const src = ints[c]
+    for (let i = 0, p = c * 3; i < frames; i++, p += step) {
+      const v = src[i]
+      dst[p] = v & 0xff
+      dst[p + 1] = (v >> 8) & 0xff
+      dst[p + 2] = (v >> 16) & 0xff
+    }
+  }
+}

@@ -5,7 +5,7 @@
 import { open, rename, unlink, type FileHandle } from 'node:fs/promises'
 import { randomBytes } from 'node:crypto'
 import { basename, dirname, join } from 'node:path'
-import { encodeInterleaved, Tpdf, type EncodeFormat } from './wav-encode'
+import { encodeInterleaved, encodeIntsInterleaved, Tpdf, type EncodeFormat } from './wav-encode'
 import { applyPatches, finalPatches, planLayout, trailer, type Plan, type WavWriteOptions } from './wav-layout'
 import { bextSize, type BextInput } from './wav-bext'
 
@@ -77,6 +77,32 @@ export class WavWriter {
   write(planar: ArrayLike<number>[]): Promise<void> {
     if (this.done) return Promise.reject(new Error('WavWriter is closed'))
     const run = this.queue.then(() => this.writeNow(planar))
+    this.queue = run.catch(() => {})
+    return run
+  }
+
+  /**
+   * Appends frames given as integers already on the output grid (16- or 24-bit PCM whose valid
+   * bits fill the container): no rounding, clipping or dither here. `ints` must stay untouched
+   * until the returned promise settles.
+   */
+  writeInts(ints: Int32Array[], frames: number): Promise<void> {
+    if (this.done) return Promise.reject(new Error('WavWriter is closed'))
+    const bits = this.plan.bits
+    if (this.opts.encoding !== 'pcm' || (bits !== 16 && bits !== 24) || this.plan.validBits !== bits || this.dither) {
+      return Promise.reject(new RangeError('writeInts takes 16- or 24-bit PCM without the writer\'s own dither'))
+    }
+    if (ints.length !== this.opts.channels || ints.some((c) => c.length < frames)) return Promise.reject(new RangeError(`expected ${this.opts.channels} channel arrays of ${frames} frames`))
+    const run = this.queue.then(async () => {
+      for (let from = 0; from < frames; from += BLOCK_FRAMES) {
+        const n = Math.min(BLOCK_FRAMES, frames - from)
+        encodeIntsInterleaved(from === 0 ? ints : ints.map((c) => c.subarray(from)), n, bits, this.buf)
+        const len = n * this.plan.blockAlign
+        await this.writeAll(this.buf, len, this.pos)
+        this.pos += len
+        this.frames += n
+      }
+    })
     this.queue = run.catch(() => {})
     return run
   }

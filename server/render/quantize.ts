@@ -38,8 +38,12 @@ export const ditherState = (seed: number): DitherState => ({ state: seed >>> 0 |
 // in two additions, much cheaper than Math.round in the hot loop.
 const ROUND = 6755399441055744
 
-/** Processes frames [pos, pos + n) of the item held in block[c][0..n). */
-export function processBlock(block: Float32Array[], pos: number, env: Envelope, q: Quantizer, rng: DitherState): void {
+/**
+ * Processes frames [pos, pos + n) of the item held in block[c][0..n). For PCM output, `ints`
+ * (when given, one array per channel of at least n) also receives each sample as the integer the
+ * file stores, so the writer packs bytes without converting again (WavWriter.writeInts).
+ */
+export function processBlock(block: Float32Array[], pos: number, env: Envelope, q: Quantizer, rng: DitherState, ints?: Int32Array[]): void {
   const n = block[0]?.length ?? 0
   if (n === 0) return
   const g = env.gain
@@ -66,6 +70,8 @@ export function processBlock(block: Float32Array[], pos: number, env: Envelope, 
     const lo = -scale
     const rawFirst = kFirst >= 0 ? x[kFirst] : 0
     const rawLast = kLast >= 0 ? x[kLast] : 0
+    // Without `ints` the integers go to a scratch array (one code path, one dither sequence).
+    const out = ints ? ints[c] : scratch(n)
     if (q.dither) {
       for (let k = 0; k < n; k++) {
         s ^= s << 13
@@ -73,19 +79,29 @@ export function processBlock(block: Float32Array[], pos: number, env: Envelope, 
         s ^= s << 5
         let v = x[k] * gs + ((s & 0xffff) - (s >>> 16)) * (1 / 65536)
         v = v + ROUND - ROUND
-        x[k] = (v > hi ? hi : v < lo ? lo : v === v ? v : 0) * inv // the last test maps NaN to 0
+        v = v > hi ? hi : v < lo ? lo : v === v ? v : 0 // the last test maps NaN to 0
+        out[k] = v
+        x[k] = v * inv
       }
     } else {
       for (let k = 0; k < n; k++) {
         let v = x[k] * gs
         v = v + ROUND - ROUND
-        x[k] = (v > hi ? hi : v < lo ? lo : v === v ? v : 0) * inv
+        v = v > hi ? hi : v < lo ? lo : v === v ? v : 0
+        out[k] = v
+        x[k] = v * inv
       }
     }
-    if (kFirst >= 0) x[kFirst] = plain(rawFirst * gs, lo, hi) * inv
-    if (kLast >= 0) x[kLast] = plain(rawLast * gs, lo, hi) * inv
+    if (kFirst >= 0) x[kFirst] = (out[kFirst] = plain(rawFirst * gs, lo, hi)) * inv
+    if (kLast >= 0) x[kLast] = (out[kLast] = plain(rawLast * gs, lo, hi)) * inv
   }
   rng.state = s
+}
+
+let scratchInts = new Int32Array(0)
+function scratch(n: number): Int32Array {
+  if (scratchInts.length < n) scratchInts = new Int32Array(n)
+  return scratchInts
 }
 
 /** Rounding alone: a sample ≥ 0 stays ≥ 0 and one < 0 stays ≤ 0, so a zero crossing survives. */

@@ -260,13 +260,18 @@ async function renderPass(
     // One block's write stays in flight while the next is read, processed and metered. Blocks come
     // from a ring of three sets of arrays: when block k is decoded into a set, the write of block
     // k − 3 that used it has long been awaited (the loop awaits write k − 2 before queueing k − 1).
+    // PCM output also leaves the quantiser as integers (a ring of three likewise), which the
+    // writer packs as they are; float output is written from the block.
+    const ring = float ? null : Array.from({ length: 3 }, () => Array.from({ length: f.channels }, () => new Int32Array(RENDER_BLOCK_FRAMES)))
+    let turn = 0
     let writing: Promise<void> | null = null
     for await (const block of readFrames(req.sourcePath, info, { startFrame: start, endFrame: end, blockFrames: RENDER_BLOCK_FRAMES, recycle: 3 })) {
       if (req.shouldStop?.()) throw new RenderStopped()
-      processBlock(block, pos, env, q, rng)
+      const ints = ring ? ring[turn++ % 3] : undefined
+      processBlock(block, pos, env, q, rng, ints)
       meter.push(block)
       if (writing) await writing
-      writing = writer.write(block)
+      writing = ints ? writer.writeInts(ints, block[0].length) : writer.write(block)
       writing.catch(() => undefined) // awaited before the next write or after the loop
       pos += block[0].length
       progress(block[0].length)

@@ -156,3 +156,44 @@ describe('readFrames ranges and speed', () => {
     expect((seconds * 1000) / ms).toBeGreaterThan(100)
   })
 })
+
+describe('writeInts (integers already on the grid)', () => {
+  // The render path hands the writer integers; the bytes must equal those of the float path
+  // given the same samples k / 2^(bits−1), and the reader must give the samples back.
+  for (const [bits, channels, frames] of [[24, 2, 70001], [24, 1, 999], [24, 3, 4097], [16, 2, 70001], [16, 1, 5]] as const) {
+    it(`${bits}-bit, ${channels} channel(s), ${frames} frames: the same file as write()`, async () => {
+      const scale = 2 ** (bits - 1)
+      let s = 12345
+      const ints = Array.from({ length: channels }, () => {
+        const a = new Int32Array(frames)
+        for (let i = 0; i < frames; i++) {
+          s = (Math.imul(s, 1103515245) + 12345) >>> 0
+          a[i] = (s % (2 * scale)) - scale // the full range, extremes included
+        }
+        a[0] = -scale
+        a[frames - 1] = scale - 1
+        return a
+      })
+      const floats = ints.map((a) => Float32Array.from(a, (v) => v / scale))
+      const opts = { sampleRate: 48000, channels, encoding: 'pcm', bitsPerSample: bits } as const
+      const a = tmp.file(`ints-${bits}-${channels}.wav`)
+      const w = await WavWriter.open(a, opts)
+      await w.writeInts(ints, frames)
+      await w.close()
+      const b = tmp.file(`floats-${bits}-${channels}.wav`)
+      await writeWav(b, floats, opts)
+      expect(readFileSync(a).equals(readFileSync(b))).toBe(true)
+      const back = await readAll(a, await probeWav(a))
+      for (let c = 0; c < channels; c++) expect(Array.from(back[c].subarray(0, 50))).toEqual(Array.from(floats[c].subarray(0, 50)))
+    })
+  }
+
+  it('refuses float output and the writer\'s own dither', async () => {
+    const f = await WavWriter.open(tmp.file('f.wav'), { sampleRate: 48000, channels: 1, encoding: 'float', bitsPerSample: 32 })
+    await expect(f.writeInts([new Int32Array(4)], 4)).rejects.toThrow(/16- or 24-bit PCM/)
+    await f.abort()
+    const d = await WavWriter.open(tmp.file('d.wav'), { ...mono16, dither: 'tpdf' })
+    await expect(d.writeInts([new Int32Array(4)], 4)).rejects.toThrow(/dither/)
+    await d.abort()
+  })
+})
