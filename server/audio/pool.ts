@@ -2,12 +2,9 @@
 // the API's event loop. One task per worker at a time; tasks queue in order.
 // A worker that crashes or exits is replaced and its task rejected, so a
 // caller never waits on a promise that cannot settle.
-import { readFileSync } from 'node:fs'
-import { createRequire } from 'node:module'
 import { availableParallelism } from 'node:os'
-import { dirname, join } from 'node:path'
-import { pathToFileURL } from 'node:url'
-import { Worker } from 'node:worker_threads'
+import type { Worker } from 'node:worker_threads'
+import { startWorker } from '../core/workers'
 import type { AnalyzeResult } from './analyze'
 import type { WorkerError, WorkerReply, WorkerTask } from './analyze-worker-serve'
 import { WavFormatError } from './wav-reader'
@@ -44,24 +41,6 @@ function defaultWorkerUrl(): URL {
   return new URL(`./analyze-worker${ext}`, import.meta.url)
 }
 
-/**
- * tsx's ESM API (its `exports` entry for import), resolved from this file so it works whatever the cwd.
- * Node 20 does not apply `--import tsx` from a worker's execArgv to the worker's modules, so a .ts
- * worker is started by a bootstrap that loads it through tsx's tsImport instead.
- */
-function tsxApiUrl(): string {
-  const pkgPath = createRequire(import.meta.url).resolve('tsx/package.json')
-  const pkg = JSON.parse(readFileSync(pkgPath, 'utf8')) as { exports: Record<string, { import: { default: string } }> }
-  return pathToFileURL(join(dirname(pkgPath), pkg.exports['./esm/api'].import.default)).href
-}
-
-function spawn(url: URL): Worker {
-  if (!url.pathname.endsWith('.ts')) return new Worker(url)
-  const target = JSON.stringify(url.href)
-  const boot = `import(${JSON.stringify(tsxApiUrl())}).then((tsx) => tsx.tsImport(${target}, ${target}))`
-  return new Worker(boot, { eval: true })
-}
-
 function revive(e: WorkerError): Error {
   if (e.name === 'WavFormatError') return new WavFormatError(e.reason ?? e.message)
   const err = new Error(e.message) as NodeJS.ErrnoException
@@ -83,7 +62,7 @@ export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions =
   }
 
   function start(): Slot {
-    const slot: Slot = { worker: spawn(url), task: null }
+    const slot: Slot = { worker: startWorker(url), task: null }
     slot.worker.on('message', (m: WorkerReply) => {
       const task = slot.task
       if (!task || m.id !== task.id) return

@@ -30,7 +30,7 @@ export interface RenderExecutor {
   readonly parallel: number
   /** Worker threads it renders in (0: this thread). */
   readonly workers: number
-  /** Renders (a worker-thread executor also hashes the file beside the render). */
+  /** Renders one item to a temp file (the zip hashes it as it reads it). */
   render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
   close(): Promise<void>
 }
@@ -38,7 +38,6 @@ export interface RenderExecutor {
 export const inProcessExecutor = (): RenderExecutor => ({
   parallel: 1,
   workers: 0,
-  // The zip hashes each file as it reads it: no extra pass in this thread.
   // Temp renders are read into the zip and deleted: only the zip is fsynced.
   render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath, { durable: false }),
   close: async () => undefined,
@@ -180,8 +179,7 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
       const r = await inflight[k]
       if (signal.stopped) throw new BuildStopped()
       startNext()
-      const added = await zip.addFile(spec.fileName, r.path, r.sha256 === undefined)
-      const entry = { bytes: added.bytes, sha256: r.sha256 ?? added.sha256! }
+      const entry = await zip.addFile(spec.fileName, r.path)
       await fs.rm(r.path, { force: true })
       const item: ManifestItem = {
         file: spec.fileName,

@@ -12,6 +12,7 @@ import {
   LICENCE_TEMPLATES,
   RenderSettings,
   RenderSettingsPatch,
+  effectiveSettings,
   type AddItemBody,
   type CreatePackBody,
   type ItemKind,
@@ -28,7 +29,7 @@ import { AppError } from '../core/errors'
 import type { PackItemRow } from '../../db/schema-packs'
 import { probeWav } from '../audio/wav-reader'
 import { measureRange } from '../render/level-meter'
-import { effectiveSettings, planGain, round2 } from '../render/settings'
+import { planGain, round2 } from '../render/settings'
 import { outputNames, type NamingFacts } from './naming'
 import type { ItemSpec } from './item-spec'
 import * as repo from './packs.repository'

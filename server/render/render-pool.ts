@@ -1,18 +1,14 @@
 // Renders in worker threads, so a build uses more than one core and never
 // holds the API's event loop. One render per worker at a time; a pool lives for
-// one build and is closed at its end. The workers load TypeScript through tsx
-// the same way the analysis pool does (server/audio/pool.ts).
-import { readFileSync } from 'node:fs'
-import { createRequire } from 'node:module'
+// one build and is closed at its end. Workers start as plain JavaScript
+// (server/core/workers.ts), so each costs a few tens of MB.
 import { availableParallelism } from 'node:os'
-import { dirname, join } from 'node:path'
-import { pathToFileURL } from 'node:url'
-import { Worker } from 'node:worker_threads'
+import type { Worker } from 'node:worker_threads'
+import { startWorker } from '../core/workers'
 import { WavFormatError } from '../audio/wav-errors'
 import { RenderStopped, type RenderRequest, type RenderResult } from './render'
 
-/** A render and, when the executor hashed it, the SHA-256 of the file it wrote. */
-export type RenderedFile = RenderResult & { sha256?: string }
+export type RenderedFile = RenderResult
 
 type PlainRequest = Omit<RenderRequest, 'onFrames' | 'shouldStop' | 'sourceInfo'>
 
@@ -37,18 +33,9 @@ export interface RenderPool {
 /** One per core, at most two (the zip, written by the build's own thread, needs a share of the CPU too). */
 export const defaultRenderWorkers = () => Math.max(1, Math.min(2, availableParallelism()))
 
-function tsxApiUrl(): string {
-  const pkgPath = createRequire(import.meta.url).resolve('tsx/package.json')
-  const pkg = JSON.parse(readFileSync(pkgPath, 'utf8')) as { exports: Record<string, { import: { default: string } }> }
-  return pathToFileURL(join(dirname(pkgPath), pkg.exports['./esm/api'].import.default)).href
-}
-
 function spawn(): Worker {
   const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
-  const url = new URL(`./render-worker${ext}`, import.meta.url)
-  if (ext === '.js') return new Worker(url)
-  const target = JSON.stringify(url.href)
-  return new Worker(`import(${JSON.stringify(tsxApiUrl())}).then((tsx) => tsx.tsImport(${target}, ${target}))`, { eval: true })
+  return startWorker(new URL(`./render-worker${ext}`, import.meta.url))
 }
 
 function revive(e: { name: string; message: string; code?: string; reason?: string }): Error {

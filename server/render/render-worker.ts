@@ -1,7 +1,6 @@
 // Worker-thread entry of the render pool (render-pool.ts): renders one request
 // at a time, reports frames now and then, and stops between blocks when asked.
 import { parentPort } from 'node:worker_threads'
-import { hashFile } from './hash-file'
 import { renderItem } from './render'
 import type { RenderTask, RenderReply } from './render-pool'
 
@@ -29,10 +28,7 @@ port.on('message', (m: RenderTask | { type: 'stop'; id: number }) => {
     },
     m.outPath,
     { durable: false }, // a temp render of a build: zipped and deleted, only the zip is fsynced
-  )
-    // Hashing here, beside the render, keeps that pass off the thread that writes the zip.
-    .then(async (result) => ({ ...result, sha256: (await hashFile(result.path)).sha256 }))
-    .then(
+  ).then(
     (result) => reply({ type: 'done', id: m.id, result }),
     (err: unknown) => {
       const e = err as NodeJS.ErrnoException & { reason?: string }

@@ -1,10 +1,8 @@
-// Render settings of an item (the pack's, with the item's override on top) and
-// the gain they ask for, worked out from the source range's measurement.
-import { DEFAULT_RENDER_SETTINGS, RenderSettings, type RenderSettingsPatch } from '@shared/schemas/packs'
-
-export function effectiveSettings(pack: RenderSettingsPatch | null | undefined, item?: RenderSettingsPatch | null): RenderSettings {
-  return RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...(pack ?? {}), ...(item ?? {}) })
-}
+// The gain an item's render settings ask for, worked out from the source range's
+// measurement. (The settings themselves, the pack's with the item's override on top,
+// are effectiveSettings in shared/schemas/packs.ts.) Types only from the schemas:
+// this runs in the render worker, which does not load zod.
+import type { RenderSettings } from '@shared/schemas/packs'
 
 export interface SourceLevels {
   integratedLufs: number | null

@@ -48,6 +48,11 @@ export const DEFAULT_RENDER_SETTINGS: RenderSettings = {
 export const RenderSettingsPatch = RenderSettings.partial().strict()
 export type RenderSettingsPatch = z.infer<typeof RenderSettingsPatch>
 
+/** An item's settings: the defaults, the pack's on top, the item's override on top of those. */
+export function effectiveSettings(pack: RenderSettingsPatch | null | undefined, item?: RenderSettingsPatch | null): RenderSettings {
+  return RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...(pack ?? {}), ...(item ?? {}) })
+}
+
 // ---- licences and names ----
 
 /** The product's own licence wordings, offered as starting points; the pack keeps its edited text. */

@@ -39,12 +39,11 @@ afterAll(async () => {
 const sha256sum = (f: string) => execFileSync('sha256sum', [f], { encoding: 'utf8' }).split(' ')[0]
 
 describe('the render pool', () => {
-  it('renders the same bytes as the build thread and reports the file’s SHA-256', async () => {
+  it('renders the same bytes as the build thread', async () => {
     const a = path.join(dir, 'in-thread.wav')
     const b = path.join(dir, 'in-worker.wav')
     const here = await renderItem(request(short), a)
     const there = await pool.render(request(short), b, { stopped: false })
-    expect(there.sha256).toBe(sha256sum(b))
     expect(sha256sum(a)).toBe(sha256sum(b))
     expect(there.levels).toEqual(here.levels)
     expect(there.gainDb).toBe(here.gainDb)
