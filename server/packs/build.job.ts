@@ -1,53 +1,28 @@
-// The durable 'build-pack' job: renders a build's frozen items one by one in a
-// streaming way, measuring each rendered file on the samples it writes, and
-// stores them with manifest.json, manifest.csv and LICENSE.txt in one zip.
+// The durable 'build-pack' job: freezes nothing itself (the build's snapshot was
+// taken when it was asked for), starts a build process for it (build-process.ts,
+// which renders and zips: build-writer.ts), relays its progress into the build's
+// row, and records the result or the failure.
 //
-// Renders run ahead of the zip (up to RenderExecutor.parallel at once, in
-// worker threads when the executor has them) while the zip takes the finished
-// files in pack order; each temp render is deleted as soon as the zip has read
-// it. A failure names the item and why, and leaves neither a zip nor a temp
-// render behind. A job interrupted by a stop or a crash is queued again by the
-// job runner at the next start and re-runs from scratch (leftovers of the
+// A failure names the item and why, and leaves neither a zip nor a temp render
+// behind. A job interrupted by a stop or a crash is queued again by the job
+// runner at the next start and re-runs from scratch (leftovers of the
 // interrupted attempt are swept first).
+import { fork, type ChildProcess } from 'node:child_process'
 import fs from 'node:fs/promises'
 import { availableParallelism } from 'node:os'
 import path from 'node:path'
-import type { ManifestItem } from '@shared/schemas/packs'
 import type { AppContext } from '../core/context'
 import { nowIso } from '../core/time'
+import { workerModule } from '../core/workers'
 import type { JobHandler } from '../jobs/job-runner'
 import type { NewPackBuildItem } from '../../db/schema-packs'
-import { renderItem, RenderStopped, type RenderRequest } from '../render/render'
-import { createRenderPool, type RenderedFile } from '../render/render-pool'
-import { round2 } from '../render/settings'
-import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot, type ItemSpec } from './item-spec'
-import { manifestCsv, PackZip } from './pack-zip'
+import { renderWorkerEntry } from '../render/render-pool'
+import type { BuildOrder, BuildOutput } from './build-writer'
+import type { ErrorInfo, FromBuildProcess, ToBuildProcess } from './build-process'
+import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot } from './item-spec'
 import * as repo from './packs.repository'
 
-/** Runs renders: in this thread, or in a pool of worker threads (render-pool.ts). */
-export interface RenderExecutor {
-  /** Renders that may run at once. */
-  readonly parallel: number
-  /** Worker threads it renders in (0: this thread). */
-  readonly workers: number
-  /** Renders one item to a temp file (the zip hashes it as it reads it). */
-  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
-  close(): Promise<void>
-}
-
-export const inProcessExecutor = (): RenderExecutor => ({
-  parallel: 1,
-  workers: 0,
-  // Temp renders are read into the zip and deleted: only the zip is fsynced.
-  render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped || !!req.shouldStop?.() }, outPath, { durable: false }),
-  close: async () => undefined,
-})
-
-/** Renders in worker threads (render-pool.ts): a pool per build, closed when the build ends. */
-export const workerExecutor = (workers?: number): RenderExecutor => {
-  const pool = createRenderPool(workers)
-  return { parallel: pool.size, workers: pool.size, render: (req, out, signal) => pool.render(req, out, signal), close: () => pool.close() }
-}
+export { licenceFile } from './build-writer'
 
 export interface BuildPaths {
   dirRel: string
@@ -66,35 +41,36 @@ export function buildPaths(ctx: AppContext, build: { id: number; pack_id: number
   }
 }
 
-class BuildStopped extends Error {
-  constructor() {
-    super('build stopped with the server; it resumes at the next start')
-  }
-}
-
-export function licenceFile(snap: BuildSnapshot, version: number): string {
-  return `${snap.pack.name}, version ${version}\n\n${snap.pack.licenceText.trim()}\n`
-}
-
 /** Below this much audio (samples over all channels, about a minute of 48 kHz stereo) starting worker threads costs more than it saves. */
 export const WORKER_THRESHOLD_SAMPLES = 6_000_000
 
 /**
- * Where a build renders. On four cores or more a large build renders in two worker threads
- * while this thread writes the zip. On fewer cores it renders in this thread, leaving a core
- * to the API and the analysis pool: measured on two cores (bench/results/pack.md), two
- * workers built about 35 % faster but took about 150 MB more memory, and one worker was no
- * faster than none.
+ * Render threads of a build: for a large build two worker threads (one per core, at most two)
+ * while the build process's own thread writes the zip; a small one renders in that thread.
+ * Measured on two cores (bench/results/pack.md): two render threads beside the zip were the
+ * fastest, and each costs some 20–40 MB.
  */
-export function executorFor(snap: BuildSnapshot, cores = availableParallelism()): RenderExecutor {
+export function renderThreadsFor(snap: BuildSnapshot, cores = availableParallelism()): number {
   const samples = snap.items.reduce((n, s) => n + expectedFrames(s) * (s.channels ?? 2), 0)
-  return cores >= 4 && samples >= WORKER_THRESHOLD_SAMPLES ? workerExecutor(2) : inProcessExecutor()
+  return samples >= WORKER_THRESHOLD_SAMPLES ? Math.min(2, cores) : 0
 }
 
-export function buildPackJob(ctx: AppContext, makeExecutor: (snap: BuildSnapshot) => RenderExecutor = executorFor): JobHandler {
+export interface BuildOptions {
+  /** Forces the number of render threads (the benchmark compares them). */
+  renderThreads?: number
+}
+
+/** What the build process reported about itself. */
+export interface BuildReport {
+  renderThreads: number
+  /** Peak resident memory of the build process, all its threads (getrusage). */
+  maxRssKb: number
+}
+
+export function buildPackJob(ctx: AppContext): JobHandler {
   return {
     concurrency: 1,
-    run: (job, progress) => runBuild(ctx, job.ref_id, progress, makeExecutor),
+    run: async (job, progress) => void (await runBuild(ctx, job.ref_id, progress)),
     async failed(job, message) {
       const b = await repo.findBuild(ctx.db, job.ref_id)
       if (!b) return
@@ -107,16 +83,54 @@ export function buildPackJob(ctx: AppContext, makeExecutor: (snap: BuildSnapshot
   }
 }
 
-export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p: number) => Promise<void>, makeExecutor: (snap: BuildSnapshot) => RenderExecutor): Promise<void> {
+class BuildInterrupted extends Error {
+  constructor() {
+    super('build stopped with the server; it resumes at the next start')
+  }
+}
+
+const revive = (e: ErrorInfo): Error => Object.assign(new Error(e.message), { name: e.name, code: e.code, reason: e.reason })
+
+/** Starts the build process (plain JavaScript, without the options the server itself was started with). */
+function startBuildProcess(): ChildProcess {
+  const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
+  const entry = workerModule(new URL(`./build-process${ext}`, import.meta.url))
+  return fork(entry, [], { execArgv: [], serialization: 'advanced', stdio: ['ignore', 'inherit', 'inherit', 'ipc'] })
+}
+
+/** Sends the order and resolves with the process's answer; a process that dies without one rejects. */
+function runProcess(order: BuildOrder, onFrames: (k: number, frames: number) => void, isStopped: () => boolean): Promise<Exclude<FromBuildProcess, { type: 'frames' }>> {
+  const child = startBuildProcess()
+  return new Promise((resolve, reject) => {
+    let answer: Exclude<FromBuildProcess, { type: 'frames' }> | null = null
+    const stopWatch = setInterval(() => {
+      if (isStopped() && child.connected) child.send({ type: 'stop' } satisfies ToBuildProcess)
+    }, 50)
+    child.on('message', (m: FromBuildProcess) => {
+      if (m.type === 'frames') onFrames(m.k, m.frames)
+      else answer = m
+    })
+    child.once('error', (err) => {
+      clearInterval(stopWatch)
+      reject(err)
+    })
+    child.once('exit', (code, signal) => {
+      clearInterval(stopWatch)
+      if (answer) resolve(answer)
+      else reject(new Error(`the build process ended without an answer (${signal ?? `exit code ${code}`})`))
+    })
+    child.send({ type: 'order', order } satisfies ToBuildProcess)
+  })
+}
+
+export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p: number) => Promise<void>, options: BuildOptions = {}): Promise<BuildReport | null> {
   const build = await repo.findBuild(ctx.db, buildId)
-  if (!build || build.status === 'done') return // deleted meanwhile, or finished before a crash
+  if (!build || build.status === 'done') return null // deleted meanwhile, or finished before a crash
   const snap = JSON.parse(build.snapshot_json) as BuildSnapshot
   const paths = buildPaths(ctx, build)
-  await fs.mkdir(ctx.storage.abs(paths.dirRel), { recursive: true })
-  // Whatever an interrupted attempt left: a partial zip, temp renders.
+  // Whatever an interrupted attempt left: a partial zip, temp renders (the build process sweeps them too).
   await fs.rm(paths.tmpZip, { force: true })
   await fs.rm(paths.workDir, { recursive: true, force: true })
-  await fs.mkdir(paths.workDir, { recursive: true })
   await repo.deleteBuildItems(ctx.db, buildId)
   await repo.updateBuild(ctx.db, buildId, {
     status: 'running',
@@ -134,7 +148,8 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
   const framesOf = new Float64Array(snap.items.length)
   let lastReported = 0
   let lastWrite = 0
-  const report = () => {
+  const onFrames = (k: number, frames: number) => {
+    framesOf[k] = frames
     let done = 0
     for (const f of framesOf) done += f
     const p = Math.min(0.99, done / totalFrames)
@@ -146,125 +161,84 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
     void jobProgress(p).catch(() => undefined)
   }
 
-  const signal = { stopped: false }
-  const stopWatch = setInterval(() => {
-    if (ctx.jobs.isStopped) signal.stopped = true
-  }, 50)
-  const executor = makeExecutor(snap)
-  const zip = PackZip.create(paths.tmpZip, ctx.storage.abs(paths.finalRel), createdAt)
-  const inflight: Promise<RenderedFile>[] = []
-  let next = 0
-  const startNext = () => {
-    if (next >= snap.items.length) return
-    const k = next++
-    const spec = snap.items[k]
-    const req = renderRequest(spec, ctx.storage.abs(spec.audioPath), `SF-P${snap.pack.id}-V${build.version}-${spec.position}`, createdAt)
-    req.onFrames = (f) => {
-      framesOf[k] = f
-      report()
-    }
-    const p = executor.render(req, path.join(paths.workDir, spec.fileName), signal)
-    p.catch(() => undefined) // awaited in order below; this only keeps an early failure from being unhandled
-    inflight.push(p)
+  const renderThreads = options.renderThreads ?? renderThreadsFor(snap)
+  const order: BuildOrder = {
+    buildId,
+    version: build.version,
+    createdAt: build.created_at,
+    snap,
+    requests: snap.items.map((spec) => renderRequest(spec, ctx.storage.abs(spec.audioPath), `SF-P${snap.pack.id}-V${build.version}-${spec.position}`, createdAt)),
+    tmpZip: paths.tmpZip,
+    finalZip: ctx.storage.abs(paths.finalRel),
+    workDir: paths.workDir,
+    renderThreads,
+    renderWorker: renderThreads > 0 ? workerModule(renderWorkerEntry()).href : undefined,
   }
-
-  let current: ItemSpec | null = null
+  let answer: Awaited<ReturnType<typeof runProcess>>
   try {
-    const manifest: ManifestItem[] = []
-    const rows: NewPackBuildItem[] = []
-    for (let i = 0; i < executor.parallel; i++) startNext()
-    for (let k = 0; k < snap.items.length; k++) {
-      const spec = snap.items[k]
-      current = spec
-      const r = await inflight[k]
-      if (signal.stopped) throw new BuildStopped()
-      startNext()
-      const entry = await zip.addFile(spec.fileName, r.path)
-      await fs.rm(r.path, { force: true })
-      const item: ManifestItem = {
-        file: spec.fileName,
-        durationSeconds: r.durationSeconds,
-        sampleRate: r.sampleRate,
-        bitDepth: r.bitDepth,
-        channels: r.channels,
-        integratedLufs: round2(r.levels.integratedLufs),
-        truePeakDbtp: round2(r.levels.truePeakDbtp),
-        loudnessRangeLu: round2(r.levels.loudnessRangeLu),
-        underTargetDb: r.underTargetDb,
-        sources: spec.sources,
-        tags: spec.tags,
-        takeId: spec.takeId,
-        licence: snap.pack.licenceText,
-        sha256: entry.sha256,
-      }
-      manifest.push(item)
-      rows.push({
-        build_id: buildId,
-        position: spec.position,
-        item_id: spec.itemId,
-        take_id: spec.takeId,
-        file_name: spec.fileName,
-        size_bytes: entry.bytes,
-        sha256: entry.sha256,
-        duration_seconds: r.durationSeconds,
-        sample_rate: r.sampleRate,
-        bit_depth: r.bitDepth,
-        channels: r.channels,
-        gain_db: r.gainDb,
-        integrated_lufs: r.levels.integratedLufs,
-        true_peak_dbtp: r.levels.truePeakDbtp,
-        loudness_range_lu: r.levels.loudnessRangeLu,
-        under_target_db: r.underTargetDb,
-      })
-    }
-    current = null
-    if (signal.stopped) throw new BuildStopped()
-    const json = {
-      pack: {
-        id: snap.pack.id,
-        name: snap.pack.name,
-        description: snap.pack.description,
-        licence: snap.pack.licenceText,
-        namingTemplate: snap.pack.namingTemplate,
-        settings: snap.pack.settings,
-      },
-      build: { id: buildId, version: build.version, createdAt: build.created_at, itemCount: manifest.length, generator: 'Strayfield' },
-      items: manifest,
-    }
-    await zip.addBuffer('manifest.json', Buffer.from(JSON.stringify(json, null, 2) + '\n'))
-    await zip.addBuffer('manifest.csv', Buffer.from(manifestCsv(manifest)))
-    await zip.addBuffer('LICENSE.txt', Buffer.from(licenceFile(snap, build.version)))
-    const done = await zip.finish()
-    await ctx.db.transaction().execute(async (trx) => {
-      await repo.insertBuildItems(trx, rows)
-      await repo.updateBuild(trx, buildId, {
-        status: 'done',
-        progress: 1,
-        zip_path: paths.finalRel,
-        size_bytes: done.bytes,
-        sha256: done.sha256,
-        finished_at: nowIso(),
-      })
-    })
+    answer = await runProcess(order, onFrames, () => ctx.jobs.isStopped)
   } catch (err) {
-    signal.stopped = true
-    await Promise.allSettled(inflight)
-    await zip.abort()
+    // The process died without an answer (killed, out of memory): clean up after it.
+    await fs.rm(paths.tmpZip, { force: true })
     await fs.rm(paths.workDir, { recursive: true, force: true })
-    if (ctx.jobs.isStopped || err instanceof BuildStopped || err instanceof RenderStopped) throw err // stays 'running'; queued again at start
-    const message = current ? describeItemFailure(current, err) : `writing the zip failed: ${(err as Error).message}`
-    await repo.updateBuild(ctx.db, buildId, {
-      status: 'failed',
-      error: message,
-      finished_at: nowIso(),
-      failed_item_position: current?.position ?? null,
-      failed_item_id: current?.itemId ?? null,
-      failed_item_name: current?.outputName ?? null,
-    })
-    throw new Error(message, { cause: err })
-  } finally {
-    clearInterval(stopWatch)
-    await executor.close()
+    if (ctx.jobs.isStopped) throw new BuildInterrupted() // stays 'running'; queued again at start
+    return fail(ctx, buildId, null, snap, err)
   }
-  await fs.rm(paths.workDir, { recursive: true, force: true })
+  if (answer.type === 'stopped') throw new BuildInterrupted()
+  if (answer.type === 'failed') {
+    if (ctx.jobs.isStopped) throw new BuildInterrupted()
+    return fail(ctx, buildId, answer.position, snap, revive(answer.error))
+  }
+  await record(ctx, buildId, snap, paths, answer.output)
+  return { renderThreads, maxRssKb: answer.maxRssKb }
+}
+
+async function record(ctx: AppContext, buildId: number, snap: BuildSnapshot, paths: BuildPaths, output: BuildOutput): Promise<void> {
+  const rows: NewPackBuildItem[] = output.items.map((it, k) => {
+    const spec = snap.items[k]
+    return {
+      build_id: buildId,
+      position: spec.position,
+      item_id: spec.itemId,
+      take_id: spec.takeId,
+      file_name: spec.fileName,
+      size_bytes: it.bytes,
+      sha256: it.manifest.sha256,
+      duration_seconds: it.manifest.durationSeconds,
+      sample_rate: it.manifest.sampleRate,
+      bit_depth: it.manifest.bitDepth,
+      channels: it.manifest.channels,
+      gain_db: it.gainDb,
+      integrated_lufs: it.integratedLufs,
+      true_peak_dbtp: it.truePeakDbtp,
+      loudness_range_lu: it.loudnessRangeLu,
+      under_target_db: it.manifest.underTargetDb,
+    }
+  })
+  await ctx.db.transaction().execute(async (trx) => {
+    await repo.insertBuildItems(trx, rows)
+    await repo.updateBuild(trx, buildId, {
+      status: 'done',
+      progress: 1,
+      zip_path: paths.finalRel,
+      size_bytes: output.zip.bytes,
+      sha256: output.zip.sha256,
+      finished_at: nowIso(),
+    })
+  })
+}
+
+/** Marks the build failed (naming the item when one failed) and fails the job with the same words. */
+async function fail(ctx: AppContext, buildId: number, position: number | null, snap: BuildSnapshot, err: unknown): Promise<never> {
+  const spec = position === null ? null : (snap.items.find((s) => s.position === position) ?? null)
+  const message = spec ? describeItemFailure(spec, err) : `writing the zip failed: ${(err as Error).message}`
+  await repo.updateBuild(ctx.db, buildId, {
+    status: 'failed',
+    error: message,
+    finished_at: nowIso(),
+    failed_item_position: spec?.position ?? null,
+    failed_item_id: spec?.itemId ?? null,
+    failed_item_name: spec?.outputName ?? null,
+  })
+  throw new Error(message, { cause: err })
 }

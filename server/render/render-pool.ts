@@ -6,36 +6,35 @@ import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
 import { startWorker } from '../core/workers'
 import { WavFormatError } from '../audio/wav-errors'
-import { RenderStopped, type RenderRequest, type RenderResult } from './render'
+import { RenderStopped, type PlainRenderRequest, type RenderRequest, type RenderResult } from './render'
 
-export type RenderedFile = RenderResult
 
-type PlainRequest = Omit<RenderRequest, 'onFrames' | 'shouldStop' | 'sourceInfo'>
 
 export interface RenderTask {
   type: 'render'
   id: number
-  req: PlainRequest
+  req: PlainRenderRequest
   outPath: string
 }
 
 export type RenderReply =
   | { type: 'frames'; id: number; frames: number }
-  | { type: 'done'; id: number; result: RenderedFile }
+  | { type: 'done'; id: number; result: RenderResult }
   | { type: 'error'; id: number; error: { name: string; message: string; code?: string; reason?: string } }
 
 export interface RenderPool {
   readonly size: number
-  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderedFile>
+  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderResult>
   close(): Promise<void>
 }
 
 /** One per core, at most two (the zip, written by the build's own thread, needs a share of the CPU too). */
 export const defaultRenderWorkers = () => Math.max(1, Math.min(2, availableParallelism()))
 
-function spawn(): Worker {
+/** The render worker's entry beside this file (.ts under tsx, .js when built). */
+export function renderWorkerEntry(): URL {
   const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
-  return startWorker(new URL(`./render-worker${ext}`, import.meta.url))
+  return new URL(`./render-worker${ext}`, import.meta.url)
 }
 
 function revive(e: { name: string; message: string; code?: string; reason?: string }): Error {
@@ -52,10 +51,14 @@ interface Slot {
   busy: boolean
 }
 
-export function createRenderPool(size = defaultRenderWorkers()): RenderPool {
+/**
+ * `entry`: the worker's module; give it when this code itself runs bundled (in the build
+ * process), where the entry cannot be found beside this file.
+ */
+export function createRenderPool(size = defaultRenderWorkers(), entry: URL = renderWorkerEntry()): RenderPool {
   const slots: Slot[] = []
   const waiting: ((s: Slot) => void)[] = []
-  const tasks = new Map<number, { resolve: (r: RenderedFile) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }>()
+  const tasks = new Map<number, { resolve: (r: RenderResult) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }>()
   let nextId = 1
   let closed = false
 
@@ -69,7 +72,7 @@ export function createRenderPool(size = defaultRenderWorkers()): RenderPool {
   }
 
   const start = (): Slot => {
-    const slot: Slot = { worker: spawn(), busy: false }
+    const slot: Slot = { worker: startWorker(entry), busy: false }
     slot.worker.on('message', (m: RenderReply) => {
       const t = tasks.get(m.id)
       if (!t) return
@@ -111,7 +114,7 @@ export function createRenderPool(size = defaultRenderWorkers()): RenderPool {
         if (signal.stopped) slot.worker.postMessage({ type: 'stop', id })
       }, 50)
       try {
-        return await new Promise<RenderedFile>((resolve, reject) => {
+        return await new Promise<RenderResult>((resolve, reject) => {
           tasks.set(id, { resolve, reject, onFrames, slot })
           const task: RenderTask = { type: 'render', id, req: plain, outPath }
           slot.worker.postMessage(task)

@@ -55,6 +55,9 @@ export interface RenderRequest {
   sourceInfo?: WavInfo
 }
 
+/** A request without its callbacks: what crosses to a worker thread or the build process. */
+export type PlainRenderRequest = Omit<RenderRequest, 'onFrames' | 'shouldStop' | 'sourceInfo'>
+
 export interface RenderResult {
   path: string
   bytes: number
