@@ -32,7 +32,7 @@ export class LevelMeter {
 
   push(planar: Float32Array[]): void {
     this.loudness.push(planar)
-    this.scan.scan(planar)
+    this.scan.scanExtremes(planar)
     this.truePeak.push(planar, this.scan)
   }
 
