@@ -103,6 +103,10 @@ export class TruePeakMeter {
     let peak = running // the history's samples were counted with their own block
     // Lows and highs of the previous three chunks; the history stands in for chunks before the first.
     let l1 = headLo, h1 = headHi, l2 = headLo, h2 = headHi, l3 = headLo, h3 = headHi
+    // Chunks whose outputs all lie in [firstOutput, n) need no clamping: [cFull, cEnd) (the first
+    // chunks of a take and the last partial chunk go through the general path).
+    const cFull = Math.min(chunks, Math.max(0, Math.ceil((firstOutput - HISTORY) / CHUNK)))
+    const cEnd = Math.max(cFull, Math.min(chunks, Math.floor((n - HISTORY) / CHUNK)))
     for (let c = 0; c < chunks; c++) {
       const l = lo[c]
       const h = hi[c]
@@ -112,13 +116,18 @@ export class TruePeakMeter {
       const h12 = h1 > h2 ? h1 : h2, h3c = h3 > h ? h3 : h
       const wl = l12 < l3c ? l12 : l3c
       const wh = h12 > h3c ? h12 : h3c
-      const mid = Math.abs(0.5 * (wh + wl))
+      const sum = wh + wl
+      const mid = 0.5 * (sum < 0 ? -sum : sum)
       const half = 0.5 * (wh - wl)
-      const start = Math.max(firstOutput, HISTORY + c * CHUNK)
-      const end = Math.min(n, HISTORY + (c + 1) * CHUNK)
-      if (start < end) {
-        if (mid * INNER_GAIN + half * INNER_ABS_GAIN > peak) peak = interpolateInner(x, start, end, peak)
-        if (mid * OUTER_GAIN + half * OUTER_ABS_GAIN > peak) peak = interpolateOuter(x, start, end, peak)
+      const inner = mid * INNER_GAIN + half * INNER_ABS_GAIN
+      const outer = mid * OUTER_GAIN + half * OUTER_ABS_GAIN
+      if (inner > peak || outer > peak) {
+        const start = c >= cFull ? HISTORY + c * CHUNK : Math.max(firstOutput, HISTORY + c * CHUNK)
+        const end = c < cEnd ? HISTORY + (c + 1) * CHUNK : Math.min(n, HISTORY + (c + 1) * CHUNK)
+        if (start < end) {
+          if (inner > peak) peak = interpolateInner(x, start, end, peak)
+          if (outer > peak) peak = interpolateOuter(x, start, end, peak)
+        }
       }
       l3 = l2
       h3 = h2
