@@ -4,7 +4,7 @@ import pluginVue from 'eslint-plugin-vue'
 import globals from 'globals'
 
 export default tseslint.config(
-  { ignores: ['dist/**', 'node_modules/**', 'storage/**', 'db/*.sqlite*', 'tests/.artifacts/**', 'bench/.data/**', 'tmp-smoke/**'] },
+  { ignores: ['dist/**', 'node_modules/**', 'storage/**', 'db/*.sqlite*', 'tests/.artifacts/**', 'bench/.data/**', 'tmp-smoke/**', 'server/**/*.as.ts'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   ...pluginVue.configs['flat/recommended'],

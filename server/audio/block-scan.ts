@@ -43,51 +43,6 @@ export class BlockScan {
     if (ch < this.channels) this.scanPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
   }
 
-  /**
-   * Only the lows and highs of each chunk, what the true-peak bound reads (for a meter that
-   * needs no sums or energies: the render's LevelMeter); sum, sumSquares and energy go stale.
-   * Channels two at a time like scan(): measured faster than one by one.
-   */
-  scanExtremes(planar: Float32Array[]): void {
-    const n = planar[0]?.length ?? 0
-    const chunks = Math.ceil(n / CHUNK)
-    if (this.lo[0].length < chunks) {
-      this.lo = this.lo.map(() => new Float32Array(chunks))
-      this.hi = this.hi.map(() => new Float32Array(chunks))
-    }
-    this.frames = n
-    this.chunks = chunks
-    let ch = 0
-    for (; ch + 1 < this.channels; ch += 2) this.extremesPair(ch, ch + 1, planar[ch], planar[ch + 1], n)
-    if (ch < this.channels) this.extremesPair(ch, ch, planar[ch], planar[ch], n)
-  }
-
-  private extremesPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number): void {
-    const loA = this.lo[a], hiA = this.hi[a], loB = this.lo[b], hiB = this.hi[b]
-    let c = 0
-    let i = 0
-    for (; i + 3 < n; i += 4, c++) {
-      const a0 = xa[i], a1 = xa[i + 1], a2 = xa[i + 2], a3 = xa[i + 3]
-      const b0 = xb[i], b1 = xb[i + 1], b2 = xb[i + 2], b3 = xb[i + 3]
-      const la = a0 < a1 ? a0 : a1, ha = a0 < a1 ? a1 : a0, ma = a2 < a3 ? a2 : a3, na = a2 < a3 ? a3 : a2
-      const lb = b0 < b1 ? b0 : b1, hb = b0 < b1 ? b1 : b0, mb = b2 < b3 ? b2 : b3, nb = b2 < b3 ? b3 : b2
-      loA[c] = la < ma ? la : ma
-      hiA[c] = ha > na ? ha : na
-      loB[c] = lb < mb ? lb : mb
-      hiB[c] = hb > nb ? hb : nb
-    }
-    for (const [x, lo, hi] of [[xa, loA, hiA], [xb, loB, hiB]] as const) {
-      if (i >= n) break
-      let l = Infinity, h = -Infinity
-      for (let j = i; j < n; j++) {
-        l = Math.min(l, x[j])
-        h = Math.max(h, x[j])
-      }
-      lo[c] = l
-      hi[c] = h
-    }
-  }
-
   /** Scans channels a and b (b = −1: a only); adds to the chunk energies when `accumulate`, else sets them. */
   private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
     const e = this.energy

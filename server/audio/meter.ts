@@ -73,7 +73,7 @@ export class Meter {
     this.scan.scan(planar)
     this.levels.add(planar, this.scan)
     this.noiseFloor.add(this.scan)
-    this.truePeak.push(planar, this.scan)
+    this.truePeak.push(planar)
     this.loudness.push(planar)
     this.spectrum.push(planar)
   }

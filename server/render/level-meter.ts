@@ -1,7 +1,6 @@
 // The engine's loudness and true-peak meters (the same classes the full Meter
 // runs, ITU-R BS.1770-4), without the spectrum, noise-floor and level meters a
 // render does not report: what a render needs, measured while it writes.
-import { BlockScan } from '../audio/block-scan'
 import { channelWeights } from '../audio/channel-weights'
 import { LoudnessMeter } from '../audio/loudness'
 import { TruePeakMeter } from '../audio/true-peak'
@@ -19,7 +18,6 @@ export interface LevelReading {
 export class LevelMeter {
   private readonly loudness: LoudnessMeter
   private readonly truePeak: TruePeakMeter
-  private readonly scan: BlockScan
   constructor(
     sampleRate: number,
     private readonly channels: number,
@@ -27,13 +25,11 @@ export class LevelMeter {
   ) {
     this.loudness = new LoudnessMeter({ sampleRate, channels, weights: channelWeights(channels, channelMask) })
     this.truePeak = new TruePeakMeter(channels)
-    this.scan = new BlockScan(channels)
   }
 
   push(planar: Float32Array[]): void {
     this.loudness.push(planar)
-    this.scan.scanExtremes(planar)
-    this.truePeak.push(planar, this.scan)
+    this.truePeak.push(planar)
   }
 
   finish(): LevelReading {

@@ -1,0 +1,212 @@
+// AssemblyScript source of true-peak.wasm (`npm run build:wasm`; the test
+// tests/audio/true-peak-wasm.test.ts checks the committed binary is this file
+// compiled). The same search as TruePeakMeter.scan in ../true-peak.ts, with the
+// lows and highs of 4-frame chunks and the bound of each chunk computed for four
+// chunks at once in 128-bit SIMD lanes. Only chunks whose bound can beat the
+// running maximum go on to the scalar path, which interpolates exactly as the
+// JavaScript does (same taps, same f64 arithmetic, same order), so the maximum
+// found is the same number. The SIMD bound works in f32: it is widened by
+// SAFE (far more than its rounding error), so it never skips a chunk the exact
+// bound would check; it may check a few more.
+//
+// Memory: x points to HISTORY + frames f32 samples of one channel (the last
+// HISTORY samples of the previous block, then the block), laid out by the caller.
+
+const HISTORY: i32 = 11
+const CHUNK: i32 = 4
+const SAFE: f32 = 1.0001
+
+// Σh and Σ|h| of phases 1–2 (inner) and 0–3 (outer), passed in from ../true-peak.ts.
+let innerGain: f64 = 0
+let innerAbsGain: f64 = 0
+let outerGain: f64 = 0
+let outerAbsGain: f64 = 0
+
+export function setGains(ig: f64, iag: f64, og: f64, oag: f64): void {
+  innerGain = ig
+  innerAbsGain = iag
+  outerGain = og
+  outerAbsGain = oag
+}
+
+@inline function at(x: usize, i: i32): f64 {
+  return <f64>load<f32>(x + (<usize>i << 2))
+}
+
+function interpolateInner(x: usize, from: i32, to: i32, running: f64): f64 {
+  let peak = running
+  for (let i = from; i < to; i++) {
+    const x0 = at(x, i), x1 = at(x, i - 1), x2 = at(x, i - 2), x3 = at(x, i - 3), x4 = at(x, i - 4), x5 = at(x, i - 5)
+    const x6 = at(x, i - 6), x7 = at(x, i - 7), x8 = at(x, i - 8), x9 = at(x, i - 9), x10 = at(x, i - 10), x11 = at(x, i - 11)
+    const y1 =
+      -0.0291748046875 * x0 + 0.029296875 * x1 - 0.0517578125 * x2 + 0.089111328125 * x3 -
+      0.16650390625 * x4 + 0.465087890625 * x5 + 0.77978515625 * x6 - 0.2003173828125 * x7 +
+      0.1015625 * x8 - 0.0582275390625 * x9 + 0.0330810546875 * x10 - 0.0189208984375 * x11
+    const y2 =
+      -0.0189208984375 * x0 + 0.0330810546875 * x1 - 0.0582275390625 * x2 + 0.1015625 * x3 -
+      0.2003173828125 * x4 + 0.77978515625 * x5 + 0.465087890625 * x6 - 0.16650390625 * x7 +
+      0.089111328125 * x8 - 0.0517578125 * x9 + 0.029296875 * x10 - 0.0291748046875 * x11
+    const a = max(abs(y1), abs(y2))
+    peak = a > peak ? a : peak
+  }
+  return peak
+}
+
+function interpolateOuter(x: usize, from: i32, to: i32, running: f64): f64 {
+  let peak = running
+  for (let i = from; i < to; i++) {
+    const x0 = at(x, i), x1 = at(x, i - 1), x2 = at(x, i - 2), x3 = at(x, i - 3), x4 = at(x, i - 4), x5 = at(x, i - 5)
+    const x6 = at(x, i - 6), x7 = at(x, i - 7), x8 = at(x, i - 8), x9 = at(x, i - 9), x10 = at(x, i - 10), x11 = at(x, i - 11)
+    const y0 =
+      0.001708984375 * x0 + 0.010986328125 * x1 - 0.0196533203125 * x2 + 0.033203125 * x3 -
+      0.0594482421875 * x4 + 0.1373291015625 * x5 + 0.97216796875 * x6 - 0.102294921875 * x7 +
+      0.047607421875 * x8 - 0.026611328125 * x9 + 0.014892578125 * x10 - 0.00830078125 * x11
+    const y3 =
+      -0.00830078125 * x0 + 0.014892578125 * x1 - 0.026611328125 * x2 + 0.047607421875 * x3 -
+      0.102294921875 * x4 + 0.97216796875 * x5 + 0.1373291015625 * x6 - 0.0594482421875 * x7 +
+      0.033203125 * x8 - 0.0196533203125 * x9 + 0.010986328125 * x10 + 0.001708984375 * x11
+    const a = max(abs(y0), abs(y3))
+    peak = a > peak ? a : peak
+  }
+  return peak
+}
+
+// The scalar path's state: lows and highs of the previous three chunks.
+let l1: f64 = 0, h1: f64 = 0, l2: f64 = 0, h2: f64 = 0, l3: f64 = 0, h3: f64 = 0
+
+/** One chunk exactly as TruePeakMeter.scan does it; lo and hi are the chunk's own extremes. */
+function scalarChunk(x: usize, n: i32, firstOutput: i32, c: i32, lo: f64, hi: f64, running: f64): f64 {
+  let peak = running
+  const m = hi > -lo ? hi : -lo
+  peak = m > peak ? m : peak
+  const wl = min(min(l1, l2), min(l3, lo))
+  const wh = max(max(h1, h2), max(h3, hi))
+  const mid = 0.5 * abs(wh + wl)
+  const half = 0.5 * (wh - wl)
+  const inner = mid * innerGain + half * innerAbsGain
+  const outer = mid * outerGain + half * outerAbsGain
+  if (inner > peak || outer > peak) {
+    const start = max(firstOutput, HISTORY + c * CHUNK)
+    const end = min(n, HISTORY + (c + 1) * CHUNK)
+    if (start < end) {
+      if (inner > peak) peak = interpolateInner(x, start, end, peak)
+      if (outer > peak) peak = interpolateOuter(x, start, end, peak)
+    }
+  }
+  l3 = l2
+  h3 = h2
+  l2 = l1
+  h2 = h1
+  l1 = lo
+  h1 = hi
+  return peak
+}
+
+function chunkExtremes(x: usize, n: i32, c: i32, hiWanted: bool): f64 {
+  let l: f64 = Infinity
+  let h: f64 = -Infinity
+  const end = min(n, HISTORY + (c + 1) * CHUNK)
+  for (let i = HISTORY + c * CHUNK; i < end; i++) {
+    const v = at(x, i)
+    l = min(l, v)
+    h = max(h, v)
+  }
+  return hiWanted ? h : l
+}
+
+/**
+ * Largest |value| of the samples x[HISTORY..n) and of the interpolated points whose taps lie on
+ * x[realFrom..n), given the running maximum. Outputs start at firstOutput.
+ */
+export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running: f64): f64 {
+  let headLo: f64 = Infinity
+  let headHi: f64 = -Infinity
+  for (let j = realFrom; j < HISTORY; j++) {
+    headLo = min(headLo, at(x, j))
+    headHi = max(headHi, at(x, j))
+  }
+  l1 = headLo
+  h1 = headHi
+  l2 = headLo
+  h2 = headHi
+  l3 = headLo
+  h3 = headHi
+  let peak = running
+  const chunks = (n - HISTORY + CHUNK - 1) / CHUNK
+  const whole = (n - HISTORY) / CHUNK // chunks of four real samples
+  // Chunks before cs may have outputs before firstOutput: scalar path (only at the start of a take).
+  let c = 0
+  const cs = min(whole, max(0, (firstOutput - HISTORY + CHUNK - 1) / CHUNK))
+  for (; c < cs; c++) peak = scalarChunk(x, n, firstOutput, c, chunkExtremes(x, n, c, false), chunkExtremes(x, n, c, true), peak)
+
+  // Groups of four chunks (16 samples) in SIMD lanes.
+  const ig = f32x4.splat(<f32>innerGain * SAFE)
+  const iag = f32x4.splat(<f32>innerAbsGain * SAFE)
+  const og = f32x4.splat(<f32>outerGain * SAFE)
+  const oag = f32x4.splat(<f32>outerAbsGain * SAFE)
+  const halfV = f32x4.splat(0.5)
+  // Lanes 1..3: the lows and highs of chunks c−3, c−2, c−1 (lane 0 is not read).
+  let prevLo = f32x4(0, <f32>l3, <f32>l2, <f32>l1)
+  let prevHi = f32x4(0, <f32>h3, <f32>h2, <f32>h1)
+  for (; c + 4 <= whole; c += 4) {
+    const p = x + (<usize>(HISTORY + c * CHUNK) << 2)
+    const a = v128.load(p)
+    const b = v128.load(p, 16)
+    const d = v128.load(p, 32)
+    const e = v128.load(p, 48)
+    // Transpose: r_k holds sample k of each of the four chunks.
+    const t0 = v128.shuffle<i32>(a, b, 0, 4, 1, 5)
+    const t1 = v128.shuffle<i32>(a, b, 2, 6, 3, 7)
+    const t2 = v128.shuffle<i32>(d, e, 0, 4, 1, 5)
+    const t3 = v128.shuffle<i32>(d, e, 2, 6, 3, 7)
+    const r0 = v128.shuffle<i32>(t0, t2, 0, 1, 4, 5)
+    const r1 = v128.shuffle<i32>(t0, t2, 2, 3, 6, 7)
+    const r2 = v128.shuffle<i32>(t1, t3, 0, 1, 4, 5)
+    const r3 = v128.shuffle<i32>(t1, t3, 2, 3, 6, 7)
+    const lo = f32x4.min(f32x4.min(r0, r1), f32x4.min(r2, r3))
+    const hi = f32x4.max(f32x4.max(r0, r1), f32x4.max(r2, r3))
+    // Window of chunk k: chunks k−3..k.
+    const wl = f32x4.min(
+      f32x4.min(lo, v128.shuffle<i32>(prevLo, lo, 3, 4, 5, 6)),
+      f32x4.min(v128.shuffle<i32>(prevLo, lo, 2, 3, 4, 5), v128.shuffle<i32>(prevLo, lo, 1, 2, 3, 4)),
+    )
+    const wh = f32x4.max(
+      f32x4.max(hi, v128.shuffle<i32>(prevHi, hi, 3, 4, 5, 6)),
+      f32x4.max(v128.shuffle<i32>(prevHi, hi, 2, 3, 4, 5), v128.shuffle<i32>(prevHi, hi, 1, 2, 3, 4)),
+    )
+    const mid = f32x4.abs(f32x4.mul(halfV, f32x4.add(wh, wl)))
+    const half = f32x4.mul(halfV, f32x4.sub(wh, wl))
+    const inner = f32x4.add(f32x4.mul(mid, ig), f32x4.mul(half, iag))
+    const outer = f32x4.add(f32x4.mul(mid, og), f32x4.mul(half, oag))
+    const m = f32x4.max(hi, f32x4.neg(lo))
+    // The running maximum in f32, rounded down, so no lane is let off by the rounding.
+    let pkf = <f32>peak
+    if (<f64>pkf > peak) pkf = reinterpret<f32>(reinterpret<u32>(pkf) - 1)
+    const pk = f32x4.splat(pkf)
+    const hot = v128.or(v128.or(f32x4.gt(inner, pk), f32x4.gt(outer, pk)), f32x4.gt(m, pk))
+    if (v128.any_true(hot)) {
+      // Scalar path for these four chunks, from the same lows and highs.
+      l1 = <f64>f32x4.extract_lane(prevLo, 3)
+      h1 = <f64>f32x4.extract_lane(prevHi, 3)
+      l2 = <f64>f32x4.extract_lane(prevLo, 2)
+      h2 = <f64>f32x4.extract_lane(prevHi, 2)
+      l3 = <f64>f32x4.extract_lane(prevLo, 1)
+      h3 = <f64>f32x4.extract_lane(prevHi, 1)
+      peak = scalarChunk(x, n, firstOutput, c, <f64>f32x4.extract_lane(lo, 0), <f64>f32x4.extract_lane(hi, 0), peak)
+      peak = scalarChunk(x, n, firstOutput, c + 1, <f64>f32x4.extract_lane(lo, 1), <f64>f32x4.extract_lane(hi, 1), peak)
+      peak = scalarChunk(x, n, firstOutput, c + 2, <f64>f32x4.extract_lane(lo, 2), <f64>f32x4.extract_lane(hi, 2), peak)
+      peak = scalarChunk(x, n, firstOutput, c + 3, <f64>f32x4.extract_lane(lo, 3), <f64>f32x4.extract_lane(hi, 3), peak)
+    }
+    prevLo = lo
+    prevHi = hi
+  }
+  l1 = <f64>f32x4.extract_lane(prevLo, 3)
+  h1 = <f64>f32x4.extract_lane(prevHi, 3)
+  l2 = <f64>f32x4.extract_lane(prevLo, 2)
+  h2 = <f64>f32x4.extract_lane(prevHi, 2)
+  l3 = <f64>f32x4.extract_lane(prevLo, 1)
+  h3 = <f64>f32x4.extract_lane(prevHi, 1)
+  // The rest (fewer than four chunks, the last maybe partial): scalar.
+  for (; c < chunks; c++) peak = scalarChunk(x, n, firstOutput, c, chunkExtremes(x, n, c, false), chunkExtremes(x, n, c, true), peak)
+  return peak
+}
