@@ -4,7 +4,7 @@
 // tests load it the same way, with no file to find at run time.
 // `--check`: compiles and exits 1 when a committed module differs from the source.
 import { execFileSync } from 'node:child_process'
-import { mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs'
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { dirname, join, relative } from 'node:path'
 import { fileURLToPath } from 'node:url'
@@ -27,10 +27,7 @@ try {
       ...b64.match(/.{1,100}/g).map((line, i, all) => `  '${line}'${i < all.length - 1 ? ' +' : ''}`),
       '',
     ].join('\n')
-    let kept = null
-    try {
-      kept = readFileSync(target, 'utf8')
-    } catch {}
+    const kept = existsSync(target) ? readFileSync(target, 'utf8') : null
     if (kept === text) continue
     if (check) {
       process.stderr.write(`${relative(root, target)} is not what ${relative(root, src)} compiles to: run npm run build:wasm\n`)
