@@ -10,15 +10,14 @@
 import type { Loudness } from '@shared/schemas/analysis'
 import { preFilter, rlbHighPass } from './k-weighting'
 import { LevelHistogram } from './level-histogram'
+import { WASM_BASE64 } from './wasm/k-weighting.wasm'
+import { instantiate, type KernelInstance } from './wasm/instance'
 
 const ABSOLUTE_GATE = -70
 const INTEGRATED_RELATIVE_GATE = -10
 const RANGE_RELATIVE_GATE = -20
 const MOMENTARY_SUBBLOCKS = 4
 const SHORT_TERM_SUBBLOCKS = 30
-// Keeps the recursive filter states away from subnormal numbers during digital
-// silence (slow on x86); the RLB high-pass removes this constant entirely.
-const DENORMAL_GUARD = 1e-20
 
 export interface LoudnessOptions {
   sampleRate: number
@@ -28,6 +27,27 @@ export interface LoudnessOptions {
   onMomentary?: (endSeconds: number, lufs: number | null) => void
   /** Called every 100 ms with the end time of a complete short-term block. */
   onShortTerm?: (endSeconds: number, lufs: number | null) => void
+}
+
+interface KKernel {
+  memory: WebAssembly.Memory
+  filterPair(xa: number, xb: number, from: number, to: number, io: number): void
+}
+
+// The K-weighting kernel of this thread: 18 f64 of coefficients, state and energies at its base
+// (see wasm/k-weighting.as.ts), then the samples of the block being pushed.
+let kKernel: KernelInstance<KKernel> | null = null
+let ioView = new Float64Array(0)
+let samplesView = new Float32Array(0)
+const IO_BYTES = 256
+
+/** Grows the scratch for `samples` f32 after the io area; returns the byte offset of the samples. */
+function kernelScratch(samples: number): number {
+  kKernel ??= instantiate<KKernel>(WASM_BASE64)
+  const buffer = kKernel.scratch(IO_BYTES + samples * 4)
+  if (ioView.buffer !== buffer) ioView = new Float64Array(buffer, kKernel.base, 18)
+  if (samplesView.buffer !== buffer || samplesView.length < samples) samplesView = new Float32Array(buffer, kKernel.base + IO_BYTES, samples)
+  return kKernel.base + IO_BYTES
 }
 
 export function powerToLufs(power: number): number | null {
@@ -69,20 +89,25 @@ export class LoudnessMeter {
 
   push(planar: Float32Array[]): void {
     const frames = planar[0]?.length ?? 0
+    if (frames === 0) return
     const active = this.activeChannels
+    // The block's weighted channels go to the kernel's memory once; segments are offsets into it.
+    const samplesAt = kernelScratch(frames * this.opts.channels)
+    const at = (ch: number) => samplesAt + ch * frames * 4
+    for (const ch of active) samplesView.set(planar[ch], (at(ch) - samplesAt) / 4)
     let offset = 0
     while (offset < frames) {
       const end = Math.min(frames, offset + (this.nextBoundary - this.position))
-      // Channels go through the filters two at a time: two independent recursions keep the CPU busy.
+      // Channels go through the filters two at a time (one per SIMD lane).
       let k = 0
       for (; k + 1 < active.length; k += 2) {
         const a = active[k]
         const b = active[k + 1]
-        this.currentEnergy += this.filterPair(a, b, planar[a], planar[b], offset, end)
+        this.currentEnergy += this.filterPair(a, b, at(a), at(b), offset, end)
       }
       if (k < active.length) {
         const a = active[k]
-        this.currentEnergy += this.filterPair(a, -1, planar[a], planar[a], offset, end)
+        this.currentEnergy += this.filterPair(a, -1, at(a), at(a), offset, end)
       }
       this.currentFrames += end - offset
       this.position += end - offset
@@ -93,47 +118,25 @@ export class LoudnessMeter {
 
   /**
    * Runs both K-weighting stages over x[from..to) of channels a and b (b = −1: only a) and returns
-   * the weighted energy of the outputs.
+   * the weighted energy of the outputs. The filters run in WebAssembly (wasm/k-weighting.as.ts),
+   * the two channels side by side in SIMD lanes; the samples were copied there by push().
    */
-  private filterPair(a: number, b: number, xa: Float32Array, xb: Float32Array, from: number, to: number): number {
-    const c = this.c
-    const b0 = c[0], b1 = c[1], b2 = c[2], a1 = c[3], a2 = c[4], c1 = c[5], c2 = c[6]
+  private filterPair(a: number, b: number, xa: number, xb: number, from: number, to: number): number {
+    const k = kKernel!
+    const io = ioView
     const st = this.state
     const oa = 4 * a
     const ob = b < 0 ? oa : 4 * b
-    let z1 = st[oa], z2 = st[oa + 1], w1 = st[oa + 2], w2 = st[oa + 3]
-    let q1 = st[ob], q2 = st[ob + 1], r1 = st[ob + 2], r2 = st[ob + 3]
-    let ea = 0
-    let eb = 0
-    for (let i = from; i < to; i++) {
-      // Transposed direct form II, stage 1 (shelf) then stage 2 (high-pass, numerator 1 −2 1).
-      const v = xa[i] + DENORMAL_GUARD
-      const y = b0 * v + z1
-      z1 = b1 * v - a1 * y + z2
-      z2 = b2 * v - a2 * y
-      const u = y + w1
-      w1 = -2 * y - c1 * u + w2
-      w2 = y - c2 * u
-      ea += u * u
-      const p = xb[i] + DENORMAL_GUARD
-      const g = b0 * p + q1
-      q1 = b1 * p - a1 * g + q2
-      q2 = b2 * p - a2 * g
-      const t = g + r1
-      r1 = -2 * g - c1 * t + r2
-      r2 = g - c2 * t
-      eb += t * t
+    io.set(this.c, 0)
+    for (let j = 0; j < 4; j++) {
+      io[8 + j] = st[oa + j]
+      io[12 + j] = st[ob + j]
     }
-    st[oa] = z1
-    st[oa + 1] = z2
-    st[oa + 2] = w1
-    st[oa + 3] = w2
-    if (b < 0) return this.opts.weights[a] * ea
-    st[ob] = q1
-    st[ob + 1] = q2
-    st[ob + 2] = r1
-    st[ob + 3] = r2
-    return this.opts.weights[a] * ea + this.opts.weights[b] * eb
+    k.exports.filterPair(xa, xb, from, to, k.base)
+    for (let j = 0; j < 4; j++) st[oa + j] = io[8 + j]
+    if (b < 0) return this.opts.weights[a] * io[16]
+    for (let j = 0; j < 4; j++) st[ob + j] = io[12 + j]
+    return this.opts.weights[a] * io[16] + this.opts.weights[b] * io[17]
   }
 
   private completeSubBlock(): void {

@@ -1,14 +1,20 @@
-// The true-peak search runs in WebAssembly (server/audio/wasm/true-peak.as.ts).
-// Its answer must be the exact maximum of the ITU-R BS.1770-4 Annex 2
+// The true-peak search and the K-weighting run in WebAssembly
+// (server/audio/wasm/*.as.ts). The true peak must be the exact maximum of the ITU-R BS.1770-4 Annex 2
 // oversampled signal: here held against a brute-force pass that interpolates
 // every output of all four phases (interpolate() of server/audio/true-peak.ts,
 // whose taps tests/audio/ebu-3341.test.ts holds against the Annex's table), for
 // signals of every shape (noise, tones near full scale, hum, one-signed
 // stretches, impulses at block edges, silence), fed in blocks of awkward sizes.
-// And the committed binary must be what the source compiles to.
+// The loudness meter's 100 ms momentary levels must be those of a plain
+// JavaScript K-weighting (the ITU-R BS.1770-4 filters of k-weighting.ts, run
+// sample by sample in f64), for one to six channels with their weights.
+// And the committed binaries must be what the sources compile to.
 import { spawnSync } from 'node:child_process'
 import path from 'node:path'
 import { describe, expect, it } from 'vitest'
+import { channelWeights } from '../../server/audio/channel-weights'
+import { preFilter, rlbHighPass } from '../../server/audio/k-weighting'
+import { LoudnessMeter } from '../../server/audio/loudness'
 import { interpolate, TruePeakMeter } from '../../server/audio/true-peak'
 
 const root = path.join(path.dirname(new URL(import.meta.url).pathname), '..', '..')
@@ -61,7 +67,46 @@ describe('true peak in WebAssembly', () => {
     })
   }
 
-  it('the committed module is what `npm run build:wasm` makes of the source (AssemblyScript)', () => {
+  for (const [channels, mask] of [[1, 0], [2, 0], [3, 0], [6, 0x3f]] as const) {
+    it(`K-weighting, ${channels} channel(s)${mask ? ' (5.1: LFE weight 0, surrounds 1.41)' : ''}: the momentary levels of a plain JavaScript filter`, () => {
+      const fs = 48000
+      const frames = fs * 2 + 1234
+      const planar = Array.from({ length: channels }, (_, c) => make(frames, (i) => q24(0.3 * Math.sin(i * (0.01 + 0.003 * c)) + 0.2 * (rnd() - 0.5))))
+      const weights = channelWeights(channels, mask)
+      const got: (number | null)[] = []
+      const m = new LoudnessMeter({ sampleRate: fs, channels, weights, onMomentary: (_t, l) => got.push(l) })
+      for (let at = 0, k = 0; at < frames; k++) {
+        const n = Math.min(frames - at, [4096, 1000, 7, 65536][k % 4])
+        m.push(planar.map((x) => x.subarray(at, at + n)))
+        at += n
+      }
+      // Reference: both stages in direct form, the weighted energy of each 100 ms sub-block.
+      const s1 = preFilter(fs)
+      const s2 = rlbHighPass(fs)
+      const sub: number[] = []
+      const energy = new Float64Array(Math.floor(frames / (fs / 10)))
+      for (let c = 0; c < channels; c++) {
+        let x1 = 0, x2 = 0, y1 = 0, y2 = 0, u1 = 0, u2 = 0
+        for (let i = 0; i < energy.length * (fs / 10); i++) {
+          const x = planar[c][i]
+          const y = s1.b0 * x + s1.b1 * x1 + s1.b2 * x2 - s1.a1 * y1 - s1.a2 * y2
+          const u = y - 2 * y1 + y2 - s2.a1 * u1 - s2.a2 * u2
+          x2 = x1
+          x1 = x
+          u2 = u1
+          u1 = u
+          y2 = y1
+          y1 = y
+          energy[Math.floor(i / (fs / 10))] += weights[c] * u * u
+        }
+      }
+      for (let k = 3; k < energy.length; k++) sub.push(-0.691 + 10 * Math.log10((energy[k] + energy[k - 1] + energy[k - 2] + energy[k - 3]) / (0.4 * fs)))
+      expect(got.length).toBe(sub.length)
+      for (let k = 0; k < sub.length; k++) expect(got[k]).toBeCloseTo(sub[k], 9)
+    })
+  }
+
+  it('the committed modules are what `npm run build:wasm` makes of the sources (AssemblyScript)', () => {
     const r = spawnSync(process.execPath, [path.join(root, 'scripts', 'build-wasm.mjs'), '--check'], { encoding: 'utf8' })
     expect(r.stderr).toBe('')
     expect(r.status).toBe(0)
