@@ -28,6 +28,7 @@ const resultsFile = join(root, 'bench', 'results', 'pack.md')
 const TIME = '/usr/bin/time'
 const TAKES = 12
 const MINUTES = 5
+const ROUNDS = 3
 
 interface Levels {
   file: string
@@ -199,7 +200,12 @@ function timed(cmd: string, args: string[], cwd = root, env: NodeJS.ProcessEnv =
   return { seconds, maxRssMb: Number(rss[1]) / 1024, stdout: r.stdout }
 }
 
-const warm = (files: string[]) => execFileSync('sh', ['-c', 'cat "$@" > /dev/null', 'sh', ...files])
+// Before each timed step (untimed): the inputs in the page cache, and no writeback of earlier
+// steps' files (the unpacked renders, a previous zip) left pending to compete with it.
+const warm = (files: string[]) => {
+  execFileSync('sh', ['-c', 'cat "$@" > /dev/null', 'sh', ...files])
+  execFileSync('sync')
+}
 
 async function main(): Promise<void> {
   if (process.argv[2] === '--child') return child(process.argv[3], process.argv[4])
@@ -226,28 +232,43 @@ async function main(): Promise<void> {
       process.stdout.write(`${label}: ${report.buildSeconds.toFixed(1)} s, build process ${report.buildRssMb.toFixed(0)} MB, job side ${run.maxRssMb.toFixed(0)} MB, ${report.workers} render thread(s)\n`)
       return { label, dir, report, maxRssMb: run.maxRssMb }
     }
-    // The job's own choice first, then the two worker-thread settings (forced).
-    const runs = [
-      build(`${TAKES} × ${MINUTES} min`, packLevels, files, undefined),
-      build(`${TAKES} × ${MINUTES} min`, packLevels, files, '1'),
-      build(`${TAKES} × ${MINUTES} min`, packLevels, files, '0'),
-    ]
-
-    // The same rendered files, unpacked (untimed), then zip -0 (timed).
+    // Rounds interleave a build (the job's own choice of render threads) with `zip -0` of the same
+    // rendered files; each keeps its fastest round, so a burst of other work on this shared
+    // machine does not decide the ratio (every round is listed as well). The first build's zip
+    // gives the rendered files. Then one build each with one render worker thread and with none.
+    const label = `${TAKES} × ${MINUTES} min`
     const unpacked = join(work, 'unpacked')
-    execFileSync('unzip', ['-q', runs[0].report.zipPath, '-d', unpacked])
+    const first = build(label, packLevels, files, undefined)
+    execFileSync('unzip', ['-q', first.report.zipPath, '-d', unpacked])
+    rmSync(first.dir, { recursive: true, force: true })
     const wavs = readdirSync(unpacked).filter((f) => f.endsWith('.wav')).sort()
     const renderedBytes = wavs.reduce((n, f) => n + statSync(join(unpacked, f)).size, 0)
-    for (const r of runs) rmSync(r.dir, { recursive: true, force: true })
-    warm(wavs.map((f) => join(unpacked, f)))
-    const zip0 = timed('zip', ['-0', '-q', join(work, 'zip0.zip'), ...wavs], unpacked)
+    const zip0 = (): number => {
+      warm(wavs.map((f) => join(unpacked, f)))
+      const t = timed('zip', ['-0', '-q', join(work, 'zip0.zip'), ...wavs], unpacked)
+      rmSync(join(work, 'zip0.zip'), { force: true })
+      process.stdout.write(`zip -0: ${t.seconds.toFixed(1)} s\n`)
+      return t.seconds
+    }
+    const rounds = [{ run: first, zipSeconds: zip0() }]
+    while (rounds.length < ROUNDS) {
+      const run = build(label, packLevels, files, undefined)
+      rmSync(run.dir, { recursive: true, force: true })
+      rounds.push({ run, zipSeconds: zip0() })
+    }
     rmSync(unpacked, { recursive: true, force: true })
-    rmSync(join(work, 'zip0.zip'), { force: true })
-    process.stdout.write(`zip -0: ${zip0.seconds.toFixed(1)} s\n`)
-
+    const forced = ['1', '0'].map((w) => {
+      const run = build(label, packLevels, files, w)
+      rmSync(run.dir, { recursive: true, force: true })
+      return run
+    })
     const longRun = build('1 × 60 min', longLevels, [long], undefined)
     rmSync(longRun.dir, { recursive: true, force: true })
 
+    const bestZip = Math.min(...rounds.map((r) => r.zipSeconds))
+    const best = rounds.map((r) => r.run).reduce((a, b) => (b.report.buildSeconds < a.report.buildSeconds ? b : a))
+    // The job's choice: its fastest round, and the largest peak memory of all its rounds.
+    const chosen = { ...best, label: `${label} (best of ${ROUNDS})`, report: { ...best.report, buildRssMb: Math.max(...rounds.map((r) => r.run.report.buildRssMb)) }, maxRssMb: Math.max(...rounds.map((r) => r.run.maxRssMb)) }
     const row = (r: { label: string; report: ChildReport; maxRssMb: number }, zipSeconds: number | null) =>
       `| ${r.label} | ${(mb(r.report.sourceBytes) / 1000).toFixed(2)} GB | ${r.report.workers === 0 ? 'none (its own thread)' : `${r.report.workers} worker${r.report.workers > 1 ? 's' : ''}`} | ` +
       `${r.report.buildSeconds.toFixed(1)} | ${(mb(r.report.sourceBytes) / r.report.buildSeconds).toFixed(0)} MB/s | ${r.report.buildRssMb.toFixed(0)} MB | ${r.maxRssMb.toFixed(0)} MB | ` +
@@ -265,13 +286,21 @@ async function main(): Promise<void> {
       'Build seconds: from the job starting the build process to the zip in place; throughput: source megabytes per build second.',
       'Peak memory: the build process (all its threads, getrusage); the job side (database, job, this process\'s tsx) by `/usr/bin/time -v`, for reference.',
       `\`zip -0\`: Info-ZIP storing the same rendered files (${(mb(renderedBytes) / 1000).toFixed(2)} GB), warm in the page cache.`,
-      'Render threads: the job\'s choice first (two on two cores or more, for a build this large), then forced to one worker thread and to none.',
+      `Render threads: the job\'s choice (two on two cores or more, for a build this large), fastest of ${ROUNDS} rounds interleaved with \`zip -0\` (its peak memory the largest of`,
+      'the rounds; the ratio fastest build ÷ fastest zip -0); then one build forced to one worker thread and one to none.',
       'Targets: build ÷ zip -0 < 2, peak memory of the build < 200 MB.',
       '',
       '| pack | source audio | render threads | build seconds | throughput | peak memory, build process | job side | zip -0 seconds | build ÷ zip -0 |',
       '| --- | ---: | --- | ---: | ---: | ---: | ---: | ---: | ---: |',
-      ...runs.map((r) => row(r, zip0.seconds)),
+      row(chosen, bestZip),
+      ...forced.map((r) => row(r, bestZip)),
       row(longRun, null),
+      '',
+      `Every round of the job's choice (build, then \`zip -0\`):`,
+      '',
+      '| round | build seconds | peak memory, build process | zip -0 seconds | build ÷ zip -0 |',
+      '| ---: | ---: | ---: | ---: | ---: |',
+      ...rounds.map((r, i) => `| ${i + 1} | ${r.run.report.buildSeconds.toFixed(1)} | ${r.run.report.buildRssMb.toFixed(0)} MB | ${r.zipSeconds.toFixed(1)} | ${(r.run.report.buildSeconds / r.zipSeconds).toFixed(2)} |`),
       '',
     ].join('\n')
     process.stdout.write(`\n${md}\n`)

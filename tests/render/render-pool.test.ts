@@ -39,7 +39,7 @@ afterAll(async () => {
 const sha256sum = (f: string) => execFileSync('sha256sum', [f], { encoding: 'utf8' }).split(' ')[0]
 
 describe('the render pool', () => {
-  it('renders the same bytes as the build thread', async () => {
+  it('renders the same bytes in a worker thread as in this one', async () => {
     const a = path.join(dir, 'in-thread.wav')
     const b = path.join(dir, 'in-worker.wav')
     const here = await renderItem(request(short), a)
