@@ -89,18 +89,27 @@ class BuildInterrupted extends Error {
   }
 }
 
+class BuildProcessDied extends Error {
+  constructor(how: string) {
+    super(`the build process stopped before it finished (${how})`)
+  }
+}
+
 const revive = (e: ErrorInfo): Error => Object.assign(new Error(e.message), { name: e.name, code: e.code, reason: e.reason })
 
-/** Starts the build process (plain JavaScript, without the options the server itself was started with). */
-function startBuildProcess(): ChildProcess {
+/**
+ * Starts the build process (plain JavaScript, without the options the server itself was started
+ * with). Its arguments only name the build and its zip, so `ps` shows which build a process runs.
+ */
+function startBuildProcess(order: BuildOrder): ChildProcess {
   const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
   const entry = workerModule(new URL(`./build-process${ext}`, import.meta.url))
-  return fork(entry, [], { execArgv: [], serialization: 'advanced', stdio: ['ignore', 'inherit', 'inherit', 'ipc'] })
+  return fork(entry, ['--build', String(order.buildId), order.tmpZip], { execArgv: [], serialization: 'advanced', stdio: ['ignore', 'inherit', 'inherit', 'ipc'] })
 }
 
 /** Sends the order and resolves with the process's answer; a process that dies without one rejects. */
 function runProcess(order: BuildOrder, onFrames: (k: number, frames: number) => void, isStopped: () => boolean): Promise<Exclude<FromBuildProcess, { type: 'frames' }>> {
-  const child = startBuildProcess()
+  const child = startBuildProcess(order)
   return new Promise((resolve, reject) => {
     let answer: Exclude<FromBuildProcess, { type: 'frames' }> | null = null
     const stopWatch = setInterval(() => {
@@ -117,7 +126,7 @@ function runProcess(order: BuildOrder, onFrames: (k: number, frames: number) => 
     child.once('exit', (code, signal) => {
       clearInterval(stopWatch)
       if (answer) resolve(answer)
-      else reject(new Error(`the build process ended without an answer (${signal ?? `exit code ${code}`})`))
+      else reject(new BuildProcessDied(signal ?? `exit code ${code}`))
     })
     child.send({ type: 'order', order } satisfies ToBuildProcess)
   })
@@ -231,7 +240,7 @@ async function record(ctx: AppContext, buildId: number, snap: BuildSnapshot, pat
 /** Marks the build failed (naming the item when one failed) and fails the job with the same words. */
 async function fail(ctx: AppContext, buildId: number, position: number | null, snap: BuildSnapshot, err: unknown): Promise<never> {
   const spec = position === null ? null : (snap.items.find((s) => s.position === position) ?? null)
-  const message = spec ? describeItemFailure(spec, err) : `writing the zip failed: ${(err as Error).message}`
+  const message = spec ? describeItemFailure(spec, err) : err instanceof BuildProcessDied ? err.message : `writing the zip failed: ${(err as Error).message}`
   await repo.updateBuild(ctx.db, buildId, {
     status: 'failed',
     error: message,
