@@ -11,11 +11,12 @@
 // taps lie on samples of the take; nothing is assumed before or after it.
 //
 // The search runs in WebAssembly (wasm/true-peak.as.ts, compiled by
-// `npm run build:wasm` into wasm/true-peak.wasm.ts): the lows, highs and bound below for four chunks at
-// once in SIMD lanes; interpolation where a bound can beat the running maximum,
-// in the same f64 arithmetic as interpolateInner and interpolateOuter here.
-// Measured on the pack benchmark's audio it takes about a third of the time
-// the same search took in JavaScript.
+// `npm run build:wasm` into wasm/true-peak.wasm.ts): the lows, highs and bound
+// below for four chunks at once in SIMD lanes, then, where a bound can beat the
+// running maximum, the four phases term by term in f64 (the table's order, so
+// tests/audio/wasm-kernels.test.ts finds the very maximum of a brute-force pass
+// over TRUE_PEAK_PHASES). On the pack benchmark's audio it takes about a fifth
+// of the time the same search took in JavaScript.
 
 import { instantiate, type KernelInstance } from './wasm/instance'
 import { WASM_BASE64 } from './wasm/true-peak.wasm'
@@ -107,50 +108,4 @@ export class TruePeakMeter {
   peak(channel: number): number {
     return this.peaks[channel]
   }
-}
-
-// The four phases of TRUE_PEAK_PHASES written out term by term (this runs for every sample of loud
-// passages). Exported so a test can hold them against the table.
-export function interpolate(x: Float32Array, from: number, to: number, running: number): number {
-  return interpolateOuter(x, from, to, interpolateInner(x, from, to, running))
-}
-
-/** Phases 1 and 2. */
-export function interpolateInner(x: Float32Array, from: number, to: number, running: number): number {
-  let peak = running
-  for (let i = from; i < to; i++) {
-    const x0 = x[i], x1 = x[i - 1], x2 = x[i - 2], x3 = x[i - 3], x4 = x[i - 4], x5 = x[i - 5]
-    const x6 = x[i - 6], x7 = x[i - 7], x8 = x[i - 8], x9 = x[i - 9], x10 = x[i - 10], x11 = x[i - 11]
-    const y1 =
-      -0.0291748046875 * x0 + 0.029296875 * x1 - 0.0517578125 * x2 + 0.089111328125 * x3 -
-      0.16650390625 * x4 + 0.465087890625 * x5 + 0.77978515625 * x6 - 0.2003173828125 * x7 +
-      0.1015625 * x8 - 0.0582275390625 * x9 + 0.0330810546875 * x10 - 0.0189208984375 * x11
-    const y2 =
-      -0.0189208984375 * x0 + 0.0330810546875 * x1 - 0.0582275390625 * x2 + 0.1015625 * x3 -
-      0.2003173828125 * x4 + 0.77978515625 * x5 + 0.465087890625 * x6 - 0.16650390625 * x7 +
-      0.089111328125 * x8 - 0.0517578125 * x9 + 0.029296875 * x10 - 0.0291748046875 * x11
-    const a = Math.max(Math.abs(y1), Math.abs(y2))
-    peak = a > peak ? a : peak
-  }
-  return peak
-}
-
-/** Phases 0 and 3. */
-export function interpolateOuter(x: Float32Array, from: number, to: number, running: number): number {
-  let peak = running
-  for (let i = from; i < to; i++) {
-    const x0 = x[i], x1 = x[i - 1], x2 = x[i - 2], x3 = x[i - 3], x4 = x[i - 4], x5 = x[i - 5]
-    const x6 = x[i - 6], x7 = x[i - 7], x8 = x[i - 8], x9 = x[i - 9], x10 = x[i - 10], x11 = x[i - 11]
-    const y0 =
-      0.001708984375 * x0 + 0.010986328125 * x1 - 0.0196533203125 * x2 + 0.033203125 * x3 -
-      0.0594482421875 * x4 + 0.1373291015625 * x5 + 0.97216796875 * x6 - 0.102294921875 * x7 +
-      0.047607421875 * x8 - 0.026611328125 * x9 + 0.014892578125 * x10 - 0.00830078125 * x11
-    const y3 =
-      -0.00830078125 * x0 + 0.014892578125 * x1 - 0.026611328125 * x2 + 0.047607421875 * x3 -
-      0.102294921875 * x4 + 0.97216796875 * x5 + 0.1373291015625 * x6 - 0.0594482421875 * x7 +
-      0.033203125 * x8 - 0.0196533203125 * x9 + 0.010986328125 * x10 + 0.001708984375 * x11
-    const a = Math.max(Math.abs(y0), Math.abs(y3))
-    peak = a > peak ? a : peak
-  }
-  return peak
 }

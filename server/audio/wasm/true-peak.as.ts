@@ -1,11 +1,11 @@
 // AssemblyScript source of true-peak.wasm (`npm run build:wasm`; the test
 // tests/audio/true-peak-wasm.test.ts checks the committed binary is this file
-// compiled). The same search as TruePeakMeter.scan in ../true-peak.ts, with the
-// lows and highs of 4-frame chunks and the bound of each chunk computed for four
-// chunks at once in 128-bit SIMD lanes. Only chunks whose bound can beat the
-// running maximum go on to the scalar path, which interpolates exactly as the
-// JavaScript does (same taps, same f64 arithmetic, same order), so the maximum
-// found is the same number. The SIMD bound works in f32: it is widened by
+// compiled). The search described in ../true-peak.ts, with the lows and highs of
+// 4-frame chunks and the bound of each chunk computed for four chunks at once in
+// 128-bit SIMD lanes. Only chunks whose bound can beat the running maximum go on
+// to the scalar path, which computes the four phases of the Annex 2 table term
+// by term in f64, in the table's order, so the maximum is exactly that of a
+// brute-force pass over every output. The SIMD bound works in f32: it is widened by
 // SAFE (far more than its rounding error), so it never skips a chunk the exact
 // bound would check; it may check a few more.
 //
