@@ -1,0 +1,47 @@
+// Workers start from the TypeScript sources as plain JavaScript bundles
+// (server/core/workers.ts). A bundle holds only our code: each package import
+// is an absolute URL, so the bundle runs from any folder (the temp folder when
+// node_modules is read-only), and a worker loads no tsx.
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { Worker } from 'node:worker_threads'
+import { describe, expect, it } from 'vitest'
+import { workerModule } from '../../server/core/workers'
+import { renderWorkerEntry } from '../../server/render/render-pool'
+
+describe('bundled workers', () => {
+  const bundle = workerModule(renderWorkerEntry())
+  const code = fs.readFileSync(bundle, 'utf8')
+
+  it('import packages by absolute file URL and builtins by node: name, nothing bare', () => {
+    const specs = [...code.matchAll(/\bfrom\s*"([^"]+)"|\bimport\s*\(\s*"([^"]+)"/g)].map((m) => m[1] ?? m[2])
+    expect(specs.length).toBeGreaterThan(0)
+    for (const s of specs) expect(s).toMatch(/^(node:|file:\/\/)/)
+    expect(code).not.toMatch(/from\s*"tsx|from\s*"zod/)
+  })
+
+  it('run when copied outside the project, and answer a render request with an error for a missing file', async () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'sf-bundle-'))
+    const copy = path.join(dir, 'render-worker.mjs')
+    fs.copyFileSync(bundle, copy)
+    const w = new Worker(copy)
+    try {
+      const reply = await new Promise<{ type: string; error?: { code?: string } }>((resolve, reject) => {
+        w.once('message', resolve)
+        w.once('error', reject)
+        w.postMessage({ type: 'render', id: 1, outPath: path.join(dir, 'out.wav'), req: { sourcePath: path.join(dir, 'missing.wav'), startSeconds: null, endSeconds: null, kind: 'one-shot', settings: {}, metadata: {} } })
+      })
+      expect(reply.type).toBe('error')
+      expect(reply.error?.code).toBe('ENOENT')
+    } finally {
+      await w.terminate()
+      fs.rmSync(dir, { recursive: true, force: true })
+    }
+  })
+
+  it('is the same file for the same code (named by its hash), however often it is asked for', () => {
+    expect(workerModule(renderWorkerEntry()).href).toBe(bundle.href)
+    expect(path.basename(bundle.pathname)).toMatch(/^render-worker-[0-9a-f]{16}\.mjs$/)
+  })
+})
