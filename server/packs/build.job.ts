@@ -17,7 +17,7 @@ import { workerModule } from '../core/workers'
 import type { JobHandler } from '../jobs/job-runner'
 import type { NewPackBuildItem } from '../../db/schema-packs'
 import { renderWorkerEntry } from '../render/render-pool'
-import type { BuildOrder, BuildOutput } from './build-writer'
+import { BuildStopped, type BuildOrder, type BuildOutput } from './build-writer'
 import type { ErrorInfo, FromBuildProcess, ToBuildProcess } from './build-process'
 import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot } from './item-spec'
 import * as repo from './packs.repository'
@@ -83,12 +83,6 @@ export function buildPackJob(ctx: AppContext): JobHandler {
   }
 }
 
-class BuildInterrupted extends Error {
-  constructor() {
-    super('build stopped with the server; it resumes at the next start')
-  }
-}
-
 class BuildProcessDied extends Error {
   constructor(how: string) {
     super(`the build process stopped before it finished (${how})`)
@@ -112,8 +106,11 @@ function runProcess(order: BuildOrder, onFrames: (k: number, frames: number) => 
   const child = startBuildProcess(order)
   return new Promise((resolve, reject) => {
     let answer: Exclude<FromBuildProcess, { type: 'frames' }> | null = null
+    let stopSent = false
     const stopWatch = setInterval(() => {
-      if (isStopped() && child.connected) child.send({ type: 'stop' } satisfies ToBuildProcess)
+      if (stopSent || !isStopped() || !child.connected) return
+      stopSent = true
+      child.send({ type: 'stop' } satisfies ToBuildProcess)
     }, 50)
     child.on('message', (m: FromBuildProcess) => {
       if (m.type === 'frames') onFrames(m.k, m.frames)
@@ -190,12 +187,12 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
     // The process died without an answer (killed, out of memory): clean up after it.
     await fs.rm(paths.tmpZip, { force: true })
     await fs.rm(paths.workDir, { recursive: true, force: true })
-    if (ctx.jobs.isStopped) throw new BuildInterrupted() // stays 'running'; queued again at start
+    if (ctx.jobs.isStopped) throw new BuildStopped() // stays 'running'; queued again at start
     return fail(ctx, buildId, null, snap, err)
   }
-  if (answer.type === 'stopped') throw new BuildInterrupted()
+  if (answer.type === 'stopped') throw new BuildStopped()
   if (answer.type === 'failed') {
-    if (ctx.jobs.isStopped) throw new BuildInterrupted()
+    if (ctx.jobs.isStopped) throw new BuildStopped()
     return fail(ctx, buildId, answer.position, snap, revive(answer.error))
   }
   await record(ctx, buildId, snap, paths, answer.output)
