@@ -14,23 +14,11 @@ import { describe, expect, it } from 'vitest'
 import { channelWeights } from '../../server/audio/channel-weights'
 import { preFilter, rlbHighPass } from '../../server/audio/k-weighting'
 import { LoudnessMeter } from '../../server/audio/loudness'
-import { TRUE_PEAK_PHASES, TruePeakMeter } from '../../server/audio/true-peak'
+import { TruePeakMeter } from '../../server/audio/true-peak'
+import { truePeakBruteForce } from '../helpers/signals'
 
 const root = path.join(path.dirname(new URL(import.meta.url).pathname), '..', '..')
 
-/** max over all samples and interpolated points whose 12 taps lie on the signal. */
-function bruteForce(x: Float32Array): number {
-  let peak = 0
-  for (const v of x) peak = Math.max(peak, Math.abs(v))
-  for (let i = 11; i < x.length; i++) {
-    for (const h of TRUE_PEAK_PHASES) {
-      let y = 0
-      for (let k = 0; k < 12; k++) y += h[k] * x[i - k]
-      peak = Math.max(peak, Math.abs(y))
-    }
-  }
-  return peak
-}
 
 function meter(x: Float32Array, sizes: number[]): number {
   const m = new TruePeakMeter(1)
@@ -68,7 +56,7 @@ const signals: [string, Float32Array][] = [
 describe('true peak in WebAssembly', () => {
   for (const [name, x] of signals) {
     it(`${name}: the exact brute-force maximum, whatever the block sizes`, () => {
-      const want = bruteForce(x)
+      const want = truePeakBruteForce(x)
       for (const sizes of [[65_536], [4096], [1, 3, 4, 5, 1000], [17], [2, 4099]]) expect(meter(x, sizes)).toBe(want)
     })
   }

@@ -1,6 +1,7 @@
 // Test signals built from the descriptions in published test documents, and
 // helpers to feed them to the meter block by block as a reader would.
 import { Meter, type MeterFormat, type MeterResult } from '../../server/audio/meter'
+import { TRUE_PEAK_PHASES } from '../../server/audio/true-peak'
 
 export interface ToneSegment {
   seconds: number
@@ -112,3 +113,19 @@ export function loudnessRange(sampleRate: number, segments: ToneSegment[]): numb
   return measure([s, s], { sampleRate, channelMask: 0 }).loudness.loudnessRangeLu
 }
 
+/**
+ * Reference true peak (linear) by brute force, ITU-R BS.1770-4 Annex 2: the largest sample and the
+ * largest output of the four phases of the table at every position whose 12 taps lie on samples.
+ */
+export function truePeakBruteForce(x: Float32Array): number {
+  let peak = 0
+  for (const v of x) peak = Math.max(peak, Math.abs(v))
+  for (let i = 11; i < x.length; i++) {
+    for (const h of TRUE_PEAK_PHASES) {
+      let y = 0
+      for (let k = 0; k < 12; k++) y += h[k] * x[i - k]
+      peak = Math.max(peak, Math.abs(y))
+    }
+  }
+  return peak
+}
