@@ -3,7 +3,7 @@
 // other entries, such as test fixtures, can serve the same protocol.
 import type { MessagePort } from 'node:worker_threads'
 import type { AnalyzeOptions, AnalyzeResult } from './analyze'
-import { WavFormatError } from './wav-reader'
+import { errorInfo, type ErrorInfo } from '../core/thread-errors'
 
 export interface WorkerTask {
   id: number
@@ -11,14 +11,7 @@ export interface WorkerTask {
   peaksPath?: string
 }
 
-export interface WorkerError {
-  name: string
-  message: string
-  /** WavFormatError's reason. */
-  reason?: string
-  /** Node system error code such as ENOENT. */
-  code?: string
-}
+export type WorkerError = ErrorInfo
 
 export type WorkerReply =
   | { id: number; type: 'progress'; fraction: number }
@@ -26,15 +19,6 @@ export type WorkerReply =
   | { id: number; type: 'error'; error: WorkerError }
 
 export type Analyze = (path: string, opts: AnalyzeOptions) => Promise<AnalyzeResult>
-
-function serialise(err: unknown): WorkerError {
-  if (err instanceof WavFormatError) return { name: 'WavFormatError', message: err.message, reason: err.reason }
-  if (err instanceof Error) {
-    const code = (err as NodeJS.ErrnoException).code
-    return { name: err.name, message: err.message, ...(typeof code === 'string' ? { code } : {}) }
-  }
-  return { name: 'Error', message: String(err) }
-}
 
 /** Answers every task posted on the port with progress, then a result or an error. */
 export function serveAnalysis(port: MessagePort, analyze: Analyze): void {
@@ -45,7 +29,7 @@ export function serveAnalysis(port: MessagePort, analyze: Analyze): void {
       onProgress: (fraction) => reply({ id: task.id, type: 'progress', fraction }),
     }).then(
       (result) => reply({ id: task.id, type: 'done', result }),
-      (err: unknown) => reply({ id: task.id, type: 'error', error: serialise(err) }),
+      (err: unknown) => reply({ id: task.id, type: 'error', error: errorInfo(err) }),
     )
   })
 }

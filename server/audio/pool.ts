@@ -4,6 +4,7 @@
 // caller never waits on a promise that cannot settle.
 import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
+import { reviveError } from '../core/thread-errors'
 import { startWorker } from '../core/workers'
 import type { AnalyzeResult } from './analyze'
 import type { WorkerError, WorkerReply, WorkerTask } from './analyze-worker-serve'
@@ -41,12 +42,7 @@ function defaultWorkerUrl(): URL {
   return new URL(`./analyze-worker${ext}`, import.meta.url)
 }
 
-function revive(e: WorkerError): Error {
-  if (e.name === 'WavFormatError') return new WavFormatError(e.reason ?? e.message)
-  const err = new Error(e.message) as NodeJS.ErrnoException
-  if (e.code) err.code = e.code
-  return err
-}
+const revive = (e: WorkerError): Error => reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
 
 export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions = {}): AnalysisPool {
   const url = opts.workerUrl ?? defaultWorkerUrl()

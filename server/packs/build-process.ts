@@ -7,16 +7,10 @@
 // it is given; away from the API its memory is its own (and measurable: it
 // reports its peak), a crash in it cannot take the API down, and it loads only
 // the render and zip code, not the server's.
+import { errorInfo, type ErrorInfo } from '../core/thread-errors'
 import { BuildStopped, ItemFailure, writeBuild, type BuildOrder, type BuildOutput } from './build-writer'
 
 export type ToBuildProcess = { type: 'order'; order: BuildOrder } | { type: 'stop' }
-
-export interface ErrorInfo {
-  name: string
-  message: string
-  code?: string
-  reason?: string
-}
 
 export type FromBuildProcess =
   | { type: 'frames'; k: number; frames: number }
@@ -29,11 +23,6 @@ const send = (m: FromBuildProcess) =>
     if (!process.send) return resolve()
     process.send(m, undefined, undefined, () => resolve())
   })
-
-const info = (e: unknown): ErrorInfo => {
-  const x = e as NodeJS.ErrnoException & { reason?: string }
-  return { name: x?.name ?? 'Error', message: x?.message ?? String(e), code: x?.code, reason: x?.reason }
-}
 
 if (!process.send) throw new Error('build-process must be started with an IPC channel (child_process.fork)')
 
@@ -68,8 +57,8 @@ async function run(order: BuildOrder): Promise<void> {
     reply = { type: 'done', output, maxRssKb: process.resourceUsage().maxRSS }
   } catch (err) {
     if (err instanceof BuildStopped) reply = { type: 'stopped' }
-    else if (err instanceof ItemFailure) reply = { type: 'failed', position: err.position, error: info(err.cause) }
-    else reply = { type: 'failed', position: null, error: info(err) }
+    else if (err instanceof ItemFailure) reply = { type: 'failed', position: err.position, error: errorInfo(err.cause) }
+    else reply = { type: 'failed', position: null, error: errorInfo(err) }
   }
   await send(reply)
   process.disconnect()

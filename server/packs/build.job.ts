@@ -12,13 +12,14 @@ import fs from 'node:fs/promises'
 import { availableParallelism } from 'node:os'
 import path from 'node:path'
 import type { AppContext } from '../core/context'
+import { reviveError } from '../core/thread-errors'
 import { nowIso } from '../core/time'
 import { workerModule } from '../core/workers'
 import type { JobHandler } from '../jobs/job-runner'
 import type { NewPackBuildItem } from '../../db/schema-packs'
 import { renderWorkerEntry } from '../render/render-pool'
 import { BuildStopped, type BuildOrder, type BuildOutput } from './build-writer'
-import type { ErrorInfo, FromBuildProcess, ToBuildProcess } from './build-process'
+import type { FromBuildProcess, ToBuildProcess } from './build-process'
 import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot } from './item-spec'
 import * as repo from './packs.repository'
 
@@ -88,8 +89,6 @@ class BuildProcessDied extends Error {
     super(`the build process stopped before it finished (${how})`)
   }
 }
-
-const revive = (e: ErrorInfo): Error => Object.assign(new Error(e.message), { name: e.name, code: e.code, reason: e.reason })
 
 /**
  * Starts the build process (plain JavaScript, without the options the server itself was started
@@ -193,7 +192,7 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
   if (answer.type === 'stopped') throw new BuildStopped()
   if (answer.type === 'failed') {
     if (ctx.jobs.isStopped) throw new BuildStopped()
-    return fail(ctx, buildId, answer.position, snap, revive(answer.error))
+    return fail(ctx, buildId, answer.position, snap, reviveError(answer.error))
   }
   await record(ctx, buildId, snap, paths, answer.output)
   return { renderThreads, maxRssKb: answer.maxRssKb }

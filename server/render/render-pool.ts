@@ -4,11 +4,10 @@
 // (server/core/workers.ts), so each costs a few tens of MB.
 import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
+import { reviveError, type ErrorInfo } from '../core/thread-errors'
 import { startWorker } from '../core/workers'
 import { WavFormatError } from '../audio/wav-errors'
 import { RenderStopped, type PlainRenderRequest, type RenderRequest, type RenderResult } from './render'
-
-
 
 export interface RenderTask {
   type: 'render'
@@ -20,7 +19,7 @@ export interface RenderTask {
 export type RenderReply =
   | { type: 'frames'; id: number; frames: number }
   | { type: 'done'; id: number; result: RenderResult }
-  | { type: 'error'; id: number; error: { name: string; message: string; code?: string; reason?: string } }
+  | { type: 'error'; id: number; error: ErrorInfo }
 
 export interface RenderPool {
   readonly size: number
@@ -37,14 +36,8 @@ export function renderWorkerEntry(): URL {
   return new URL(`./render-worker${ext}`, import.meta.url)
 }
 
-function revive(e: { name: string; message: string; code?: string; reason?: string }): Error {
-  if (e.name === 'WavFormatError') return new WavFormatError(e.reason ?? e.message)
-  if (e.name === 'Error' && e.message === 'render stopped') return new RenderStopped()
-  const err = new Error(e.message) as NodeJS.ErrnoException
-  err.name = e.name
-  if (e.code) err.code = e.code
-  return err
-}
+const revive = (e: ErrorInfo): Error =>
+  e.name === 'Error' && e.message === 'render stopped' ? new RenderStopped() : reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
 
 interface Slot {
   worker: Worker

@@ -1,6 +1,7 @@
 // Worker-thread entry of the render pool (render-pool.ts): renders one request
 // at a time, reports frames now and then, and stops between blocks when asked.
 import { parentPort } from 'node:worker_threads'
+import { errorInfo } from '../core/thread-errors'
 import { renderItem } from './render'
 import type { RenderTask, RenderReply } from './render-pool'
 
@@ -31,8 +32,7 @@ port.on('message', (m: RenderTask | { type: 'stop'; id: number }) => {
   ).then(
     (result) => reply({ type: 'done', id: m.id, result }),
     (err: unknown) => {
-      const e = err as NodeJS.ErrnoException & { reason?: string }
-      reply({ type: 'error', id: m.id, error: { name: e?.name ?? 'Error', message: e?.message ?? String(err), code: e?.code, reason: e?.reason } })
+      reply({ type: 'error', id: m.id, error: errorInfo(err) })
     },
   ).finally(() => stopped.delete(m.id))
 })
