@@ -82,7 +82,10 @@ export function workerModule(entry: URL): URL {
   return url
 }
 
-/** Starts a worker thread on `entry` (a .ts source beside the caller, or a built .js file). */
+/**
+ * Starts a worker thread on `entry` (a .ts source beside the caller, or a built .js file). Without
+ * the parent's Node options: under tsx they would load its loader into every worker (~12 MB each).
+ */
 export function startWorker(entry: URL, options?: WorkerOptions): Worker {
-  return new Worker(workerModule(entry), options)
+  return new Worker(workerModule(entry), { execArgv: [], ...options })
 }

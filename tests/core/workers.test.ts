@@ -2,6 +2,7 @@
 // (server/core/workers.ts). A bundle holds only our code: each package import
 // is an absolute URL, so the bundle runs from any folder (the temp folder when
 // node_modules is read-only), and a worker loads no tsx.
+import { execFileSync } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
@@ -43,5 +44,12 @@ describe('bundled workers', () => {
   it('is the same file for the same code (named by its hash), however often it is asked for', () => {
     expect(workerModule(renderWorkerEntry()).href).toBe(bundle.href)
     expect(path.basename(bundle.pathname)).toMatch(/^render-worker-[0-9a-f]{16}\.mjs$/)
+  })
+
+  it('start without the parent\'s Node options: under tsx its loader would load into every worker', () => {
+    const script = new URL('../helpers/echo-worker-smoke.ts', import.meta.url).pathname
+    const out = JSON.parse(execFileSync('npx', ['--prefix', process.cwd(), 'tsx', script], { encoding: 'utf8' })) as { parent: string[]; worker: string[] }
+    expect(out.parent.join(' ')).toMatch(/tsx/) // the server's own process runs under tsx
+    expect(out.worker).toEqual([])
   })
 })
