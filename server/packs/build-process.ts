@@ -60,6 +60,8 @@ async function run(order: BuildOrder): Promise<void> {
     else if (err instanceof ItemFailure) reply = { type: 'failed', position: err.position, error: errorInfo(err.cause) }
     else reply = { type: 'failed', position: null, error: errorInfo(err) }
   }
+  // A parent gone away has nobody to answer (writeBuild has cleaned up either way).
+  if (!process.connected) return
   await send(reply)
-  process.disconnect()
+  if (process.connected) process.disconnect()
 }
