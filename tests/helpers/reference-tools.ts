@@ -45,8 +45,9 @@ export function soxStats(path: string): SoxStatsColumn[] {
   return dc.map((d, i) => ({ dcOffset: d, peakDb: pk[i], rmsDb: rms[i] }))
 }
 
+/** sox in its repeatable mode (-R: fixed seeds for noise and dither), so a test signal is the same on every run. */
 export function sox(args: string[]): void {
-  execFileSync('sox', args, { stdio: ['ignore', 'ignore', 'pipe'] })
+  execFileSync('sox', ['-R', ...args], { stdio: ['ignore', 'ignore', 'pipe'] })
 }
 
 export function ffmpeg(args: string[]): void {
