@@ -11,12 +11,10 @@ export interface WorkerTask {
   peaksPath?: string
 }
 
-export type WorkerError = ErrorInfo
-
 export type WorkerReply =
   | { id: number; type: 'progress'; fraction: number }
   | { id: number; type: 'done'; result: AnalyzeResult }
-  | { id: number; type: 'error'; error: WorkerError }
+  | { id: number; type: 'error'; error: ErrorInfo }
 
 export type Analyze = (path: string, opts: AnalyzeOptions) => Promise<AnalyzeResult>
 

@@ -4,10 +4,10 @@
 // caller never waits on a promise that cannot settle.
 import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
-import { reviveError } from '../core/thread-errors'
+import { reviveError, type ErrorInfo } from '../core/thread-errors'
 import { startWorker } from '../core/workers'
 import type { AnalyzeResult } from './analyze'
-import type { WorkerError, WorkerReply, WorkerTask } from './analyze-worker-serve'
+import type { WorkerReply, WorkerTask } from './analyze-worker-serve'
 import { WavFormatError } from './wav-reader'
 
 export interface AnalysisPool {
@@ -42,7 +42,7 @@ function defaultWorkerUrl(): URL {
   return new URL(`./analyze-worker${ext}`, import.meta.url)
 }
 
-const revive = (e: WorkerError): Error => reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
+const revive = (e: ErrorInfo): Error => reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
 
 export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions = {}): AnalysisPool {
   const url = opts.workerUrl ?? defaultWorkerUrl()

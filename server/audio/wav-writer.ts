@@ -93,25 +93,21 @@ export class WavWriter {
       return Promise.reject(new RangeError('writeInts takes 16- or 24-bit PCM without the writer\'s own dither'))
     }
     if (ints.length !== this.opts.channels || ints.some((c) => c.length < frames)) return Promise.reject(new RangeError(`expected ${this.opts.channels} channel arrays of ${frames} frames`))
-    const run = this.queue.then(async () => {
-      for (let from = 0; from < frames; from += BLOCK_FRAMES) {
-        const n = Math.min(BLOCK_FRAMES, frames - from)
-        encodeIntsInterleaved(from === 0 ? ints : ints.map((c) => c.subarray(from)), n, bits, this.buf)
-        const len = n * this.plan.blockAlign
-        await this.writeAll(this.buf, len, this.pos)
-        this.pos += len
-        this.frames += n
-      }
-    })
+    const run = this.queue.then(() => this.appendBlocks(frames, (from, n) => encodeIntsInterleaved(from === 0 ? ints : ints.map((c) => c.subarray(from)), n, bits, this.buf)))
     this.queue = run.catch(() => {})
     return run
   }
 
-  private async writeNow(planar: ArrayLike<number>[]): Promise<void> {
+  private writeNow(planar: ArrayLike<number>[]): Promise<void> {
     const n = checkPlanar(planar, this.opts.channels)
-    for (let from = 0; from < n; from += BLOCK_FRAMES) {
-      const frames = Math.min(BLOCK_FRAMES, n - from)
-      encodeInterleaved(planar, from, frames, this.fmt, this.buf, this.dither)
+    return this.appendBlocks(n, (from, frames) => encodeInterleaved(planar, from, frames, this.fmt, this.buf, this.dither))
+  }
+
+  /** Encodes `total` frames into the block buffer BLOCK_FRAMES at a time (encode(from, n)) and appends each. */
+  private async appendBlocks(total: number, encode: (from: number, n: number) => void): Promise<void> {
+    for (let from = 0; from < total; from += BLOCK_FRAMES) {
+      const frames = Math.min(BLOCK_FRAMES, total - from)
+      encode(from, frames)
       const len = frames * this.plan.blockAlign
       await this.writeAll(this.buf, len, this.pos)
       this.pos += len

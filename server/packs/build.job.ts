@@ -23,8 +23,6 @@ import type { FromBuildProcess, ToBuildProcess } from './build-process'
 import { describeItemFailure, expectedFrames, renderRequest, type BuildSnapshot } from './item-spec'
 import * as repo from './packs.repository'
 
-export { licenceFile } from './build-writer'
-
 export interface BuildPaths {
   dirRel: string
   finalRel: string

@@ -101,7 +101,7 @@ export interface ZipEntryResult {
 
 export class PackZip {
   private readonly archive: ZipArchive
-  private readonly zipHash = new Hashing((n) => this.syncNow(n))
+  private readonly zipHash = new Hashing((n) => this.syncInBackground(n))
   private unsynced = 0
   private syncing = false
   private readonly out
@@ -138,7 +138,7 @@ export class PackZip {
   }
 
   /** Starts a background fdatasync once SYNC_EVERY more bytes went out (one at a time; errors are left to the final fsync). */
-  private syncNow(n: number): void {
+  private syncInBackground(n: number): void {
     this.unsynced += n
     const fd = (this.out as unknown as { fd: number | null }).fd
     if (this.syncing || this.unsynced < SYNC_EVERY || typeof fd !== 'number' || this.failure) return

@@ -1,7 +1,7 @@
 // Renders in worker threads, so a build uses more than one core and never
 // holds the API's event loop. One render per worker at a time; a pool lives for
 // one build and is closed at its end. Workers start as plain JavaScript
-// (server/core/workers.ts), so each costs a few tens of MB.
+// (server/core/workers.ts): 10–20 MB each.
 import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
 import { reviveError, type ErrorInfo } from '../core/thread-errors'
@@ -27,7 +27,7 @@ export interface RenderPool {
   close(): Promise<void>
 }
 
-/** One per core, at most two (the zip, written by the build's own thread, needs a share of the CPU too). */
+/** One per core, at most two (the zip, written by the build process's own thread, needs a share of the CPU too). */
 export const defaultRenderWorkers = () => Math.max(1, Math.min(2, availableParallelism()))
 
 /** The render worker's entry beside this file (.ts under tsx, .js when built). */
