@@ -94,7 +94,7 @@ export class LoudnessMeter {
     // The block's weighted channels go to the kernel's memory once; segments are offsets into it.
     const samplesAt = kernelScratch(frames * this.opts.channels)
     const at = (ch: number) => samplesAt + ch * frames * 4
-    for (const ch of active) samplesView.set(planar[ch], (at(ch) - samplesAt) / 4)
+    for (const ch of active) samplesView.set(planar[ch], ch * frames)
     let offset = 0
     while (offset < frames) {
       const end = Math.min(frames, offset + (this.nextBoundary - this.position))
