@@ -48,8 +48,9 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   if (config.runJobs) await ctx.jobs.start()
   const built = await createApp(ctx)
   const server = http.createServer(built.app)
-  // Long takes upload for a long time: lift Node's 5-minute whole-request limit
-  // (headers must still arrive within a minute).
+  // Long takes upload for a long time: Node's 5-minute whole-request limit is lifted here and
+  // enforced per route instead (server/ingest/slow-bodies.ts: every route but the upload, which
+  // has a minimum rate). Headers must still arrive within a minute.
   server.requestTimeout = 0
   server.headersTimeout = 60_000
   await new Promise<void>((resolve, reject) => {

@@ -10,6 +10,7 @@ import { ingestFile } from './ingest.service'
 import { hashingDiskStorage, type StreamedFile } from './upload-storage'
 import { isStorageFull, storageFull } from './storage-errors'
 import { measureAgain } from './remeasure'
+import { minimumRate } from './slow-bodies'
 
 export function registerIngestRoutes(api: Api, ctx: AppContext) {
   const limit = ctx.config.maxUploadBytes
@@ -44,7 +45,7 @@ export function registerIngestRoutes(api: Api, ctx: AppContext) {
     })
   }
 
-  api.route('post', '/capture-sessions/:id/takes', 'captures:manage', precheck, receive, async (req, res) => {
+  api.route('post', '/capture-sessions/:id/takes', 'captures:manage', precheck, minimumRate(ctx.config.uploadMinBytesPerSecond, ctx.config.uploadRateWindowMs), receive, async (req, res) => {
     const file = req.file as unknown as StreamedFile & { originalname: string }
     if (!file) throw new AppError(400, 'NO_FILE', 'Send one WAV file in the multipart field "file"')
     const take = await ingestFile(ctx, {
