@@ -1,7 +1,7 @@
 // The tag manager (designers): every tag with its count, renaming one tag and
 // merging several into one. Field names are part of the public API.
 import { z } from 'zod'
-import { Tag, UserRef } from './library'
+import { Tag } from './library'
 
 /** GET /api/tags/all: every tag in use, with how many takes carry it, A to Z. */
 export const TagCount = z.object({ tag: z.string(), count: z.number().int() })

@@ -118,6 +118,15 @@ describe('GET /api/takes.csv', () => {
     expect(csvLine(['a,b', 'line\nbreak', null])).toBe('"a,b","line\nbreak",\r\n')
   })
 
+  it('filters by loudness range (minLra/maxLra, LU) like the other ranges', async () => {
+    const items = (await designer.get('/api/takes?minLra=2.5&maxLra=3.5&pageSize=200').expect(200)).body.items as { analysis: { loudness: { loudnessRangeLu: number } } | null }[]
+    expect(items.length).toBeGreaterThan(0)
+    for (const t of items) expect(t.analysis!.loudness.loudnessRangeLu).toBeGreaterThanOrEqual(2.5)
+    const all = (await designer.get('/api/takes?pageSize=200').expect(200)).body.items as { analysis: { loudness: { loudnessRangeLu: number | null } } | null }[]
+    expect(items.length).toBe(all.filter((t) => { const v = t.analysis?.loudness.loudnessRangeLu; return v !== null && v !== undefined && v >= 2.5 && v <= 3.5 }).length)
+    expect((await designer.get('/api/takes?minLra=wide')).status).toBe(400)
+  })
+
   it('answers 400 for a malformed query', async () => {
     expect((await designer.get('/api/takes.csv?minLufs=loud')).status).toBe(400)
   })
