@@ -46,14 +46,18 @@ export async function requestBuild(ctx: AppContext, user: User, packId: number):
     },
     items: specs.map((s) => s.spec),
   }
-  const { id } = await repo.insertBuild(ctx.db, {
-    pack_id: packId,
-    snapshot_json: JSON.stringify(snapshot),
-    item_count: specs.length,
-    created_by: user.id,
+  // One unit of work: a crash between these writes must not leave a queued build no job will run.
+  const id = await ctx.db.transaction().execute(async (trx) => {
+    const { id } = await repo.insertBuild(trx, {
+      pack_id: packId,
+      snapshot_json: JSON.stringify(snapshot),
+      item_count: specs.length,
+      created_by: user.id,
+    })
+    const jobId = await ctx.jobs.enqueue(trx, 'build-pack', id)
+    await repo.updateBuild(trx, id, { job_id: jobId })
+    return id
   })
-  const jobId = await ctx.jobs.enqueue(ctx.db, 'build-pack', id)
-  await repo.updateBuild(ctx.db, id, { job_id: jobId })
   ctx.jobs.kick()
   return buildToApi((await repo.findBuild(ctx.db, id))!)
 }

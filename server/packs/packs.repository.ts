@@ -190,12 +190,14 @@ export async function headlineBuilds(db: Db, packIds: number[]): Promise<BuildJo
 
 /** Inserts the next version of a pack's builds (1, 2, 3…) in one transaction. */
 export async function insertBuild(db: Db, build: Omit<NewPackBuild, 'version'>): Promise<{ id: number; version: number }> {
-  return db.transaction().execute(async (trx) => {
+  // Inside a caller's transaction (a build request) it joins it; alone it opens its own.
+  const insert = async (trx: Db) => {
     const r = await trx.selectFrom('pack_builds').select((eb) => eb.fn.max<number | null>('version').as('v')).where('pack_id', '=', build.pack_id).executeTakeFirst()
     const version = (r?.v ?? 0) + 1
     const row = await trx.insertInto('pack_builds').values({ ...build, version }).returning('id').executeTakeFirstOrThrow()
     return { id: row.id, version }
-  })
+  }
+  return db.isTransaction ? insert(db) : db.transaction().execute(insert)
 }
 
 export const updateBuild = (db: Db, id: number, patch: PackBuildUpdate) => db.updateTable('pack_builds').set(patch).where('id', '=', id).execute()

@@ -23,6 +23,7 @@ const routes: RouteRecordRaw[] = [
   { path: '/captures/:id(\\d+)', name: 'capture', component: () => import('@/views/CaptureView.vue'), meta: { permission: 'library:browse', title: 'Capture session' } },
   { path: '/takes/:id(\\d+)', name: 'take', component: () => import('@/views/TakeView.vue'), meta: { permission: 'library:browse', title: 'Listening bench' } },
   { path: '/library', name: 'library', component: () => import('@/views/LibraryView.vue'), meta: { permission: 'library:browse', title: 'Library' } },
+  { path: '/library/tags', name: 'tags', component: () => import('@/views/TagManagerView.vue'), meta: { permission: 'takes:edit-any', title: 'Tags' } },
   { path: '/sources', name: 'sources', component: () => import('@/views/SourcesView.vue'), meta: { permission: 'library:browse', title: 'Sources' } },
   { path: '/packs', name: 'packs', component: () => import('@/views/PacksView.vue'), meta: { permission: 'packs:receive', title: 'Packs' } },
   { path: '/packs/:id(\\d+)', name: 'pack', component: () => import('@/views/PackView.vue'), meta: { permission: 'packs:receive', title: 'Pack' } },
