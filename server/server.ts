@@ -11,6 +11,7 @@ import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
 import { buildPackJob } from './packs/build.job'
+import { createHeavyWork } from './core/heavy-work'
 
 export interface RunningServer {
   url: string
@@ -29,7 +30,8 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
   const storage = new Storage(config.storageDir)
   storage.sweepIncoming()
   const pool = createAnalysisPool(config.analysisWorkers || undefined)
-  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner }
+  const heavy = createHeavyWork({ threads: config.heavyThreads || undefined, perUser: config.heavyPerUser })
+  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner, heavy }
   ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
@@ -56,6 +58,7 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
       })
       await ctx.jobs.stop()
       await pool.close()
+      await heavy.close()
       await built.close()
       await mailer.close()
       await db.destroy()

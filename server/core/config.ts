@@ -19,6 +19,13 @@ export interface Config {
   /** Port of the embedded mail catcher (0: any free port). */
   mailCatcherPort: number
   analysisWorkers: number
+  /** Worker threads for spectrograms, previews and range measurements (0: the default). */
+  heavyThreads: number
+  /** Such tasks one user may have running or waiting at once. */
+  heavyPerUser: number
+  /** Spectrogram images kept per take, and for all takes together (bytes); least recently used go first. */
+  spectrogramsPerTake: number
+  spectrogramCacheBytes: number
   /** Largest upload accepted, in bytes (at least 4 GiB for long takes). */
   maxUploadBytes: number
   /** Start the durable job runner (tests of the queue itself may start it by hand). */
@@ -43,6 +50,10 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     mailCatcher: !env.SMTP_URL,
     mailCatcherPort: Number(env.STRAYFIELD_MAIL_CATCHER_PORT ?? 0),
     analysisWorkers: Number(env.STRAYFIELD_ANALYSIS_WORKERS ?? 0),
+    heavyThreads: Number(env.STRAYFIELD_HEAVY_WORKERS ?? 0),
+    heavyPerUser: 3,
+    spectrogramsPerTake: 12,
+    spectrogramCacheBytes: Number(env.STRAYFIELD_SPECTROGRAM_CACHE_MB ?? 1024) * 2 ** 20,
     maxUploadBytes: Number(env.STRAYFIELD_MAX_UPLOAD_BYTES ?? 8 * 2 ** 30),
     runJobs: true,
     demoAudio: true,

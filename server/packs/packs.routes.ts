@@ -120,7 +120,7 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
 
   api.route('patch', '/packs/:id/items/:itemId', 'packs:manage', async (req, res) => {
     const { id, itemId } = params(req, ItemParams)
-    res.json({ item: await updateItem(ctx, id, itemId, body(req, UpdateItemBody)) })
+    res.json({ item: await updateItem(ctx, id, itemId, body(req, UpdateItemBody), `user:${req.user!.id}`) })
   })
 
   api.route('delete', '/packs/:id/items/:itemId', 'packs:manage', async (req, res) => {
@@ -136,7 +136,7 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
     const rows = await repo.itemsOf(ctx.db, id)
     const found = (await itemSpecs(ctx.db, pack, rows)).find((s) => s.row.id === itemId)
     if (!found) throw itemNotFound()
-    const file = await renderedPreview(ctx, found.spec, `SF-P${pack.id}-preview-${found.spec.position}`)
+    const file = await renderedPreview(ctx, found.spec, `SF-P${pack.id}-preview-${found.spec.position}`, `user:${req.user!.id}`)
     const size = (await stat(file)).size
     res.set('Content-Disposition', `inline; filename="${found.spec.fileName}"`)
     sendWithRanges(res, next, file, size, { contentType: 'audio/wav', cache: 'private, max-age=300' })
@@ -145,8 +145,8 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   /** A take or a range of it rendered with a pack's settings (or the defaults), as one WAV download. */
   api.route('get', '/takes/:id/export', 'packs:manage', async (req, res, next) => {
     const { id } = params(req, IdParams)
-    const spec = await exportSpec(ctx, id, query(req, QuickExportQuery))
-    const file = await renderedPreview(ctx, spec, `SF-T${id}-export`)
+    const spec = await exportSpec(ctx, id, query(req, QuickExportQuery), `user:${req.user!.id}`)
+    const file = await renderedPreview(ctx, spec, `SF-T${id}-export`, `user:${req.user!.id}`)
     const size = (await stat(file)).size
     sendWithRanges(res, next, file, size, { contentType: 'audio/wav', downloadName: spec.fileName, cache: 'private, no-cache' })
   })
