@@ -1,5 +1,6 @@
 import type { Analysis, WavFormat } from '@shared/schemas/analysis'
 import type { AppContext } from '../core/context'
+import { publicErrorText } from '../core/errors'
 import type { JobHandler } from '../jobs/job-runner'
 import type { AnalysisPool } from '../audio/pool'
 import { readPeaks } from '../audio/peaks'
@@ -70,8 +71,9 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
       )
     },
     async failed(job, message) {
-      await updateTake(ctx.db, job.ref_id, { status: 'failed', error: message }).catch(() => undefined)
-      await addEvent(ctx.db, job.ref_id, null, 'failed', `Could not be measured: ${message}`).catch(() => undefined)
+      const text = publicErrorText(message) // no server paths where members read it
+      await updateTake(ctx.db, job.ref_id, { status: 'failed', error: text }).catch(() => undefined)
+      await addEvent(ctx.db, job.ref_id, null, 'failed', `Could not be measured: ${text}`).catch(() => undefined)
     },
   }
 }

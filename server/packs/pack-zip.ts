@@ -233,16 +233,26 @@ export function csvField(v: string): string {
   return /[",\r\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v
 }
 
-function csvValue(item: ManifestItem, col: (typeof MANIFEST_COLUMNS)[number]): string {
+/**
+ * A text cell a spreadsheet would take for a formula (OWASP's CSV-injection rule: it begins with
+ * =, +, -, @, a tab or a carriage return) gets a leading ' and quotes. Numbers are written as
+ * numbers (a loudness of -18.2 stays a number); names, tags, sources and licence are user text.
+ */
+export function csvTextField(v: string): string {
+  return /^[=+\-@\t\r]/.test(v) ? `"'${v.replace(/"/g, '""')}"` : csvField(v)
+}
+
+function csvCell(item: ManifestItem, col: (typeof MANIFEST_COLUMNS)[number]): string {
   const v = item[col]
   if (v === null) return ''
-  if (col === 'sources') return (v as string[]).join('; ')
-  if (col === 'tags') return (v as string[]).join(';')
-  return String(v)
+  if (typeof v === 'number') return csvField(String(v))
+  if (col === 'sources') return csvTextField((v as string[]).join('; '))
+  if (col === 'tags') return csvTextField((v as string[]).join(';'))
+  return csvTextField(String(v))
 }
 
 export function manifestCsv(items: ManifestItem[]): string {
   const lines = [MANIFEST_COLUMNS.join(',')]
-  for (const it of items) lines.push(MANIFEST_COLUMNS.map((c) => csvField(csvValue(it, c))).join(','))
+  for (const it of items) lines.push(MANIFEST_COLUMNS.map((c) => csvCell(it, c)).join(','))
   return lines.join('\r\n') + '\r\n'
 }
