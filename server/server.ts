@@ -1,6 +1,6 @@
 import http from 'node:http'
 import type { AddressInfo } from 'node:net'
-import { loadConfig, type Config } from './core/config'
+import { checkDemoIsLocal, loadConfig, type Config } from './core/config'
 import { migrateToLatest, openDatabase } from './core/database'
 import { createMailer } from './mail/mailer'
 import { createApp } from './app'
@@ -24,6 +24,7 @@ export interface RunningServer {
 /** Opens the database, migrates, seeds the demo when asked, starts mail and HTTP. */
 export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = process.env): Promise<RunningServer> {
   const config = loadConfig(env, overrides)
+  checkDemoIsLocal(config) // before anything is opened or seeded
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
   const mailer = await createMailer(config, db)
