@@ -301,8 +301,9 @@ async function sourceLevels(ctx: AppContext, who: string, take: TakeFact, r: Ran
   }
 }
 
+/** An item's region must belong to its take (checked even when the range is given too); a missing end is filled from it. */
 async function resolveRegion(db: Db, body: AddItemBody, label: string): Promise<AddItemBody> {
-  if (body.regionId === undefined || (body.startSeconds !== undefined && body.endSeconds !== undefined)) return body
+  if (body.regionId === undefined || body.regionId === null) return body
   const region = await repo.findRegionRange(db, body.regionId)
   if (!region || region.take_id !== body.takeId) {
     throw new AppError(400, 'REGION_NOT_FOUND', `${label ? `${label}: ` : ''}take ${body.takeId} has no region ${body.regionId}`)
