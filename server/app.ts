@@ -95,7 +95,11 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
 
 /**
  * Security headers (helmet). Styles and fonts from this origin only: the built client has its CSS
- * in files, and Vue and Element Plus set inline styles through the CSSOM, which CSP allows. HSTS
+ * in files, and Vue and Element Plus set inline styles through the CSSOM, which CSP allows; style
+ * attributes in markup stay blocked. One narrow exception, checked in Chromium
+ * (tests/browser/csp.test.ts): `<style>` elements (style-src-elem), because wavesurfer.js draws the
+ * waveform in a shadow root with a `<style>` whose height is computed at run time (no fixed hash;
+ * its cspNonce option would need a nonce per served page). HSTS
  * and upgrade-insecure-requests only when the app is served over https (over plain http they
  * would send browsers to an https that does not exist).
  */
@@ -105,6 +109,7 @@ export function helmetOptions(secure: boolean): Parameters<typeof helmet>[0] {
       useDefaults: true,
       directives: {
         'style-src': ["'self'"],
+        'style-src-elem': ["'self'", "'unsafe-inline'"],
         'font-src': ["'self'"],
         'img-src': ["'self'", 'data:', 'blob:'],
         'media-src': ["'self'", 'blob:'],
