@@ -21,6 +21,7 @@ const item = (o: Partial<ManifestItem>): ManifestItem => ({
   takeId: 7,
   licence: 'Use in your productions.',
   sha256: 'ab'.repeat(32),
+  regionName: null,
   ...o,
 })
 
