@@ -57,11 +57,14 @@ describe('heavy work off the event loop', () => {
     }
     const answers = await work
     expect(answers.map((r) => r.status)).toEqual([200, 200, 200, 200])
-    // Several seconds of rendering happened meanwhile (one worker thread, three 3200×512 excerpts and a render);
-    // on the event loop each would have held every answer for a second or more. 500 ms is a generous
-    // bound on a shared 2-core machine for a request that does no work: it only fails when the loop is held.
+    // Several seconds of rendering happened meanwhile (one worker thread, three 3200×512 excerpts and a
+    // render). On the event loop one such excerpt held it for 4.4–6.9 s (measured on this shared 2-core
+    // machine at load average 18; about 1.5 s idle), so any render on the loop exceeds the bound below by
+    // far. The bound is generous because the test client shares the loop and the machine runs many other
+    // processes (a 517 ms outlier was seen at load average 22 with the renders off the loop); it fails
+    // only when the loop is held by work.
     expect(latencies.length).toBeGreaterThan(5)
-    expect(Math.max(...latencies)).toBeLessThan(500)
+    expect(Math.max(...latencies)).toBeLessThan(1000)
   }, 120_000)
 
   it('answers 429 TOO_BUSY when one member asks for more than 3 renders at once, and serves the others', async () => {
