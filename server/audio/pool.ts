@@ -5,7 +5,7 @@
 import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
 import { reviveError, type ErrorInfo } from '../core/thread-errors'
-import { startWorker } from '../core/workers'
+import { startWorker, workerModule } from '../core/workers'
 import type { AnalyzeResult } from './analyze'
 import type { WorkerReply, WorkerTask } from './analyze-worker-serve'
 import { WavFormatError } from './wav-reader'
@@ -55,6 +55,9 @@ const revive = (e: ErrorInfo): Error => reviveError(e, { WavFormatError: (x) => 
 export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions = {}): AnalysisPool {
   const url = opts.workerUrl ?? defaultWorkerUrl()
   const silenceLimit = opts.silenceLimitMs ?? 120_000
+  // Bundle the worker now, at start-up: bundling blocks the thread it runs on for a few hundred
+  // milliseconds, which must not fall on the API while it answers requests (the first upload).
+  workerModule(url)
   const slots: Slot[] = []
   const queue: Task[] = []
   let nextId = 1
