@@ -24,6 +24,9 @@ import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
 import { registerCommentRoutes } from './comments/comments.routes'
 import { registerPackRoutes } from './packs/packs.routes'
+import { registerTakeExportRoutes } from './takes/takes.export'
+import { registerTagRoutes } from './tags/tags.routes'
+import { registerMentionRoutes } from './mentions/mentions.routes'
 
 export interface BuiltApp {
   app: Express
@@ -84,6 +87,9 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerRegionRoutes(api, ctx)
   registerCommentRoutes(api, ctx)
   registerPackRoutes(api, ctx)
+  registerTakeExportRoutes(api, ctx)
+  registerTagRoutes(api, ctx)
+  registerMentionRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

@@ -86,6 +86,9 @@ export const TakeQuery = z.object({
   maxLufs: num.optional(),
   minTruePeak: num.optional(),
   maxTruePeak: num.optional(),
+  /** Loudness range (EBU Tech 3342), LU. */
+  minLra: num.optional(),
+  maxLra: num.optional(),
   hum: z.enum(['50', '60', 'none']).optional(),
   status: TakeStatus.optional(),
   sort: TakeSort.optional(),
