@@ -9,6 +9,7 @@ export interface ServerProcess {
   child: ChildProcess
   /** kill -9, and wait until the process is gone. */
   kill9(): Promise<void>
+  /** SIGTERM (kill -9 after 10 s), and wait until the process is gone. */
   stop(): Promise<void>
 }
 
@@ -28,7 +29,15 @@ export function startServerProcess(dbFile: string, storageDir: string): Promise<
     child.stdout!.on('data', (d) => {
       out += d
       const m = out.match(/listening (http:\/\/\S+)/)
-      if (m) resolve({ url: m[1], child, kill9: async () => void (child.kill('SIGKILL'), await gone), stop: async () => void (child.kill('SIGTERM'), await gone) })
+      if (!m) return
+      const stop = async () => {
+        // A server that does not stop within 10 s (a frozen event loop cannot run its SIGTERM handler) is killed.
+        child.kill('SIGTERM')
+        const timer = setTimeout(() => child.kill('SIGKILL'), 10_000)
+        await gone
+        clearTimeout(timer)
+      }
+      resolve({ url: m[1], child, kill9: async () => void (child.kill('SIGKILL'), await gone), stop })
     })
     child.once('exit', (code) => reject(new Error(`server process exited (${code}): ${err}`)))
   })
