@@ -1,0 +1,91 @@
+// The field strip's spectrogram follows the visible time range: a short range
+// (up to the server's excerpt limit) is requested as an excerpt at that range,
+// a longer one shows the whole-take image (cached on the server) placed so its
+// visible part lines up. Each answer says in X-Spectrogram-* headers what was
+// actually rendered (the server may snap sizes and times); without them, what
+// was asked for is taken as rendered.
+import { onBeforeUnmount, ref, watch, type Ref } from 'vue'
+import { MAX_EXCERPT_SECONDS } from '@shared/schemas/spectrogram'
+import { fetchImage } from '@/api/client'
+import type { FreqAxis, TimeRange } from '@/components/bench/strip-math'
+
+export interface SpectrogramImage extends TimeRange, FreqAxis {
+  url: string
+  floorDb: number
+  /** The start and end this image was requested with (null: the whole take). */
+  asked: TimeRange | null
+}
+
+/** The server's defaults (server/audio/spectrogram.ts): log axis from 20 Hz, floor −110 dBFS. */
+const DEFAULT_MIN_HZ = 20
+const DEFAULT_FLOOR_DB = -110
+const WIDTHS = [400, 800, 1200, 1600, 2400]
+const HEIGHT = 256
+const snapWidth = (px: number) => WIDTHS.find((w) => w >= px) ?? WIDTHS[WIDTHS.length - 1]
+const num = (h: Headers, name: string, fallback: number) => {
+  const v = Number(h.get(name))
+  return h.has(name) && Number.isFinite(v) ? v : fallback
+}
+
+export function useSpectrogramView(takeId: Ref<number>, view: Ref<TimeRange>, boxWidth: Ref<number>, duration: Ref<number>, sampleRate: Ref<number>) {
+  const image = ref<SpectrogramImage | null>(null)
+  const failed = ref<string | null>(null)
+  let timer: ReturnType<typeof setTimeout> | null = null
+  let controller: AbortController | null = null
+  let lastKey = ''
+
+  async function load() {
+    const span = view.value.end - view.value.start
+    const width = snapWidth(boxWidth.value * Math.min(2, window.devicePixelRatio || 1))
+    // Times to 10 ms, outward, so the image always covers the visible range.
+    const asked =
+      span <= MAX_EXCERPT_SECONDS
+        ? { start: Math.max(0, Math.floor(view.value.start * 100) / 100), end: Math.min(duration.value, Math.ceil(view.value.end * 100) / 100) }
+        : null
+    if (asked && asked.end - asked.start > MAX_EXCERPT_SECONDS) asked.end = asked.start + MAX_EXCERPT_SECONDS
+    const q = asked ? `start=${asked.start.toFixed(2)}&end=${asked.end.toFixed(2)}&width=${width}&height=${HEIGHT}` : `width=${width}&height=${HEIGHT}`
+    const url = `/api/takes/${takeId.value}/spectrogram.png?${q}`
+    if (url === lastKey) return
+    lastKey = url
+    controller?.abort()
+    controller = new AbortController()
+    try {
+      const { blob, headers } = await fetchImage(url, controller.signal)
+      const start = num(headers, 'X-Spectrogram-Start', asked?.start ?? 0)
+      const end = num(headers, 'X-Spectrogram-End', asked?.end ?? duration.value)
+      const next: SpectrogramImage = {
+        url: URL.createObjectURL(blob),
+        start,
+        end,
+        minHz: num(headers, 'X-Spectrogram-Min-Hz', DEFAULT_MIN_HZ),
+        maxHz: num(headers, 'X-Spectrogram-Max-Hz', sampleRate.value / 2),
+        floorDb: num(headers, 'X-Spectrogram-Floor-Db', DEFAULT_FLOOR_DB),
+        scale: 'log',
+        asked,
+      }
+      if (image.value) URL.revokeObjectURL(image.value.url)
+      image.value = next
+      failed.value = null
+    } catch (err) {
+      if ((err as Error).name === 'AbortError') return
+      lastKey = ''
+      failed.value = (err as Error).message
+    }
+  }
+
+  watch(
+    [takeId, () => view.value.start, () => view.value.end, boxWidth],
+    () => {
+      if (timer) clearTimeout(timer)
+      // Wait for the zoom or scroll to settle; the old image stays placed meanwhile.
+      timer = setTimeout(() => void load(), image.value ? 180 : 0)
+    },
+    { immediate: true },
+  )
+  onBeforeUnmount(() => {
+    if (timer) clearTimeout(timer)
+    controller?.abort()
+    if (image.value) URL.revokeObjectURL(image.value.url)
+  })
+  return { image, failed }
+}
