@@ -1,7 +1,7 @@
 // The listening bench in Debian's Chromium, used the way a designer uses it:
 // drag a selection across the field strip, adjust it by a handle, press R,
 // type a name and Enter; zoom with + and see the ruler and the spectrogram on
-// the same range; drag a box on the spectrogram and write a listening note with
+// the same range, nudge with the arrows and mark with [ and ]; drag a box on the spectrogram and write a listening note with
 // Ctrl+Enter, give it an outcome, and find the take by that outcome in the
 // library. Screenshots at phone, tablet and desktop sizes.
 import path from 'node:path'
@@ -138,6 +138,14 @@ describe('field strip', () => {
     const before = secondsOf(await page.locator('[data-test=playhead]').innerText())
     await page.keyboard.press('ArrowRight')
     await expect.poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText())).toBeCloseTo(before + (view.end - view.start) / 10, 1)
+
+    // [ and ] set the selection's ends at the playhead.
+    const at = secondsOf(await page.locator('[data-test=playhead]').innerText())
+    await page.keyboard.press('[')
+    for (let i = 0; i < 3; i++) await page.keyboard.press('ArrowRight')
+    await page.keyboard.press(']')
+    expect(secondsOf(await page.locator('[data-test=selection-start]').innerText())).toBeCloseTo(at, 1)
+    expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(at + (3 * (view.end - view.start)) / 10, 1)
 
     await page.getByRole('button', { name: 'Taller waveform (vertical zoom in)' }).click()
     await expect.poll(() => page.locator('.amp-top').innerText()).toBe('\u22126 dBFS')

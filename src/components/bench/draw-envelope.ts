@@ -1,9 +1,9 @@
 // Our drawing of the waveform, handed to wavesurfer.js as its renderFunction:
 // each channel in a lane of its own, its min/max envelope as a faint field with
 // bright edges, and a solid core showing the level the signal keeps around each
-// moment (the mean envelope of the neighbouring columns), so bursts stand out
-// of the body. The server's peaks hold only min/max pairs, so the core is that
-// local mean rather than a true RMS. A vertical zoom scales everything; what the
+// moment (the lowest envelope of the neighbouring columns), so bursts stand out
+// of the body. The server's peaks hold only min/max pairs, so the core is drawn
+// from them rather than from a true RMS. A vertical zoom scales everything; what the
 // zoom pushes past the lane's edge is clipped there and marked with a dotted edge.
 
 export interface EnvelopeColours {
@@ -13,7 +13,7 @@ export interface EnvelopeColours {
   centre: string
 }
 
-const CORE_RADIUS = 3
+const CORE_RADIUS = 6
 
 export function envelopeRenderer(gain: () => number, colours: () => EnvelopeColours) {
   return (peaks: Array<Float32Array | number[]>, ctx: CanvasRenderingContext2D) => {
@@ -34,8 +34,10 @@ export function envelopeRenderer(gain: () => number, colours: () => EnvelopeColo
       const reach = laneH / 2 - 1
       let clipped = false
       for (let x = 0; x < W; x++) {
-        const i0 = Math.floor((x * n) / W)
-        const i1 = Math.max(i0 + 1, Math.floor(((x + 1) * n) / W))
+        // Peaks come as (min, max) pairs: a column always reads whole pairs,
+        // so a deep zoom (fewer pairs than columns) stays a solid envelope.
+        const i0 = Math.floor((x * n) / W) & ~1
+        const i1 = Math.max(i0 + 2, Math.ceil(((x + 1) * n) / W / 2) * 2)
         let min = 0
         let max = 0
         for (let i = i0; i < i1 && i < n; i++) {
@@ -58,17 +60,13 @@ export function envelopeRenderer(gain: () => number, colours: () => EnvelopeColo
       ctx.closePath()
       ctx.fillStyle = c.field
       ctx.fill()
-      // The core: the mean half-envelope over ±CORE_RADIUS columns, about the lane's centre.
+      // The core: the lowest half-envelope within ±CORE_RADIUS columns, the
+      // level the signal keeps around that moment; bursts rise out of it.
       ctx.fillStyle = c.core
-      let sum = 0
-      for (let x = 0; x < Math.min(W, CORE_RADIUS); x++) sum += half[x]
       for (let x = 0; x < W; x++) {
-        const add = x + CORE_RADIUS
-        const drop = x - CORE_RADIUS - 1
-        if (add < W) sum += half[add]
-        if (drop >= 0) sum -= half[drop]
-        const count = Math.min(W - 1, add) - Math.max(0, drop + 1) + 1
-        const h = Math.min(half[x], sum / count) * reach
+        let low = half[x]
+        for (let k = Math.max(0, x - CORE_RADIUS); k <= Math.min(W - 1, x + CORE_RADIUS); k++) if (half[k] < low) low = half[k]
+        const h = low * reach
         if (h > 0.3) ctx.fillRect(x, mid - h, 1, 2 * h)
       }
       // Bright edges.
