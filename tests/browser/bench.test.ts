@@ -76,6 +76,15 @@ describe('field strip', () => {
     expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(DURATION * 0.6, 0)
     expect(secondsOf(await page.locator('[data-test=selection-start]').innerText())).toBeCloseTo(start, 1)
 
+    // From the keyboard: the focused end handle moves by a fiftieth of the visible span.
+    const endBefore = secondsOf(await page.locator('[data-test=selection-end]').innerText())
+    await page.getByRole('slider', { name: 'Selection end' }).focus()
+    await page.keyboard.press('ArrowLeft')
+    await page.keyboard.press('ArrowRight')
+    await page.keyboard.press('ArrowRight')
+    expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(endBefore + DURATION / 50, 1)
+    await page.keyboard.press('ArrowLeft')
+
     await page.keyboard.press('r')
     const name = page.getByLabel('Region name')
     await expect.poll(() => name.evaluate((el) => el === document.activeElement)).toBe(true)
