@@ -25,6 +25,19 @@ export const useBenchStore = defineStore('bench', () => {
     await Promise.all(tasks)
   }
 
+  /**
+   * Finer waveform peaks for a deep zoom on a long take (the first load holds
+   * at most 8000 min/max pairs); loaded once, on demand.
+   */
+  let fineFor = 0
+  async function loadFinePeaks() {
+    const takeId = id.value
+    if (!takeId || fineFor === takeId) return
+    fineFor = takeId
+    const fine = await api.get<Peaks>(`/api/takes/${takeId}/peaks?maxPoints=200000`)
+    if (id.value === takeId) peaks.value = fine
+  }
+
   const loadRegions = async () => (regions.value = (await api.get<{ regions: Region[] }>(`/api/takes/${id.value}/regions`)).regions)
   const loadComments = async () => (comments.value = (await api.get<{ comments: Comment[] }>(`/api/takes/${id.value}/comments`)).comments)
   const loadHistory = async () => (history.value = (await api.get<{ events: HistoryEvent[] }>(`/api/takes/${id.value}/history`)).events)
@@ -58,7 +71,7 @@ export const useBenchStore = defineStore('bench', () => {
     await Promise.all([loadComments(), loadHistory()])
   }
 
-  return { take, peaks, regions, comments, history, open, edit, addRegion, removeRegion, comment, updateComment, loadHistory }
+  return { take, peaks, regions, comments, history, open, loadFinePeaks, edit, addRegion, removeRegion, comment, updateComment, loadHistory }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useBenchStore, import.meta.hot))
