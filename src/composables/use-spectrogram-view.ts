@@ -35,6 +35,7 @@ export function useSpectrogramView(takeId: Ref<number>, view: Ref<TimeRange>, bo
   let lastKey = ''
 
   async function load() {
+    if (boxWidth.value < 50) return // not laid out yet
     const span = view.value.end - view.value.start
     const width = snapWidth(boxWidth.value * Math.min(2, window.devicePixelRatio || 1))
     // Times to 10 ms, outward, so the image always covers the visible range.
