@@ -111,6 +111,7 @@ export const HISTORY_KINDS = [
   'uploaded',
   'measured',
   'failed',
+  'requeued',
   'edited',
   'tagged',
   'sources',
