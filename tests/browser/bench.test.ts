@@ -41,8 +41,8 @@ afterAll(async () => {
   await server?.stop()
 })
 
-/** "0:04.0" → 4; "12.5 s" → 12.5 (the player's readout). */
-const secondsOf = (text: string) => (text.includes(':') ? parseRulerTime(text.trim()) : Number.parseFloat(text))
+/** "0:04.0" → 4; the player's "0:08.5 / 0:20.0" → 8.5. */
+const secondsOf = (text: string) => parseRulerTime(text.split('/')[0].trim())
 const box = async (sel: string) => (await page.locator(sel).first().boundingBox())!
 
 async function openBench() {

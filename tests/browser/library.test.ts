@@ -65,11 +65,11 @@ describe('listening bench', () => {
 
   it('plays and moves the playhead', async () => {
     const before = await page.locator('[data-test=playhead]').innerText()
-    expect(before.startsWith('0.0 s')).toBe(true)
+    expect(before.startsWith('0:00.0')).toBe(true)
     await page.locator('[data-test=play]').click()
-    await expect.poll(() => page.locator('[data-test=playhead]').innerText(), { timeout: 15_000 }).not.toMatch(/^0\.0 s/)
+    await expect.poll(() => page.locator('[data-test=playhead]').innerText(), { timeout: 15_000 }).not.toMatch(/^0:00\.0/)
     await page.locator('[data-test=play]').click()
-    await expect(page.locator('[data-test=hearing-caution]').innerText()).resolves.toMatch(/Start quiet/)
+    await expect(page.locator('[data-test=now-playing-caution]').innerText()).resolves.toMatch(/Start quiet/)
   })
 
   it('adds a listening note at the playhead (Ctrl+Enter) and marks it with the author initials on the field strip', async () => {
