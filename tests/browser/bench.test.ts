@@ -202,6 +202,21 @@ describe('listening notes', () => {
   })
 })
 
+describe('details', () => {
+  it('tags typed as chips with Enter (the shared tag input) are saved on the take', async () => {
+    await openBench()
+    await page.locator('[data-test=edit-take]').click()
+    await page.getByLabel('Tags of this take', { exact: true }).click()
+    for (const tag of ['whine', 'Router']) {
+      await page.keyboard.type(tag)
+      await page.keyboard.press('Enter')
+    }
+    await expect.poll(() => page.locator('[data-test=take-details] [data-test=tag-chip]').count()).toBe(2)
+    await page.getByRole('button', { name: 'Save', exact: true }).click()
+    await expect.poll(() => page.locator('[data-test=take-details] .chip.tag').allInnerTexts()).toEqual(['router', 'whine'])
+  })
+})
+
 describe('sizes', () => {
   for (const [w, h] of [[390, 844], [768, 1024], [1440, 900]] as const) {
     it(`at ${w} × ${h} the strip fits, sits above the measurement card when narrow, and touch targets are at least 40 px`, async () => {
