@@ -5,7 +5,7 @@
 // actually rendered (the server may snap sizes and times); without them, what
 // was asked for is taken as rendered.
 import { onBeforeUnmount, ref, watch, type Ref } from 'vue'
-import { MAX_EXCERPT_SECONDS } from '@shared/schemas/spectrogram'
+import { MAX_EXCERPT_SECONDS, SPECTROGRAM_HEADERS as H, SPECTROGRAM_WIDTHS, snapEnd, snapStart } from '@shared/schemas/spectrogram'
 import { fetchImage } from '@/api/client'
 import type { FreqAxis, TimeRange } from '@/components/bench/strip-math'
 
@@ -19,9 +19,9 @@ export interface SpectrogramImage extends TimeRange, FreqAxis {
 /** The server's defaults (server/audio/spectrogram.ts): log axis from 20 Hz, floor −110 dBFS. */
 const DEFAULT_MIN_HZ = 20
 const DEFAULT_FLOOR_DB = -110
-const WIDTHS = [400, 800, 1200, 1600, 2400]
 const HEIGHT = 256
-const snapWidth = (px: number) => WIDTHS.find((w) => w >= px) ?? WIDTHS[WIDTHS.length - 1]
+/** The server's menu of widths: the smallest that covers the box's device pixels. */
+const snapWidth = (px: number) => SPECTROGRAM_WIDTHS.find((w) => w >= px) ?? SPECTROGRAM_WIDTHS[SPECTROGRAM_WIDTHS.length - 1]
 const num = (h: Headers, name: string, fallback: number) => {
   const v = Number(h.get(name))
   return h.has(name) && Number.isFinite(v) ? v : fallback
@@ -38,11 +38,8 @@ export function useSpectrogramView(takeId: Ref<number>, view: Ref<TimeRange>, bo
     if (boxWidth.value < 50) return // not laid out yet
     const span = view.value.end - view.value.start
     const width = snapWidth(boxWidth.value * Math.min(2, window.devicePixelRatio || 1))
-    // Times to 10 ms, outward, so the image always covers the visible range.
-    const asked =
-      span <= MAX_EXCERPT_SECONDS
-        ? { start: Math.max(0, Math.floor(view.value.start * 100) / 100), end: Math.min(duration.value, Math.ceil(view.value.end * 100) / 100) }
-        : null
+    // Times on the server's 10 ms grid, outward, so the image always covers the visible range.
+    const asked = span <= MAX_EXCERPT_SECONDS ? { start: Math.max(0, snapStart(view.value.start)), end: Math.min(duration.value, snapEnd(view.value.end)) } : null
     if (asked && asked.end - asked.start > MAX_EXCERPT_SECONDS) asked.end = asked.start + MAX_EXCERPT_SECONDS
     const q = asked ? `start=${asked.start.toFixed(2)}&end=${asked.end.toFixed(2)}&width=${width}&height=${HEIGHT}` : `width=${width}&height=${HEIGHT}`
     const url = `/api/takes/${takeId.value}/spectrogram.png?${q}`
@@ -52,16 +49,17 @@ export function useSpectrogramView(takeId: Ref<number>, view: Ref<TimeRange>, bo
     controller = new AbortController()
     try {
       const { blob, headers } = await fetchImage(url, controller.signal)
-      const start = num(headers, 'X-Spectrogram-Start', asked?.start ?? 0)
-      const end = num(headers, 'X-Spectrogram-End', asked?.end ?? duration.value)
+      const start = num(headers, H.start, asked?.start ?? 0)
+      const end = num(headers, H.end, asked?.end ?? duration.value)
+      const scale = headers.get(H.scale)
       const next: SpectrogramImage = {
         url: URL.createObjectURL(blob),
         start,
         end,
-        minHz: num(headers, 'X-Spectrogram-Min-Hz', DEFAULT_MIN_HZ),
-        maxHz: num(headers, 'X-Spectrogram-Max-Hz', sampleRate.value / 2),
-        floorDb: num(headers, 'X-Spectrogram-Floor-Db', DEFAULT_FLOOR_DB),
-        scale: 'log',
+        minHz: num(headers, H.minHz, DEFAULT_MIN_HZ),
+        maxHz: num(headers, H.maxHz, sampleRate.value / 2),
+        floorDb: num(headers, H.floorDb, DEFAULT_FLOOR_DB),
+        scale: scale === 'linear' ? 'linear' : 'log',
         asked,
       }
       if (image.value) URL.revokeObjectURL(image.value.url)
