@@ -175,6 +175,15 @@ describe('auditioning with the keyboard', () => {
     await page.keyboard.press('n')
     await expect.poll(() => strip().locator('[data-test=now-playing-name]').innerText(), { timeout: 10_000 }).toBe(byId.get(order[1])!.title)
     await screenshot(page, 'library-now-playing')
+    // The scrubber moves the position from the keyboard too (a range input: arrows step it).
+    const scrub = strip().getByRole('slider', { name: 'Position' })
+    await scrub.focus()
+    await page.keyboard.press('Home')
+    // Chromium steps a range input by a tenth of its span on PageUp: four of them reach 2.4 s of the 6 s take.
+    for (let i = 0; i < 4; i++) await page.keyboard.press('PageUp')
+    await expect.poll(async () => toSeconds(await elapsed()), { timeout: 10_000 }).toBeGreaterThanOrEqual(2.3)
+    expect(toSeconds(await elapsed())).toBeLessThan(5)
+    await page.locator('body').click({ position: { x: 5, y: 5 } })
     // Space pauses: the time stops.
     await page.keyboard.press(' ')
     await expect.poll(() => strip().locator('[data-test=now-playing-toggle]').getAttribute('aria-label'), { timeout: 10_000 }).toBe('Play (Space)')
@@ -241,6 +250,21 @@ describe('tags', () => {
     const history = (await designer.get(`/api/takes/${takes[0].id}/history`).expect(200)).body.events
     expect(history[0].summary).toBe('Tag “mains” renamed to “mains hum” (tag manager)')
     await screenshot(page, 'tag-manager')
+  })
+
+  it('the tag manager merges two tags into one typed name', async () => {
+    await page.getByRole('checkbox', { name: 'Pick bright whine to merge' }).check()
+    await page.getByRole('checkbox', { name: 'Pick mains hum to merge' }).check()
+    const into = page.locator('[data-test=tag-merge-into]')
+    await into.click()
+    await page.keyboard.press('Control+a')
+    await page.keyboard.type('whine')
+    await page.keyboard.press('Enter')
+    await expect.poll(() => page.locator('[data-test=tag-done]').innerText(), { timeout: 10_000 }).toBe('“bright whine”, “mains hum” merged into “whine” on 2 takes.')
+    await expect.poll(() => page.locator('[data-tag="whine"] td.num').innerText(), { timeout: 10_000 }).toBe('2')
+    expect(await page.locator('[data-tag="bright whine"], [data-tag="mains hum"]').count()).toBe(0)
+    const res = await designer.get(`/api/takes/${takes[1].id}`).expect(200)
+    expect(res.body.take.tags).toEqual(['hum', 'whine'])
   })
 })
 
