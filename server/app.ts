@@ -17,6 +17,7 @@ import { registerOutboxRoutes } from './mail/outbox.routes'
 import { registerHealthRoutes } from './health/health.routes'
 import { registerCaptureRoutes } from './captures/captures.routes'
 import { registerIngestRoutes } from './ingest/ingest.routes'
+import { bodyDeadline } from './ingest/slow-bodies'
 import { registerTakeRoutes } from './takes/takes.routes'
 import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
@@ -55,6 +56,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
       crossOriginEmbedderPolicy: false,
     }),
   )
+  app.use(bodyDeadline(ctx.config.requestBodyTimeoutMs))
   app.use(cookieParser())
   app.use(express.json({ limit: '1mb' }))
   app.use(
