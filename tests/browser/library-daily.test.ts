@@ -204,6 +204,19 @@ describe('auditioning with the keyboard', () => {
   })
 })
 
+describe('Enter on a focused control', () => {
+  it('presses that control (here a column heading sorts) instead of opening the bench', async () => {
+    await page.goto(`${server.url}/library`)
+    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    await page.getByRole('button', { name: 'Integrated' }).focus()
+    await page.keyboard.press('Enter')
+    await expect.poll(() => new URL(page.url()).searchParams.get('sort'), { timeout: 10_000 }).toBe('integratedLufs')
+    expect(new URL(page.url()).pathname).toBe('/library')
+    const lufs = takes.concat(adminTake).sort((a, b) => a.lufs - b.lufs).map((t) => t.id)
+    await expect.poll(rowOrder, { timeout: 10_000 }).toEqual(lufs)
+  })
+})
+
 describe('tags', () => {
   it('three tags typed with Enter become three chips, new ones say so, and Apply puts all three on the selected takes', async () => {
     await page.goto(`${server.url}/library?sort=title&order=asc`)
