@@ -97,6 +97,9 @@ describe('range filters', () => {
     expect(expected.length).toBeGreaterThan(0)
     expect(expected.length).toBeLessThan(takes.length)
     await expect.poll(shownIds, { timeout: 10_000 }).toEqual(expected.sort((a, b) => a - b))
+    // Only the −17 LUFS take lies between them; the count says so in the singular.
+    expect(expected).toHaveLength(1)
+    expect(await page.locator('[data-test=library-total]').innerText()).toBe('1 take')
     const url = new URL(page.url())
     expect(url.searchParams.get('minLufs')).toBe('-20')
     expect(url.searchParams.get('maxLufs')).toBe('-10')
