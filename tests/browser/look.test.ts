@@ -76,6 +76,9 @@ beforeAll(async () => {
   await designer.post(`/api/pack-builds/${build.id}/publish`)
   const link = await designer.post(`/api/pack-builds/${build.id}/share-links`, { expiresAt: new Date(Date.now() + 7 * 864e5).toISOString() })
   ids.share = link.body.link.token
+  // An invitation waiting, and mail in the outbox.
+  const admin = await signedIn(server.url, 'admin')
+  await admin.post('/api/invitations', { email: 'new.listener@example.test', role: 'collaborator' })
   browser = await launchBrowser()
 }, 180_000)
 
@@ -178,6 +181,7 @@ for (const size of SIZES) {
         await settle(page)
         if (size.width < FOLDS_BELOW) await page.getByRole('button', { name: 'Menu' }).click()
         else await page.locator('[data-test=user-menu]').click()
+        await screenshot(page, `look/menu-open-${size.name}-${theme}`)
         await page.getByRole('button', { name: 'Sign out' }).click()
         await page.waitForURL(/\/sign-in/)
         await expect.poll(() => page.getByRole('button', { name: 'Sign in' }).isVisible()).toBe(true)
