@@ -10,7 +10,7 @@ import App from './App.vue'
 import { router } from './router'
 import { useThemeStore } from './stores/theme'
 import { strayfieldLocale } from './components/ui/locale'
-import { nameSelectsFromPlaceholders } from './components/ui/a11y'
+import { applyA11yFallbacks } from './components/ui/a11y'
 
 const app = createApp(App)
 app.use(createPinia())
@@ -19,4 +19,4 @@ app.use(router)
 // Element Plus speaks with our own words for empty lists and no match (src/components/ui/locale.ts).
 app.use(ElementPlus, { locale: strayfieldLocale })
 app.mount('#app')
-nameSelectsFromPlaceholders()
+applyA11yFallbacks()

@@ -11,11 +11,21 @@ function nameSelects(root: ParentNode) {
   }
 }
 
-export function nameSelectsFromPlaceholders(root: HTMLElement = document.body) {
+// Element Plus's scrollbar (tables, lists) scrolls a <div> the keyboard cannot
+// reach. When one actually overflows it becomes a tab stop, so arrow keys
+// scroll it (WCAG 2.1.1; axe-core rule "scrollable-region-focusable").
+function reachScrollers(root: ParentNode) {
+  for (const wrap of root.querySelectorAll<HTMLElement>('.el-scrollbar__wrap:not([tabindex])')) {
+    if (wrap.scrollWidth > wrap.clientWidth + 1 || wrap.scrollHeight > wrap.clientHeight + 1) wrap.tabIndex = 0
+  }
+}
+
+export function applyA11yFallbacks(root: HTMLElement = document.body) {
   let queued = false
   const run = () => {
     queued = false
     nameSelects(root)
+    reachScrollers(root)
   }
   new MutationObserver(() => {
     if (!queued) {
