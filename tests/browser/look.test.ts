@@ -48,6 +48,7 @@ const VIEWS: View[] = [
   { name: 'not-allowed', who: 'recordist', path: () => '/team' },
   { name: 'library', who: 'designer', path: () => '/library' },
   { name: 'bench', who: 'designer', path: () => `/takes/${ids.take}` },
+  { name: 'tag manager', who: 'designer', path: () => '/library/tags' },
   { name: 'sources', who: 'designer', path: () => '/sources' },
   { name: 'packs', who: 'designer', path: () => '/packs' },
   { name: 'pack', who: 'designer', path: () => `/packs/${ids.pack}` },
@@ -79,6 +80,10 @@ beforeAll(async () => {
   // An invitation waiting, and mail in the outbox.
   const admin = await signedIn(server.url, 'admin')
   await admin.post('/api/invitations', { email: 'new.listener@example.test', role: 'collaborator' })
+  // Source devices of several kinds, each in its family's colour.
+  for (const [name, kind] of [['Bench laptop charger', 'power-supply'], ['Desk lamp dimmer', 'lighting'], ['Office monitor', 'display'], ['Fan motor', 'motor']]) {
+    await admin.post('/api/sources', { name, kind })
+  }
   browser = await launchBrowser()
 }, 180_000)
 

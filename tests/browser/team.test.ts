@@ -66,7 +66,8 @@ describe('team: status buttons, confirmations and Undo', () => {
   })
 
   it('asks before a role change; going ahead changes it, and Undo puts the old role back', async () => {
-    await member('collaborator@example.test').getByRole('combobox', { name: /^Role of/ }).click()
+    await member('collaborator@example.test').getByRole('combobox', { name: /^Role of/ }).focus()
+    await page.keyboard.press('Enter')
     await page.locator('.el-select-dropdown__item:visible', { hasText: 'Producer' }).click()
     const dialog = page.getByRole('dialog')
     await expect.poll(() => dialog.innerText()).toMatch(/Make .+ producer\?/)
