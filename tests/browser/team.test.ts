@@ -77,6 +77,20 @@ describe('team: status buttons, confirmations and Undo', () => {
     await expect.poll(async () => (await activeOf('collaborator@example.test')).role).toBe('collaborator')
   })
 
+  it('withdraws a waiting invitation after asking; it leaves the list', async () => {
+    await admin.post('/api/invitations', { email: 'maybe.later@example.test', role: 'collaborator' })
+    await page.reload()
+    const row = page.locator('[data-invitation="maybe.later@example.test"]')
+    await row.getByRole('button', { name: 'Withdraw' }).click()
+    const dialog = page.getByRole('dialog')
+    await expect.poll(() => dialog.innerText()).toMatch(/Withdraw the invitation to maybe\.later@example\.test\?/)
+    await dialog.getByRole('button', { name: 'Withdraw the invitation' }).click()
+    await expect.poll(() => page.locator('[data-test=notice]').innerText()).toMatch(/withdrawn/)
+    await expect.poll(() => row.count()).toBe(0)
+    const left = (await admin.get('/api/invitations')).body.invitations as { email: string }[]
+    expect(left.map((i) => i.email)).not.toContain('maybe.later@example.test')
+  })
+
   it('offers no toggle switch and no way to deactivate oneself', async () => {
     expect(await page.locator('.el-switch').count()).toBe(0)
     expect(await member('admin@example.test').getByRole('button', { name: 'Deactivated' }).isDisabled()).toBe(true)
