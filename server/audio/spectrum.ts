@@ -1,6 +1,10 @@
 // Average power spectrum of the mono mix (mean of all channels) by Welch's
 // method: Hann-windowed segments, mean removed, FFT of the smallest power of two
-// giving ≤ 1 Hz resolution. At most MAX_SEGMENTS segments are taken, evenly
+// giving ≤ 1 Hz resolution. For the hum verdict a stereo take is also looked at
+// as its side signal L − R (one more FFT per segment), and as L and R alone
+// (derived from the mix and side spectra: L = M + S/2, R = M − S/2), so hum in
+// antiphase between the channels, which cancels in the mix, is found; each
+// segment gets its own verdict, which places the hum in time. At most MAX_SEGMENTS segments are taken, evenly
 // spaced through the take (50 % overlap when fewer fit), so an hour-long take
 // costs no more than a few minutes' one. 128 segments put the spread of each
 // averaged bin near ±0.4 dB (1/√128), ample for finding tones 10 dB above the
@@ -9,7 +13,8 @@
 // single streaming pass.
 import FFT from 'fft.js'
 import type { Spectrum } from '@shared/schemas/analysis'
-import { describeSpectrum } from './spectrum-features'
+import type { MainsHum, TimeSpan } from '@shared/schemas/analysis'
+import { describeSpectrum, readHum } from './spectrum-features'
 
 const MAX_SEGMENTS = 128
 
@@ -48,7 +53,22 @@ interface Segment {
   start: number
   filled: number
   buffer: Float64Array
+  /** ch0 − ch1 (stereo and more). */
+  side: Float64Array | null
 }
+
+/** dst[at..] = planar[0][from..to) − planar[1][from..to). */
+function sideInto(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
+  const a = planar[0]
+  const b = planar[1]
+  for (let i = from, j = at; i < to; i++, j++) dst[j] = a[i] - b[i]
+}
+
+/** Names of the signals the hum is looked for in, in the order of SpectrumMeter.signals. */
+/** A single segment's spectrum is one periodogram (noisy): its verdict asks harmonics to stand 10 dB out. */
+const SEGMENT_HUM_DB = 10
+
+const STEREO_SIGNALS = ['mix', 'L−R', 'L', 'R'] as const
 
 export class SpectrumMeter {
   private readonly sampleRate: number
@@ -66,6 +86,14 @@ export class SpectrumMeter {
   private window: Float64Array | null = null
   private position = 0
   private readonly length: number // segment length: the FFT size, or the whole take when shorter
+  private readonly stereo: boolean
+  private readonly spareSide: Float64Array[] = []
+  private readonly out2: Float64Array
+  /** Summed power per signal (side, L, R) for stereo; the mix is `sum`. */
+  private readonly signalSums: Float64Array[]
+  private readonly segPower: Float64Array[]
+  /** Per analysed segment: where it lies and which mains frequency (if any) it holds. */
+  private readonly humSegments: { start: number; length: number; hz: 50 | 60 | null }[] = []
 
   constructor(sampleRate: number, channels: number, frames: number) {
     this.sampleRate = sampleRate
@@ -76,6 +104,11 @@ export class SpectrumMeter {
     this.fft = new FFT(this.size)
     this.out = new Float64Array(2 * this.size)
     this.sum = new Float64Array(this.size / 2 + 1)
+    this.stereo = channels >= 2
+    this.out2 = new Float64Array(this.stereo ? 2 * this.size : 0)
+    const signals = this.stereo ? (channels === 2 ? 3 : 1) : 0
+    this.signalSums = Array.from({ length: signals }, () => new Float64Array(this.size / 2 + 1))
+    this.segPower = Array.from({ length: 1 + signals }, () => new Float64Array(this.size / 2 + 1))
   }
 
   push(planar: Float32Array[]): void {
@@ -83,42 +116,86 @@ export class SpectrumMeter {
     const blockEnd = this.position + n
     while (this.nextStart < this.starts.length && this.starts[this.nextStart] < blockEnd) {
       const buffer = this.spare.pop() ?? new Float64Array(this.size)
-      this.active.push({ start: this.starts[this.nextStart++], filled: 0, buffer })
+      const side = this.stereo ? (this.spareSide.pop() ?? new Float64Array(this.size)) : null
+      this.active.push({ start: this.starts[this.nextStart++], filled: 0, buffer, side })
     }
     for (const seg of this.active) {
       const from = Math.max(0, seg.start + seg.filled - this.position)
       const to = Math.min(n, seg.start + this.length - this.position)
       if (to <= from) continue
       mixInto(seg.buffer, seg.filled, planar, from, to)
+      if (seg.side) sideInto(seg.side, seg.filled, planar, from, to)
       seg.filled += to - from
     }
     this.position = blockEnd
     for (let k = this.active.length - 1; k >= 0; k--) {
       const seg = this.active[k]
       if (seg.filled < this.length) continue
-      this.accumulate(seg.buffer, seg.filled)
+      this.accumulate(seg)
       this.active.splice(k, 1)
       this.spare.push(seg.buffer)
+      if (seg.side) this.spareSide.push(seg.side)
     }
   }
 
-  private accumulate(b: Float64Array, len: number): void {
+  /** Mean removed, Hann window and scale applied in place, then the FFT into `o`. */
+  private transform(b: Float64Array, len: number, scale: number, o: Float64Array): void {
     let mean = 0
     for (let i = 0; i < len; i++) mean += b[i]
     mean /= len
     const w = this.hann(len)
-    const scale = 1 / this.channels // the mono mix is the mean of the channels
     for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i] * scale
     if (len < b.length) b.fill(0, len)
-    const o = this.out
     this.fft.realTransform(o, b)
+  }
+
+  private accumulate(seg: Segment): void {
+    const len = seg.filled
+    const o = this.out
+    this.transform(seg.buffer, len, 1 / this.channels, o) // the mono mix is the mean of the channels
     const sum = this.sum
+    const mixPower = this.segPower[0]
     for (let k = 0, m = sum.length; k < m; k++) {
       const re = o[2 * k]
       const im = o[2 * k + 1]
-      sum[k] += re * re + im * im
+      const p = re * re + im * im
+      sum[k] += p
+      mixPower[k] = p
     }
+    if (seg.side) {
+      const o2 = this.out2
+      this.transform(seg.side, len, 1, o2)
+      const sideP = this.segPower[1]
+      const two = this.channels === 2
+      const lP = two ? this.segPower[2] : null
+      const rP = two ? this.segPower[3] : null
+      for (let k = 0, m = sum.length; k < m; k++) {
+        const mr = o[2 * k], mi = o[2 * k + 1], sr = o2[2 * k], si = o2[2 * k + 1]
+        sideP[k] = sr * sr + si * si
+        if (lP && rP) {
+          // L = M + S/2, R = M − S/2 (M the mean of the two channels).
+          const lr = mr + 0.5 * sr, li = mi + 0.5 * si, rr = mr - 0.5 * sr, ri = mi - 0.5 * si
+          lP[k] = lr * lr + li * li
+          rP[k] = rr * rr + ri * ri
+        }
+      }
+      for (let j = 0; j < this.signalSums.length; j++) {
+        const acc = this.signalSums[j]
+        const p = this.segPower[j + 1]
+        for (let k = 0; k < acc.length; k++) acc[k] += p[k]
+      }
+    }
+    // This segment's own verdict, in any of its signals.
+    let hz: 50 | 60 | null = null
+    for (const p of this.segPower.slice(0, 1 + this.signalSums.length)) {
+      hz ??= readHum(this.spectrumOf(p, 1), SEGMENT_HUM_DB).hz
+    }
+    this.humSegments.push({ start: seg.start, length: len, hz })
     this.segments++
+  }
+
+  private spectrumOf(power: Float64Array, segments: number): PowerSpectrum {
+    return { power: segments === 1 ? power : power.map((p) => p / segments), fftSize: this.size, sampleRate: this.sampleRate, windowEnergy: this.windowEnergy }
   }
 
   private hann(len: number): Float64Array {
@@ -140,7 +217,7 @@ export class SpectrumMeter {
     // A take that ended before its announced length: use a partial segment if it is at least half full.
     for (const seg of this.active) {
       if (this.segments === 0 && seg.filled >= Math.min(this.length, Math.max(2, this.length / 2))) {
-        this.accumulate(seg.buffer, seg.filled)
+        this.accumulate(seg)
       }
     }
     this.active.length = 0
@@ -150,6 +227,40 @@ export class SpectrumMeter {
   }
 
   finish(): Spectrum {
-    return describeSpectrum(this.powerSpectrum())
+    const mix = this.powerSpectrum()
+    return describeSpectrum(mix, mix ? this.hum(mix) : undefined)
+  }
+
+  /**
+   * The hum verdict from the averaged spectra of every signal (the mix; for stereo also L − R, L and
+   * R): the signal with the clearest mains pattern gives the figures, and every signal showing the
+   * same mains frequency is named. The share and spans come from the segments' own verdicts.
+   */
+  private hum(mix: PowerSpectrum): MainsHum {
+    const names = this.signalSums.length === 3 ? STEREO_SIGNALS : this.signalSums.length === 1 ? STEREO_SIGNALS.slice(0, 2) : STEREO_SIGNALS.slice(0, 1)
+    const readings = [mix, ...this.signalSums.map((p) => this.spectrumOf(p, this.segments))].map((s, i) => ({ name: names[i], r: readHum(s) }))
+    const found = readings.filter((x) => x.r.hz !== null)
+    const best = found.length > 0 ? found.reduce((a, b) => (b.r.confidence > a.r.confidence ? b : a)) : readings[0]
+    const hz = best.r.hz
+    const signals = hz === null ? [] : found.filter((x) => x.r.hz === hz).map((x) => x.name)
+    let share: number | null = null
+    const spans: TimeSpan[] = []
+    if (hz !== null && this.humSegments.length > 0) {
+      const rate = this.sampleRate
+      const segs = this.humSegments
+      share = Math.round((segs.filter((s) => s.hz === hz).length / segs.length) * 1000) / 1000
+      for (let i = 0; i < segs.length; i++) {
+        if (segs[i].hz !== hz) continue
+        let j = i
+        while (j + 1 < segs.length && segs[j + 1].hz === hz) j++
+        const span = { startSeconds: segs[i].start / rate, endSeconds: (segs[j].start + segs[j].length) / rate }
+        // One segment missed inside a stretch of hum (a click, a dropout) does not split it.
+        const last = spans[spans.length - 1]
+        if (last && span.startSeconds - last.endSeconds < segs[i].length / rate) last.endSeconds = span.endSeconds
+        else spans.push(span)
+        i = j
+      }
+    }
+    return { hz, ratioDb: best.r.ratioDb, measuredHz: best.r.measuredHz, harmonics: best.r.harmonics, confidence: best.r.confidence, signals: signals.map((n) => (n === 'mix' ? 'all channels' : n)), share, spans }
   }
 }
