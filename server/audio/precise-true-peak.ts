@@ -27,10 +27,8 @@ const HEAD = HALF + 12 // samples kept before a stretch: the sinc's reach and th
 /** How far below the best peak so far a stretch's Annex peak may be and still be searched (dB): the Annex 4× points miss a crest by at most cos(π·f / 4fs) (0.47 dB at 20 kHz, 48 kHz) plus 0.3 dB of ripple. */
 const SCREEN_DB = 1.0
 const SCREEN = 10 ** (-SCREEN_DB / 20)
-/** The Annex 2 filter reads up to 0.22 dB high (its phases' ripple): a crest found within 0.3 dB under its figure is the one it saw. */
-const ANNEX_OVER = 10 ** (-0.3 / 20)
 /** Crests refined per stretch, best Annex value first. */
-const CRESTS = 3
+const CRESTS = 4
 
 function besselI0(x: number): number {
   let sum = 1
@@ -216,10 +214,11 @@ export class PreciseTruePeakMeter {
         const a = Math.abs(work[i])
         if (a > peak) peak = a
       }
-      // Crests near the largest samples first; when none of them reaches the stretch's Annex peak,
-      // the crest lies elsewhere (a high, narrow lobe between small samples): walk every output.
+      // Crests near the largest samples first; when the stretch's Annex peak was not among the Annex
+      // outputs looked at there, the crest lies elsewhere (a high, narrow lobe between smaller
+      // samples): walk every output of the stretch.
       let found = this.refineNearSamples(work, from, to, threshold * SCREEN, peak)
-      if (this.seen < c.annex * ANNEX_OVER) found = Math.max(found, this.refineStretch(work, from, to, threshold))
+      if (this.seen < c.annex * (1 - 1e-9)) found = Math.max(found, this.refineStretch(work, from, to, threshold))
       if (found > peak) peak = found
     }
     list.length = kept
