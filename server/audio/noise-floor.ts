@@ -9,8 +9,8 @@
 // - A channel is silent (dead) when no window reaches −100 dBFS: it is reported
 //   as such and left out of the take's floor.
 // - A channel is continuous when its 10th percentile is within 6 dB of its
-//   median window: it never falls quiet (a drone, steady noise), so it has no
-//   noise floor to speak of, only its steady level.
+//   95th: its quiet passages are as loud as its loud ones (a drone, steady
+//   noise), so it has no noise floor to speak of, only its steady level.
 // The take's floor is the highest floor among its live channels that fall
 // quiet (the noisiest channel is the one heard); null when none does, and then
 // `continuous` says why. Levels are binned at 0.01 dB, so memory does not grow
@@ -121,9 +121,9 @@ export class NoiseFloorMeter {
     if (this.windows === 0 && this.frames > 0) this.closeWindow()
     const channels: ChannelFloor[] = this.histograms.map((h, ch) => {
       const p10 = h.percentile(PERCENTILE)
-      const median = h.percentile(0.5)
+      const loud = h.percentile(0.95)
       const silent = p10 === null || this.loudest[ch] < SILENT_DBFS
-      const continuous = !silent && median !== null && p10! >= median - CONTINUOUS_DB
+      const continuous = !silent && loud !== null && p10! >= loud - CONTINUOUS_DB
       return { dbfs: silent || continuous ? null : p10, silent, continuous }
     })
     const live = channels.filter((c) => !c.silent)

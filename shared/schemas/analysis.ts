@@ -190,7 +190,7 @@ export const NoiseFloor = z.object({
    * about 20 Hz), digital-zero windows left out. null when no live channel falls quiet.
    */
   dbfs: Db,
-  /** The take never falls quiet: its quietest tenth is within 6 dB of its median level (a drone, steady noise). */
+  /** The take never falls quiet: in every live channel the 10th percentile of its 50 ms levels is within 6 dB of the 95th (a drone, steady noise). */
   continuous: z.boolean(),
 })
 export type NoiseFloor = z.infer<typeof NoiseFloor>
