@@ -16,6 +16,8 @@ export interface LevelsOptions {
   channels: number
   encoding: 'pcm' | 'float'
   validBitsPerSample: number
+  /** Samples arrive multiplied by this (float-64 files beyond the float-32 range); full scale is this. */
+  scale?: number
 }
 
 export interface ChannelTotals {
@@ -40,12 +42,14 @@ export class LevelsMeter {
   private readonly clipped: Float64Array
   private readonly over: Float64Array
   private readonly float: boolean
+  private readonly limit: number
   private readonly run: Float64Array // signed length of the current full-scale run (+ top, − bottom)
   private frames = 0
 
   constructor(opts: LevelsOptions) {
     this.channels = opts.channels
-    this.threshold = fullScaleThreshold(opts.encoding, opts.validBitsPerSample)
+    this.limit = opts.scale ?? 1
+    this.threshold = fullScaleThreshold(opts.encoding, opts.validBitsPerSample) * this.limit
     this.peak = new Float64Array(opts.channels)
     this.sum = new Float64Array(opts.channels)
     this.sumSquares = new Float64Array(opts.channels)
@@ -82,7 +86,7 @@ export class LevelsMeter {
     let clipped = this.clipped[ch]
     for (let i = from; i < to; i++) {
       const v = x[i]
-      if (this.float && Math.abs(v) > 1) {
+      if (this.float && Math.abs(v) > this.limit) {
         this.over[ch]++
         run = 0
       } else if (Math.abs(v) >= t) {

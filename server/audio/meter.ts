@@ -28,6 +28,8 @@ export interface MeterFormat {
   encoding?: 'pcm' | 'float'
   /** Valid bits of PCM samples, for the full-scale threshold of the clipping rule. Default 24. */
   validBitsPerSample?: number
+  /** Samples arrive multiplied by this power of two (float-64 beyond the float-32 range); see analyze.ts. */
+  scale?: number
   onMomentary?: LoudnessOptions['onMomentary']
   onShortTerm?: LoudnessOptions['onShortTerm']
 }
@@ -72,6 +74,7 @@ export class Meter {
       channels: f.channels,
       encoding: f.encoding ?? 'pcm',
       validBitsPerSample: f.validBitsPerSample ?? 24,
+      scale: f.scale,
     })
     this.loudness = new LoudnessMeter({
       sampleRate: f.sampleRate,

@@ -3,8 +3,16 @@
 // clipping: WAVE_FORMAT_IEEE_FLOAT has no limit of its own), sox (the
 // signals), and the noise-floor definition written in the contributor guide
 // ("Measurement definitions"), common practice for a recordist's meter.
-import { describe, expect, it } from 'vitest'
+import { mkdtempSync, rmSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import { join } from 'node:path'
+import { afterAll, describe, expect, it } from 'vitest'
+import { analyzeFile } from '../../server/audio/analyze'
+import { WavWriter } from '../../server/audio/wav-writer'
 import { measure, random, sine } from '../helpers/signals'
+
+const dir = mkdtempSync(join(tmpdir(), 'strayfield-bad-'))
+afterAll(() => rmSync(dir, { recursive: true, force: true }))
 
 const FS = 48000
 
@@ -70,5 +78,24 @@ describe('noise floor: DC removed, per channel, dead channels flagged, none on a
     const r = measure([x, x.slice()], { sampleRate: FS, channelMask: 0, encoding: 'float' })
     expect(r.noiseFloorDbfs).toBeNull()
     expect(r.noiseFloor).toEqual({ dbfs: null, continuous: true })
+  })
+})
+
+describe('float-64 files beyond the float-32 range are measured, not voided', () => {
+  it('a 1 kHz sine of amplitude 1e40 in a float-64 WAV: +800 dBFS peak, 797.0 LUFS, over full scale, nothing invalid', async () => {
+    const file = join(dir, 'f64-1e40.wav')
+    const n = 48000 * 2
+    const x = Float64Array.from({ length: n }, (_, i) => 1e40 * Math.sin((2 * Math.PI * 1000 * i) / 48000))
+    const w = await WavWriter.open(file, { sampleRate: 48000, channels: 1, encoding: 'float', bitsPerSample: 64, channelMask: 0 })
+    await w.write([x])
+    await w.close()
+    const { analysis } = await analyzeFile(file)
+    expect(analysis.levels.invalidSamples?.count).toBe(0)
+    expect(Math.abs(analysis.levels.samplePeakDbfs! - 800)).toBeLessThan(0.01)
+    expect(Math.abs(analysis.levels.rmsDbfs! - (800 - 3.0103))).toBeLessThan(0.01)
+    // A mono 1 kHz sine reads 20·log10(A) − 3.01 LUFS (BS.1770-4; EBU Tech 3341 case 1 with one channel).
+    expect(Math.abs(analysis.loudness.integratedLufs! - (800 - 3.01))).toBeLessThan(0.1)
+    expect(analysis.levels.channels[0].clippedSamples).toBe(0)
+    expect(analysis.levels.channels[0].overFullScaleSamples!).toBeGreaterThan(n * 0.9)
   })
 })
