@@ -180,6 +180,8 @@ export const FileMetadata = z.object({
   loops: z.array(Loop),
   /** General tags as music-metadata reads them (title, artist, comment…), for display. */
   tags: z.record(z.string(), z.string()).default({}),
+  /** What was not kept of oversized metadata (fields cut, entries not read, chunks skipped), one sentence each. */
+  dropped: z.array(z.string()).default([]),
 })
 export type FileMetadata = z.infer<typeof FileMetadata>
 
