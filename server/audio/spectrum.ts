@@ -1,10 +1,12 @@
 // Average power spectrum of the mono mix (mean of all channels) by Welch's
 // method: Hann-windowed segments, mean removed, FFT of the smallest power of two
-// giving ≤ 1 Hz resolution. For the hum verdict a stereo take is also looked at
-// as its side signal L − R (one more FFT per segment), and as L and R alone
-// (derived from the mix and side spectra: L = M + S/2, R = M − S/2), so hum in
-// antiphase between the channels, which cancels in the mix, is found; each
-// segment gets its own verdict, which places the hum in time. At most MAX_SEGMENTS segments are taken, evenly
+// giving ≤ 1 Hz resolution. For the hum verdict a take of two or more channels
+// is also looked at as its side signal ch1 − ch2 (L − R): hum in antiphase
+// between the channels cancels in the mix and stands in the side signal, and hum
+// on one channel only shows in both. The side signal's FFT is a quarter of the
+// mix's (the first quarter of each segment: about 3 Hz bins at 48 kHz, ample for
+// harmonics 50 Hz apart, at a fifth of the cost). Each segment gets its own
+// verdict, which places the hum in time. At most MAX_SEGMENTS segments are taken, evenly
 // spaced through the take (50 % overlap when fewer fit), so an hour-long take
 // costs no more than a few minutes' one. 128 segments put the spread of each
 // averaged bin near ±0.4 dB (1/√128), ample for finding tones 10 dB above the
@@ -64,11 +66,11 @@ function sideInto(dst: Float64Array, at: number, planar: Float32Array[], from: n
   for (let i = from, j = at; i < to; i++, j++) dst[j] = a[i] - b[i]
 }
 
-/** Names of the signals the hum is looked for in, in the order of SpectrumMeter.signals. */
 /** A single segment's spectrum is one periodogram (noisy): its verdict asks harmonics to stand 10 dB out. */
 const SEGMENT_HUM_DB = 10
 
-const STEREO_SIGNALS = ['mix', 'L−R', 'L', 'R'] as const
+/** Names of the signals the hum is looked for in: the mix, and the side signal. */
+const SIGNALS = ['all channels', 'L−R'] as const
 
 export class SpectrumMeter {
   private readonly sampleRate: number
@@ -88,10 +90,16 @@ export class SpectrumMeter {
   private readonly length: number // segment length: the FFT size, or the whole take when shorter
   private readonly stereo: boolean
   private readonly spareSide: Float64Array[] = []
+  private readonly sideSize: number
+  private readonly sideFft: FFT | null
   private readonly out2: Float64Array
-  /** Summed power per signal (side, L, R) for stereo; the mix is `sum`. */
-  private readonly signalSums: Float64Array[]
-  private readonly segPower: Float64Array[]
+  private sideWindow: Float64Array | null = null
+  private sideWindowEnergy = 0
+  /** Summed power of the side signal; the mix's is `sum`. */
+  private readonly sideSum: Float64Array
+  private readonly mixPower: Float64Array
+  private readonly sidePower: Float64Array
+  private sideSegments = 0
   /** Per analysed segment: where it lies and which mains frequency (if any) it holds. */
   private readonly humSegments: { start: number; length: number; hz: 50 | 60 | null }[] = []
 
@@ -105,10 +113,12 @@ export class SpectrumMeter {
     this.out = new Float64Array(2 * this.size)
     this.sum = new Float64Array(this.size / 2 + 1)
     this.stereo = channels >= 2
-    this.out2 = new Float64Array(this.stereo ? 2 * this.size : 0)
-    const signals = this.stereo ? (channels === 2 ? 3 : 1) : 0
-    this.signalSums = Array.from({ length: signals }, () => new Float64Array(this.size / 2 + 1))
-    this.segPower = Array.from({ length: 1 + signals }, () => new Float64Array(this.size / 2 + 1))
+    this.sideSize = this.size / 4
+    this.sideFft = this.stereo ? new FFT(this.sideSize) : null
+    this.out2 = new Float64Array(this.stereo ? 2 * this.sideSize : 0)
+    this.sideSum = new Float64Array(this.stereo ? this.sideSize / 2 + 1 : 0)
+    this.mixPower = new Float64Array(this.size / 2 + 1)
+    this.sidePower = new Float64Array(this.sideSum.length)
   }
 
   push(planar: Float32Array[]): void {
@@ -116,7 +126,7 @@ export class SpectrumMeter {
     const blockEnd = this.position + n
     while (this.nextStart < this.starts.length && this.starts[this.nextStart] < blockEnd) {
       const buffer = this.spare.pop() ?? new Float64Array(this.size)
-      const side = this.stereo ? (this.spareSide.pop() ?? new Float64Array(this.size)) : null
+      const side = this.stereo ? (this.spareSide.pop() ?? new Float64Array(this.sideSize)) : null
       this.active.push({ start: this.starts[this.nextStart++], filled: 0, buffer, side })
     }
     for (const seg of this.active) {
@@ -124,7 +134,7 @@ export class SpectrumMeter {
       const to = Math.min(n, seg.start + this.length - this.position)
       if (to <= from) continue
       mixInto(seg.buffer, seg.filled, planar, from, to)
-      if (seg.side) sideInto(seg.side, seg.filled, planar, from, to)
+      if (seg.side && seg.filled < this.sideSize) sideInto(seg.side, seg.filled, planar, from, Math.min(to, from + this.sideSize - seg.filled))
       seg.filled += to - from
     }
     this.position = blockEnd
@@ -154,7 +164,7 @@ export class SpectrumMeter {
     const o = this.out
     this.transform(seg.buffer, len, 1 / this.channels, o) // the mono mix is the mean of the channels
     const sum = this.sum
-    const mixPower = this.segPower[0]
+    const mixPower = this.mixPower
     for (let k = 0, m = sum.length; k < m; k++) {
       const re = o[2 * k]
       const im = o[2 * k + 1]
@@ -162,36 +172,46 @@ export class SpectrumMeter {
       sum[k] += p
       mixPower[k] = p
     }
-    if (seg.side) {
+    let hz = readHum(this.spectrumOf(mixPower, 1), SEGMENT_HUM_DB).hz
+    if (seg.side && this.sideFft) {
+      const sideLen = Math.min(len, this.sideSize)
+      this.transformSide(seg.side, sideLen)
       const o2 = this.out2
-      this.transform(seg.side, len, 1, o2)
-      const sideP = this.segPower[1]
-      const two = this.channels === 2
-      const lP = two ? this.segPower[2] : null
-      const rP = two ? this.segPower[3] : null
-      for (let k = 0, m = sum.length; k < m; k++) {
-        const mr = o[2 * k], mi = o[2 * k + 1], sr = o2[2 * k], si = o2[2 * k + 1]
-        sideP[k] = sr * sr + si * si
-        if (lP && rP) {
-          // L = M + S/2, R = M − S/2 (M the mean of the two channels).
-          const lr = mr + 0.5 * sr, li = mi + 0.5 * si, rr = mr - 0.5 * sr, ri = mi - 0.5 * si
-          lP[k] = lr * lr + li * li
-          rP[k] = rr * rr + ri * ri
-        }
+      const sp = this.sidePower
+      for (let k = 0; k < sp.length; k++) {
+        const p = o2[2 * k] * o2[2 * k] + o2[2 * k + 1] * o2[2 * k + 1]
+        sp[k] = p
+        this.sideSum[k] += p
       }
-      for (let j = 0; j < this.signalSums.length; j++) {
-        const acc = this.signalSums[j]
-        const p = this.segPower[j + 1]
-        for (let k = 0; k < acc.length; k++) acc[k] += p[k]
-      }
-    }
-    // This segment's own verdict, in any of its signals.
-    let hz: 50 | 60 | null = null
-    for (const p of this.segPower.slice(0, 1 + this.signalSums.length)) {
-      hz ??= readHum(this.spectrumOf(p, 1), SEGMENT_HUM_DB).hz
+      this.sideSegments++
+      hz ??= readHum(this.sideSpectrum(sp, 1), SEGMENT_HUM_DB).hz
     }
     this.humSegments.push({ start: seg.start, length: len, hz })
     this.segments++
+  }
+
+  private transformSide(b: Float64Array, len: number): void {
+    if (this.sideWindow?.length !== len) {
+      const w = new Float64Array(len)
+      let energy = 0
+      for (let i = 0; i < len; i++) {
+        w[i] = len > 1 ? 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / (len - 1)) : 1
+        energy += w[i] * w[i]
+      }
+      this.sideWindow = w
+      this.sideWindowEnergy = energy
+    }
+    let mean = 0
+    for (let i = 0; i < len; i++) mean += b[i]
+    mean /= len
+    const w = this.sideWindow
+    for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i]
+    if (len < b.length) b.fill(0, len)
+    this.sideFft!.realTransform(this.out2, b)
+  }
+
+  private sideSpectrum(power: Float64Array, segments: number): PowerSpectrum {
+    return { power: segments === 1 ? power : power.map((p) => p / segments), fftSize: this.sideSize, sampleRate: this.sampleRate, windowEnergy: this.sideWindowEnergy }
   }
 
   private spectrumOf(power: Float64Array, segments: number): PowerSpectrum {
@@ -237,8 +257,8 @@ export class SpectrumMeter {
    * same mains frequency is named. The share and spans come from the segments' own verdicts.
    */
   private hum(mix: PowerSpectrum): MainsHum {
-    const names = this.signalSums.length === 3 ? STEREO_SIGNALS : this.signalSums.length === 1 ? STEREO_SIGNALS.slice(0, 2) : STEREO_SIGNALS.slice(0, 1)
-    const readings = [mix, ...this.signalSums.map((p) => this.spectrumOf(p, this.segments))].map((s, i) => ({ name: names[i], r: readHum(s) }))
+    const spectra = this.sideSegments > 0 ? [mix, this.sideSpectrum(this.sideSum, this.sideSegments)] : [mix]
+    const readings = spectra.map((s, i) => ({ name: SIGNALS[i], r: readHum(s) }))
     const found = readings.filter((x) => x.r.hz !== null)
     const best = found.length > 0 ? found.reduce((a, b) => (b.r.confidence > a.r.confidence ? b : a)) : readings[0]
     const hz = best.r.hz
@@ -261,6 +281,6 @@ export class SpectrumMeter {
         i = j
       }
     }
-    return { hz, ratioDb: best.r.ratioDb, measuredHz: best.r.measuredHz, harmonics: best.r.harmonics, confidence: best.r.confidence, signals: signals.map((n) => (n === 'mix' ? 'all channels' : n)), share, spans }
+    return { hz, ratioDb: best.r.ratioDb, measuredHz: best.r.measuredHz, harmonics: best.r.harmonics, confidence: best.r.confidence, signals, share, spans }
   }
 }
