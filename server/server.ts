@@ -1,6 +1,6 @@
 import http from 'node:http'
 import type { AddressInfo } from 'node:net'
-import { loadConfig, type Config } from './core/config'
+import { checkDemoIsLocal, loadConfig, type Config } from './core/config'
 import { migrateToLatest, openDatabase } from './core/database'
 import { createMailer } from './mail/mailer'
 import { createApp } from './app'
@@ -12,6 +12,7 @@ import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
 import { buildPackJob } from './packs/build.job'
+import { createHeavyWork } from './core/heavy-work'
 
 export interface RunningServer {
   url: string
@@ -24,6 +25,7 @@ export interface RunningServer {
 /** Opens the database, migrates, seeds the demo when asked, starts mail and HTTP. */
 export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = process.env): Promise<RunningServer> {
   const config = loadConfig(env, overrides)
+  checkDemoIsLocal(config) // before anything is opened or seeded
   // Before anything touches the data: the partial-upload sweep and the re-queuing of jobs below
   // are safe only when no other server uses the same database and storage.
   const lock = lockData(config.dbFile, config.storageDir)
@@ -42,7 +44,8 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   const storage = new Storage(config.storageDir)
   storage.sweepIncoming()
   const pool = createAnalysisPool(config.analysisWorkers || undefined)
-  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner }
+  const heavy = createHeavyWork({ threads: config.heavyThreads || undefined, perUser: config.heavyPerUser })
+  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner, heavy }
   ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
@@ -71,6 +74,7 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
         })
         await ctx.jobs.stop()
         await pool.close()
+        await heavy.close()
         await built.close()
         await mailer.close()
         await db.destroy()
