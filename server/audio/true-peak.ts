@@ -2,7 +2,10 @@
 // 48-tap interpolation filter (4 phases × 12 taps), then the maximum absolute
 // value. The coefficients are those printed in the Annex, written here from
 // memory; tests/audio/ebu-3341.test.ts (cases 15–19) and the ffmpeg cross-check
-// verify them, and their response is flat to ±0.1 dB up to 20 kHz at 48 kHz.
+// verify them. Real accuracy on single tones at 48 kHz: the two middle phases
+// ripple ±0.22 dB (a 4 kHz tone reads +0.2 dB, an 8 kHz one −0.3 dB), and near
+// 20 kHz the 4× points can miss a crest by up to 0.5 dB; precise-true-peak.ts is
+// what ceilings are held to (tests/audio/true-peak-precise.test.ts).
 //
 // Working in floating point, the Annex's 12.04 dB headroom attenuation is not
 // needed. The filter's taps sit between the original samples (its delay is
