@@ -38,8 +38,7 @@ describe('packs in the browser', () => {
 
     await page.goto(`${server.url}/library`)
     await expect.poll(() => page.locator('[data-test=library-table] [data-take]').count()).toBe(2)
-    // Tick both rows, as a person does.
-    for (const box of await page.locator('[data-test=library-table] [data-test=row-select]').all()) await box.check()
+    await page.getByLabel('Select every take on this page').check()
     await page.locator('[data-test=add-to-pack] .el-select').click()
     await page.locator('.el-select-dropdown__item', { hasText: 'Bench hums, volume one' }).click()
     await page.locator('[data-test=add-to-pack] button').click()
