@@ -18,6 +18,7 @@ import { registerHealthRoutes } from './health/health.routes'
 import { registerCaptureRoutes } from './captures/captures.routes'
 import { registerIngestRoutes } from './ingest/ingest.routes'
 import { registerTakeRoutes } from './takes/takes.routes'
+import { registerTakeRemovalRoutes } from './takes/takes.removal.routes'
 import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
@@ -77,6 +78,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerCaptureRoutes(api, ctx)
   registerIngestRoutes(api, ctx)
   registerTakeRoutes(api, ctx)
+  registerTakeRemovalRoutes(api, ctx)
   registerSpectrogramRoutes(api, ctx)
   registerSourceRoutes(api, ctx)
   registerRegionRoutes(api, ctx)

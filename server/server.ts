@@ -11,6 +11,7 @@ import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
 import { buildPackJob } from './packs/build.job'
+import { startRemovalSweep } from './takes/takes.removal'
 
 export interface RunningServer {
   url: string
@@ -33,6 +34,8 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
   ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
+  // Removed takes older than 30 days are purged with their files, at start and daily.
+  const stopRemovalSweep = startRemovalSweep(db, storage)
   const built = await createApp(ctx)
   const server = http.createServer(built.app)
   // Long takes upload for a long time: lift Node's 5-minute whole-request limit
@@ -55,6 +58,7 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
         server.closeAllConnections()
       })
       await ctx.jobs.stop()
+      await stopRemovalSweep()
       await pool.close()
       await built.close()
       await mailer.close()

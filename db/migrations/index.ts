@@ -7,6 +7,7 @@ import * as capturesAndTakes from './20261201130000_captures_and_takes'
 import * as takeSearch from './20261201140000_take_search'
 import * as library from './20261201150000_library'
 import * as packs from './20261201160000_packs'
+import * as takeRemovals from './20261202130000_take_removals'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
@@ -14,4 +15,5 @@ export const migrations: Record<string, Migration> = {
   '20261201140000_take_search': takeSearch,
   '20261201150000_library': library,
   '20261201160000_packs': packs,
+  '20261202130000_take_removals': takeRemovals,
 }
