@@ -40,7 +40,7 @@ const value = (t: Take, by: SheetSort): string | number | null => {
   }
 }
 
-/** Rows sorted by a column; empty values last either way, file name then id break ties. */
+/** Rows sorted by a column; empty values last either way; ties keep the recorder's order (file name ascending, then id). */
 export function sortRows(takes: Take[], by: SheetSort, order: 'asc' | 'desc'): Take[] {
   const sign = order === 'asc' ? 1 : -1
   return [...takes].sort((a, b) => {
