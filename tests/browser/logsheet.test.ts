@@ -7,8 +7,9 @@ import path from 'node:path'
 import { describe, expect, it } from 'vitest'
 import type { Page } from 'playwright-core'
 import { screenshot, useBrowserServer } from '../helpers/browser'
-import { signedIn } from '../helpers/server'
+import { Client, signedIn } from '../helpers/server'
 import { soxWav } from '../helpers/uploads'
+import { linkToken } from '../helpers/smtp'
 
 const env = useBrowserServer()
 
@@ -45,6 +46,37 @@ describe('Enter submits the forms people expect it to', () => {
     await page.locator('[data-test=forgot-form] input[name=email]').click()
     await page.keyboard.press('Enter')
     await expect.poll(() => page.locator('[data-test=forgot-form]').innerText()).toContain('reset link is on its way')
+    await page.close()
+  })
+})
+
+describe('Enter on the join and new-password pages', () => {
+  it('joins the team with Enter in the password field, then sets a new password with Enter', async () => {
+    const admin = await signedIn(env.server.url, 'admin')
+    await admin.post('/api/invitations', { email: 'new.recordist@example.test', role: 'recordist' }).expect(201)
+    const mailTo = async (to: string) => {
+      const messages = (await admin.get('/api/outbox').expect(200)).body.messages as { to: string; text: string }[]
+      return messages.find((m) => m.to.includes(to))?.text ?? ''
+    }
+    await expect.poll(() => mailTo('new.recordist@example.test'), { timeout: 10_000 }).toContain('/join/')
+    const page = await env.browser.newPage({ viewport: { width: 390, height: 844 } })
+    await page.goto(`${env.server.url}/join/${linkToken(await mailTo('new.recordist@example.test'), 'join')}`)
+    await typeInto(page, 'input[name=name]', 'Wren Tallis')
+    await page.keyboard.press('Tab')
+    await page.keyboard.type('a-long-enough-password')
+    await page.keyboard.press('Enter')
+    await page.waitForURL((u) => !u.pathname.startsWith('/join'), { timeout: 10_000 })
+    await expect.poll(() => page.locator('body').innerText()).toContain('Wren Tallis')
+
+    // A reset link (asked for on the sign-in page, as tested above), and Enter in its one field.
+    const anon = new Client(env.server.url)
+    await anon.refreshCsrf()
+    await anon.post('/api/auth/password-reset', { email: 'new.recordist@example.test' }).expect(202)
+    await expect.poll(() => mailTo('new.recordist@example.test'), { timeout: 10_000 }).toContain('/reset/')
+    await page.goto(`${env.server.url}/reset/${linkToken(await mailTo('new.recordist@example.test'), 'reset')}`)
+    await typeInto(page, 'input[name=password]', 'another-long-password')
+    await page.keyboard.press('Enter')
+    await expect.poll(() => page.locator('body').innerText()).toContain('Your password is changed')
     await page.close()
   })
 })
