@@ -286,7 +286,7 @@ async function main(): Promise<void> {
       'Build seconds: from the job starting the build process to the zip in place; throughput: source megabytes per build second.',
       'Peak memory: the build process (all its threads, getrusage); the job side (database, job, this process\'s tsx) by `/usr/bin/time -v`, for reference.',
       `\`zip -0\`: Info-ZIP storing the same rendered files (${(mb(renderedBytes) / 1000).toFixed(2)} GB), warm in the page cache.`,
-      `Render threads: the job\'s choice (two on two cores or more, for a build this large), fastest of ${ROUNDS} rounds interleaved with \`zip -0\` (its peak memory the largest of`,
+      `Render threads: the job's choice (two on two cores or more, for a build this large), fastest of ${ROUNDS} rounds interleaved with \`zip -0\` (its peak memory the largest of`,
       'the rounds; the ratio fastest build ÷ fastest zip -0); then one build forced to one worker thread and one to none.',
       'Targets: build ÷ zip -0 < 2, peak memory of the build < 200 MB.',
       '',

@@ -68,6 +68,8 @@ export interface PackBuildTable {
   finished_at: string | null
   published_at: string | null
   published_by: number | null
+  /** "What changed", written by the designer when publishing (migration 20261202160000). */
+  change_note: string | null
 }
 export type PackBuildRow = Selectable<PackBuildTable>
 export type NewPackBuild = Insertable<PackBuildTable>

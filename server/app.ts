@@ -17,6 +17,7 @@ import { registerOutboxRoutes } from './mail/outbox.routes'
 import { registerHealthRoutes } from './health/health.routes'
 import { registerCaptureRoutes } from './captures/captures.routes'
 import { registerIngestRoutes } from './ingest/ingest.routes'
+import { bodyDeadline } from './ingest/slow-bodies'
 import { registerTakeRoutes } from './takes/takes.routes'
 import { registerTakeRemovalRoutes } from './takes/takes.removal.routes'
 import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
@@ -24,6 +25,9 @@ import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
 import { registerCommentRoutes } from './comments/comments.routes'
 import { registerPackRoutes } from './packs/packs.routes'
+import { registerTakeExportRoutes } from './takes/takes.export'
+import { registerTagRoutes } from './tags/tags.routes'
+import { registerMentionRoutes } from './mentions/mentions.routes'
 
 export interface BuiltApp {
   app: Express
@@ -53,6 +57,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
       crossOriginEmbedderPolicy: false,
     }),
   )
+  app.use(bodyDeadline(ctx.config.requestBodyTimeoutMs))
   app.use(cookieParser())
   app.use(express.json({ limit: '1mb' }))
   app.use(
@@ -84,6 +89,9 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerRegionRoutes(api, ctx)
   registerCommentRoutes(api, ctx)
   registerPackRoutes(api, ctx)
+  registerTakeExportRoutes(api, ctx)
+  registerTagRoutes(api, ctx)
+  registerMentionRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

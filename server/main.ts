@@ -1,6 +1,12 @@
 import { startServer } from './server'
+import { DataLockedError } from './core/data-lock'
 
-const server = await startServer()
+const server = await startServer().catch((err: unknown) => {
+  // Another server holds this data: say who, and stop without touching anything.
+  if (!(err instanceof DataLockedError)) throw err
+  console.error(err.message)
+  process.exit(1)
+})
 const { config } = server.ctx
 console.log(`Strayfield is running on ${server.url}`)
 console.log(`  database: ${config.dbFile}`)

@@ -7,6 +7,7 @@ import { createApp } from './app'
 import { seedDemo } from './demo/seed'
 import type { AppContext } from './core/context'
 import { Storage } from './core/storage'
+import { lockData, type DataLock } from './core/data-lock'
 import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
@@ -24,6 +25,18 @@ export interface RunningServer {
 /** Opens the database, migrates, seeds the demo when asked, starts mail and HTTP. */
 export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = process.env): Promise<RunningServer> {
   const config = loadConfig(env, overrides)
+  // Before anything touches the data: the partial-upload sweep and the re-queuing of jobs below
+  // are safe only when no other server uses the same database and storage.
+  const lock = lockData(config.dbFile, config.storageDir)
+  try {
+    return await startLocked(config, lock)
+  } catch (err) {
+    lock.release()
+    throw err
+  }
+}
+
+async function startLocked(config: Config, lock: DataLock): Promise<RunningServer> {
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
   const mailer = await createMailer(config, db)
@@ -38,8 +51,9 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
   const stopRemovalSweep = startRemovalSweep(db, storage)
   const built = await createApp(ctx)
   const server = http.createServer(built.app)
-  // Long takes upload for a long time: lift Node's 5-minute whole-request limit
-  // (headers must still arrive within a minute).
+  // Long takes upload for a long time: Node's 5-minute whole-request limit is lifted here and
+  // enforced per route instead (server/ingest/slow-bodies.ts: every route but the upload, which
+  // has a minimum rate). Headers must still arrive within a minute.
   server.requestTimeout = 0
   server.headersTimeout = 60_000
   await new Promise<void>((resolve, reject) => {
@@ -53,16 +67,20 @@ export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.P
     ctx,
     http: server,
     async stop() {
-      await new Promise<void>((resolve) => {
-        server.close(() => resolve())
-        server.closeAllConnections()
-      })
-      await ctx.jobs.stop()
-      await stopRemovalSweep()
-      await pool.close()
-      await built.close()
-      await mailer.close()
-      await db.destroy()
+      try {
+        await new Promise<void>((resolve) => {
+          server.close(() => resolve())
+          server.closeAllConnections()
+        })
+        await ctx.jobs.stop()
+        await stopRemovalSweep()
+        await pool.close()
+        await built.close()
+        await mailer.close()
+        await db.destroy()
+      } finally {
+        lock.release()
+      }
     },
   }
 }

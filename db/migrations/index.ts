@@ -8,6 +8,7 @@ import * as takeSearch from './20261201140000_take_search'
 import * as library from './20261201150000_library'
 import * as packs from './20261201160000_packs'
 import * as takeRemovals from './20261202130000_take_removals'
+import * as packBuildNotes from './20261202160000_pack_build_notes'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
@@ -16,4 +17,5 @@ export const migrations: Record<string, Migration> = {
   '20261201150000_library': library,
   '20261201160000_packs': packs,
   '20261202130000_take_removals': takeRemovals,
+  '20261202160000_pack_build_notes': packBuildNotes,
 }

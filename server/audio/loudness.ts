@@ -1,23 +1,40 @@
 // Loudness per ITU-R BS.1770-4 and EBU Tech 3341/3342, fed block by block.
 //
-// The K-weighted signal is reduced to the weighted energy of 100 ms
-// sub-blocks. A momentary block (400 ms, 75 % overlap per BS.1770-4) is the
-// last 4 sub-blocks, a short-term block (3 s, updated at 10 Hz per EBU Tech
-// 3342) the last 30. Only complete blocks count: a take shorter than 400 ms has
-// no momentary or integrated value, one shorter than 3 s no short-term value
-// and no loudness range (EBU Tech 3341 §2.2: short-term needs a 3 s window).
-// Gated blocks go to fixed-size histograms, so memory does not grow with length.
+// The K-weighted signal is reduced to the weighted energy of 5 ms sub-blocks
+// (sub-block k ends at round(k · fs / 200)). Two uses of the same energies:
+// - Maximum momentary (400 ms) and short-term (3 s) loudness are looked for at
+//   every sub-block, a hop of 5 ms, so a burst that starts anywhere is missed
+//   by at most 2.5 ms of its length (0.03 LU for a 400 ms burst); EBU Tech 3341
+//   cases 10 and 13 check exactly this.
+// - The 10 Hz series that BS.1770-4 (gating blocks, 75 % overlap) and EBU Tech
+//   3342 (loudness range) define are the windows that end every 100 ms, as
+//   before; they are kept (BlockSeries, 16 bytes per 100 ms) so the gates are
+//   decided block by block and the integrated loudness is the exact mean of the
+//   gated blocks' powers, and the range's percentiles come from sorted values.
+// Only complete blocks count: a take shorter than 400 ms has no momentary or
+// integrated value, one shorter than 3 s no short-term value and no loudness
+// range (EBU Tech 3341 §2.2: short-term needs a 3 s window). A take shorter
+// than 400 ms gets the short-sound loudness instead (see shortSoundLufs).
 import type { Loudness } from '@shared/schemas/analysis'
 import { preFilter, rlbHighPass } from './k-weighting'
-import { LevelHistogram } from './level-histogram'
+import { BlockSeries } from './block-series'
 import { WASM_BASE64 } from './wasm/k-weighting.wasm'
 import { instantiate, type KernelInstance } from './wasm/instance'
 
 const ABSOLUTE_GATE = -70
 const INTEGRATED_RELATIVE_GATE = -10
 const RANGE_RELATIVE_GATE = -20
-const MOMENTARY_SUBBLOCKS = 4
-const SHORT_TERM_SUBBLOCKS = 30
+const SUBBLOCKS_PER_SECOND = 200
+const MOMENTARY_SUBBLOCKS = 80 // 400 ms
+const SHORT_TERM_SUBBLOCKS = 600 // 3 s
+const SERIES_SUBBLOCKS = 20 // the 10 Hz series of BS.1770-4 and EBU Tech 3342
+/** Below this duration a take gets the short-sound loudness (one momentary block). */
+export const SHORT_SOUND_SECONDS = 0.4
+
+export interface LoudnessResult extends Loudness {
+  /** K-weighted loudness over the whole sound, for sounds shorter than 400 ms; null otherwise. */
+  shortSoundLufs: number | null
+}
 
 export interface LoudnessOptions {
   sampleRate: number
@@ -60,17 +77,20 @@ export class LoudnessMeter {
   private readonly c: Float64Array // b0 b1 b2 a1 a2 of stage 1, then a1 a2 of stage 2
   private readonly state: Float64Array // 4 per channel
   private readonly activeChannels: number[] // channels with a non-zero weight (LFE is skipped)
+  // Ring of the last 600 sub-blocks' energies, and running sums of the last 80 and 600 (made exact
+  // again every 100 ms, so rounding cannot build up).
   private readonly subEnergy = new Float64Array(SHORT_TERM_SUBBLOCKS)
-  private readonly subFrames = new Float64Array(SHORT_TERM_SUBBLOCKS)
+  private momentarySum = 0
+  private shortTermSum = 0
   private subCount = 0
   private currentEnergy = 0
-  private currentFrames = 0
+  private totalEnergy = 0
   private position = 0
   private nextBoundary: number
-  private readonly momentary = new LevelHistogram(ABSOLUTE_GATE, 20)
-  private readonly shortTerm = new LevelHistogram(ABSOLUTE_GATE, 20)
-  private maxMomentary = -Infinity
-  private maxShortTerm = -Infinity
+  private readonly momentary = new BlockSeries()
+  private readonly shortTerm = new BlockSeries()
+  private maxMomentaryPower = 0
+  private maxShortTermPower = 0
 
   constructor(opts: LoudnessOptions) {
     this.opts = opts
@@ -82,9 +102,9 @@ export class LoudnessMeter {
     this.nextBoundary = this.boundary(1)
   }
 
-  // Sub-block k ends at round(k · fs / 10), so rates that are not multiples of 10 Hz stay exact on average.
+  // Sub-block k ends at round(k · fs / 200), so rates that are not multiples of 200 Hz stay exact on average.
   private boundary(k: number): number {
-    return Math.round((k * this.opts.sampleRate) / 10)
+    return Math.round((k * this.opts.sampleRate) / SUBBLOCKS_PER_SECOND)
   }
 
   push(planar: Float32Array[]): void {
@@ -109,7 +129,6 @@ export class LoudnessMeter {
         const a = active[k]
         this.currentEnergy += this.filterPair(a, -1, at(a), at(a), offset, end)
       }
-      this.currentFrames += end - offset
       this.position += end - offset
       offset = end
       if (this.position === this.nextBoundary) this.completeSubBlock()
@@ -140,70 +159,117 @@ export class LoudnessMeter {
   }
 
   private completeSubBlock(): void {
-    const slot = this.subCount % SHORT_TERM_SUBBLOCKS
-    this.subEnergy[slot] = this.currentEnergy
-    this.subFrames[slot] = this.currentFrames
-    this.subCount++
+    const k = this.subCount
+    const slot = k % SHORT_TERM_SUBBLOCKS
+    const e = this.currentEnergy
+    const leavingShort = k >= SHORT_TERM_SUBBLOCKS ? this.subEnergy[slot] : 0
+    const leavingMomentary = k >= MOMENTARY_SUBBLOCKS ? this.subEnergy[(k - MOMENTARY_SUBBLOCKS) % SHORT_TERM_SUBBLOCKS] : 0
+    this.subEnergy[slot] = e
+    this.subCount = k + 1
+    this.totalEnergy += e
     this.currentEnergy = 0
-    this.currentFrames = 0
     this.nextBoundary = this.boundary(this.subCount + 1)
-    const endSeconds = this.position / this.opts.sampleRate
+    const onSeries = this.subCount % SERIES_SUBBLOCKS === 0
+    if (onSeries) {
+      this.momentarySum = this.windowEnergy(MOMENTARY_SUBBLOCKS)
+      this.shortTermSum = this.windowEnergy(SHORT_TERM_SUBBLOCKS)
+    } else {
+      this.momentarySum += e - leavingMomentary
+      this.shortTermSum += e - leavingShort
+    }
     if (this.subCount >= MOMENTARY_SUBBLOCKS) {
-      const power = this.windowPower(MOMENTARY_SUBBLOCKS)
-      const level = powerToLufs(power)
-      this.record(this.momentary, level, power)
-      if (level !== null && level > this.maxMomentary) this.maxMomentary = level
-      this.opts.onMomentary?.(endSeconds, level)
+      const power = Math.max(0, this.momentarySum) / this.windowFrames(MOMENTARY_SUBBLOCKS)
+      if (power > this.maxMomentaryPower) this.maxMomentaryPower = power
+      if (onSeries) {
+        if (power > 0 && powerToLufs(power)! > ABSOLUTE_GATE) this.momentary.push(power)
+        this.opts.onMomentary?.(this.position / this.opts.sampleRate, powerToLufs(power))
+      }
     }
     if (this.subCount >= SHORT_TERM_SUBBLOCKS) {
-      const power = this.windowPower(SHORT_TERM_SUBBLOCKS)
-      const level = powerToLufs(power)
-      this.record(this.shortTerm, level, power)
-      if (level !== null && level > this.maxShortTerm) this.maxShortTerm = level
-      this.opts.onShortTerm?.(endSeconds, level)
+      const power = Math.max(0, this.shortTermSum) / this.windowFrames(SHORT_TERM_SUBBLOCKS)
+      if (power > this.maxShortTermPower) this.maxShortTermPower = power
+      if (onSeries) {
+        if (power > 0 && powerToLufs(power)! > ABSOLUTE_GATE) this.shortTerm.push(power)
+        this.opts.onShortTerm?.(this.position / this.opts.sampleRate, powerToLufs(power))
+      }
     }
   }
 
-  private windowPower(subBlocks: number): number {
+  private windowEnergy(subBlocks: number): number {
     let energy = 0
-    let frames = 0
-    for (let k = 1; k <= subBlocks; k++) {
-      const slot = (this.subCount - k) % SHORT_TERM_SUBBLOCKS
-      energy += this.subEnergy[slot]
-      frames += this.subFrames[slot]
+    for (let j = 1; j <= Math.min(subBlocks, this.subCount); j++) energy += this.subEnergy[(this.subCount - j) % SHORT_TERM_SUBBLOCKS]
+    return energy
+  }
+
+  private windowFrames(subBlocks: number): number {
+    return this.boundary(this.subCount) - this.boundary(this.subCount - subBlocks)
+  }
+
+  finish(): LoudnessResult {
+    const level = (p: number) => {
+      const l = powerToLufs(p)
+      return l !== null && l > ABSOLUTE_GATE ? l : null
     }
-    return energy / frames
-  }
-
-  // The absolute gate (BS.1770-4 §2.8: blocks must exceed −70 LUFS) is applied on entry.
-  private record(h: LevelHistogram, level: number | null, power: number): void {
-    if (level !== null && level > ABSOLUTE_GATE) h.add(level, power)
-  }
-
-  finish(): Loudness {
+    // Short-sound loudness: all the K-weighted energy over the sound's own length (partial sub-block included).
+    const frames = this.position
+    const short = frames > 0 && frames < SHORT_SOUND_SECONDS * this.opts.sampleRate ? powerToLufs((this.totalEnergy + this.currentEnergy) / frames) : null
     return {
       integratedLufs: this.integrated(),
       loudnessRangeLu: this.range(),
-      maxMomentaryLufs: this.maxMomentary > ABSOLUTE_GATE ? this.maxMomentary : null,
-      maxShortTermLufs: this.maxShortTerm > ABSOLUTE_GATE ? this.maxShortTerm : null,
+      maxMomentaryLufs: level(this.maxMomentaryPower),
+      maxShortTermLufs: level(this.maxShortTermPower),
+      shortSoundLufs: short,
     }
   }
 
-  /** BS.1770-4 §2.8: mean of blocks above −70 LUFS and above (their mean − 10 LU). */
+  /**
+   * BS.1770-4 §2.8: the mean power of the blocks above −70 LUFS (absolute gate, applied on entry)
+   * and above that mean − 10 LU, each block compared exactly.
+   */
   private integrated(): number | null {
-    const ungated = powerToLufs(this.momentary.meanPowerAbove(null).power)
+    const blocks = this.momentary.view()
+    const ungated = powerToLufs(mean(blocks, 0))
     if (ungated === null) return null
-    const gated = this.momentary.meanPowerAbove(ungated + INTEGRATED_RELATIVE_GATE)
-    return gated.count > 0 ? powerToLufs(gated.power) : null
+    const gate = lufsToPower(ungated + INTEGRATED_RELATIVE_GATE)
+    let sum = 0
+    let n = 0
+    for (const p of blocks) {
+      if (p > gate) {
+        sum += p
+        n++
+      }
+    }
+    return n > 0 ? powerToLufs(sum / n) : null
   }
 
-  /** EBU Tech 3342 §3: spread between the 10th and 95th percentiles of gated short-term values. */
+  /**
+   * EBU Tech 3342 §3: spread between the 10th and 95th percentiles (nearest rank, the value at sorted
+   * index round((n − 1) · p)) of the short-term values above −70 LUFS and above their mean − 20 LU.
+   */
   private range(): number | null {
-    const ungated = powerToLufs(this.shortTerm.meanPowerAbove(null).power)
+    const blocks = this.shortTerm.view()
+    const ungated = powerToLufs(mean(blocks, 0))
     if (ungated === null) return null
-    const gate = ungated + RANGE_RELATIVE_GATE
-    const low = this.shortTerm.percentile(0.1, gate)
-    const high = this.shortTerm.percentile(0.95, gate)
-    return low === null || high === null ? null : high - low
+    const gate = lufsToPower(ungated + RANGE_RELATIVE_GATE)
+    const kept = blocks.filter((p) => p > gate).sort()
+    if (kept.length === 0) return null
+    const at = (p: number) => powerToLufs(kept[Math.round((kept.length - 1) * p)])!
+    return at(0.95) - at(0.1)
   }
+}
+
+function mean(values: Float64Array, above: number): number {
+  let sum = 0
+  let n = 0
+  for (const v of values) {
+    if (v > above) {
+      sum += v
+      n++
+    }
+  }
+  return n > 0 ? sum / n : 0
+}
+
+function lufsToPower(lufs: number): number {
+  return 10 ** ((lufs + 0.691) / 10)
 }

@@ -4,6 +4,7 @@
 // v2 loudness fields as unsigned and unscaled, names 414/416/418 one field off (it has no
 // LoudnessRange) and never reads 420. Its values are not used; this parser is the one we trust.
 import type { Bext } from '@shared/schemas/analysis'
+import { MetaBudget, NUL, SPACE, trimEndCodes } from './wav-limits'
 
 export const BEXT_OFFSETS = {
   description: 0, // 256 chars
@@ -49,10 +50,10 @@ const LOUDNESS_KEYS = ['loudnessValue', 'loudnessRange', 'maxTruePeakLevel', 'ma
 export function fieldString(b: Buffer, start: number, end: number): string {
   const s = b.toString('latin1', start, Math.min(end, b.length))
   const nul = s.indexOf('\0')
-  return (nul >= 0 ? s.slice(0, nul) : s).replace(/[\0 ]+$/, '')
+  return trimEndCodes(nul >= 0 ? s.slice(0, nul) : s, [NUL, SPACE])
 }
 
-export function parseBext(data: Buffer): Bext {
+export function parseBext(data: Buffer, budget = new MetaBudget()): Bext {
   // A short chunk (seen from old writers) reads as if zero-filled to the fixed size.
   const b = data.length >= BEXT_FIXED_SIZE ? data : Buffer.concat([data, Buffer.alloc(BEXT_FIXED_SIZE - data.length)])
   const o = BEXT_OFFSETS
@@ -83,7 +84,8 @@ export function parseBext(data: Buffer): Bext {
     maxTruePeakLevel: loud(o.maxTruePeakLevel),
     maxMomentaryLoudness: loud(o.maxMomentaryLoudness),
     maxShortTermLoudness: loud(o.maxShortTermLoudness),
-    codingHistory: fieldString(b, o.codingHistory, b.length),
+    // Padding (NULs, spaces) is trimmed by a backwards scan first, then the text is capped.
+    codingHistory: budget.text('bext coding history', fieldString(b, o.codingHistory, b.length)),
   }
 }
 

@@ -6,6 +6,7 @@
 import type { Cue, FileMetadata, Loop } from '@shared/schemas/analysis'
 import { parseBext } from './wav-bext'
 import { parseIxml } from './wav-ixml'
+import { FIELD_CAP, headBytes, MetaBudget, NUL, SPACE, trimEndCodes } from './wav-limits'
 
 export { parseBext, encodeBext, bextSize, BEXT_OFFSETS, type BextInput } from './wav-bext'
 export { parseIxml } from './wav-ixml'
@@ -16,7 +17,7 @@ export interface RawChunk {
 }
 
 /** Drops trailing NULs (field terminators and padding). */
-const stripNul = (s: string) => s.replace(/\0+$/, '')
+const stripNul = (s: string) => trimEndCodes(s, [NUL])
 
 /** INFO text: UTF-8 when the bytes are valid UTF-8, else Latin-1 (the RIFF default code page). */
 export function decodeText(b: Buffer): string {
@@ -29,11 +30,12 @@ export function decodeText(b: Buffer): string {
   }
 }
 
-/** Sub-chunks of a LIST payload after its 4-byte list type. */
-export function listEntries(data: Buffer): { id: string; data: Buffer }[] {
+/** Sub-chunks of a LIST payload after its 4-byte list type, as many as the budget allows (it notes the rest). */
+export function listEntries(data: Buffer, budget = new MetaBudget(), label = 'LIST'): { id: string; data: Buffer }[] {
   const out: { id: string; data: Buffer }[] = []
   let p = 4
   while (p + 8 <= data.length) {
+    if (!budget.entry(label, out.length)) break
     const id = data.toString('latin1', p, p + 4)
     const size = data.readUInt32LE(p + 4)
     const end = Math.min(data.length, p + 8 + size)
@@ -43,37 +45,43 @@ export function listEntries(data: Buffer): { id: string; data: Buffer }[] {
   return out
 }
 
-export function parseInfo(data: Buffer): Record<string, string> {
+export function parseInfo(data: Buffer, budget = new MetaBudget()): Record<string, string> {
   const info: Record<string, string> = {}
-  for (const e of listEntries(data)) info[e.id] = decodeText(e.data).replace(/[\0 ]+$/, '')
+  for (const e of listEntries(data, budget, 'LIST/INFO')) {
+    // Decode no more than a field's worth (UTF-8 takes at most 4 bytes a character).
+    if (e.data.length > 4 * FIELD_CAP) budget.note(`INFO ${e.id}: ${e.data.length} bytes, read the first ${4 * FIELD_CAP}`)
+    const text = trimEndCodes(decodeText(headBytes(e.data, 4 * FIELD_CAP)), [NUL, SPACE])
+    info[e.id] = budget.text(`INFO ${e.id}`, text)
+  }
   return info
 }
 
 /** cue id -> label text from labl (preferred) or note entries. */
-export function parseAdtl(data: Buffer): Map<number, string> {
+export function parseAdtl(data: Buffer, budget = new MetaBudget()): Map<number, string> {
   const labl = new Map<number, string>()
   const note = new Map<number, string>()
-  for (const e of listEntries(data)) {
+  for (const e of listEntries(data, budget, 'LIST/adtl')) {
     if (e.data.length < 4 || (e.id !== 'labl' && e.id !== 'note')) continue
-    ;(e.id === 'labl' ? labl : note).set(e.data.readUInt32LE(0), stripNul(decodeText(e.data.subarray(4))))
+    const text = stripNul(decodeText(headBytes(e.data.subarray(4), 4 * FIELD_CAP)))
+    ;(e.id === 'labl' ? labl : note).set(e.data.readUInt32LE(0), budget.text(`cue label ${e.data.readUInt32LE(0)}`, text))
   }
   for (const [id, t] of note) if (!labl.has(id)) labl.set(id, t)
   return labl
 }
 
 /** Cue points: the frame is dwSampleOffset (position within the data chunk for uncompressed audio). */
-export function parseCue(data: Buffer): { id: number; frame: number }[] {
+export function parseCue(data: Buffer, budget = new MetaBudget()): { id: number; frame: number }[] {
   if (data.length < 4) return []
-  const n = Math.min(data.readUInt32LE(0), Math.floor((data.length - 4) / 24))
+  const n = budget.entries('cue', Math.min(data.readUInt32LE(0), Math.floor((data.length - 4) / 24)))
   const out: { id: number; frame: number }[] = []
   for (let i = 0, p = 4; i < n; i++, p += 24) out.push({ id: data.readUInt32LE(p), frame: data.readUInt32LE(p + 20) })
   return out
 }
 
 /** smpl loops; start and end are as stored (end is the last frame of the loop, inclusive, per the sampler chunk). */
-export function parseSmpl(data: Buffer): Loop[] {
+export function parseSmpl(data: Buffer, budget = new MetaBudget()): Loop[] {
   if (data.length < 36) return []
-  const n = Math.min(data.readUInt32LE(28), Math.floor((data.length - 36) / 24))
+  const n = budget.entries('smpl loops', Math.min(data.readUInt32LE(28), Math.floor((data.length - 36) / 24)))
   const out: Loop[] = []
   for (let i = 0, p = 36; i < n; i++, p += 24) {
     out.push({ type: data.readUInt32LE(p + 4), start: data.readUInt32LE(p + 8), end: data.readUInt32LE(p + 12) })
@@ -82,19 +90,19 @@ export function parseSmpl(data: Buffer): Loop[] {
 }
 
 /** The FileMetadata fields our own parsers fill (tags come from music-metadata in the reader). */
-export function parseChunksMetadata(chunks: RawChunk[]): Omit<FileMetadata, 'tags'> {
-  const meta: Omit<FileMetadata, 'tags'> = { bext: null, ixml: null, info: {}, cues: [], loops: [] }
-  let labels = new Map<number, string>()
+export function parseChunksMetadata(chunks: RawChunk[], budget = new MetaBudget()): Omit<FileMetadata, 'tags'> {
+  const meta: Omit<FileMetadata, 'tags'> = { bext: null, ixml: null, info: {}, cues: [], loops: [], dropped: budget.dropped }
+  const labels = new Map<number, string>()
   let cuePoints: { id: number; frame: number }[] = []
   for (const c of chunks) {
-    if (c.id === 'bext' && !meta.bext) meta.bext = parseBext(c.data)
-    else if (c.id === 'iXML' && !meta.ixml) meta.ixml = parseIxml(stripNul(c.data.toString('utf8')))
-    else if (c.id === 'cue ' && cuePoints.length === 0) cuePoints = parseCue(c.data)
-    else if (c.id === 'smpl' && meta.loops.length === 0) meta.loops = parseSmpl(c.data)
+    if (c.id === 'bext' && !meta.bext) meta.bext = parseBext(c.data, budget)
+    else if (c.id === 'iXML' && !meta.ixml) meta.ixml = parseIxml(stripNul(c.data.toString('utf8')), budget)
+    else if (c.id === 'cue ' && cuePoints.length === 0) cuePoints = parseCue(c.data, budget)
+    else if (c.id === 'smpl' && meta.loops.length === 0) meta.loops = parseSmpl(c.data, budget)
     else if (c.id === 'LIST' && c.data.length >= 4) {
       const type = c.data.toString('latin1', 0, 4)
-      if (type === 'INFO') meta.info = { ...meta.info, ...parseInfo(c.data) }
-      else if (type === 'adtl') labels = new Map([...labels, ...parseAdtl(c.data)])
+      if (type === 'INFO') Object.assign(meta.info, parseInfo(c.data, budget))
+      else if (type === 'adtl') for (const [id, t] of parseAdtl(c.data, budget)) labels.set(id, t)
     }
   }
   meta.cues = cuePoints.map((p): Cue => ({ id: p.id, frame: p.frame, label: labels.get(p.id) ?? null }))

@@ -17,6 +17,7 @@ import { parseFmt } from './wav-fmt'
 import { decodeInterleaved } from './wav-decode'
 import { parseChunksMetadata, type RawChunk } from './wav-chunks'
 import { flattenTags, mergeInfoTags } from './wav-tags'
+import { MetaBudget, TOTAL_CHUNK_BYTES } from './wav-limits'
 
 export { WavFormatError } from './wav-errors'
 
@@ -265,31 +266,65 @@ export async function* readFrames(path: string, info: WavInfo, opts: ReadFramesO
 
 const META_IDS = new Set(['bext', 'iXML', 'LIST', 'cue ', 'smpl'])
 
+export interface ReadMetadataOptions {
+  /** Time allowed for music-metadata's general tags (ours are linear and bounded); past it, tags stay {} with a note. */
+  tagsTimeLimitMs?: number
+}
+
 /**
  * bext, iXML, LIST/INFO, cue + LIST/adtl labels and smpl loops from our own parsers; `tags` from
  * music-metadata's common tags (empty when it throws), with INFO-derived tags taken from our parser.
+ * Untrusted sizes are bounded (wav-limits.ts): chunks over MAX_META_CHUNK or past TOTAL_CHUNK_BYTES
+ * are skipped, and `dropped` says what was cut. Runs in the analysis worker, never on the API thread.
  */
-export async function readMetadata(path: string, info: WavInfo): Promise<FileMetadata> {
+export async function readMetadata(path: string, info: WavInfo, opts: ReadMetadataOptions = {}): Promise<FileMetadata> {
   const raw: RawChunk[] = []
+  const budget = new MetaBudget()
+  let read = 0
   const fh = await open(path, 'r')
   try {
     for (const c of info.chunks) {
-      if (!META_IDS.has(c.id) || c.size > MAX_META_CHUNK) continue
+      if (!META_IDS.has(c.id)) continue
+      if (c.size > MAX_META_CHUNK || read + c.size > TOTAL_CHUNK_BYTES) {
+        budget.note(`${c.id.trim()} chunk of ${c.size} bytes at byte ${c.offset}: skipped (metadata is read up to ${MAX_META_CHUNK / 2 ** 20} MiB a chunk, ${TOTAL_CHUNK_BYTES / 2 ** 20} MiB a file)`)
+        continue
+      }
+      read += c.size
       raw.push({ id: c.id, data: await readAt(fh, c.offset, c.size) })
     }
   } finally {
     await fh.close()
   }
-  const meta = parseChunksMetadata(raw)
+  const meta = parseChunksMetadata(raw, budget)
   let tags: Record<string, string> = {}
+  const limit = opts.tagsTimeLimitMs ?? 10_000
+  let timer: NodeJS.Timeout | undefined
+  // music-metadata walks every entry itself (500,000 INFO entries took it 150 s, and a time limit
+  // cannot stop it), so it only reads files whose metadata stayed within our bounds.
+  if (budget.dropped.length || read > TAGS_MAX_BYTES) {
+    budget.note('general tags: not read (the file\'s metadata is over the limits above)')
+    return { ...meta, tags: mergeInfoTags(tags, meta.info), dropped: budget.dropped }
+  }
   try {
     // Loaded on first use: the measuring path never needs it, and it costs ~0.2 s to load.
     const { parseFile } = await import('music-metadata')
-    const mm = await parseFile(path, { skipCovers: true, duration: false })
+    const timedOut = new Promise<never>((_r, reject) => {
+      timer = setTimeout(() => reject(new TagsTimeout()), limit)
+    })
+    const mm = await Promise.race([parseFile(path, { skipCovers: true, duration: false }), timedOut])
     tags = flattenTags(mm.common)
-  } catch {
+  } catch (err) {
     // music-metadata refuses some files we can read (e.g. a short CSET chunk); the take is
     // still usable, so tags stay {}. (RF64/BW64 it does not throw on: it returns no tags.)
+    if (err instanceof TagsTimeout) budget.note(`general tags: not read within ${limit / 1000} s`)
+  } finally {
+    clearTimeout(timer)
   }
-  return { ...meta, tags: mergeInfoTags(tags, meta.info) }
+  for (const [k, v] of Object.entries(tags)) tags[k] = budget.text(`tag ${k}`, v)
+  return { ...meta, tags: mergeInfoTags(tags, meta.info), dropped: budget.dropped }
 }
+
+class TagsTimeout extends Error {}
+
+/** Metadata bytes up to which music-metadata is asked for general tags. */
+const TAGS_MAX_BYTES = 4 * 2 ** 20

@@ -2,7 +2,7 @@
 // logging sheet's default order (file name, as the recorder wrote them).
 import { TakeQuery, type Take } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
-import { toCsv, type CsvValue } from '../core/csv'
+import { csvDocument } from '../core/csv'
 import { searchTakeRows } from '../takes/takes.search'
 import { takeRowsToTakes } from '../takes/takes.mapper'
 import { getSession } from './captures.service'
@@ -16,7 +16,7 @@ export function formatLine(t: Take): string {
   return `${f.sampleRate} Hz ${bits} ${f.channels} ch ${f.container}`
 }
 
-const COLUMNS: { header: string; value: (t: Take) => CsvValue }[] = [
+const COLUMNS: { header: string; value: (t: Take) => string | number | null }[] = [
   { header: 'File', value: (t) => t.filename },
   { header: 'Title', value: (t) => t.title },
   { header: 'Device', value: (t) => t.sources.map((s) => s.name).join('; ') },
@@ -39,5 +39,11 @@ export async function captureLogCsv(db: Db, sessionId: number): Promise<{ title:
     takes.push(...(await takeRowsToTakes(db, rows, { withoutFileMetadata: true })))
     if (rows.length < 200) break
   }
-  return { title: `${session.date} ${session.title} capture log`, csv: toCsv(COLUMNS, takes) }
+  return {
+    title: `${session.date} ${session.title} capture log`,
+    csv: csvDocument(
+      COLUMNS.map((c) => c.header),
+      takes.map((t) => COLUMNS.map((c) => c.value(t))),
+    ),
+  }
 }

@@ -25,6 +25,11 @@ export interface Config {
   runJobs: boolean
   /** With the demo team, also synthesise and measure the demo capture session. */
   demoAudio: boolean
+  /** Every request but an upload must have sent its whole body within this (0: no limit). */
+  requestBodyTimeoutMs: number
+  /** An upload sending less than this over a window of `uploadRateWindowMs` is cut off (0: no rule). */
+  uploadMinBytesPerSecond: number
+  uploadRateWindowMs: number
 }
 
 export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Partial<Config> = {}): Config {
@@ -46,6 +51,9 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     maxUploadBytes: Number(env.STRAYFIELD_MAX_UPLOAD_BYTES ?? 8 * 2 ** 30),
     runJobs: true,
     demoAudio: true,
+    requestBodyTimeoutMs: 300_000,
+    uploadMinBytesPerSecond: 4096,
+    uploadRateWindowMs: 60_000,
   }
   return { ...base, ...overrides }
 }

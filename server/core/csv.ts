@@ -1,33 +1,24 @@
-// The one CSV writer of the server (capture logs, library exports).
-//
-// RFC 4180: fields holding a comma, a double quote, CR or LF are quoted, quotes
-// doubled; records end with CRLF. Text cells are made safe for spreadsheets
-// (OWASP "CSV injection"): a cell beginning with = + - @, a tab or a carriage
-// return gets a leading apostrophe, so it is read as text, never as a formula.
-// Numbers we write ourselves (−23.4) are written as numbers and never prefixed,
-// so loudness columns stay numeric.
+// One CSV writer for every export (RFC 4180: comma-separated, CRLF line ends,
+// fields quoted when they hold a comma, quote or line break, quotes doubled).
 
-export type CsvValue = string | number | null | undefined
-
-const FORMULA_START = /^[=+\-@\t\r]/
-const NEEDS_QUOTES = /[",\r\n]/
-
-/** One cell: numbers as they are (null, NaN and ±Infinity empty), text guarded against formulas and quoted where needed. */
-export function csvCell(value: CsvValue): string {
+/**
+ * Text a spreadsheet would read as a formula (first character =, +, -, @, tab
+ * or carriage return: the OWASP "CSV injection" list) is prefixed with an
+ * apostrophe, so it shows as text. Numbers are written as numbers, so a
+ * loudness of -23.4 stays a number.
+ */
+export function csvCell(value: string | number | null | undefined): string {
   if (value === null || value === undefined) return ''
   if (typeof value === 'number') return Number.isFinite(value) ? String(value) : ''
-  const text = FORMULA_START.test(value) ? `'${value}` : value
-  return NEEDS_QUOTES.test(text) ? `"${text.replace(/"/g, '""')}"` : text
+  const text = /^[=+\-@\t\r]/u.test(value) ? `'${value}` : value
+  return /[",\r\n]/u.test(text) ? `"${text.replace(/"/gu, '""')}"` : text
 }
 
-/** One record, CRLF-terminated. */
-export const csvRow = (cells: CsvValue[]): string => `${cells.map(csvCell).join(',')}\r\n`
+export const csvLine = (cells: (string | number | null | undefined)[]) => `${cells.map(csvCell).join(',')}\r\n`
 
-/** A whole document: a header record, then one record per row. */
-export function toCsv<T>(columns: { header: string; value: (row: T) => CsvValue }[], rows: Iterable<T>): string {
-  let out = csvRow(columns.map((c) => c.header))
-  for (const r of rows) out += csvRow(columns.map((c) => c.value(r)))
-  return out
+/** A whole document: a byte-order mark (so spreadsheets read UTF-8), the header, the rows. */
+export function csvDocument(header: string[], rows: (string | number | null | undefined)[][]): string {
+  return `\uFEFF${csvLine(header)}${rows.map(csvLine).join('')}`
 }
 
 /** A file name for Content-Disposition: letters, digits, dots, dashes and underscores only. */

@@ -1,9 +1,11 @@
-import type { Analysis, WavFormat } from '@shared/schemas/analysis'
+import type { Analysis, FileMetadata, WavFormat } from '@shared/schemas/analysis'
 import type { AppContext } from '../core/context'
 import type { JobHandler } from '../jobs/job-runner'
 import type { AnalysisPool } from '../audio/pool'
 import { readPeaks } from '../audio/peaks'
 import { addEvent, findTake, updateTake } from '../takes/takes.repository'
+import { prefillFromMetadata } from './prefill'
+import { failureText } from './remeasure'
 
 const THUMB_POINTS = 48
 
@@ -42,6 +44,20 @@ export function measuredColumns(format: WavFormat, analysis: Analysis) {
   }
 }
 
+/**
+ * Title, description and notes from what the recorder wrote into the file (read in the worker,
+ * never on the upload's request thread), for the fields nobody has edited since the upload.
+ */
+function labelsFromFile(take: { filename: string; title: string; description: string; notes: string }, meta: FileMetadata) {
+  const fromFile = prefillFromMetadata(meta, take.filename)
+  const atUpload = prefillFromMetadata(null, take.filename)
+  return {
+    ...(take.title === atUpload.title ? { title: fromFile.title } : {}),
+    ...(take.description === '' ? { description: fromFile.description } : {}),
+    ...(take.notes === '' ? { notes: fromFile.notes } : {}),
+  }
+}
+
 /** Measures one take in the worker pool and stores every number with it. */
 export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
   return {
@@ -60,7 +76,12 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
         void progress(p).catch(() => undefined)
       })
       const thumb = await thumbnail(peaksPath)
-      await updateTake(ctx.db, take.id, { ...measuredColumns(format, analysis), thumb_json: JSON.stringify(thumb), status: 'ready', progress: 1 })
+      await ctx.db.transaction().execute(async (trx) => {
+        const now = await findTake(trx, take.id)
+        if (!now) return
+        const labels = labelsFromFile(now, analysis.metadata)
+        await updateTake(trx, take.id, { ...measuredColumns(format, analysis), ...labels, thumb_json: JSON.stringify(thumb), status: 'ready', progress: 1 })
+      })
       await addEvent(
         ctx.db,
         take.id,
@@ -69,9 +90,10 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
         `Measured: ${fmt(analysis.loudness.integratedLufs, 'LUFS')}, true peak ${fmt(analysis.levels.truePeakDbtp, 'dBTP')}`,
       )
     },
-    async failed(job, message) {
-      await updateTake(ctx.db, job.ref_id, { status: 'failed', error: message }).catch(() => undefined)
-      await addEvent(ctx.db, job.ref_id, null, 'failed', `Could not be measured: ${message}`).catch(() => undefined)
+    async failed(job, message, err) {
+      const text = failureText(message, err)
+      await updateTake(ctx.db, job.ref_id, { status: 'failed', error: text }).catch(() => undefined)
+      await addEvent(ctx.db, job.ref_id, null, 'failed', `Could not be measured: ${text}`).catch(() => undefined)
     },
   }
 }

@@ -8,6 +8,9 @@ import { params } from '../core/validate'
 import { findSession } from '../captures/captures.repository'
 import { ingestFile } from './ingest.service'
 import { hashingDiskStorage, type StreamedFile } from './upload-storage'
+import { isStorageFull, storageFull } from './storage-errors'
+import { measureAgain } from './remeasure'
+import { minimumRate } from './slow-bodies'
 
 export function registerIngestRoutes(api: Api, ctx: AppContext) {
   const limit = ctx.config.maxUploadBytes
@@ -33,6 +36,7 @@ export function registerIngestRoutes(api: Api, ctx: AppContext) {
   const receive: RequestHandler = (req, res, next) => {
     upload(req, res, (err: unknown) => {
       if (!err) return next()
+      if (isStorageFull(err)) return next(storageFull())
       if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
         return next(new AppError(413, 'TOO_LARGE', `The file is larger than the ${Math.round(limit / 2 ** 20)} MiB this server accepts`, { limitBytes: limit }))
       }
@@ -41,7 +45,7 @@ export function registerIngestRoutes(api: Api, ctx: AppContext) {
     })
   }
 
-  api.route('post', '/capture-sessions/:id/takes', 'captures:manage', precheck, receive, async (req, res) => {
+  api.route('post', '/capture-sessions/:id/takes', 'captures:manage', precheck, minimumRate(ctx.config.uploadMinBytesPerSecond, ctx.config.uploadRateWindowMs), receive, async (req, res) => {
     const file = req.file as unknown as StreamedFile & { originalname: string }
     if (!file) throw new AppError(400, 'NO_FILE', 'Send one WAV file in the multipart field "file"')
     const take = await ingestFile(ctx, {
@@ -51,5 +55,10 @@ export function registerIngestRoutes(api: Api, ctx: AppContext) {
       originalName: file.originalname,
     })
     res.status(201).json({ take })
+  })
+
+  /** A take whose measuring failed for a passing reason is queued again (designer, or the uploader). */
+  api.route('post', '/takes/:id/measure', 'takes:edit-own', async (req, res) => {
+    res.status(202).json({ take: await measureAgain(ctx, req.user!, params(req, IdParams).id) })
   })
 }

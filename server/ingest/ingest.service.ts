@@ -3,11 +3,12 @@ import path from 'node:path'
 import type { User } from '@shared/schemas/auth'
 import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
-import { probeWav, readMetadata, WavFormatError } from '../audio/wav-reader'
+import { probeWav, WavFormatError } from '../audio/wav-reader'
 import { addEvent, findTakeBySha, insertTake } from '../takes/takes.repository'
 import { findSession } from '../captures/captures.repository'
 import { prefillFromMetadata } from './prefill'
 import type { StreamedFile } from './upload-storage'
+import { isStorageFull, storageFull } from './storage-errors'
 
 export interface IngestInput {
   sessionId: number
@@ -18,12 +19,20 @@ export interface IngestInput {
 
 const rmQuiet = (p: string) => fs.rmSync(p, { force: true })
 
+const duplicate = (originalName: string, existing: { id: number; filename: string }) =>
+  new AppError(409, 'DUPLICATE', `${originalName} has the same content as take ${existing.id} (${existing.filename})`, {
+    takeId: existing.id,
+    file: originalName,
+  })
+
 /**
- * Turns a streamed upload into a queued take. The file is checked by content
- * (RIFF/RF64/BW64 WAVE with a valid fmt chunk), refused as a duplicate when its
- * SHA-256 is known, moved to its content-addressed place and recorded with an
- * analysis job in one transaction. Any refusal or failure deletes the file and
- * leaves no row behind.
+ * Turns a streamed upload into a queued take. The request thread only probes the header
+ * (RIFF/RF64/BW64 WAVE with a valid fmt chunk); the file's own metadata is read later by the
+ * analysis job in a worker (it may be large and hostile). Then, in one transaction, the
+ * content hash is claimed (a take row with the analysis job), and only when the claim wins is
+ * the file moved to its content-addressed place; a parallel upload of the same bytes finds
+ * the claim and answers 409 without touching that path. Any refusal or failure deletes the
+ * upload's own file and leaves no row; a final path that a row references is never deleted.
  */
 export async function ingestFile(ctx: AppContext, input: IngestInput) {
   const { file, originalName } = input
@@ -42,22 +51,17 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
     }
 
     const existing = await findTakeBySha(ctx.db, file.sha256)
-    if (existing) {
-      throw new AppError(409, 'DUPLICATE', `${originalName} has the same content as take ${existing.id} (${existing.filename})`, {
-        takeId: existing.id,
-        file: originalName,
-      })
-    }
+    if (existing) throw duplicate(originalName, existing)
 
-    const meta = await readMetadata(file.path, info).catch(() => null)
-    const prefill = prefillFromMetadata(meta, originalName)
+    // Until the job reads the file's own labels, the title is the file name.
+    const prefill = prefillFromMetadata(null, originalName)
     const relative = ctx.storage.audioRelative(file.sha256)
     const finalPath = ctx.storage.abs(relative)
-    fs.mkdirSync(path.dirname(finalPath), { recursive: true })
-    fs.renameSync(file.path, finalPath)
-
+    let moved = false
     try {
       const take = await ctx.db.transaction().execute(async (trx) => {
+        const again = await findTakeBySha(trx, file.sha256)
+        if (again) throw duplicate(originalName, again)
         const row = await insertTake(trx, {
           session_id: input.sessionId,
           uploader_id: input.uploader?.id ?? null,
@@ -74,7 +78,7 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
           channels: info.format.channels,
           bits_per_sample: info.format.bitsPerSample,
           format_json: JSON.stringify(info.format),
-          bext_description: meta?.bext?.description ?? '',
+          bext_description: '',
         })
         if (session.default_source_id) {
           await trx
@@ -84,12 +88,19 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
         }
         await addEvent(trx, row.id, input.uploader?.id ?? null, 'uploaded', `Uploaded ${originalName}`)
         await ctx.jobs.enqueue(trx, 'analyze-take', row.id)
+        // The claim is ours (the row above holds the hash); only now does the file take the final name.
+        fs.mkdirSync(path.dirname(finalPath), { recursive: true })
+        fs.renameSync(file.path, finalPath)
+        moved = true
         return row
       })
       ctx.jobs.kick()
       return { id: take.id, filename: take.filename, status: take.status }
     } catch (err) {
-      rmQuiet(finalPath)
+      // Rolled back after the move (a commit that failed): the file goes only when no row refers to it.
+      if (moved && !(await findTakeBySha(ctx.db, file.sha256).catch(() => true))) rmQuiet(finalPath)
+      if (err instanceof AppError) throw err
+      if (isStorageFull(err)) throw storageFull()
       if (String(err).includes('UNIQUE constraint failed: takes.sha256')) {
         const dup = await findTakeBySha(ctx.db, file.sha256)
         throw new AppError(409, 'DUPLICATE', `${originalName} has the same content as take ${dup?.id}`, { takeId: dup?.id, file: originalName })

@@ -8,8 +8,8 @@ export interface JobHandler {
   concurrency: number
   /** Does the work; `progress` takes 0..1. Throwing marks the job failed with the error's message. */
   run(job: JobRow, progress: (fraction: number) => Promise<void>): Promise<void>
-  /** Called once when the job ends failed (after its last attempt). */
-  failed?(job: JobRow, message: string): Promise<void>
+  /** Called once when the job ends failed (after its last attempt); `err` is what `run` threw, when it threw. */
+  failed?(job: JobRow, message: string, err?: unknown): Promise<void>
 }
 
 const MAX_ATTEMPTS = 3
@@ -82,7 +82,7 @@ export class JobRunner {
         // Stopping: leave it 'running' so the next start queues it again.
         if (this.stopped) return
         const message = err instanceof Error ? err.message : String(err)
-        await this.fail(current, message)
+        await this.fail(current, message, err)
       }
     })()
       .catch((err) => console.error(`[jobs] job ${job.id} could not be recorded`, err))
@@ -94,9 +94,9 @@ export class JobRunner {
     this.running.set(job.id, work)
   }
 
-  private async fail(job: JobRow, message: string): Promise<void> {
+  private async fail(job: JobRow, message: string, err?: unknown): Promise<void> {
     await this.db.updateTable('jobs').set({ status: 'failed', error: message, finished_at: nowIso() }).where('id', '=', job.id).execute()
-    await this.handlers[job.kind as JobKind]?.failed?.(job, message)
+    await this.handlers[job.kind as JobKind]?.failed?.(job, message, err)
   }
 
   /** Resolves when no job is running (tests and shutdown). */

@@ -42,12 +42,14 @@ export function mentionMail(to: string, m: { author: string; takeTitle: string; 
   }
 }
 
-export function packPublishedMail(to: string, packName: string, version: number, link: string): OutgoingMail {
+export function packPublishedMail(to: string, packName: string, version: number, link: string, note: string | null = null): OutgoingMail {
+  const changed = note?.trim() ? `What changed in version ${version}:\n${note.trim()}\n\n` : ''
   return {
     to,
     subject: `New version of the pack "${packName}": version ${version}`,
     text:
       `Version ${version} of the sample pack "${packName}", which you follow, is published and ready to download:\n${link}\n\n` +
+      changed +
       `You get this message because you follow the pack; unfollow it on the same page.` +
       sign,
   }

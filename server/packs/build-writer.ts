@@ -141,6 +141,7 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
           sources: spec.sources,
           tags: spec.tags,
           takeId: spec.takeId,
+          regionName: spec.regionName ?? null,
           licence: snap.pack.licenceText,
           sha256: entry.sha256,
         },

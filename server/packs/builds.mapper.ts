@@ -23,5 +23,6 @@ export function buildToApi(b: BuildJoined): PackBuild {
     finishedAt: b.finished_at,
     publishedAt: b.published_at,
     publishedBy: b.published_by && b.publisher_name ? { id: b.published_by, name: b.publisher_name } : null,
+    changeNote: b.change_note,
   }
 }

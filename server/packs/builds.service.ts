@@ -3,13 +3,15 @@
 // an unpublished one answers 404 to them, like a missing id.
 import fs from 'node:fs/promises'
 import type { User } from '@shared/schemas/auth'
-import type { PackBuild } from '@shared/schemas/packs'
+import type { BuildChanges, PackBuild } from '@shared/schemas/packs'
 import { can } from '@shared/permissions'
 import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import { nowIso } from '../core/time'
 import { packPublishedMail } from '../mail/messages'
 import { buildToApi } from './builds.mapper'
+import { computeChanges } from './changes'
+import { snapshotOf } from './published'
 import type { BuildSnapshot } from './item-spec'
 import * as repo from './packs.repository'
 import { itemSpecs, managedPack, managesPacks, parseSettingsOf, visiblePack } from './packs.service'
@@ -44,14 +46,18 @@ export async function requestBuild(ctx: AppContext, user: User, packId: number):
     },
     items: specs.map((s) => s.spec),
   }
-  const { id } = await repo.insertBuild(ctx.db, {
-    pack_id: packId,
-    snapshot_json: JSON.stringify(snapshot),
-    item_count: specs.length,
-    created_by: user.id,
+  // One unit of work: a crash between these writes must not leave a queued build no job will run.
+  const id = await ctx.db.transaction().execute(async (trx) => {
+    const { id } = await repo.insertBuild(trx, {
+      pack_id: packId,
+      snapshot_json: JSON.stringify(snapshot),
+      item_count: specs.length,
+      created_by: user.id,
+    })
+    const jobId = await ctx.jobs.enqueue(trx, 'build-pack', id)
+    await repo.updateBuild(trx, id, { job_id: jobId })
+    return id
   })
-  const jobId = await ctx.jobs.enqueue(ctx.db, 'build-pack', id)
-  await repo.updateBuild(ctx.db, id, { job_id: jobId })
   ctx.jobs.kick()
   return buildToApi((await repo.findBuild(ctx.db, id))!)
 }
@@ -61,19 +67,28 @@ export async function listBuilds(ctx: AppContext, user: User, packId: number): P
   return (await repo.buildsOf(ctx.db, packId, !managesPacks(user))).map(buildToApi)
 }
 
-/** Publishes a finished build (again: no change, no second mail) and mails the pack's followers. */
-export async function publishBuild(ctx: AppContext, user: User, id: number): Promise<PackBuild> {
+/** What a build changes against the newest version published before it. */
+export async function buildChanges(ctx: AppContext, id: number): Promise<BuildChanges> {
+  const b = await repo.findBuild(ctx.db, id)
+  if (!b) throw buildNotFound()
+  const prev = await repo.publishedBefore(ctx.db, b.pack_id, b.version)
+  return computeChanges(prev ? snapshotOf(prev) : null, snapshotOf(b), prev?.version ?? null)
+}
+
+/** Publishes a finished build with its "what changed" note (again: no change, no second mail) and mails the pack's followers. */
+export async function publishBuild(ctx: AppContext, user: User, id: number, note?: string): Promise<PackBuild> {
   const b = await repo.findBuild(ctx.db, id)
   if (!b) throw buildNotFound()
   if (b.status !== 'done') throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; only a finished build can be published`)
   if (b.published_at) return buildToApi(b)
-  await repo.updateBuild(ctx.db, id, { published_at: nowIso(), published_by: user.id })
+  const changeNote = note?.trim() ? note.trim() : null
+  await repo.updateBuild(ctx.db, id, { published_at: nowIso(), published_by: user.id, change_note: changeNote })
   const followers = (await repo.followersOf(ctx.db, b.pack_id)).filter((f) => can(f.role as User['role'], 'packs:receive'))
   const link = `${ctx.config.publicUrl}/packs/${b.pack_id}`
   // Mail goes out after the answer; a mail server that is down must not undo a publication.
   void (async () => {
     for (const f of followers) {
-      await ctx.mailer.send(packPublishedMail(f.email, b.pack_name, b.version, link)).catch((err: unknown) => {
+      await ctx.mailer.send(packPublishedMail(f.email, b.pack_name, b.version, link, changeNote)).catch((err: unknown) => {
         console.error(`[packs] could not mail ${f.email} about pack ${b.pack_id} v${b.version}`, err)
       })
     }

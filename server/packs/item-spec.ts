@@ -13,6 +13,8 @@ export interface ItemSpec {
   position: number
   takeId: number
   regionId: number | null
+  /** The region's name when the item was cut from one (absent in snapshots of builds made before regions were named). */
+  regionName?: string | null
   startSeconds: number | null
   endSeconds: number | null
   kind: ItemKind
@@ -48,15 +50,15 @@ export interface BuildSnapshot {
   items: ItemSpec[]
 }
 
-/** bext description: the title, the sources and the tags, within the chunk's 256 characters. */
 /** Frames the item will render, for progress (loops move by a few frames). */
 export function expectedFrames(spec: ItemSpec): number {
   const seconds = (spec.endSeconds ?? spec.takeDurationSeconds) - (spec.startSeconds ?? 0)
   return Math.max(1, Math.round(seconds * (spec.sampleRate ?? 48000)))
 }
 
-export function describeItem(spec: Pick<ItemSpec, 'title' | 'description' | 'sources' | 'tags'>): string {
-  const parts = [spec.title || spec.description, spec.sources.length ? `Sources: ${spec.sources.join('; ')}` : '', spec.tags.length ? `Tags: ${spec.tags.join(', ')}` : '']
+/** bext description: the title, the region, the sources and the tags, within the chunk's 256 characters. */
+export function describeItem(spec: Pick<ItemSpec, 'title' | 'description' | 'sources' | 'tags' | 'regionName'>): string {
+  const parts = [spec.title || spec.description, spec.regionName ? `Region: ${spec.regionName}` : '', spec.sources.length ? `Sources: ${spec.sources.join('; ')}` : '', spec.tags.length ? `Tags: ${spec.tags.join(', ')}` : '']
   return parts.filter(Boolean).join('. ').slice(0, 256)
 }
 

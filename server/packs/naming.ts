@@ -2,7 +2,7 @@
 // portable: ASCII letters, digits, '-' and '_' only, at most 80 characters
 // before '.wav', unique within the pack (case-insensitively, since the common
 // desktop file systems ignore case), never a name Windows reserves.
-import { MAX_OUTPUT_NAME, NAMING_TOKENS, type NamingToken } from '@shared/schemas/packs'
+import { DEFAULT_NAMING_TEMPLATE, DEFAULT_REGION_NAMING_TEMPLATE, MAX_OUTPUT_NAME, NAMING_TOKENS, type NamingToken } from '@shared/schemas/packs'
 
 /** Letters that Unicode decomposition does not reduce to ASCII (common practice transliterations). */
 const SPECIAL: Record<string, string> = {
@@ -79,6 +79,8 @@ export interface NamingFacts {
   takeId: number
   kind: 'one-shot' | 'loop'
   packName: string
+  /** Name of the region the item was cut from, or null (whole take, a hand-made range, or a region since deleted). */
+  regionName: string | null
   /** 1-based position. */
   index: number
   /** Items in the pack, for the width of {index}. */
@@ -93,6 +95,7 @@ export function tokenValues(f: NamingFacts): Record<NamingToken, string> {
     state: f.devices[0]?.state ?? '',
     kind: f.kind,
     descriptor: f.tags[0] ?? firstWord,
+    region: f.regionName ?? '',
     session: f.sessionTitle,
     date: f.sessionDate.replace(/-/g, ''),
     index: String(f.index).padStart(width, '0'),
@@ -109,9 +112,14 @@ export function fillTemplate(template: string, f: NamingFacts): string {
   return template.replace(/\{([^}]*)\}/g, (_m, token: string) => ((NAMING_TOKENS as readonly string[]).includes(token) ? v[token as NamingToken] : ''))
 }
 
+/** The template an item is named by: the default one names an item cut from a named region by that region. */
+export function templateFor(template: string, f: NamingFacts): string {
+  return template === DEFAULT_NAMING_TEMPLATE && f.regionName?.trim() ? DEFAULT_REGION_NAMING_TEMPLATE : template
+}
+
 /** Output names (without .wav) of a pack's items in order: explicit names or the template, sanitised, then made unique. */
 export function outputNames(template: string, items: { name: string | null; facts: NamingFacts }[]): string[] {
-  return uniquify(items.map((i) => sanitizeName(i.name ?? fillTemplate(template, i.facts))))
+  return uniquify(items.map((i) => sanitizeName(i.name ?? fillTemplate(templateFor(template, i.facts), i.facts))))
 }
 
 /** The zip's download name: `<pack-name>_v<version>.zip`. */

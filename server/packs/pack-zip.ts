@@ -224,6 +224,7 @@ export const MANIFEST_COLUMNS = [
   'sources',
   'tags',
   'takeId',
+  'regionName',
   'licence',
   'sha256',
 ] as const satisfies readonly (keyof ManifestItem)[]

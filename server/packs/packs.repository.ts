@@ -7,6 +7,7 @@ import type {
   NewPackBuildItem,
   NewPackItem,
   PackBuildRow,
+  PackBuildItemRow,
   PackBuildUpdate,
   PackItemRow,
   PackItemUpdate,
@@ -128,12 +129,20 @@ export async function takeFacts(db: Db, takeIds: number[]) {
   return { takes, sources, tags }
 }
 
+/** Names of regions by id (regions since deleted are simply absent). */
+export async function regionNames(db: Db, ids: number[]): Promise<Map<number, string>> {
+  if (!ids.length) return new Map()
+  const rows = await db.selectFrom('regions').select(['id', 'name']).where('id', 'in', ids).execute()
+  return new Map(rows.map((r) => [r.id, r.name]))
+}
+
 export const findRegionRange = (db: Db, id: number) =>
   db.selectFrom('regions').select(['id', 'take_id', 'name', 'start_seconds', 'end_seconds']).where('id', '=', id).executeTakeFirst()
 
 // ---- builds ----
 
 export interface BuildJoined extends PackBuildRow {
+  /** The pack's name as the build froze it (what its zip and manifest carry), not the draft's. */
   pack_name: string
   creator_name: string | null
   publisher_name: string | null
@@ -146,7 +155,8 @@ const selectBuilds = (db: Db) =>
     .leftJoin('users as creator', 'creator.id', 'pack_builds.created_by')
     .leftJoin('users as publisher', 'publisher.id', 'pack_builds.published_by')
     .selectAll('pack_builds')
-    .select(['packs.name as pack_name', 'creator.name as creator_name', 'publisher.name as publisher_name'])
+    .select(['creator.name as creator_name', 'publisher.name as publisher_name'])
+    .select(sql<string>`coalesce(json_extract(pack_builds.snapshot_json, '$.pack.name'), packs.name)`.as('pack_name'))
 
 export const findBuild = (db: Db, id: number): Promise<BuildJoined | undefined> => selectBuilds(db).where('pack_builds.id', '=', id).executeTakeFirst()
 
@@ -180,12 +190,14 @@ export async function headlineBuilds(db: Db, packIds: number[]): Promise<BuildJo
 
 /** Inserts the next version of a pack's builds (1, 2, 3…) in one transaction. */
 export async function insertBuild(db: Db, build: Omit<NewPackBuild, 'version'>): Promise<{ id: number; version: number }> {
-  return db.transaction().execute(async (trx) => {
+  // Inside a caller's transaction (a build request) it joins it; alone it opens its own.
+  const insert = async (trx: Db) => {
     const r = await trx.selectFrom('pack_builds').select((eb) => eb.fn.max<number | null>('version').as('v')).where('pack_id', '=', build.pack_id).executeTakeFirst()
     const version = (r?.v ?? 0) + 1
     const row = await trx.insertInto('pack_builds').values({ ...build, version }).returning('id').executeTakeFirstOrThrow()
     return { id: row.id, version }
-  })
+  }
+  return db.isTransaction ? insert(db) : db.transaction().execute(insert)
 }
 
 export const updateBuild = (db: Db, id: number, patch: PackBuildUpdate) => db.updateTable('pack_builds').set(patch).where('id', '=', id).execute()
@@ -199,6 +211,18 @@ export const zipPathsOf = (db: Db, packId: number) =>
 export const insertBuildItems = async (db: Db, rows: NewPackBuildItem[]) => {
   if (rows.length) await db.insertInto('pack_build_items').values(rows).execute()
 }
+
+export const buildItemsOf = (db: Db, buildId: number): Promise<PackBuildItemRow[]> =>
+  db.selectFrom('pack_build_items').selectAll().where('build_id', '=', buildId).orderBy('position').execute()
+
+/** The newest published build of a pack older than `version`. */
+export const publishedBefore = (db: Db, packId: number, version: number): Promise<BuildJoined | undefined> =>
+  selectBuilds(db)
+    .where('pack_builds.pack_id', '=', packId)
+    .where('pack_builds.published_at', 'is not', null)
+    .where('pack_builds.version', '<', version)
+    .orderBy('pack_builds.version', 'desc')
+    .executeTakeFirst()
 
 export const deleteBuildItems = (db: Db, buildId: number) => db.deleteFrom('pack_build_items').where('build_id', '=', buildId).execute()
 

@@ -7,6 +7,8 @@ import {
   AddItemsBody,
   CreatePackBody,
   CreateShareLinkBody,
+  NamingPreviewQuery,
+  PublishBuildBody,
   QuickExportQuery,
   ReorderItemsBody,
   UpdateItemBody,
@@ -31,13 +33,16 @@ import {
   updatePackFields,
   visiblePack,
 } from './packs.service'
-import { buildZip, deletePackAndBuilds, listBuilds, publishBuild, requestBuild, visibleBuild } from './builds.service'
+import { buildChanges, buildZip, deletePackAndBuilds, listBuilds, publishBuild, requestBuild, visibleBuild } from './builds.service'
 import { buildToApi } from './builds.mapper'
 import { buildFileName } from './naming'
 import { renderedPreview } from './preview'
-import { createShareLink, listShareLinks, revokeShareLink, shareDownload, shareInfo } from './share.service'
+import { createShareLink, listShareLinks, revokeShareLink, shareDownload, shareInfo, shareItemBuild } from './share.service'
+import { newestPublished, publishedItemNotFound, sendBuildItem } from './published'
+import { namingPreview } from './packs.service'
 
 const ItemParams = z.object({ id: Id, itemId: Id })
+const ShareItemParams = TokenParams.extend({ itemId: Id })
 
 interface SendOptions {
   contentType: string
@@ -113,6 +118,12 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
     res.status(201).json({ items: await addItems(ctx, req.user!, id, body(req, AddItemsBody).items) })
   })
 
+  /** The output names a naming template would give the pack's items, for the live preview while it is typed. */
+  api.route('get', '/packs/:id/naming-preview', 'packs:manage', async (req, res) => {
+    const { id } = params(req, IdParams)
+    res.json(await namingPreview(ctx, id, query(req, NamingPreviewQuery).template))
+  })
+
   api.route('put', '/packs/:id/items/order', 'packs:manage', async (req, res) => {
     const { id } = params(req, IdParams)
     res.json({ items: await reorderItems(ctx, id, body(req, ReorderItemsBody).itemIds) })
@@ -133,6 +144,8 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   api.route('get', '/packs/:id/items/:itemId/preview', 'packs:receive', async (req, res, next) => {
     const { id, itemId } = params(req, ItemParams)
     const pack = await visiblePack(ctx.db, req.user!, id)
+    // Those who do not manage packs hear the newest published version itself, out of its zip: nothing unpublished.
+    if (!managesPacks(req.user!)) return sendBuildItem(ctx, res, next, (await newestPublished(ctx.db, id)) ?? raise(publishedItemNotFound()), itemId, 'inline')
     const rows = await repo.itemsOf(ctx.db, id)
     const found = (await itemSpecs(ctx.db, pack, rows)).find((s) => s.row.id === itemId)
     if (!found) throw itemNotFound()
@@ -175,8 +188,22 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   })
 
   api.route('post', '/pack-builds/:id/publish', 'packs:manage', async (req, res) => {
-    res.json({ build: await publishBuild(ctx, req.user!, params(req, IdParams).id) })
+    const { id } = params(req, IdParams)
+    res.json({ build: await publishBuild(ctx, req.user!, id, body(req, PublishBuildBody).note) })
   })
+
+  /** The starting text of the "what changed" note: items added, removed, renamed and re-rendered since the last published version. */
+  api.route('get', '/pack-builds/:id/changes', 'packs:manage', async (req, res) => {
+    res.json({ changes: await buildChanges(ctx, params(req, IdParams).id) })
+  })
+
+  // One item of a build, straight out of its zip (not counted anywhere; the zip is what producers download whole).
+  for (const [suffix, how] of [['audio', 'inline'], ['download', 'attachment']] as const) {
+    api.route('get', `/pack-builds/:id/items/:itemId/${suffix}`, 'packs:receive', async (req, res, next) => {
+      const { id, itemId } = params(req, ItemParams)
+      await sendBuildItem(ctx, res, next, await visibleBuild(ctx, req.user!, id), itemId, how)
+    })
+  }
 
   // ---- followers ----
 
@@ -225,4 +252,17 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
       cache: 'private, no-store',
     })
   })
+
+  // Single items through a share link: listed on its page, auditioned and downloaded one by one while the link is
+  // active; these do not count against the link's download limit (the whole zip does).
+  for (const [suffix, how] of [['audio', 'inline'], ['download', 'attachment']] as const) {
+    api.route('get', `/share/:token/items/:itemId/${suffix}`, 'public', async (req, res, next) => {
+      const { token, itemId } = params(req, ShareItemParams)
+      await sendBuildItem(ctx, res, next, await shareItemBuild(ctx, token), itemId, how)
+    })
+  }
+}
+
+const raise = (err: Error): never => {
+  throw err
 }

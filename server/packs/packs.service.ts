@@ -16,6 +16,7 @@ import {
   type AddItemBody,
   type CreatePackBody,
   type ItemKind,
+  type NamingPreview,
   type Pack,
   type PackDetail,
   type PackItem,
@@ -34,6 +35,7 @@ import { outputNames, type NamingFacts } from './naming'
 import type { ItemSpec } from './item-spec'
 import * as repo from './packs.repository'
 import { buildToApi } from './builds.mapper'
+import { itemSeconds, newestPublished, publishedDetail, snapshotOf } from './published'
 
 export const managesPacks = (user: Pick<User, 'role'>) => can(user.role, 'packs:manage')
 
@@ -77,7 +79,9 @@ export async function packsToApi(ctx: AppContext, user: User, rows: repo.PackJoi
     const t = totals.find((x) => x.pack_id === r.id)
     const f = follows.find((x) => x.pack_id === r.id)
     const publishedBuild = published ? buildToApi(published) : null
-    return {
+    // Those who do not manage packs see the published version as it was frozen, never the draft.
+    const frozen = !manager && published ? snapshotOf(published) : null
+    const api: Pack = {
       id: r.id,
       name: r.name,
       description: r.description,
@@ -94,13 +98,26 @@ export async function packsToApi(ctx: AppContext, user: User, rows: repo.PackJoi
       following: Number(f?.mine ?? 0) === 1,
       followerCount: Number(f?.count ?? 0),
     }
+    if (!frozen) return api
+    return {
+      ...api,
+      name: frozen.pack.name,
+      description: frozen.pack.description,
+      licenceText: frozen.pack.licenceText,
+      namingTemplate: frozen.pack.namingTemplate,
+      settings: frozen.pack.settings,
+      itemCount: frozen.items.length,
+      totalDurationSeconds: frozen.items.reduce((n, s) => n + itemSeconds(s), 0),
+      createdAt: published!.created_at,
+      updatedAt: published!.published_at ?? published!.created_at,
+    }
   })
 }
 
 type Facts = Awaited<ReturnType<typeof repo.takeFacts>>
 type TakeFact = Facts['takes'][number]
 
-function namingFacts(pack: repo.PackJoined, take: TakeFact, facts: Facts, kind: ItemKind, index: number, count: number): NamingFacts {
+function namingFacts(pack: repo.PackJoined, take: TakeFact, facts: Facts, kind: ItemKind, index: number, count: number, regionName: string | null): NamingFacts {
   return {
     devices: facts.sources.filter((s) => s.take_id === take.id).map((s) => ({ name: s.name, state: s.state })),
     tags: facts.tags.filter((t) => t.take_id === take.id).map((t) => t.tag),
@@ -111,6 +128,7 @@ function namingFacts(pack: repo.PackJoined, take: TakeFact, facts: Facts, kind: 
     takeId: take.id,
     kind,
     packName: pack.name,
+    regionName,
     index,
     count,
   }
@@ -129,11 +147,15 @@ const rangeSeconds = (row: Pick<PackItemRow, 'start_seconds' | 'end_seconds'>, t
 
 /** Everything about a pack's items in order: facts, names and render specs. */
 export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow[]) {
-  const facts = await repo.takeFacts(db, [...new Set(rows.map((r) => r.take_id))])
+  const [facts, regions] = await Promise.all([
+    repo.takeFacts(db, [...new Set(rows.map((r) => r.take_id))]),
+    repo.regionNames(db, [...new Set(rows.flatMap((r) => (r.region_id === null ? [] : [r.region_id])))]),
+  ])
   const packSettings = parsePatch(pack.settings_json)
   const entries = rows.map((row, i) => {
     const take = facts.takes.find((t) => t.id === row.take_id)!
-    return { row, take, naming: namingFacts(pack, take, facts, row.kind as ItemKind, i + 1, rows.length) }
+    const regionName = row.region_id === null ? null : (regions.get(row.region_id) ?? null)
+    return { row, take, naming: namingFacts(pack, take, facts, row.kind as ItemKind, i + 1, rows.length, regionName) }
   })
   const names = outputNames(pack.naming_template, entries.map((e) => ({ name: e.row.name, facts: e.naming })))
   return entries.map((e, i) => {
@@ -145,6 +167,7 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
       position: i + 1,
       takeId: e.take.id,
       regionId: e.row.region_id,
+      regionName: e.naming.regionName,
       startSeconds: e.row.start_seconds,
       endSeconds: e.row.end_seconds,
       kind: e.row.kind as ItemKind,
@@ -166,6 +189,13 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
   })
 }
 
+/** The output names `template` would give the pack's items (explicit names stay), for the live preview. */
+export async function namingPreview(ctx: AppContext, packId: number, template: string): Promise<NamingPreview> {
+  const pack = await managedPack(ctx.db, packId)
+  const specs = await itemSpecs(ctx.db, { ...pack, naming_template: template }, await repo.itemsOf(ctx.db, packId))
+  return { names: specs.map((s) => ({ itemId: s.row.id, outputName: s.spec.outputName, fileName: s.spec.fileName })) }
+}
+
 /** `publishedOnly`: rendered numbers from published builds only (what producers may see). */
 export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRow[], publishedOnly = false): Promise<PackItem[]> {
   const specs = await itemSpecs(db, pack, rows)
@@ -178,6 +208,7 @@ export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRo
       position: spec.position,
       takeId: take.id,
       regionId: row.region_id,
+      regionName: naming.regionName,
       take: {
         id: take.id,
         title: take.title,
@@ -228,7 +259,12 @@ export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRo
 
 export async function packDetail(ctx: AppContext, user: User, pack: repo.PackJoined): Promise<PackDetail> {
   const [api] = await packsToApi(ctx, user, [pack])
-  return { ...api, items: await itemsToApi(ctx.db, pack, await repo.itemsOf(ctx.db, pack.id), !managesPacks(user)) }
+  if (!managesPacks(user)) {
+    const published = await newestPublished(ctx.db, pack.id)
+    if (!published) throw packNotFound()
+    return publishedDetail(ctx.db, api, published)
+  }
+  return { ...api, items: await itemsToApi(ctx.db, pack, await repo.itemsOf(ctx.db, pack.id)) }
 }
 
 // ---- packs ----
@@ -307,7 +343,8 @@ async function sourceLevels(ctx: AppContext, take: TakeFact, r: RangeInput, labe
 }
 
 async function resolveRegion(db: Db, body: AddItemBody, label: string): Promise<AddItemBody> {
-  if (body.regionId === undefined || (body.startSeconds !== undefined && body.endSeconds !== undefined)) return body
+  if (body.regionId === undefined) return body
+  // Checked even when the range is given: an item's region must belong to its take.
   const region = await repo.findRegionRange(db, body.regionId)
   if (!region || region.take_id !== body.takeId) {
     throw new AppError(400, 'REGION_NOT_FOUND', `${label ? `${label}: ` : ''}take ${body.takeId} has no region ${body.regionId}`)

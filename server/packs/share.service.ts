@@ -16,6 +16,7 @@ import { sessionSecret } from '../core/settings'
 import { buildNotFound } from './builds.service'
 import { buildFileName } from './naming'
 import * as repo from './packs.repository'
+import { publishedItems, snapshotOf } from './published'
 import { newNonce, shareToken, verifyShareToken } from './share-tokens'
 
 const secretOf = (ctx: AppContext) => sessionSecret(ctx.db, ctx.config.sessionSecret)
@@ -97,15 +98,16 @@ async function resolve(ctx: AppContext, token: string) {
   return { link, build }
 }
 
+/** What the share page shows: the build as it was frozen (its licence is the LICENSE.txt in the zip) and its items. */
 export async function shareInfo(ctx: AppContext, token: string): Promise<ShareInfo> {
   const { link, build } = await resolve(ctx, token)
   const state = linkState(link)
   if (state !== 'active') throw gone(state)
-  const pack = await repo.findPack(ctx.db, build.pack_id)
+  const snap = snapshotOf(build)
   return {
-    packName: build.pack_name,
-    description: pack?.description ?? '',
-    licenceText: pack?.licence_text ?? '',
+    packName: snap.pack.name,
+    description: snap.pack.description,
+    licenceText: snap.pack.licenceText.trim(),
     version: build.version,
     fileName: buildFileName(build.pack_name, build.version),
     sizeBytes: build.size_bytes ?? 0,
@@ -113,7 +115,20 @@ export async function shareInfo(ctx: AppContext, token: string): Promise<ShareIn
     expiresAt: link.expires_at,
     downloadsLeft: link.max_downloads === null ? null : Math.max(0, link.max_downloads - link.downloads),
     downloadUrl: `/api/share/${token}/download`,
+    items: await publishedItems(ctx.db, build, `/api/share/${token}`),
+    changeNote: build.change_note,
   }
+}
+
+/**
+ * The build behind a link for one item (audition or download): allowed while the link is active,
+ * like its page; never counted against the link's limit (only the whole zip is).
+ */
+export async function shareItemBuild(ctx: AppContext, token: string): Promise<repo.BuildJoined> {
+  const { link, build } = await resolve(ctx, token)
+  const state = linkState(link)
+  if (state !== 'active') throw gone(state)
+  return build
 }
 
 /** Checks (and for a new download, counts) a download through the link; returns the zip to send. */

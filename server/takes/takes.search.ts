@@ -59,6 +59,8 @@ function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
   if (q.maxLufs !== undefined) c.push(sql`takes.integrated_lufs <= ${q.maxLufs}`)
   if (q.minTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp >= ${q.minTruePeak}`)
   if (q.maxTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp <= ${q.maxTruePeak}`)
+  if (q.minLra !== undefined) c.push(sql`takes.loudness_range_lu >= ${q.minLra}`)
+  if (q.maxLra !== undefined) c.push(sql`takes.loudness_range_lu <= ${q.maxLra}`)
   if (q.hum === '50' || q.hum === '60') c.push(sql`takes.hum_hz = ${Number(q.hum)}`)
   if (q.hum === 'none') c.push(sql`takes.hum_hz IS NULL AND takes.status = 'ready'`)
   if (q.status) c.push(sql`takes.status = ${q.status}`)

@@ -114,7 +114,8 @@ export async function acceptInvitation(ctx: AppContext, token: string, name: str
       .executeTakeFirst()
     if (Number(claimed.numUpdatedRows) !== 1) throw new AppError(410, 'TOKEN_INVALID', 'This invitation was already used')
     if (await findUserByEmail(trx, row.email)) throw new AppError(409, 'ALREADY_MEMBER', `${row.email} already has an account`)
-    const user = await insertUser(trx, { email: row.email, name, role: row.role, password_hash: passwordHash })
+    // Joining signs the invitee in, so it is their first sign-in.
+    const user = await insertUser(trx, { email: row.email, name, role: row.role, password_hash: passwordHash, last_login_at: nowIso() })
     return userRowToUser(user)
   })
 }

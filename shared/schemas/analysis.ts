@@ -45,8 +45,16 @@ export type Levels = z.infer<typeof Levels>
 export const Loudness = z.object({
   integratedLufs: Db,
   loudnessRangeLu: z.number().finite().nullable(),
+  /** Highest momentary (400 ms) loudness over windows at every 5 ms (EBU Tech 3341 cases 10 and 13). */
   maxMomentaryLufs: Db,
+  /** Highest short-term (3 s) loudness over windows at every 5 ms. */
   maxShortTermLufs: Db,
+  /**
+   * Short-sound loudness: K-weighted energy over the whole sound, −0.691 + 10·log10(mean square), for
+   * sounds shorter than one 400 ms block (which have no integrated loudness); null otherwise and in
+   * analyses stored before it existed. Not integrated loudness: no gating, no blocks.
+   */
+  shortSoundLufs: Db.optional(),
 })
 export type Loudness = z.infer<typeof Loudness>
 
@@ -119,6 +127,8 @@ export const FileMetadata = z.object({
   loops: z.array(Loop),
   /** General tags as music-metadata reads them (title, artist, comment…), for display. */
   tags: z.record(z.string(), z.string()).default({}),
+  /** What was not kept of oversized metadata (fields cut, entries not read, chunks skipped), one sentence each. */
+  dropped: z.array(z.string()).default([]),
 })
 export type FileMetadata = z.infer<typeof FileMetadata>
 

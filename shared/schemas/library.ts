@@ -110,6 +110,7 @@ export const HISTORY_KINDS = [
   'uploaded',
   'measured',
   'failed',
+  'requeued',
   'edited',
   'tagged',
   'sources',

@@ -86,13 +86,31 @@ export const LicenceTemplateKey = z.enum(LICENCE_TEMPLATES.map((t) => t.key) as 
 /**
  * Tokens of a naming template, each replaced per item:
  * {device} first source device, {state} its operating state, {kind} one-shot or loop,
- * {descriptor} first tag (or first word of the take title), {session} capture session title,
- * {date} session date as YYYYMMDD, {index} position in the pack (zero-padded to 2 digits or more),
- * {take} take id, {title} take title, {file} original file name without extension, {pack} pack name.
+ * {descriptor} first tag (or first word of the take title), {region} name of the region the item was cut from,
+ * {session} capture session title, {date} session date as YYYYMMDD, {index} position in the pack
+ * (zero-padded to 2 digits or more), {take} take id, {title} take title, {file} original file name
+ * without extension, {pack} pack name.
  */
-export const NAMING_TOKENS = ['device', 'state', 'kind', 'descriptor', 'session', 'date', 'index', 'take', 'title', 'file', 'pack'] as const
+export const NAMING_TOKENS = ['device', 'state', 'kind', 'descriptor', 'region', 'session', 'date', 'index', 'take', 'title', 'file', 'pack'] as const
 export type NamingToken = (typeof NAMING_TOKENS)[number]
+/** One line per token, shown beside the naming template field. */
+export const NAMING_TOKEN_HELP: Record<NamingToken, string> = {
+  device: 'the first source device of the take',
+  state: "that device's operating state",
+  kind: 'one-shot or loop',
+  descriptor: "the take's first tag, else the first word of its title",
+  region: 'the name of the region the item was cut from (empty for a whole take)',
+  session: 'the capture session title',
+  date: 'the capture date as YYYYMMDD',
+  index: 'the place in the pack, 01, 02…',
+  take: 'the take number',
+  title: 'the take title',
+  file: 'the original file name, without .wav',
+  pack: 'the pack name',
+}
 export const DEFAULT_NAMING_TEMPLATE = '{device}_{descriptor}_{index}'
+/** What the default template becomes for an item cut from a named region: the region's name stands in for the descriptor. */
+export const DEFAULT_REGION_NAMING_TEMPLATE = '{device}_{region}_{index}'
 /** Longest output name, before `.wav`. */
 export const MAX_OUTPUT_NAME = 80
 
@@ -175,6 +193,16 @@ export const CreateShareLinkBody = z
   .strict()
 export type CreateShareLinkBody = z.infer<typeof CreateShareLinkBody>
 
+/** POST /api/pack-builds/:id/publish: the "what changed" note followers receive (may be left empty). */
+export const PublishBuildBody = z.object({ note: text(4000).optional() }).strict()
+export type PublishBuildBody = z.infer<typeof PublishBuildBody>
+
+/** GET /api/packs/:id/naming-preview?template=…: the output names a template would give the pack's items. */
+export const NamingPreviewQuery = z.object({ template: NamingTemplate })
+export type NamingPreviewQuery = z.infer<typeof NamingPreviewQuery>
+export const NamingPreview = z.object({ names: z.array(z.object({ itemId: z.number().int(), outputName: z.string(), fileName: z.string() })) })
+export type NamingPreview = z.infer<typeof NamingPreview>
+
 const num = z.coerce.number().finite()
 /** GET /api/takes/:id/export: a range, and a pack's settings (or the defaults) with any field overridden. */
 export const QuickExportQuery = z.object({
@@ -234,6 +262,8 @@ export const PackItem = z.object({
   position: z.number().int(),
   takeId: z.number().int(),
   regionId: z.number().int().nullable(),
+  /** The region's name: {region} of the naming template, in the bext description and the manifest. */
+  regionName: z.string().nullable(),
   take: z.object({
     id: z.number().int(),
     title: z.string(),
@@ -293,8 +323,43 @@ export const PackBuild = z.object({
   finishedAt: z.string().nullable(),
   publishedAt: z.string().nullable(),
   publishedBy: Person,
+  /** "What changed", written by the designer when publishing. */
+  changeNote: z.string().nullable(),
 })
 export type PackBuild = z.infer<typeof PackBuild>
+
+/** GET /api/pack-builds/:id/changes: what a build changes against the newest published version before it (the note's starting text). */
+export const BuildChanges = z.object({
+  /** The version compared against, or null when nothing was published before. */
+  sinceVersion: z.number().int().nullable(),
+  added: z.array(z.string()),
+  removed: z.array(z.string()),
+  renamed: z.array(z.object({ from: z.string(), to: z.string() })),
+  /** Same item, rendered differently (range, type, render spec or source take changed). */
+  rerendered: z.array(z.string()),
+  /** The lists as plain text, one line each. */
+  text: z.string(),
+})
+export type BuildChanges = z.infer<typeof BuildChanges>
+
+/** One rendered item of a published build, as producers and share visitors get it. */
+export const PublishedItem = z.object({
+  /** The pack item it was rendered from. */
+  id: z.number().int(),
+  position: z.number().int(),
+  fileName: z.string(),
+  kind: ItemKind,
+  regionName: z.string().nullable(),
+  durationSeconds: z.number(),
+  integratedLufs: z.number().nullable(),
+  truePeakDbtp: z.number().nullable(),
+  sizeBytes: z.number().int(),
+  /** The item's WAV out of the zip, inline (for the player). */
+  auditionUrl: z.string(),
+  /** The same bytes as a download. */
+  downloadUrl: z.string(),
+})
+export type PublishedItem = z.infer<typeof PublishedItem>
 
 export const Pack = z.object({
   id: z.number().int(),
@@ -352,6 +417,10 @@ export const ShareInfo = z.object({
   expiresAt: z.string(),
   downloadsLeft: z.number().int().nullable(),
   downloadUrl: z.string(),
+  /** The build's items; single items do not count against the link's download limit. */
+  items: z.array(PublishedItem),
+  /** The build's "what changed" note. */
+  changeNote: z.string().nullable(),
 })
 export type ShareInfo = z.infer<typeof ShareInfo>
 
@@ -370,6 +439,8 @@ export const ManifestItem = z.object({
   sources: z.array(z.string()),
   tags: z.array(z.string()),
   takeId: z.number().int(),
+  /** Name of the region the item was cut from, or null. */
+  regionName: z.string().nullable(),
   licence: z.string(),
   sha256: z.string(),
 })

@@ -61,8 +61,14 @@ export type TakeSort = z.infer<typeof TakeSort>
 
 const num = z.coerce.number().finite()
 const int = z.coerce.number().int()
-/** A query value that may come once or repeated (?tag=a&tag=b). */
-const many = <T extends z.ZodTypeAny>(s: T) => z.preprocess((v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]), z.array(s).optional())
+/** Values one repeated filter may carry: each becomes a condition, and SQLite limits how deep an expression may nest. */
+export const MAX_REPEATED = 50
+/** A query value that may come once or repeated (?tag=a&tag=b), at most MAX_REPEATED times. */
+const many = <T extends z.ZodTypeAny>(s: T) =>
+  z.preprocess(
+    (v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]),
+    z.array(s).max(MAX_REPEATED, { error: (i) => `at most ${MAX_REPEATED} values of one filter (got ${(i.input as unknown[]).length})` }).optional(),
+  )
 
 /** GET /api/takes query. Names are part of the public API. */
 export const TakeQuery = z.object({
@@ -80,6 +86,9 @@ export const TakeQuery = z.object({
   maxLufs: num.optional(),
   minTruePeak: num.optional(),
   maxTruePeak: num.optional(),
+  /** Loudness range (EBU Tech 3342), LU. */
+  minLra: num.optional(),
+  maxLra: num.optional(),
   hum: z.enum(['50', '60', 'none']).optional(),
   status: TakeStatus.optional(),
   sort: TakeSort.optional(),

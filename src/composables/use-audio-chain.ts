@@ -5,9 +5,36 @@ let context: AudioContext | null = null
 const wired = new WeakMap<HTMLMediaElement, { even: GainNode; master: GainNode }>()
 
 /**
- * Routes a media element through Web Audio: even-level gain (which may boost a
- * quiet take above unity, beyond what element.volume allows), then the master
- * volume. Created lazily on the first play, inside the user's gesture.
+ * Routes a media element through Web Audio once: even-level gain (which may
+ * boost a quiet take above unity, beyond what element.volume allows), then the
+ * master volume. Call it inside the user's gesture (the first play).
+ */
+export function wireMedia(el: HTMLMediaElement) {
+  let nodes = wired.get(el)
+  if (!nodes) {
+    context ??= new AudioContext()
+    const source = context.createMediaElementSource(el)
+    const even = context.createGain()
+    const master = context.createGain()
+    source.connect(even).connect(master).connect(context.destination)
+    nodes = { even, master }
+    wired.set(el, nodes)
+  }
+  if (context?.state === 'suspended') void context.resume()
+  return nodes
+}
+
+/** Sets both gains of a wired element (a short glide, so a change never clicks). */
+export function applyGains(el: HTMLMediaElement | null, evenDb: number, master: number) {
+  const nodes = el && wired.get(el)
+  if (!nodes || !context) return
+  nodes.even.gain.setTargetAtTime(10 ** (evenDb / 20), context.currentTime, 0.02)
+  nodes.master.gain.setTargetAtTime(master, context.currentTime, 0.02)
+}
+
+/**
+ * The chain for a page's own media element, following the audition store's
+ * master volume and even-level switch. Created lazily on the first play.
  */
 export function useAudioChain(media: Ref<HTMLMediaElement | null>, levels: Ref<{ integratedLufs: number | null; truePeakDbtp: number | null } | null>) {
   const audition = useAuditionStore()
@@ -15,17 +42,7 @@ export function useAudioChain(media: Ref<HTMLMediaElement | null>, levels: Ref<{
   function ensure() {
     const el = media.value
     if (!el) return null
-    let nodes = wired.get(el)
-    if (!nodes) {
-      context ??= new AudioContext()
-      const source = context.createMediaElementSource(el)
-      const even = context.createGain()
-      const master = context.createGain()
-      source.connect(even).connect(master).connect(context.destination)
-      nodes = { even, master }
-      wired.set(el, nodes)
-    }
-    if (context?.state === 'suspended') void context.resume()
+    const nodes = wireMedia(el)
     apply()
     return nodes
   }
@@ -34,12 +51,9 @@ export function useAudioChain(media: Ref<HTMLMediaElement | null>, levels: Ref<{
 
   function apply() {
     // Read the reactive values first so watchEffect tracks them even before wiring.
-    const even = 10 ** (gainDb() / 20)
+    const even = gainDb()
     const master = audition.master
-    const nodes = media.value && wired.get(media.value)
-    if (!nodes || !context) return
-    nodes.even.gain.setTargetAtTime(even, context.currentTime, 0.02)
-    nodes.master.gain.setTargetAtTime(master, context.currentTime, 0.02)
+    applyGains(media.value, even, master)
   }
 
   watchEffect(apply)

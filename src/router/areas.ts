@@ -1,4 +1,4 @@
-import type { Permission } from '@shared/permissions'
+import type { Permission, Role } from '@shared/permissions'
 
 /** The product's areas, in the order of the top navigation. */
 export interface Area {
@@ -16,3 +16,10 @@ export const AREAS: Area[] = [
   { name: 'team', label: 'Team', path: '/team', permission: 'team:manage' },
   { name: 'outbox', label: 'Outbox', path: '/outbox', permission: 'team:manage' },
 ]
+
+/** Where a role lands after signing in (and on /): the area it works in; roles not named here land on their first area. */
+export const HOME_BY_ROLE: Partial<Record<Role, string>> = {
+  designer: '/library',
+  producer: '/packs',
+  collaborator: '/library',
+}

@@ -1,6 +1,6 @@
 import { acceptHMRUpdate, defineStore } from 'pinia'
 import { ref } from 'vue'
-import type { AddItemBody, CreatePackBody, Pack, PackBuild, PackDetail, PackItem, ShareLink, UpdateItemBody, UpdatePackBody } from '@shared/schemas/packs'
+import type { AddItemBody, BuildChanges, CreatePackBody, NamingPreview, Pack, PackBuild, PackDetail, PackItem, ShareLink, UpdateItemBody, UpdatePackBody } from '@shared/schemas/packs'
 import { api } from '@/api/client'
 
 /** Packs: curating, building, publishing and sharing. */
@@ -52,10 +52,15 @@ export const usePacksStore = defineStore('packs', () => {
     return build
   }
   const getBuild = async (id: number) => (await api.get<{ build: PackBuild }>(`/api/pack-builds/${id}`)).build
-  async function publish(buildId: number) {
-    await api.post(`/api/pack-builds/${buildId}/publish`)
+  async function publish(buildId: number, note: string) {
+    await api.post(`/api/pack-builds/${buildId}/publish`, { note })
     await reload()
   }
+  /** The computed starting text of a build's "what changed" note. */
+  const changes = async (buildId: number) => (await api.get<{ changes: BuildChanges }>(`/api/pack-builds/${buildId}/changes`)).changes
+  /** Output names the template would give the current pack's items. */
+  const namingPreview = async (template: string) =>
+    (await api.get<NamingPreview>(`/api/packs/${current.value!.id}/naming-preview?template=${encodeURIComponent(template)}`)).names
 
   async function follow(packId: number, on: boolean) {
     if (on) await api.post(`/api/packs/${packId}/follow`)
@@ -70,8 +75,35 @@ export const usePacksStore = defineStore('packs', () => {
   const revokeShareLink = (id: number) => api.delete(`/api/share-links/${id}`)
 
   const previewUrl = (itemId: number) => `/api/packs/${current.value!.id}/items/${itemId}/preview`
+  /** One item of the published version, as a download (producers). */
+  const itemDownloadUrl = (itemId: number) => (current.value?.publishedBuild ? `/api/pack-builds/${current.value.publishedBuild.id}/items/${itemId}/download` : null)
 
-  return { packs, current, builds, load, open, reload, create, update, remove, addItems, updateItem, removeItem, reorder, build, getBuild, publish, follow, shareLinks, createShareLink, revokeShareLink, previewUrl }
+  return {
+    packs,
+    current,
+    builds,
+    load,
+    open,
+    reload,
+    create,
+    update,
+    remove,
+    addItems,
+    updateItem,
+    removeItem,
+    reorder,
+    build,
+    getBuild,
+    publish,
+    changes,
+    namingPreview,
+    follow,
+    shareLinks,
+    createShareLink,
+    revokeShareLink,
+    previewUrl,
+    itemDownloadUrl,
+  }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(usePacksStore, import.meta.hot))

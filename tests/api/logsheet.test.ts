@@ -201,7 +201,9 @@ describe('the capture log as CSV', () => {
     const res = await producer.get(`/api/capture-sessions/${sessionId}/log.csv`).expect(200)
     expect(res.headers['content-type']).toMatch(/^text\/csv/)
     expect(res.headers['content-disposition']).toMatch(/^attachment; filename="?2026-11-30-Log-export-bench-capture-log\.csv"?$/)
-    const lines = res.text.split('\r\n')
+    // A byte-order mark first (the shared writer's, so spreadsheets read UTF-8), then the header.
+    expect(res.text.startsWith('\uFEFF')).toBe(true)
+    const lines = res.text.slice(1).split('\r\n')
     expect(lines[0]).toBe('File,Title,Device,State,Duration (s),Format,Integrated loudness (LUFS),True peak (dBTP),Loudness range (LU),Hum (Hz),Tags')
     // RFC 4180 quoting; OWASP CSV-injection guard on text cells only.
     expect(lines[1]).toBe('T001.wav,"First, ""quoted""",Bench laptop charger,\'+charging,10,48000 Hz 24-bit PCM 2 ch RIFF,-23,-0.5,4.3,50,\'-minus; hum')

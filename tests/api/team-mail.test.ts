@@ -33,6 +33,9 @@ describe('invitations over real SMTP', () => {
     expect(accepted.body.user).toMatchObject({ email: 'new.listener@example.test', role: 'collaborator', name: 'Nova Listener' })
     // Signed in at once.
     expect((await invitee.get('/api/auth/me')).body.user.email).toBe('new.listener@example.test')
+    // Joining is the first sign-in: the team table shows it, not "never".
+    const joined = (await admin.get('/api/users')).body.users.find((u: { email: string }) => u.email === 'new.listener@example.test')
+    expect(Date.parse(joined.lastLoginAt)).toBeGreaterThan(Date.now() - 60_000)
 
     const again = new Client(server.url)
     await again.refreshCsrf()

@@ -214,10 +214,13 @@ describe('EBU Tech 3341 true peak (cases 15–19, +0.2/−0.4 dB)', () => {
 })
 
 describe('no value where the standards define none (BS.1770-4 §2.8 block length; EBU Tech 3342 §3)', () => {
-  it('a take shorter than one 400 ms block has no integrated, momentary or short-term loudness', () => {
+  it('a take shorter than one 400 ms block has no integrated, momentary or short-term loudness, only the short-sound loudness', () => {
     const s = sine(FS, 0.39, 1000, -20)
     const l = measure([s, s], { sampleRate: FS, channelMask: 0 }).loudness
-    expect(l).toEqual({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null })
+    expect({ ...l, shortSoundLufs: undefined }).toEqual({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null, shortSoundLufs: undefined })
+    // Short-sound loudness is the BS.1770-4 formula over the sound's own length: a stereo 1 kHz sine at
+    // −20 dBFS reads −20 LUFS as in EBU Tech 3341 case 1 (K-weighting gain at 1 kHz ≈ +0.69 dB).
+    expectLu(l.shortSoundLufs ?? null, -20)
   })
 
   it('a 2 s take has momentary and integrated loudness but no short-term value or range (3 s window)', () => {
@@ -232,7 +235,7 @@ describe('no value where the standards define none (BS.1770-4 §2.8 block length
   it('digital silence gives null levels, never −Infinity or NaN (common practice; the result contract)', () => {
     const s = new Float32Array(FS * 5)
     const r = measure([s, s], { sampleRate: FS, channelMask: 0 })
-    expect(r.loudness).toEqual({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null })
+    expect(r.loudness).toEqual({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null, shortSoundLufs: null })
     expect(r.levels.samplePeakDbfs).toBeNull()
     expect(r.levels.truePeakDbtp).toBeNull()
     expect(r.levels.rmsDbfs).toBeNull()

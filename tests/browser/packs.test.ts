@@ -51,6 +51,7 @@ describe('packs in the browser', () => {
     // After the build each item shows its loudness out of the renderer.
     await expect.poll(() => page.locator('[data-test=pack-items]').innerText()).toMatch(/→ −1[78]\.\d LUFS/)
     await page.locator('[data-test=publish]').click()
+    await page.locator('[data-test=publish-confirm]').click()
     await expect.poll(() => page.locator('[data-test=builds]').innerText()).toMatch(/published/i)
     await screenshot(page, 'pack-editor')
     await page.close()

@@ -7,6 +7,7 @@
 // characters before ".wav" (the product's limit).
 import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
+import { DEFAULT_NAMING_TEMPLATE } from '@shared/schemas/packs'
 import { buildFileName, fillTemplate, outputNames, sanitizeName, transliterate, uniquify, type NamingFacts } from '../../server/packs/naming'
 
 const PORTABLE = /^[A-Za-z0-9_-]+$/
@@ -108,6 +109,7 @@ const facts = (o: Partial<NamingFacts> = {}): NamingFacts => ({
   takeId: 12,
   kind: 'one-shot',
   packName: 'Bench pack',
+  regionName: null,
   index: 3,
   count: 12,
   ...o,
@@ -132,6 +134,19 @@ describe('naming templates', () => {
       { name: null, facts: facts({ devices: [], tags: [], title: '', index: 4 }) },
     ])
     expect(names).toEqual(['Doorbell_transformer_hum', 'Doorbell_transformer_hum_2', 'Doorbell_transformer_hum_3', 'item'])
+  })
+
+  it('fills {region} with the region name, and the default template names a region item by its region', () => {
+    expect(fillTemplate('{region}-{index}', facts({ regionName: 'Burst three' }))).toBe('Burst three-03')
+    expect(fillTemplate('{region}', facts())).toBe('')
+    const names = outputNames(DEFAULT_NAMING_TEMPLATE, [
+      { name: null, facts: facts({ index: 1, regionName: 'Clean loop' }) },
+      { name: null, facts: facts({ index: 2 }) },
+      { name: null, facts: facts({ index: 3, regionName: '  ' }) },
+    ])
+    expect(names).toEqual(['Doorbell_transformer_Clean_loop_01', 'Doorbell_transformer_hum_02', 'Doorbell_transformer_hum_03'])
+    // A template of the designer's own is left as written.
+    expect(outputNames('{descriptor}_{index}', [{ name: null, facts: facts({ index: 1, regionName: 'Clean loop' }) }])).toEqual(['hum_01'])
   })
 
   it('names the zip <pack-name>_v<version>.zip', () => {

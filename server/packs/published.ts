@@ -1,0 +1,183 @@
+// What everyone without 'packs:manage' sees of a pack: the newest published
+// build as it was frozen (name, description, licence, items, file names and the
+// numbers measured on the rendered files), never the draft a designer is editing.
+// Single items are served straight out of the build's stored zip (zip-entries.ts).
+import type { NextFunction, Response } from 'express'
+import { effectiveSettings, type PackDetail, type PackItem, type PublishedItem } from '@shared/schemas/packs'
+import type { AppContext } from '../core/context'
+import type { Db } from '../core/database'
+import { AppError } from '../core/errors'
+import type { PackBuildItemRow } from '../../db/schema-packs'
+import { round2 } from '../render/settings'
+import type { BuildSnapshot, ItemSpec } from './item-spec'
+import * as repo from './packs.repository'
+import { storedEntryRange } from './zip-entries'
+
+/** A build's frozen snapshot (a damaged or empty one reads as a pack with no items). */
+export function snapshotOf(b: Pick<repo.BuildJoined, 'snapshot_json' | 'pack_name'>): BuildSnapshot {
+  const s = JSON.parse(b.snapshot_json) as Partial<BuildSnapshot>
+  const pack = { id: 0, name: b.pack_name, description: '', licenceText: '', namingTemplate: '', settings: effectiveSettings(null), ...s.pack }
+  return { pack, items: Array.isArray(s.items) ? s.items : [] }
+}
+
+export const itemSeconds = (s: Pick<ItemSpec, 'startSeconds' | 'endSeconds' | 'takeDurationSeconds'>) => (s.endSeconds ?? s.takeDurationSeconds) - (s.startSeconds ?? 0)
+
+/** The id a published item answers to: the pack item it was rendered from (stable across versions). */
+export const publishedItemId = (s: Pick<ItemSpec, 'itemId' | 'position'>) => s.itemId ?? s.position
+
+export const publishedItemNotFound = () => new AppError(404, 'ITEM_NOT_FOUND', 'No item with that id in this version')
+
+/** The newest published build of a pack, or null. */
+export async function newestPublished(db: Db, packId: number): Promise<repo.BuildJoined | null> {
+  return (await repo.buildsOf(db, packId, true))[0] ?? null
+}
+
+/** "Name (state)" labels back into device and state. */
+const splitSource = (label: string) => {
+  const m = /^(.*) \((.*)\)$/.exec(label)
+  return m ? { name: m[1], state: m[2] } : { name: label, state: '' }
+}
+
+/** The pack as its newest published build froze it; `base` carries the follow state and the build summaries. */
+export async function publishedDetail(db: Db, base: Omit<PackDetail, 'items'>, build: repo.BuildJoined): Promise<PackDetail> {
+  const snap = snapshotOf(build)
+  const [rendered, facts] = await Promise.all([repo.buildItemsOf(db, build.id), repo.takeFacts(db, [...new Set(snap.items.map((s) => s.takeId))])])
+  const items: PackItem[] = snap.items.map((s) => {
+    const r = rendered.find((x) => x.position === s.position)
+    const take = facts.takes.find((t) => t.id === s.takeId)
+    return {
+      id: publishedItemId(s),
+      position: s.position,
+      takeId: s.takeId,
+      regionId: s.regionId,
+      regionName: s.regionName ?? null,
+      take: {
+        id: s.takeId,
+        title: take?.title ?? s.title,
+        filename: take?.filename ?? '',
+        sessionTitle: take?.session_title ?? '',
+        status: take?.status ?? 'ready',
+        durationSeconds: s.takeDurationSeconds,
+        sampleRate: s.sampleRate,
+        channels: s.channels,
+        bitsPerSample: take?.bits_per_sample ?? null,
+        sources: s.sources.map(splitSource),
+        tags: s.tags,
+      },
+      startSeconds: s.startSeconds,
+      endSeconds: s.endSeconds,
+      durationSeconds: itemSeconds(s),
+      kind: s.kind,
+      name: null,
+      outputName: s.outputName,
+      fileName: s.fileName,
+      settings: null,
+      effectiveSettings: s.settings,
+      source: {
+        integratedLufs: round2(s.sourceLevels?.integratedLufs ?? null),
+        truePeakDbtp: round2(s.sourceLevels?.truePeakDbtp ?? null),
+        loudnessRangeLu: null,
+        measuredFrom: s.startSeconds === null && s.endSeconds === null ? 'take' : 'range',
+        expectedGainDb: null,
+        expectedUnderTargetDb: null,
+      },
+      rendered: r ? renderedOf(r, build) : null,
+    }
+  })
+  return {
+    ...base,
+    name: snap.pack.name,
+    description: snap.pack.description,
+    licenceText: snap.pack.licenceText,
+    namingTemplate: snap.pack.namingTemplate,
+    settings: snap.pack.settings,
+    itemCount: items.length,
+    totalDurationSeconds: items.reduce((n, i) => n + i.durationSeconds, 0),
+    items,
+  }
+}
+
+function renderedOf(r: PackBuildItemRow, build: repo.BuildJoined): PackItem['rendered'] {
+  return {
+    buildId: build.id,
+    version: build.version,
+    file: r.file_name,
+    integratedLufs: round2(r.integrated_lufs),
+    truePeakDbtp: round2(r.true_peak_dbtp),
+    loudnessRangeLu: round2(r.loudness_range_lu),
+    gainDb: round2(r.gain_db)!,
+    underTargetDb: r.under_target_db,
+    sizeBytes: r.size_bytes,
+    sha256: r.sha256,
+  }
+}
+
+/** The items of a finished build as a listener needs them; `base` is the URL the item routes hang under. */
+export async function publishedItems(db: Db, build: repo.BuildJoined, base: string): Promise<PublishedItem[]> {
+  const snap = snapshotOf(build)
+  const rendered = await repo.buildItemsOf(db, build.id)
+  return snap.items.map((s) => {
+    const r = rendered.find((x) => x.position === s.position)
+    const id = publishedItemId(s)
+    return {
+      id,
+      position: s.position,
+      fileName: s.fileName,
+      kind: s.kind,
+      regionName: s.regionName ?? null,
+      durationSeconds: r?.duration_seconds ?? itemSeconds(s),
+      integratedLufs: round2(r?.integrated_lufs ?? null),
+      truePeakDbtp: round2(r?.true_peak_dbtp ?? null),
+      sizeBytes: r?.size_bytes ?? 0,
+      auditionUrl: `${base}/items/${id}/audio`,
+      downloadUrl: `${base}/items/${id}/download`,
+    }
+  })
+}
+
+/** Sends one item of a finished build out of its zip, with Range support; 404 when the build holds no such item. */
+export async function sendBuildItem(
+  ctx: AppContext,
+  res: Response,
+  next: NextFunction,
+  build: repo.BuildJoined,
+  itemId: number,
+  how: 'inline' | 'attachment',
+): Promise<void> {
+  if (build.status !== 'done' || !build.zip_path) throw new AppError(409, 'BUILD_NOT_DONE', `Version ${build.version} is ${build.status}; its items can be fetched once it is done`)
+  const spec = snapshotOf(build).items.find((s) => publishedItemId(s) === itemId)
+  if (!spec) throw publishedItemNotFound()
+  const zip = ctx.storage.abs(build.zip_path)
+  let range: Awaited<ReturnType<typeof storedEntryRange>>
+  try {
+    range = await storedEntryRange(zip, spec.fileName)
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === 'ENOENT') throw new AppError(410, 'FILE_MISSING', `The file of version ${build.version} is no longer stored`)
+    throw err
+  }
+  if (!range) throw publishedItemNotFound()
+  const size = range.size
+  // send (under res.sendFile) serves [start, end] of the zip as if it were the whole file, Ranges relative to it.
+  // No ETag or Last-Modified: those would be the zip's, shared by every item in it.
+  res.set('Content-Disposition', `${how}; filename="${spec.fileName}"`)
+  const opts = {
+    start: range.start,
+    end: range.end,
+    acceptRanges: true,
+    etag: false,
+    lastModified: false,
+    headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, no-cache' },
+  }
+  res.sendFile(zip, opts, (err?: Error & { status?: number }) => {
+    if (!err || res.headersSent) return
+    if (err.status === 416) {
+      res.removeHeader('Content-Disposition')
+      res
+        .status(416)
+        .set('Content-Range', `bytes */${size}`)
+        .json({ error: { code: 'RANGE_NOT_SATISFIABLE', message: `The requested range lies outside the item's ${size} bytes`, details: { sizeBytes: size } } })
+      return
+    }
+    next(err)
+  })
+}

@@ -1,0 +1,58 @@
+// GET /api/takes.csv: the library's current query (the same filters and sort as
+// GET /api/takes) as one CSV file, every matching take rather than one page.
+import { TakeQuery } from '@shared/schemas/takes'
+import type { AppContext } from '../core/context'
+import { csvDocument } from '../core/csv'
+import { AppError } from '../core/errors'
+import type { Api } from '../core/routes'
+import type { Db } from '../core/database'
+import { sourcesOf, tagsOf } from './takes.repository'
+import { searchTakeRows } from './takes.search'
+
+/** More than this many matches asks the user to narrow the query instead of building a huge file. */
+export const EXPORT_MAX_TAKES = 50_000
+const PAGE = 200
+
+export const LIBRARY_CSV_HEADER = [
+  'id', 'file', 'title', 'capture', 'device', 'state', 'duration (s)', 'format',
+  'integrated loudness (LUFS)', 'true peak (dBTP)', 'loudness range (LU)', 'hum (Hz)', 'tags', 'status',
+]
+
+const one = (v: number | null) => (v === null ? null : Math.round(v * 10) / 10)
+const CHANNELS: Record<number, string> = { 1: 'mono', 2: 'stereo' }
+
+export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; count: number }> {
+  const rows: (string | number | null)[][] = []
+  for (let page = 1; ; page++) {
+    const { rows: found, total } = await searchTakeRows(db, { ...q, page, pageSize: PAGE })
+    if (total > EXPORT_MAX_TAKES) {
+      throw new AppError(400, 'EXPORT_TOO_LARGE', `The query matches ${total} takes; narrow it to at most ${EXPORT_MAX_TAKES} to export`, { total, max: EXPORT_MAX_TAKES })
+    }
+    const ids = found.map((r) => r.id)
+    const [links, tags] = await Promise.all([sourcesOf(db, ids), tagsOf(db, ids)])
+    for (const r of found) {
+      const mine = links.filter((l) => l.take_id === r.id)
+      const format = r.sample_rate
+        ? `${r.sample_rate / 1000} kHz ${r.bits_per_sample ?? '?'}-bit ${CHANNELS[r.channels ?? 0] ?? `${r.channels} ch`}`
+        : ''
+      rows.push([
+        r.id, r.filename, r.title, r.session_title,
+        mine.map((l) => l.name).join('; '), mine.map((l) => l.state).join('; '),
+        r.duration_seconds === null ? null : Math.round(r.duration_seconds * 1000) / 1000, format,
+        one(r.integrated_lufs), one(r.true_peak_dbtp), one(r.loudness_range_lu), r.hum_hz,
+        tags.filter((t) => t.take_id === r.id).map((t) => t.tag).join('; '), r.status,
+      ])
+    }
+    if (found.length < PAGE || page * PAGE >= total) break
+  }
+  return { csv: csvDocument(LIBRARY_CSV_HEADER, rows), count: rows.length }
+}
+
+export function registerTakeExportRoutes(api: Api, ctx: AppContext) {
+  api.route('get', '/takes.csv', 'library:browse', async (req, res) => {
+    const { page: _page, pageSize: _size, ...q } = TakeQuery.parse(req.query)
+    const { csv } = await libraryCsv(ctx.db, { ...q, page: 1, pageSize: PAGE })
+    const day = new Date().toISOString().slice(0, 10)
+    res.set('Content-Type', 'text/csv; charset=utf-8').attachment(`strayfield-library-${day}.csv`).send(csv)
+  })
+}
