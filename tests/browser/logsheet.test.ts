@@ -73,11 +73,14 @@ describe('Enter on the join and new-password pages', () => {
     await anon.refreshCsrf()
     await anon.post('/api/auth/password-reset', { email: 'new.recordist@example.test' }).expect(202)
     await expect.poll(() => mailTo('new.recordist@example.test'), { timeout: 10_000 }).toContain('/reset/')
-    await page.goto(`${env.server.url}/reset/${linkToken(await mailTo('new.recordist@example.test'), 'reset')}`)
-    await typeInto(page, 'input[name=password]', 'another-long-password')
-    await page.keyboard.press('Enter')
-    await expect.poll(() => page.locator('body').innerText()).toContain('Your password is changed')
+    // Opened from the mail, signed out (a fresh browser context).
     await page.close()
+    const resetPage = await env.browser.newPage({ viewport: { width: 390, height: 844 } })
+    await resetPage.goto(`${env.server.url}/reset/${linkToken(await mailTo('new.recordist@example.test'), 'reset')}`)
+    await typeInto(resetPage, 'input[name=password]', 'another-long-password')
+    await resetPage.keyboard.press('Enter')
+    await expect.poll(() => resetPage.locator('body').innerText(), { timeout: 10_000 }).toContain('Your password is changed')
+    await resetPage.close()
   })
 })
 
