@@ -3,6 +3,7 @@
 // logs every one on the logging sheet (a new device typed where it is needed,
 // fill down, several rows at once) in under 30 interactions; then the same
 // sheet on a phone.
+import { execFileSync } from 'node:child_process'
 import path from 'node:path'
 import { describe, expect, it } from 'vitest'
 import type { Page } from 'playwright-core'
@@ -213,11 +214,18 @@ describe('the logging sheet', () => {
     await page.close()
   }, 180_000)
 
-  it('removes a take with a confirmation, offers Undo, and lists it under Removed takes', async () => {
+  it('flags clipped, over-the-ceiling and too-quiet takes in words; removes a take with a confirmation, offers Undo, and lists it under Removed takes', async () => {
     const client = await signedIn(env.server.url, 'recordist')
     const session = (await client.post('/api/capture-sessions', { title: 'Removal test', date: '2026-11-30' }).expect(201)).body.session
     const file = soxWav(path.join(env.server.dir, 'rm', 'WRONG.WAV'), { seconds: 1, synth: ['sine', '300'] })
     await client.agent.post(`/api/capture-sessions/${session.id}/takes`).set('x-csrf-token', client.token).attach('file', file, 'WRONG.WAV').expect(201)
+    // Two takes with something wrong, made by sox: one far below the −70 LUFS gate, one driven past full scale (sox clips it).
+    const quiet = soxWav(path.join(env.server.dir, 'rm', 'QUIET.WAV'), { seconds: 1, synth: ['sine', '300', 'vol', '0.0001'] })
+    const loud = path.join(env.server.dir, 'rm', 'LOUD.WAV')
+    execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '1', loud, 'synth', '1', 'sine', '300', 'vol', '2'], { stdio: 'ignore' })
+    for (const [f, name] of [[quiet, 'QUIET.WAV'], [loud, 'LOUD.WAV']]) {
+      await client.agent.post(`/api/capture-sessions/${session.id}/takes`).set('x-csrf-token', client.token).attach('file', f, name).expect(201)
+    }
 
     const page = await env.browser.newPage({ viewport: { width: 1440, height: 900 } })
     await page.goto(`${env.server.url}/sign-in`)
@@ -227,17 +235,26 @@ describe('the logging sheet', () => {
     await page.waitForURL((u) => !u.pathname.startsWith('/sign-in'))
     await page.goto(`${env.server.url}/captures/${session.id}`)
     const rows = page.locator('[data-test=log-row]')
-    await expect.poll(() => rows.count()).toBe(1)
+    await expect.poll(() => rows.count()).toBe(3)
+    // Flags in words (never colour alone), once measured.
+    const row = (name: string) => page.locator('[data-test=log-row]', { hasText: name })
+    const flags = async (name: string) => ((await row(name).locator('[data-test=take-flags]').count()) ? ((await row(name).locator('[data-test=take-flags]').textContent()) ?? '') : '').replace(/\s+/g, ' ').replace(/ :/g, ':')
+    await expect.poll(() => flags('QUIET.WAV'), { timeout: 60_000 }).toContain('Too quiet to measure: below the −70 LUFS gate')
+    await expect.poll(() => flags('LOUD.WAV'), { timeout: 60_000 }).toMatch(/Clipped: [\d.<]+ % clipped/)
+    expect(await flags('LOUD.WAV')).toMatch(/Over the ceiling: true peak [−\d.]+ dBTP, above the −1 dBTP ceiling/)
+    await expect.poll(() => row('WRONG.WAV').locator('[data-test=take-flags]').count()).toBe(0)
+    await screenshot(page, 'logsheet-flags')
+
     await page.getByRole('button', { name: 'Remove WRONG.WAV' }).click()
     await expect.poll(() => page.locator('.el-message-box').innerText()).toContain('30 days')
     await page.getByRole('button', { name: 'Remove the take' }).click()
-    await expect.poll(() => rows.count()).toBe(0)
+    await expect.poll(() => rows.count()).toBe(2)
     await expect.poll(() => page.locator('[data-test=removed-notice]').innerText()).toContain('Removed “WRONG.WAV”')
     await page.locator('[data-test=removed-takes] summary').click()
     await expect.poll(() => page.locator('[data-test=removed-takes]').innerText()).toContain('WRONG.WAV')
     await page.locator('[data-test=undo-remove]').click()
-    await expect.poll(() => rows.count()).toBe(1)
+    await expect.poll(() => rows.count()).toBe(3)
     await expect.poll(() => page.locator('[data-test=removed-takes]').count()).toBe(0)
     await page.close()
-  })
+  }, 120_000)
 })
