@@ -112,6 +112,7 @@ async function child(work: string, levelsFile: string): Promise<void> {
   const { requestBuild } = await import('../server/packs/builds.service')
   const { runBuild } = await import('../server/packs/build.job')
   const { probeWav } = await import('../server/audio/wav-reader')
+  const { createHeavyWork } = await import('../server/core/heavy-work')
   type Ctx = import('../server/core/context').AppContext
 
   const levels = JSON.parse(readFileSync(levelsFile, 'utf8')) as Levels[]
@@ -120,7 +121,7 @@ async function child(work: string, levelsFile: string): Promise<void> {
   await migrateToLatest(db)
   const storage = new Storage(config.storageDir)
   const mailer = { send: async () => undefined, describe: () => 'none', close: async () => undefined }
-  const ctx: Ctx = { config, db, mailer, storage, jobs: new JobRunner(db, {}) }
+  const ctx: Ctx = { config, db, mailer, storage, jobs: new JobRunner(db, {}), heavy: createHeavyWork() }
   await seedDemo(ctx)
   const designer = await db.selectFrom('users').select(['id', 'email', 'name', 'role']).where('role', '=', 'designer').executeTakeFirstOrThrow()
   const user = { ...designer, role: 'designer' as const }

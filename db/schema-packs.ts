@@ -112,6 +112,8 @@ export interface PackShareLinkTable {
   downloads: Generated<number>
   revoked_at: string | null
   last_download_at: string | null
+  /** How far (bytes) the last counted download got when it did not finish; null when it finished. */
+  open_download_bytes: number | null
   created_by: number | null
   created_at: Generated<string>
 }

@@ -24,6 +24,10 @@ export interface SessionTable {
   sid: string
   data: string
   expires_at: number
+  /** The signed-in user (null: none). */
+  user_id: number | null
+  /** When the session began (ms since the epoch): its absolute lifetime counts from here. */
+  created_at: Generated<number>
 }
 
 export interface SettingTable {
@@ -180,4 +184,11 @@ export interface Database extends LibraryTables, PackTables, RemovalTables {
   take_tags: TakeTagTable
   take_events: TakeEventTable
   jobs: JobTable
+  comment_mention_mails: CommentMentionMailTable
+}
+
+/** One row per comment and person a mention mail went to: it goes once, whatever the edits. */
+export interface CommentMentionMailTable {
+  comment_id: number
+  user_id: number
 }

@@ -39,36 +39,33 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   const app = express()
   const secure = ctx.config.publicUrl.startsWith('https:')
   const secret = await sessionSecret(ctx.db, ctx.config.sessionSecret)
-  const store = new SqliteSessionStore(ctx.db)
   const passport = createPassport(ctx.db)
+  const store = new SqliteSessionStore(ctx.db, ctx.config.sessionAbsoluteMs)
   const csrf = createCsrf(secret, secure)
+  // Under https the cookie is bound to this host and path (the __Host- prefix, RFC 6265bis).
+  const sessionCookie = secure ? '__Host-sf.sid' : 'sf.sid'
+  const cookieOptions = { path: '/', secure, httpOnly: true, sameSite: 'lax' as const }
 
-  if (secure) app.set('trust proxy', 1)
+  // Only from explicit configuration: which proxy's X-Forwarded-For to believe (sign-in limits use the address).
+  if (ctx.config.trustProxy !== null) app.set('trust proxy', ctx.config.trustProxy)
   app.disable('x-powered-by')
-  app.use(
-    helmet({
-      contentSecurityPolicy: {
-        directives: {
-          'img-src': ["'self'", 'data:', 'blob:'],
-          'media-src': ["'self'", 'blob:'],
-          'worker-src': ["'self'", 'blob:'],
-        },
-      },
-      crossOriginEmbedderPolicy: false,
-    }),
-  )
+  app.use(helmet(helmetOptions(secure)))
+  app.use('/api', (_req, res, next) => {
+    res.set('Cache-Control', 'no-store') // routes that may be cached (images, previews) say so themselves
+    next()
+  })
   app.use(bodyDeadline(ctx.config.requestBodyTimeoutMs))
   app.use(cookieParser())
   app.use(express.json({ limit: '1mb' }))
   app.use(
     session({
-      name: 'sf.sid',
+      name: sessionCookie,
       secret,
       store,
       resave: false,
       saveUninitialized: false,
       rolling: true,
-      cookie: { httpOnly: true, sameSite: 'lax', secure, maxAge: 14 * 24 * 60 * 60 * 1000 },
+      cookie: { ...cookieOptions, maxAge: 14 * 24 * 60 * 60 * 1000 },
     }),
   )
   app.use(passport.initialize())
@@ -77,7 +74,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
 
   const api = createApi(app)
   registerHealthRoutes(api, ctx)
-  registerAuthRoutes(api, ctx, { passport, store, csrfToken: csrf.generateCsrfToken })
+  registerAuthRoutes(api, ctx, { passport, store, csrfToken: csrf.generateCsrfToken, preSignIn: csrf.preSignIn, sessionCookie, cookieOptions })
   registerTeamRoutes(api, ctx, { store, passport })
   registerOutboxRoutes(api, ctx)
   registerCaptureRoutes(api, ctx)
@@ -103,6 +100,35 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
     async close() {
       store.close()
     },
+  }
+}
+
+/**
+ * Security headers (helmet). Styles and fonts from this origin only: the built client has its CSS
+ * in files, and Vue and Element Plus set inline styles through the CSSOM, which CSP allows; style
+ * attributes in markup stay blocked. One narrow exception, checked in Chromium
+ * (tests/browser/csp.test.ts): `<style>` elements (style-src-elem), because wavesurfer.js draws the
+ * waveform in a shadow root with a `<style>` whose height is computed at run time (no fixed hash;
+ * its cspNonce option would need a nonce per served page). HSTS
+ * and upgrade-insecure-requests only when the app is served over https (over plain http they
+ * would send browsers to an https that does not exist).
+ */
+export function helmetOptions(secure: boolean): Parameters<typeof helmet>[0] {
+  return {
+    contentSecurityPolicy: {
+      useDefaults: true,
+      directives: {
+        'style-src': ["'self'"],
+        'style-src-elem': ["'self'", "'unsafe-inline'"],
+        'font-src': ["'self'"],
+        'img-src': ["'self'", 'data:', 'blob:'],
+        'media-src': ["'self'", 'blob:'],
+        'worker-src': ["'self'", 'blob:'],
+        'upgrade-insecure-requests': secure ? [] : null,
+      },
+    },
+    strictTransportSecurity: secure ? { maxAge: 365 * 24 * 60 * 60, includeSubDomains: true } : false,
+    crossOriginEmbedderPolicy: false,
   }
 }
 

@@ -1,6 +1,6 @@
 import http from 'node:http'
 import type { AddressInfo } from 'node:net'
-import { loadConfig, type Config } from './core/config'
+import { checkDemoIsLocal, loadConfig, type Config } from './core/config'
 import { migrateToLatest, openDatabase } from './core/database'
 import { createMailer } from './mail/mailer'
 import { createApp } from './app'
@@ -13,6 +13,7 @@ import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
 import { buildPackJob } from './packs/build.job'
 import { startRemovalSweep } from './takes/takes.removal'
+import { createHeavyWork } from './core/heavy-work'
 
 export interface RunningServer {
   url: string
@@ -25,6 +26,7 @@ export interface RunningServer {
 /** Opens the database, migrates, seeds the demo when asked, starts mail and HTTP. */
 export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = process.env): Promise<RunningServer> {
   const config = loadConfig(env, overrides)
+  checkDemoIsLocal(config) // before anything is opened or seeded
   // Before anything touches the data: the partial-upload sweep and the re-queuing of jobs below
   // are safe only when no other server uses the same database and storage.
   const lock = lockData(config.dbFile, config.storageDir)
@@ -43,7 +45,8 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   const storage = new Storage(config.storageDir)
   storage.sweepIncoming()
   const pool = createAnalysisPool(config.analysisWorkers || undefined)
-  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner }
+  const heavy = createHeavyWork({ threads: config.heavyThreads || undefined, perUser: config.heavyPerUser })
+  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner, heavy }
   ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
@@ -75,6 +78,7 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
         await ctx.jobs.stop()
         await stopRemovalSweep()
         await pool.close()
+        await heavy.close()
         await built.close()
         await mailer.close()
         await db.destroy()

@@ -1,5 +1,5 @@
-import type { RequestHandler } from 'express'
-import { rateLimit } from 'express-rate-limit'
+import type { Request, RequestHandler, Response } from 'express'
+import { ipKeyGenerator, rateLimit } from 'express-rate-limit'
 import type { PassportStatic } from 'passport'
 import { LoginBody, PasswordResetBody, PasswordResetRequest } from '@shared/schemas/auth'
 import { TokenParams } from '@shared/schemas/common'
@@ -10,54 +10,63 @@ import { body, params } from '../core/validate'
 import { nowIso } from '../core/time'
 import { updateUser } from '../team/users.repository'
 import { completePasswordReset, requestPasswordReset } from './auth.service'
+import { LoginThrottle } from './login-throttle'
 import type { SqliteSessionStore } from './session-store'
 
 interface AuthDeps {
   passport: PassportStatic
   store: SqliteSessionStore
   csrfToken: (req: Parameters<RequestHandler>[0], res: Parameters<RequestHandler>[1]) => string
+  /** Gives an anonymous visitor the cookie its CSRF token is bound to (no session row). */
+  preSignIn: (req: Request, res: Response) => void
+  sessionCookie: string
+  cookieOptions: { path: string; secure: boolean; httpOnly: boolean; sameSite: 'lax' }
 }
 
+const HOUR = 60 * 60 * 1000
+
 export function registerAuthRoutes(api: Api, ctx: AppContext, deps: AuthDeps): void {
-  const tooMany = () => {
-    throw new AppError(429, 'TOO_MANY_ATTEMPTS', 'Too many failed sign-ins: wait a few minutes and try again')
-  }
-  // Only failed attempts count (skipSuccessfulRequests), per address and per account.
-  const common = {
-    windowMs: ctx.config.loginWindowMs,
-    limit: ctx.config.loginFailuresAllowed,
-    skipSuccessfulRequests: true,
-    standardHeaders: 'draft-8' as const,
-    legacyHeaders: false,
-    handler: tooMany,
-  }
-  const perAddress = rateLimit({ ...common, identifier: 'address' })
-  const perAccount = rateLimit({
-    ...common,
-    identifier: 'account',
-    keyGenerator: (req) => `account:${String(req.body?.email ?? '').trim().toLowerCase()}`,
-  })
+  const c = ctx.config
+  const perAccount = new LoginThrottle({ free: c.loginFailuresAllowed, baseMs: c.loginDelayBaseMs, maxMs: c.loginDelayMaxMs, forgetMs: c.loginWindowMs })
+  const perAddress = new LoginThrottle({ free: c.loginFailuresAllowed * 3, baseMs: c.loginDelayBaseMs, maxMs: 15 * 60 * 1000, forgetMs: c.loginWindowMs })
+
+  const authenticate = (req: Request, res: Response) =>
+    new Promise<Express.User | false>((resolve, reject) => {
+      deps.passport.authenticate('local', (err: unknown, user: Express.User | false) => (err ? reject(err) : resolve(user)))(req, res, reject)
+    })
 
   api.route('get', '/auth/csrf', 'public', (req, res) => {
-    // Persist the session so the token stays tied to a stable session id.
-    req.session.csrfReady = true
+    if (!req.user) deps.preSignIn(req, res)
     res.json({ token: deps.csrfToken(req, res) })
   })
 
-  api.route('post', '/auth/login', 'public', perAddress, perAccount, (req, res, next) => {
+  api.route('post', '/auth/login', 'public', async (req, res, next) => {
     const creds = body(req, LoginBody)
     req.body = creds
-    deps.passport.authenticate('local', (err: unknown, user: Express.User | false) => {
-      if (err) return next(err)
-      if (!user) return next(new AppError(401, 'INVALID_CREDENTIALS', 'That e-mail and password do not match an active account'))
-      // passport regenerates the session id on login.
-      req.login(user, (loginErr) => {
-        if (loginErr) return next(loginErr)
-        updateUser(ctx.db, user.id, { last_login_at: nowIso() })
-          .then(() => res.json({ user }))
-          .catch(next)
-      })
-    })(req, res, next)
+    const address = req.ip ?? 'unknown'
+    const user = await perAccount.serial(creds.email, async () => {
+      const wait = Math.max(perAccount.waitMs(creds.email), perAddress.waitMs(address))
+      if (wait > 0) {
+        const seconds = Math.ceil(wait / 1000)
+        res.set('Retry-After', String(seconds))
+        throw new AppError(429, 'TOO_MANY_ATTEMPTS', `Too many failed sign-ins: wait ${seconds} s and try again`, { retryAfterSeconds: seconds })
+      }
+      const found = await authenticate(req, res)
+      if (!found) {
+        perAccount.fail(creds.email)
+        perAddress.fail(address)
+        throw new AppError(401, 'INVALID_CREDENTIALS', 'That e-mail and password do not match an active account')
+      }
+      perAccount.succeed(creds.email)
+      return found
+    })
+    // passport regenerates the session id on login.
+    req.login(user, (loginErr) => {
+      if (loginErr) return next(loginErr)
+      updateUser(ctx.db, user.id, { last_login_at: nowIso() })
+        .then(() => res.json({ user }))
+        .catch(next)
+    })
   })
 
   api.route('post', '/auth/logout', 'public', (req, res, next) => {
@@ -65,7 +74,7 @@ export function registerAuthRoutes(api: Api, ctx: AppContext, deps: AuthDeps): v
       if (err) return next(err)
       req.session.destroy((destroyErr) => {
         if (destroyErr) return next(destroyErr)
-        res.clearCookie('sf.sid')
+        res.clearCookie(deps.sessionCookie, deps.cookieOptions)
         res.json({ ok: true })
       })
     })
@@ -75,10 +84,26 @@ export function registerAuthRoutes(api: Api, ctx: AppContext, deps: AuthDeps): v
     res.json({ user: req.user })
   })
 
-  api.route('post', '/auth/password-reset', 'public', async (req, res) => {
+  // Per client address and per target address, every request counts (a reset mail is sent or not).
+  const resetLimit = (limit: number, key: (req: Request) => string) =>
+    rateLimit({
+      windowMs: HOUR,
+      limit,
+      keyGenerator: key,
+      standardHeaders: 'draft-8',
+      legacyHeaders: false,
+      handler: () => {
+        throw new AppError(429, 'TOO_MANY_RESETS', 'Too many password-reset requests: wait an hour and try again')
+      },
+    })
+  const resetPerAddress = resetLimit(c.passwordResetsPerAddress, (req) => `address:${ipKeyGenerator(req.ip ?? '')}`)
+  const resetPerEmail = resetLimit(c.passwordResetsPerEmail, (req) => `email:${String(req.body?.email ?? '').trim().toLowerCase()}`)
+
+  /** 202 at once, whoever the address belongs to; the lookup and the mail happen afterwards. */
+  api.route('post', '/auth/password-reset', 'public', resetPerAddress, resetPerEmail, (req, res) => {
     const { email } = body(req, PasswordResetRequest)
-    await requestPasswordReset(ctx, email)
     res.status(202).json({ ok: true, message: 'If that address belongs to an account, a reset link is on its way' })
+    requestPasswordReset(ctx, email).catch((err) => console.error(`[auth] password reset mail failed: ${(err as Error).message}`))
   })
 
   api.route('post', '/auth/password-reset/:token', 'public', async (req, res) => {

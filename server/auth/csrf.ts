@@ -1,19 +1,23 @@
+import { randomBytes } from 'node:crypto'
 import { doubleCsrf } from 'csrf-csrf'
-import type { RequestHandler } from 'express'
+import type { Request, RequestHandler, Response } from 'express'
 import { AppError } from '../core/errors'
 
 /**
- * Double-submit CSRF tokens (csrf-csrf), tied to the session id. The client
- * fetches a token from GET /api/auth/csrf and sends it as `x-csrf-token` on every
- * state-changing request; it fetches a new one after signing in or out, because
- * the session id changes then.
+ * Double-submit CSRF tokens (csrf-csrf). A signed-in member's token is tied to the session id;
+ * an anonymous visitor's to a random identifier in a cookie of its own (stateless: no session
+ * row is stored for someone who never signs in). The client fetches a token from
+ * GET /api/auth/csrf and sends it as `x-csrf-token` on every state-changing request; it fetches
+ * a new one after signing in or out, because the identifier changes then.
  */
 export function createCsrf(secret: string, secure: boolean) {
+  const preCookie = secure ? '__Host-sf.pre' : 'sf.pre'
+  const cookieOptions = { sameSite: 'lax' as const, secure, httpOnly: true, path: '/' }
   const { generateCsrfToken, doubleCsrfProtection } = doubleCsrf({
     getSecret: () => secret,
-    getSessionIdentifier: (req) => req.sessionID,
+    getSessionIdentifier: (req) => (req.user ? `session:${req.sessionID}` : `pre:${(req.cookies?.[preCookie] as string | undefined) ?? ''}`),
     cookieName: secure ? '__Host-sf.csrf' : 'sf.csrf',
-    cookieOptions: { sameSite: 'lax', secure, httpOnly: true, path: '/' },
+    cookieOptions,
     getCsrfTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
   })
   const protect: RequestHandler = (req, res, next) => {
@@ -22,5 +26,12 @@ export function createCsrf(secret: string, secure: boolean) {
       next()
     })
   }
-  return { generateCsrfToken, protect }
+  /** The anonymous identifier: kept when the visitor has one, else a fresh one (cookie for the browser session). */
+  const preSignIn = (req: Request, res: Response) => {
+    if (typeof req.cookies?.[preCookie] === 'string' && req.cookies[preCookie].length >= 16) return
+    const id = randomBytes(18).toString('base64url')
+    req.cookies = { ...(req.cookies ?? {}), [preCookie]: id }
+    res.cookie(preCookie, id, cookieOptions)
+  }
+  return { generateCsrfToken, protect, preSignIn }
 }

@@ -5,14 +5,14 @@ import { parseArgs } from 'node:util'
 import readline from 'node:readline'
 import { z } from 'zod'
 import { Role } from '@shared/schemas/auth'
-import { Email, Password } from '@shared/schemas/common'
+import { Email, NameText, Password } from '@shared/schemas/common'
 import { loadConfig } from '../core/config'
 import { migrateToLatest, openDatabase } from '../core/database'
 import { hashPassword } from '../auth/passwords'
 import { findUserByEmail, insertUser } from '../team/users.repository'
 import { describeZod } from '../core/errors'
 
-const Args = z.object({ email: Email, name: z.string().trim().min(1, 'give --name'), role: Role })
+const Args = z.object({ email: Email, name: NameText(120, 'give --name'), role: Role })
 
 async function askPassword(): Promise<string> {
   const rl = readline.createInterface({ input: process.stdin, output: process.stderr, terminal: true })

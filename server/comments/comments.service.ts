@@ -99,6 +99,14 @@ function notifyMentions(ctx: AppContext, take: TakeJoined, comment: Comment, aut
     const t = await momentOf(ctx.db, all, comment)
     const link = `${ctx.config.publicUrl}/takes/${take.id}?t=${Number(t.toFixed(3))}`
     for (const m of to) {
+      // Once per comment and person, whatever the edits (a mention removed and added again included).
+      const first = await ctx.db
+        .insertInto('comment_mention_mails')
+        .values({ comment_id: comment.id, user_id: m.id })
+        .onConflict((oc) => oc.doNothing())
+        .returning('user_id')
+        .executeTakeFirst()
+      if (!first) continue
       try {
         await ctx.mailer.send(mentionMail(m.email, { author: author.name, takeTitle: take.title || take.filename, time: formatTakeTime(t), link, body: comment.body }))
       } catch (err) {

@@ -3,6 +3,7 @@ import type { Db } from './database'
 import type { Storage } from './storage'
 import type { Mailer } from '../mail/mailer'
 import type { JobRunner } from '../jobs/job-runner'
+import type { HeavyWork } from './heavy-work'
 
 /** What every feature's routes and services are handed: no globals. */
 export interface AppContext {
@@ -11,4 +12,6 @@ export interface AppContext {
   mailer: Mailer
   storage: Storage
   jobs: JobRunner
+  /** CPU-heavy work for requests, on worker threads with a per-user limit. */
+  heavy: HeavyWork
 }

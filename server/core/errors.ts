@@ -26,6 +26,47 @@ export function describeZod(err: ZodError): string {
   return err.issues.map((i) => (i.path.length ? `${i.path.join('.')}: ${i.message}` : i.message)).join('; ')
 }
 
+// ---- file-system errors: fixed codes and words, never a server path ----
+
+const FILE_ERRORS: Record<string, [status: number, code: string, words: string]> = {
+  ENOENT: [404, 'FILE_MISSING', 'A file this needs is missing on the server; tell an admin'],
+  ENOTDIR: [404, 'FILE_MISSING', 'A file this needs is missing on the server; tell an admin'],
+  EISDIR: [500, 'FILE_UNREADABLE', 'A file this needs cannot be read on the server; tell an admin'],
+  EACCES: [500, 'FILE_UNREADABLE', 'A file this needs cannot be read on the server; tell an admin'],
+  EPERM: [500, 'FILE_UNREADABLE', 'A file this needs cannot be read on the server; tell an admin'],
+  ENOSPC: [507, 'STORAGE_FULL', 'The server has no room left to store this; tell an admin'],
+  EDQUOT: [507, 'STORAGE_FULL', 'The server has no room left to store this; tell an admin'],
+  EMFILE: [503, 'SERVER_BUSY', 'The server has too many files open; try again in a moment'],
+}
+
+/** Whether err is a Node system error from the file system (it may carry a path). */
+export function isFileSystemError(err: unknown): err is NodeJS.ErrnoException {
+  const e = err as NodeJS.ErrnoException
+  if (typeof e?.code !== 'string' || !/^E[A-Z]+$/.test(e.code)) return false
+  // Known codes also when revived from a worker thread (which keeps the code, not the syscall).
+  return e.code in FILE_ERRORS || 'syscall' in e || 'path' in e
+}
+
+/** The AppError a file-system error is answered with: a fixed code and sentence (log the original yourself). */
+export function fileError(err: unknown): AppError {
+  const known = FILE_ERRORS[(err as NodeJS.ErrnoException)?.code ?? '']
+  if (known) return new AppError(known[0], known[1], known[2])
+  return new AppError(500, 'FILE_ERROR', 'The server could not read or write a file; tell an admin')
+}
+
+/**
+ * Error text fit to store where members read it (a failed take's error): a file-system error
+ * becomes its fixed words; any absolute path left in other text is cut out.
+ */
+export function publicErrorText(text: string): string {
+  const code = /^(E[A-Z]+):/.exec(text)?.[1]
+  if (code) {
+    const known = FILE_ERRORS[code]
+    return known ? `${known[1]}: ${known[2]}` : 'FILE_ERROR: the server could not read or write a file; tell an admin'
+  }
+  return text.replace(/(['"]?)\/(?:[^\s'"/]+\/)+[^\s'",;:]*\1/g, '(a file on the server)')
+}
+
 export const apiNotFound: RequestHandler = (req) => {
   throw new AppError(404, 'ROUTE_NOT_FOUND', `No API route ${req.method} ${req.path}`)
 }
@@ -65,6 +106,13 @@ const respond: ErrorRequestHandler = (err, req, res, _next) => {
   }
   if (err instanceof ZodError) {
     res.status(400).json({ error: { code: 'VALIDATION_FAILED', message: describeZod(err), details: zodDetails(err) } })
+    return
+  }
+  if (isFileSystemError(err)) {
+    // The path stays in the server log.
+    console.error(`[error] ${req.method} ${req.originalUrl}: ${err.code} ${err.syscall ?? ''} ${err.path ?? ''}`)
+    const e = fileError(err)
+    res.status(e.status).json({ error: { code: e.code, message: e.message, details: {} } })
     return
   }
   // Errors thrown by body parsers and multer carry a status and a type.

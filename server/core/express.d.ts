@@ -13,7 +13,7 @@ declare global {
 
 declare module 'express-session' {
   interface SessionData {
-    csrfReady?: boolean
+    passport?: { user?: number }
   }
 }
 

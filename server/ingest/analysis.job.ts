@@ -1,5 +1,6 @@
 import type { Analysis, FileMetadata, WavFormat } from '@shared/schemas/analysis'
 import type { AppContext } from '../core/context'
+import { publicErrorText } from '../core/errors'
 import type { JobHandler } from '../jobs/job-runner'
 import type { AnalysisPool } from '../audio/pool'
 import { readPeaks } from '../audio/peaks'
@@ -91,7 +92,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
       )
     },
     async failed(job, message, err) {
-      const text = failureText(message, err)
+      const text = failureText(publicErrorText(message), err) // no server paths where members read it
       await updateTake(ctx.db, job.ref_id, { status: 'failed', error: text }).catch(() => undefined)
       await addEvent(ctx.db, job.ref_id, null, 'failed', `Could not be measured: ${text}`).catch(() => undefined)
     },

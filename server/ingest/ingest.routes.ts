@@ -1,6 +1,6 @@
 import multer from 'multer'
 import type { RequestHandler } from 'express'
-import { IdParams } from '@shared/schemas/common'
+import { cleanFileName, IdParams } from '@shared/schemas/common'
 import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import type { Api } from '../core/routes'
@@ -52,7 +52,7 @@ export function registerIngestRoutes(api: Api, ctx: AppContext) {
       sessionId: params(req, IdParams).id,
       uploader: req.user!,
       file: { path: file.path, size: file.size, sha256: file.sha256 },
-      originalName: file.originalname,
+      originalName: cleanFileName(file.originalname), // ≤ 255 characters, no control characters
     })
     res.status(201).json({ take })
   })

@@ -17,6 +17,7 @@ import { PassThrough, Transform, type TransformCallback } from 'node:stream'
 import * as zlib from 'node:zlib'
 import { ZipArchive } from 'archiver'
 import type { ManifestItem } from '@shared/schemas/packs'
+import { csvCell } from '../core/csv'
 
 /** Read size of each entry's file (smaller chunks: less memory in flight between the streams). */
 const READ_CHUNK = 256 * 1024
@@ -229,21 +230,21 @@ export const MANIFEST_COLUMNS = [
   'sha256',
 ] as const satisfies readonly (keyof ManifestItem)[]
 
-/** RFC 4180: fields with a comma, quote, CR or LF are quoted, quotes doubled; lines end in CRLF. */
-export function csvField(v: string): string {
-  return /[",\r\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v
-}
-
-function csvValue(item: ManifestItem, col: (typeof MANIFEST_COLUMNS)[number]): string {
+/**
+ * One manifest cell through the app's one CSV writer (server/core/csv.ts: RFC 4180 quoting,
+ * OWASP's CSV-injection prefix on text, numbers as numbers). A prefixed cell is also quoted
+ * (the OWASP rule), so the apostrophe is plainly part of the text.
+ */
+function manifestCell(item: ManifestItem, col: (typeof MANIFEST_COLUMNS)[number]): string {
   const v = item[col]
-  if (v === null) return ''
-  if (col === 'sources') return (v as string[]).join('; ')
-  if (col === 'tags') return (v as string[]).join(';')
-  return String(v)
+  if (v === null || v === undefined || typeof v === 'number') return csvCell(v)
+  const text = col === 'sources' ? (v as string[]).join('; ') : col === 'tags' ? (v as string[]).join(';') : String(v)
+  const cell = csvCell(text)
+  return cell.startsWith("'") ? `"${cell.replace(/"/g, '""')}"` : cell
 }
 
 export function manifestCsv(items: ManifestItem[]): string {
   const lines = [MANIFEST_COLUMNS.join(',')]
-  for (const it of items) lines.push(MANIFEST_COLUMNS.map((c) => csvField(csvValue(it, c))).join(','))
+  for (const it of items) lines.push(MANIFEST_COLUMNS.map((c) => manifestCell(it, c)).join(','))
   return lines.join('\r\n') + '\r\n'
 }

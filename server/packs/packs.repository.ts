@@ -292,14 +292,20 @@ export const revokeShareLink = (db: Db, id: number) =>
   db.updateTable('pack_share_links').set({ revoked_at: now() }).where('id', '=', id).where('revoked_at', 'is', null).execute()
 
 /** Counts one download when the link is still usable; false when it is not (checked and counted in one statement). */
-export async function countDownload(db: Db, id: number, at: string): Promise<boolean> {
+/** Counts a new download (starting at byte `from`) if the link is active and under its limit. */
+export async function countDownload(db: Db, id: number, at: string, from = 0): Promise<boolean> {
   const r = await db
     .updateTable('pack_share_links')
-    .set((eb) => ({ downloads: eb('downloads', '+', 1), last_download_at: at }))
+    .set((eb) => ({ downloads: eb('downloads', '+', 1), last_download_at: at, open_download_bytes: from }))
     .where('id', '=', id)
     .where('revoked_at', 'is', null)
     .where('expires_at', '>', at)
     .where((eb) => eb.or([eb('max_downloads', 'is', null), eb('downloads', '<', eb.ref('max_downloads'))]))
     .executeTakeFirst()
   return Number(r.numUpdatedRows) === 1
+}
+
+/** How far the last counted download got (null: it reached the end of the file). */
+export async function recordDownloadProgress(db: Db, id: number, reached: number | null): Promise<void> {
+  await db.updateTable('pack_share_links').set({ open_download_bytes: reached }).where('id', '=', id).execute()
 }

@@ -37,7 +37,8 @@ import { buildChanges, buildZip, deletePackAndBuilds, listBuilds, publishBuild, 
 import { buildToApi } from './builds.mapper'
 import { buildFileName } from './naming'
 import { renderedPreview } from './preview'
-import { createShareLink, listShareLinks, revokeShareLink, shareDownload, shareInfo, shareItemBuild } from './share.service'
+import { createShareLink, listShareLinks, revokeShareLink, shareDownload, shareHead, shareInfo, shareItemBuild } from './share.service'
+import { CONDITIONAL_HEADERS } from './share-ranges'
 import { newestPublished, publishedItemNotFound, sendBuildItem } from './published'
 import { namingPreview } from './packs.service'
 
@@ -73,9 +74,6 @@ function sendWithRanges(res: Response, next: NextFunction, file: string, size: n
   if (o.downloadName) res.download(file, o.downloadName, opts, done)
   else res.sendFile(file, opts, done)
 }
-
-/** Whether a request asks for the file from its first byte (no Range, or a range starting at 0). */
-export const startsAtZero = (range: string | undefined) => !range || /^\s*bytes\s*=\s*0\s*-/.test(range)
 
 export function registerPackRoutes(api: Api, ctx: AppContext) {
   // ---- packs ----
@@ -131,7 +129,7 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
 
   api.route('patch', '/packs/:id/items/:itemId', 'packs:manage', async (req, res) => {
     const { id, itemId } = params(req, ItemParams)
-    res.json({ item: await updateItem(ctx, id, itemId, body(req, UpdateItemBody)) })
+    res.json({ item: await updateItem(ctx, id, itemId, body(req, UpdateItemBody), `user:${req.user!.id}`) })
   })
 
   api.route('delete', '/packs/:id/items/:itemId', 'packs:manage', async (req, res) => {
@@ -149,7 +147,7 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
     const rows = await repo.itemsOf(ctx.db, id)
     const found = (await itemSpecs(ctx.db, pack, rows)).find((s) => s.row.id === itemId)
     if (!found) throw itemNotFound()
-    const file = await renderedPreview(ctx, found.spec, `SF-P${pack.id}-preview-${found.spec.position}`)
+    const file = await renderedPreview(ctx, found.spec, `SF-P${pack.id}-preview-${found.spec.position}`, `user:${req.user!.id}`)
     const size = (await stat(file)).size
     res.set('Content-Disposition', `inline; filename="${found.spec.fileName}"`)
     sendWithRanges(res, next, file, size, { contentType: 'audio/wav', cache: 'private, max-age=300' })
@@ -158,8 +156,8 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   /** A take or a range of it rendered with a pack's settings (or the defaults), as one WAV download. */
   api.route('get', '/takes/:id/export', 'packs:manage', async (req, res, next) => {
     const { id } = params(req, IdParams)
-    const spec = await exportSpec(ctx, id, query(req, QuickExportQuery))
-    const file = await renderedPreview(ctx, spec, `SF-T${id}-export`)
+    const spec = await exportSpec(ctx, id, query(req, QuickExportQuery), `user:${req.user!.id}`)
+    const file = await renderedPreview(ctx, spec, `SF-T${id}-export`, `user:${req.user!.id}`)
     const size = (await stat(file)).size
     sendWithRanges(res, next, file, size, { contentType: 'audio/wav', downloadName: spec.fileName, cache: 'private, no-cache' })
   })
@@ -243,12 +241,56 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
     res.json({ share: await shareInfo(ctx, params(req, TokenParams).token) })
   })
 
+  /**
+   * The zip through a share link. HEAD is answered from the row (nothing counted, the file not
+   * touched); GET counts a new download once the file is known to exist (see share-ranges.ts).
+   */
   api.route('get', '/share/:token/download', 'public', async (req, res, next) => {
     const { token } = params(req, TokenParams)
-    const { path, build } = await shareDownload(ctx, token, startsAtZero(req.headers.range))
-    sendWithRanges(res, next, path, build.size_bytes ?? 0, {
+    if (req.method === 'HEAD') {
+      const head = await shareHead(ctx, token)
+      res
+        .status(200)
+        .set({
+          'Content-Type': 'application/zip',
+          'Content-Length': String(head.sizeBytes),
+          'Accept-Ranges': 'bytes',
+          'Content-Disposition': `attachment; filename="${head.fileName}"`,
+          'Cache-Control': 'private, no-store',
+        })
+        .end()
+      return
+    }
+    // send must serve exactly what was planned and counted: no If-Range, no 304.
+    for (const h of CONDITIONAL_HEADERS) delete req.headers[h]
+    const dl = await shareDownload(ctx, token, req.headers.range)
+    if (!dl.range) {
+      res
+        .status(416)
+        .set('Content-Range', `bytes */${dl.sizeBytes}`)
+        .json({
+          error: {
+            code: 'RANGE_NOT_SATISFIABLE',
+            message: `Ask for one byte range of the file's ${dl.sizeBytes} bytes, as "Range: bytes=START-END", or for the whole file without a Range`,
+            details: { sizeBytes: dl.sizeBytes },
+          },
+        })
+      return
+    }
+    const { start, end } = dl.range
+    const written0 = req.socket.bytesWritten
+    let recorded = false
+    const record = (reached: number) => {
+      if (recorded) return
+      recorded = true
+      dl.served(reached).catch((err) => console.error('[share] could not record download progress', err))
+    }
+    res.on('finish', () => record(end + 1))
+    // Cut off: how far it got, as far as this server can tell (what the socket took, headers included).
+    res.on('close', () => record(Math.min(end + 1, start + Math.max(0, req.socket.bytesWritten - written0))))
+    sendWithRanges(res, next, dl.path, dl.sizeBytes, {
       contentType: 'application/zip',
-      downloadName: buildFileName(build.pack_name, build.version),
+      downloadName: buildFileName(dl.build.pack_name, dl.build.version),
       cache: 'private, no-store',
     })
   })

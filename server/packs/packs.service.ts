@@ -28,8 +28,6 @@ import type { AppContext } from '../core/context'
 import type { Db } from '../core/database'
 import { AppError } from '../core/errors'
 import type { PackItemRow } from '../../db/schema-packs'
-import { probeWav } from '../audio/wav-reader'
-import { measureRange } from '../render/level-meter'
 import { planGain, round2 } from '../render/settings'
 import { outputNames, type NamingFacts } from './naming'
 import type { ItemSpec } from './item-spec'
@@ -322,17 +320,14 @@ function checkRange(take: TakeFact, r: RangeInput, label = ''): RangeInput {
 }
 
 /** Source levels of a range: the take's own measurement for the whole take, else a measuring pass over the range. */
-async function sourceLevels(ctx: AppContext, take: TakeFact, r: RangeInput, label = '') {
+async function sourceLevels(ctx: AppContext, who: string, take: TakeFact, r: RangeInput, label = '') {
   if (r.startSeconds === null && r.endSeconds === null && take.true_peak_dbtp !== null) {
     return { source_lufs: take.integrated_lufs, source_true_peak_dbtp: take.true_peak_dbtp, source_lra_lu: take.loudness_range_lu, source_measured_from: 'take' }
   }
   const path = ctx.storage.abs(take.audio_path)
   try {
-    const info = await probeWav(path)
-    const rate = info.format.sampleRate
-    const start = Math.round((r.startSeconds ?? 0) * rate)
-    const end = r.endSeconds === null ? info.format.frames : Math.min(info.format.frames, Math.round(r.endSeconds * rate))
-    const m = await measureRange(path, info, start, end)
+    // On a worker thread: a long range takes seconds to measure.
+    const m = await ctx.heavy.measure(who, path, r.startSeconds, r.endSeconds)
     return { source_lufs: m.integratedLufs, source_true_peak_dbtp: m.truePeakDbtp, source_lra_lu: m.loudnessRangeLu, source_measured_from: 'range' }
   } catch (err) {
     if ((err as NodeJS.ErrnoException).code === 'ENOENT') {
@@ -342,6 +337,7 @@ async function sourceLevels(ctx: AppContext, take: TakeFact, r: RangeInput, labe
   }
 }
 
+/** An item's region must belong to its take (checked even when the range is given too); a missing end is filled from it. */
 async function resolveRegion(db: Db, body: AddItemBody, label: string): Promise<AddItemBody> {
   if (body.regionId === undefined) return body
   // Checked even when the range is given: an item's region must belong to its take.
@@ -363,7 +359,7 @@ export async function addItems(ctx: AppContext, user: User, packId: number, bodi
     if (!take) throw new AppError(404, 'TAKE_NOT_FOUND', `${label ? `${label}: ` : ''}no take with id ${raw.takeId}`, { takeId: raw.takeId })
     const b = await resolveRegion(ctx.db, raw, label)
     const range = checkRange(take, { startSeconds: b.startSeconds ?? null, endSeconds: b.endSeconds ?? null }, label)
-    prepared.push({ b, range, levels: await sourceLevels(ctx, take, range, label) })
+    prepared.push({ b, range, levels: await sourceLevels(ctx, `user:${user.id}`, take, range, label) })
   }
   const ids = await ctx.db.transaction().execute(async (trx) => {
     let position = await repo.nextPosition(trx, packId)
@@ -391,7 +387,7 @@ export async function addItems(ctx: AppContext, user: User, packId: number, bodi
   return ids.map((id) => all.find((i) => i.id === id)!)
 }
 
-export async function updateItem(ctx: AppContext, packId: number, itemId: number, body: UpdateItemBody): Promise<PackItem> {
+export async function updateItem(ctx: AppContext, packId: number, itemId: number, body: UpdateItemBody, who: string): Promise<PackItem> {
   const pack = await managedPack(ctx.db, packId)
   const row = await repo.findItem(ctx.db, packId, itemId)
   if (!row) throw itemNotFound()
@@ -404,7 +400,7 @@ export async function updateItem(ctx: AppContext, packId: number, itemId: number
       startSeconds: body.startSeconds !== undefined ? body.startSeconds : row.start_seconds,
       endSeconds: body.endSeconds !== undefined ? body.endSeconds : row.end_seconds,
     })
-    patch = { start_seconds: range.startSeconds, end_seconds: range.endSeconds, ...(await sourceLevels(ctx, take, range)) }
+    patch = { start_seconds: range.startSeconds, end_seconds: range.endSeconds, ...(await sourceLevels(ctx, who, take, range)) }
   }
   if (body.name !== undefined) patch.name = body.name?.trim() ? body.name.trim() : null
   if (body.kind !== undefined) patch.kind = body.kind
@@ -450,7 +446,7 @@ export async function reorderItems(ctx: AppContext, packId: number, itemIds: num
 const SETTING_KEYS = ['normalize', 'loudnessTargetLufs', 'peakTargetDbtp', 'truePeakCeilingDbtp', 'bitDepth', 'fadeInMs', 'fadeOutMs'] as const
 
 /** A take or a range of one as a one-item spec, with a pack's settings and naming (or the defaults), any setting overridden. */
-export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExportQuery): Promise<ItemSpec> {
+export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExportQuery, who: string): Promise<ItemSpec> {
   const pack: repo.PackJoined = q.packId
     ? await managedPack(ctx.db, q.packId)
     : {
@@ -485,7 +481,7 @@ export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExport
     created_by: null,
     created_at: '',
     updated_at: '',
-    ...(await sourceLevels(ctx, take, range)),
+    ...(await sourceLevels(ctx, who, take, range)),
   }
   const [{ spec }] = await itemSpecs(ctx.db, pack, [row])
   return { ...spec, itemId: null }

@@ -8,7 +8,6 @@ import { createHash } from 'node:crypto'
 import fs from 'node:fs/promises'
 import path from 'node:path'
 import type { AppContext } from '../core/context'
-import { renderItem } from '../render/render'
 import { renderRequest, type ItemSpec } from './item-spec'
 
 export const PREVIEW_KEEP = 40
@@ -31,8 +30,8 @@ async function sweep(dir: string, keep: string): Promise<void> {
   }
 }
 
-/** The rendered WAV of a spec, from the cache or rendered now. */
-export async function renderedPreview(ctx: AppContext, spec: ItemSpec, originatorReference: string): Promise<string> {
+/** The rendered WAV of a spec, from the cache or rendered now (on a worker thread, counted against `who`). */
+export async function renderedPreview(ctx: AppContext, spec: ItemSpec, originatorReference: string, who: string): Promise<string> {
   const dir = ctx.storage.abs(path.join('builds', 'previews'))
   await fs.mkdir(dir, { recursive: true })
   const key = keyOf(spec)
@@ -46,7 +45,7 @@ export async function renderedPreview(ctx: AppContext, spec: ItemSpec, originato
   let job = pending.get(key)
   if (!job) {
     job = (async () => {
-      await renderItem(renderRequest(spec, ctx.storage.abs(spec.audioPath), originatorReference, new Date()), file)
+      await ctx.heavy.render(who, renderRequest(spec, ctx.storage.abs(spec.audioPath), originatorReference, new Date()), file)
       await sweep(dir, `${key}.wav`).catch(() => undefined)
       return file
     })().finally(() => pending.delete(key))

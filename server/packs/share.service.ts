@@ -1,25 +1,29 @@
 // Share links of a finished build for people without an account.
 //
-// Download counting: a request that starts at byte 0 (no Range header, or a
-// range starting at 0) is a new download. It is counted, in one statement that
-// also checks the link is not revoked, not expired and under its limit; when
-// that fails the answer is 410. A request starting past byte 0 resumes a
-// download already under way: it is served while the link is neither revoked
-// nor expired, and not counted (unless no download was counted yet: then it
-// counts as the first). So a broken download can always be finished, and the
-// limit counts whole downloads.
+// Download counting (share-ranges.ts): a request is a new download, counted in
+// one statement that also checks the link is not revoked, not expired and under
+// its limit (else 410), unless it is a later resume of the last counted download
+// that did not finish; so a broken download can always be finished, and the
+// limit counts whole downloads. A Range the file sender would ignore answers
+// 416; HEAD is answered from the rows; nothing counts before the file is known
+// to exist.
+import { stat } from 'node:fs/promises'
 import type { User } from '@shared/schemas/auth'
 import type { CreateShareLinkBody, ShareInfo, ShareLink } from '@shared/schemas/packs'
 import type { AppContext } from '../core/context'
-import { AppError } from '../core/errors'
+import { AppError, fileError } from '../core/errors'
 import { sessionSecret } from '../core/settings'
 import { buildNotFound } from './builds.service'
 import { buildFileName } from './naming'
 import * as repo from './packs.repository'
 import { publishedItems, snapshotOf } from './published'
 import { newNonce, shareToken, verifyShareToken } from './share-tokens'
+import { isResume, planRange } from './share-ranges'
 
 const secretOf = (ctx: AppContext) => sessionSecret(ctx.db, ctx.config.sessionSecret)
+
+/** A share link expires at most this many days ahead (a year). */
+export const MAX_SHARE_DAYS = 365
 
 export const linkNotFound = () => new AppError(404, 'SHARE_LINK_NOT_FOUND', 'No share link with that id')
 const shareNotFound = () => new AppError(404, 'SHARE_NOT_FOUND', 'This share link does not exist; check that it was copied whole')
@@ -56,6 +60,9 @@ export async function createShareLink(ctx: AppContext, user: User, buildId: numb
   if (b.status !== 'done') throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; share it once it is done`)
   const expires = new Date(body.expiresAt)
   if (expires.getTime() <= Date.now()) throw new AppError(400, 'EXPIRY_IN_PAST', 'Choose an expiry in the future')
+  if (expires.getTime() > Date.now() + MAX_SHARE_DAYS * 24 * 3600 * 1000) {
+    throw new AppError(400, 'EXPIRY_TOO_FAR', `A share link can last at most ${MAX_SHARE_DAYS} days; choose an earlier expiry`, { maxDays: MAX_SHARE_DAYS })
+  }
   const { id } = await repo.insertShareLink(ctx.db, {
     build_id: buildId,
     nonce: newNonce(),
@@ -131,16 +138,55 @@ export async function shareItemBuild(ctx: AppContext, token: string): Promise<re
   return build
 }
 
-/** Checks (and for a new download, counts) a download through the link; returns the zip to send. */
-export async function shareDownload(ctx: AppContext, token: string, startsAtZero: boolean) {
+/** What a HEAD request is answered with, from the rows alone: nothing counted, no file touched. */
+export async function shareHead(ctx: AppContext, token: string): Promise<{ sizeBytes: number; fileName: string }> {
+  const { link, build } = await resolve(ctx, token)
+  const state = linkState(link)
+  if (state !== 'active') throw gone(state)
+  return { sizeBytes: build.size_bytes ?? 0, fileName: buildFileName(build.pack_name, build.version) }
+}
+
+export interface ShareDownload {
+  path: string
+  build: repo.BuildJoined
+  sizeBytes: number
+  /** null: a Range the file sender would ignore or cannot satisfy (answer 416; nothing was counted). */
+  range: { start: number; end: number } | null
+  /** Records how far this request got (bytes of the file), so only a later resume goes uncounted. */
+  served(reachedBytes: number): Promise<void>
+}
+
+/**
+ * Checks a download through the link and, unless it is a later resume of the last counted
+ * download, counts it (see share-ranges.ts); counting happens only once the file is known to exist.
+ */
+export async function shareDownload(ctx: AppContext, token: string, rangeHeader: string | undefined): Promise<ShareDownload> {
   const { link, build } = await resolve(ctx, token)
   const at = new Date().toISOString()
-  // A resume needs a download under way; a range request before any download counts as one.
-  if (startsAtZero || link.downloads === 0) {
-    if (!(await repo.countDownload(ctx.db, link.id, at))) throw gone(linkState((await repo.findShareLink(ctx.db, link.id))!, at))
-  } else {
-    const state = linkState(link, at)
-    if (state === 'revoked' || state === 'expired') throw gone(state)
+  const state = linkState(link, at)
+  if (state === 'revoked' || state === 'expired') throw gone(state)
+  const path = ctx.storage.abs(build.zip_path!)
+  const size = await fileSize(path)
+  const plan = planRange(rangeHeader, size)
+  const base = { path, build, sizeBytes: size, served: async () => undefined }
+  if (plan.kind === 'refuse') return { ...base, range: null }
+  const range = plan.kind === 'part' ? { start: plan.start, end: plan.end } : { start: 0, end: size - 1 }
+  if (!isResume(range.start, link.open_download_bytes)) {
+    if (!(await repo.countDownload(ctx.db, link.id, at, range.start))) throw gone(linkState((await repo.findShareLink(ctx.db, link.id))!, at))
   }
-  return { path: ctx.storage.abs(build.zip_path!), build }
+  return {
+    ...base,
+    range,
+    served: (reached) => repo.recordDownloadProgress(ctx.db, link.id, reached >= size ? null : reached),
+  }
+}
+
+/** The zip's size; a missing file is FILE_MISSING, its path only in the server log. */
+async function fileSize(path: string): Promise<number> {
+  try {
+    return (await stat(path)).size
+  } catch (err) {
+    console.error(`[share] build file unreadable: ${path}: ${(err as Error).message}`)
+    throw fileError(err)
+  }
 }

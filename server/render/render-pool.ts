@@ -16,6 +16,16 @@ export interface RenderTask {
   outPath: string
 }
 
+/**
+ * Any other task a worker entry serves (the API's heavy-work entry serves spectrograms and range
+ * measurements beside renders): a `type` and plain, cloneable fields; it answers `done` or `error`.
+ */
+export interface OtherTask {
+  type: string
+  id: number
+  [field: string]: unknown
+}
+
 export type RenderReply =
   | { type: 'frames'; id: number; frames: number }
   | { type: 'done'; id: number; result: RenderResult }
@@ -24,6 +34,8 @@ export type RenderReply =
 export interface RenderPool {
   readonly size: number
   render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderResult>
+  /** Runs another kind of task on the next free worker (its entry must serve that `type`). */
+  run<T>(task: Omit<OtherTask, 'id'>): Promise<T>
   close(): Promise<void>
 }
 
@@ -51,7 +63,7 @@ interface Slot {
 export function createRenderPool(size = defaultRenderWorkers(), entry: URL = renderWorkerEntry()): RenderPool {
   const slots: Slot[] = []
   const waiting: ((s: Slot) => void)[] = []
-  const tasks = new Map<number, { resolve: (r: RenderResult) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }>()
+  const tasks = new Map<number, { resolve: (r: never) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }>()
   let nextId = 1
   let closed = false
 
@@ -72,7 +84,7 @@ export function createRenderPool(size = defaultRenderWorkers(), entry: URL = ren
       if (m.type === 'frames') return t.onFrames?.(m.frames)
       tasks.delete(m.id)
       release(slot)
-      if (m.type === 'done') t.resolve(m.result)
+      if (m.type === 'done') t.resolve(m.result as never)
       else t.reject(revive(m.error))
     })
     slot.worker.on('exit', (code) => {
@@ -115,6 +127,15 @@ export function createRenderPool(size = defaultRenderWorkers(), entry: URL = ren
       } finally {
         clearInterval(watch)
       }
+    },
+    async run<T>(fields: Omit<OtherTask, 'id'>) {
+      if (closed) throw new Error('render pool closed')
+      const slot = await acquire()
+      const id = nextId++
+      return new Promise<T>((resolve, reject) => {
+        tasks.set(id, { resolve: resolve as (r: never) => void, reject, slot })
+        slot.worker.postMessage({ ...fields, id })
+      })
     },
     async close() {
       closed = true

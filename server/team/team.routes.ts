@@ -5,7 +5,7 @@ import type { AppContext } from '../core/context'
 import type { Api } from '../core/routes'
 import { body, params } from '../core/validate'
 import type { SqliteSessionStore } from '../auth/session-store'
-import { acceptInvitation, invite, listInvitations, listTeam, resendInvitation, updateMember } from './team.service'
+import { acceptInvitation, invite, listInvitations, listTeam, resendInvitation, updateMember, withdrawInvitation } from './team.service'
 
 export function registerTeamRoutes(api: Api, ctx: AppContext, deps: { store: SqliteSessionStore; passport: PassportStatic }) {
   api.route('get', '/users', 'team:manage', async (_req, res) => {
@@ -30,6 +30,11 @@ export function registerTeamRoutes(api: Api, ctx: AppContext, deps: { store: Sql
   api.route('post', '/invitations/:id/resend', 'team:manage', async (req, res) => {
     const { id } = params(req, IdParams)
     res.json({ invitation: await resendInvitation(ctx, req.user!, id) })
+  })
+
+  api.route('delete', '/invitations/:id', 'team:manage', async (req, res) => {
+    await withdrawInvitation(ctx, params(req, IdParams).id)
+    res.status(204).end()
   })
 
   api.route('post', '/invitations/:token/accept', 'public', async (req, res, next) => {

@@ -33,22 +33,20 @@ export async function updateMember(
   id: number,
   patch: UpdateUserBody,
 ): Promise<TeamMember> {
-  const row = await findUserById(ctx.db, id)
-  if (!row) throw notFound('team member', 'USER_NOT_FOUND')
-  const losesAdmin = row.role === 'admin' && ((patch.role && patch.role !== 'admin') || patch.active === false)
-  if (losesAdmin) {
-    const admins = await ctx.db
-      .selectFrom('users')
-      .select('id')
-      .where('role', '=', 'admin')
-      .where('active', '=', 1)
-      .execute()
-    if (admins.length <= 1) throw new AppError(409, 'LAST_ADMIN', 'The team needs at least one active admin')
-  }
   if (actor.id === id && patch.active === false) throw new AppError(409, 'SELF_DEACTIVATION', 'You cannot deactivate yourself')
-  const updated = await updateUser(ctx.db, id, {
-    ...(patch.role ? { role: patch.role } : {}),
-    ...(patch.active !== undefined ? { active: patch.active ? 1 : 0 } : {}),
+  // Check and change in one transaction: two admins demoting each other at once cannot leave none.
+  const updated = await ctx.db.transaction().execute(async (trx) => {
+    const row = await findUserById(trx, id)
+    if (!row) throw notFound('team member', 'USER_NOT_FOUND')
+    const losesAdmin = row.role === 'admin' && row.active === 1 && ((patch.role && patch.role !== 'admin') || patch.active === false)
+    if (losesAdmin) {
+      const admins = await trx.selectFrom('users').select('id').where('role', '=', 'admin').where('active', '=', 1).execute()
+      if (admins.length <= 1) throw new AppError(409, 'LAST_ADMIN', 'The team needs at least one active admin')
+    }
+    return updateUser(trx, id, {
+      ...(patch.role ? { role: patch.role } : {}),
+      ...(patch.active !== undefined ? { active: patch.active ? 1 : 0 } : {}),
+    })
   })
   if (patch.active === false) await store.destroyForUser(id)
   return userRowToMember(updated!)
@@ -81,6 +79,14 @@ export async function invite(ctx: AppContext, actor: User, email: string, role: 
     throw new AppError(502, 'MAIL_FAILED', `The invitation could not be sent: ${(err as Error).message}`)
   }
   return invitationRowToInvitation(row)
+}
+
+/** Withdraws an invitation not yet accepted: its link stops working at once. */
+export async function withdrawInvitation(ctx: AppContext, id: number): Promise<void> {
+  const row = await ctx.db.selectFrom('invitations').select(['id', 'accepted_at']).where('id', '=', id).executeTakeFirst()
+  if (!row) throw notFound('invitation', 'INVITATION_NOT_FOUND')
+  if (row.accepted_at) throw new AppError(409, 'INVITATION_ACCEPTED', 'This invitation was already accepted; deactivate the member instead')
+  await ctx.db.deleteFrom('invitations').where('id', '=', id).where('accepted_at', 'is', null).execute()
 }
 
 /** A new token and a fresh 72 h: the old link stops working. */

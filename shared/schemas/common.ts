@@ -27,3 +27,30 @@ export const Password = z
 export function paged<T extends z.ZodTypeAny>(item: T) {
   return z.object({ items: z.array(item), total: z.number().int(), page: z.number().int(), pageSize: z.number().int() })
 }
+
+/** Control characters (C0, DEL, C1: CR, LF, tab, escape…), which no name may hold. */
+export const CONTROL_CHARS = /\p{Cc}/u
+export const noControlChars = (s: string) => !CONTROL_CHARS.test(s)
+/** A one-line name: trimmed, 1..max characters, no control characters. */
+export const NameText = (max: number, emptyMessage: string) =>
+  z
+    .string()
+    .trim()
+    .min(1, emptyMessage)
+    .max(max, `Use at most ${max} characters`)
+    .refine(noControlChars, 'Use no line breaks, tabs or other control characters')
+
+/** Longest uploaded file name kept, in characters (the common file-system limit). */
+export const MAX_FILE_NAME = 255
+
+/**
+ * An uploaded file's name as kept: control characters become spaces, and a name longer than
+ * MAX_FILE_NAME is shortened before its extension.
+ */
+export function cleanFileName(name: string): string {
+  const clean = name.replace(/\p{Cc}+/gu, ' ').replace(/\s+/g, ' ').trim() || 'take.wav'
+  const chars = [...clean]
+  if (chars.length <= MAX_FILE_NAME) return clean
+  const ext = /\.[A-Za-z0-9]{1,8}$/.exec(clean)?.[0] ?? ''
+  return chars.slice(0, MAX_FILE_NAME - ext.length).join('').trimEnd() + ext
+}

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { NameText } from './common'
 
 /**
  * The families of devices this trade points pickups at: the one list of source
@@ -59,7 +60,7 @@ export type Source = z.infer<typeof Source>
 const text = (max: number) => z.string().trim().max(max)
 
 export const CreateSourceBody = z.object({
-  name: text(120).min(1, 'Give the device a name'),
+  name: NameText(120, 'Give the device a name'),
   kind: SourceKind,
   makeModel: text(200).nullish(),
   notes: text(4000).nullish(),

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { Email, Password } from './common'
+import { Email, NameText, Password } from './common'
 import { Role } from './auth'
 
 export const TeamMember = z.object({
@@ -31,7 +31,7 @@ export const Invitation = z.object({
 })
 export type Invitation = z.infer<typeof Invitation>
 
-export const AcceptInvitationBody = z.object({ name: z.string().trim().min(1, 'Enter your name').max(120), password: Password })
+export const AcceptInvitationBody = z.object({ name: NameText(120, 'Enter your name'), password: Password })
 export type AcceptInvitationBody = z.infer<typeof AcceptInvitationBody>
 
 export const OutboxMessage = z.object({

@@ -88,11 +88,11 @@ describe('sign-in', () => {
 })
 
 describe('rate limit', () => {
-  it('limits failed sign-ins per account and lets successful ones through', async () => {
-    const limited = await startTestServer({ loginFailuresAllowed: 4 })
+  it('delays sign-ins on an account after its free failures, and lets successful ones through', async () => {
+    const limited = await startTestServer({ loginFailuresAllowed: 4, loginDelayBaseMs: 400 })
     const c = new Client(limited.url)
     await c.refreshCsrf()
-    // Successful sign-ins do not count towards the limit (4 in this server).
+    // Successful sign-ins do not count towards the limit (4 free failures in this server).
     for (let i = 0; i < 5; i++) {
       expect((await c.post('/api/auth/login', { email: 'collaborator@example.test', password: 'strayfield-demo' })).status).toBe(200)
       await c.refreshCsrf()
@@ -106,9 +106,11 @@ describe('rate limit', () => {
     const last = await c.post('/api/auth/login', { email: 'recordist@example.test', password: 'strayfield-demo' })
     expect(last.status).toBe(429)
     expect(last.body.error.code).toBe('TOO_MANY_ATTEMPTS')
+    // A delay, not a lock: once it has passed the owner signs in.
+    await new Promise((r) => setTimeout(r, 450))
+    expect((await c.post('/api/auth/login', { email: 'recordist@example.test', password: 'strayfield-demo' })).status).toBe(200)
     await limited.stop()
   })
-
 })
 
 describe('restart', () => {

@@ -213,7 +213,10 @@ describe('durable analysis jobs', () => {
       await s2.ctx.jobs.start()
       const take = await waitForTake(c, id)
       expect(take.status).toBe('failed')
-      expect(take.error).toMatch(/no such file|ENOENT|not found/i)
+      // Fixed words, never the server's path (members read this text).
+      expect(take.error).toMatch(/^FILE_MISSING: .*missing/)
+      expect(take.error).not.toContain(s2.dir)
+      expect(take.error).not.toMatch(/ENOENT|\//)
     } finally {
       await s2.stop()
     }

@@ -13,7 +13,7 @@ let users: Awaited<ReturnType<typeof userIds>>
 let take: number
 let otherTake: number
 const as: Record<string, Client> = {}
-const PUBLIC_URL = 'http://strayfield.test'
+const PUBLIC_URL = 'http://strayfield.localhost' // demo mode runs only on a loopback name (RFC 6761: .localhost)
 
 beforeAll(async () => {
   smtp = await startTestSmtp()

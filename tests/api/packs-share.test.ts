@@ -1,6 +1,6 @@
 // Share links for people without an account: signed tokens naming their link,
-// download counting (a download is counted when a request starts at byte 0;
-// resumed ranges are not), expiry, revocation and the download limit (410).
+// download counting (every request is a new download unless it resumes the last
+// counted download where it stopped), expiry, revocation and the download limit (410).
 // Ranges follow RFC 9110 §14; the bytes are compared with the designer's own
 // download of the same build.
 import path from 'node:path'
@@ -67,7 +67,7 @@ describe('share links', () => {
     expect(got.body.equals(zip)).toBe(true)
   })
 
-  it('counts a download once per request from byte 0, never for resumed ranges, and shows the count to the designer', async () => {
+  it('counts a download once, not its resume where it stopped, and shows the count to the designer', async () => {
     const link = await createLink({ expiresAt: inADay() })
     await fetchShare(link.token, 'bytes=0-999').expect(206)
     expect((await listed(link.id)).downloads).toBe(1)
@@ -75,11 +75,13 @@ describe('share links', () => {
     expect(rest.status).toBe(206)
     expect(rest.headers['content-range']).toBe(`bytes 1000-${zip.length - 1}/${zip.length}`)
     expect(rest.body.equals(zip.subarray(1000))).toBe(true)
-    await fetchShare(link.token, 'bytes=-100').expect(206)
     expect((await listed(link.id)).downloads).toBe(1)
+    // That download is complete: the last 100 bytes again are a new download.
+    await fetchShare(link.token, 'bytes=-100').expect(206)
+    expect((await listed(link.id)).downloads).toBe(2)
     await fetchShare(link.token).expect(200)
     const after = await listed(link.id)
-    expect(after.downloads).toBe(2)
+    expect(after.downloads).toBe(3)
     expect(after.lastDownloadAt).toEqual(expect.any(String))
     expect(after.maxDownloads).toBeNull()
   })
@@ -87,7 +89,7 @@ describe('share links', () => {
   it('refuses a new download past the limit with 410, while a started download can still resume', async () => {
     const link = await createLink({ expiresAt: inADay(), maxDownloads: 2 })
     await fetchShare(link.token).expect(200)
-    await fetchShare(link.token).expect(200)
+    await fetchShare(link.token, 'bytes=0-4999').expect(206) // the second download, stopped at byte 5000
     const third = await fetchShare(link.token)
     expect(third.status).toBe(410)
     expect(JSON.parse(third.body.toString()).error.code).toBe('SHARE_USED_UP')
@@ -144,5 +146,120 @@ describe('share links', () => {
     const res = await designer.post(`/api/pack-builds/${failed.id}/share-links`, { expiresAt: inADay() })
     expect(res.status).toBe(409)
     expect(res.body.error.code).toBe('BUILD_NOT_DONE')
+  })
+})
+
+describe('a used-up link hands out nothing more, whatever the request shape', () => {
+  // Ranges as RFC 9110 §14.1.2 writes them, parsed the way Express's file sender (send + range-parser) parses them.
+  const usedUp = async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    await fetchShare(link.token).expect(200)
+    expect((await listed(link.id)).state).toBe('used-up')
+    return link
+  }
+  const errorCode = (res: { body: Buffer }) => JSON.parse(res.body.toString()).error.code
+
+  it('Range: bytes=00- is a new download from byte 0 (leading zeros): 410', async () => {
+    const link = await usedUp()
+    const res = await fetchShare(link.token, 'bytes=00-')
+    expect(res.status).toBe(410)
+    expect(errorCode(res)).toBe('SHARE_USED_UP')
+  })
+
+  it('Range: bytes=garbage is a range the sender would ignore: 416, nothing served or counted', async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    const res = await fetchShare(link.token, 'bytes=garbage')
+    expect(res.status).toBe(416)
+    expect(res.headers['content-range']).toBe(`bytes */${zip.length}`)
+    expect(errorCode(res)).toBe('RANGE_NOT_SATISFIABLE')
+    expect((await listed(link.id)).downloads).toBe(0)
+    expect((await fetchShare((await usedUp()).token, 'bytes=garbage')).status).toBe(416)
+  })
+
+  it('Range: Bytes=0- (another unit spelling, which the sender ignores) is 416, not the whole zip', async () => {
+    const link = await usedUp()
+    const res = await fetchShare(link.token, 'Bytes=0-')
+    expect(res.status).toBe(416)
+    expect(res.body.length).toBeLessThan(1000)
+  })
+
+  it('Range: bytes=1- is not a resume of anything unfinished: 410', async () => {
+    const link = await usedUp()
+    const res = await fetchShare(link.token, 'bytes=1-')
+    expect(res.status).toBe(410)
+    expect(res.body.length).toBeLessThan(1000)
+  })
+
+  it('several ranges at once (which the sender would answer with the whole file) are 416', async () => {
+    const link = await usedUp()
+    expect((await fetchShare(link.token, 'bytes=0-10,20-30')).status).toBe(416)
+  })
+
+  it('a range past the end is 416 and counts nothing', async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    expect((await fetchShare(link.token, `bytes=${zip.length + 10}-`)).status).toBe(416)
+    expect((await listed(link.id)).downloads).toBe(0)
+  })
+
+  it('a stale If-Range does not turn a range into the whole zip: the range is served and counted', async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    const res = await anon.get(`/api/share/${link.token}/download`).set('Range', 'bytes=0-99').set('If-Range', '"not-this-one"').buffer(true).parse(binary)
+    expect(res.status).toBe(206)
+    expect(res.body.equals(zip.subarray(0, 100))).toBe(true)
+    expect((await listed(link.id)).downloads).toBe(1)
+    expect((await anon.get(`/api/share/${link.token}/download`).set('If-None-Match', '*')).status).toBe(410)
+  })
+
+  it('a resume must start where the counted download stopped, not earlier', async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    await fetchShare(link.token, 'bytes=0-2999').expect(206)
+    expect((await fetchShare(link.token, 'bytes=3000-3999')).status).toBe(206)
+    expect((await fetchShare(link.token, 'bytes=4000-')).status).toBe(206)
+    // Finished: going back for more is a new download.
+    expect((await fetchShare(link.token, 'bytes=3000-')).status).toBe(410)
+    expect((await listed(link.id)).downloads).toBe(1)
+  })
+
+  it('HEAD is answered from the row and never counted', async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    for (let i = 0; i < 3; i++) {
+      const head = await anon.agent.head(`/api/share/${link.token}/download`)
+      expect(head.status).toBe(200)
+      expect(Number(head.headers['content-length'])).toBe(zip.length)
+      expect(head.headers['accept-ranges']).toBe('bytes')
+    }
+    expect((await listed(link.id)).downloads).toBe(0)
+    await fetchShare(link.token).expect(200)
+    expect((await anon.agent.head(`/api/share/${link.token}/download`)).status).toBe(410)
+  })
+
+  it('a missing zip is 404 FILE_MISSING without a server path, and is not counted', async () => {
+    const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
+    const zipPath = server.ctx.storage.abs((await server.ctx.db.selectFrom('pack_builds').select('zip_path').where('id', '=', buildId).executeTakeFirstOrThrow()).zip_path!)
+    const fs = await import('node:fs')
+    fs.renameSync(zipPath, `${zipPath}.away`)
+    try {
+      const res = await fetchShare(link.token)
+      expect(res.status).toBe(404)
+      const text = res.body.toString()
+      expect(JSON.parse(text).error.code).toBe('FILE_MISSING')
+      expect(text).not.toContain(server.dir)
+      expect(text).not.toMatch(/ENOENT|\/tmp\//)
+      expect((await listed(link.id)).downloads).toBe(0)
+      // The team's own download of the build: the same fixed words (the file sender's error carried the path).
+      const own = await designer.get(`/api/pack-builds/${buildId}/download`)
+      expect(own.status).toBe(404)
+      expect(own.body.error.code).toBe('FILE_MISSING')
+      expect(JSON.stringify(own.body)).not.toContain(server.dir)
+    } finally {
+      fs.renameSync(`${zipPath}.away`, zipPath)
+    }
+  })
+
+  it('refuses an expiry more than a year ahead (400 EXPIRY_TOO_FAR)', async () => {
+    const far = new Date(Date.now() + 400 * 24 * 3600 * 1000).toISOString()
+    const res = await designer.post(`/api/pack-builds/${buildId}/share-links`, { expiresAt: far })
+    expect(res.status).toBe(400)
+    expect(res.body.error.code).toBe('EXPIRY_TOO_FAR')
   })
 })

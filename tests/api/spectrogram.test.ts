@@ -76,35 +76,56 @@ afterAll(async () => {
 })
 
 describe('GET /api/takes/:id/spectrogram.png (whole take)', () => {
-  it('answers a PNG of the requested size with the tone at its row, and caches it under the take', async () => {
-    const res = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=640&height=128`).expect(200)
+  it('answers a PNG at the nearest menu size with the tone at its row, and caches it under the take', async () => {
+    const res = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=600&height=128`).expect(200)
     expect(res.headers['content-type']).toMatch(/^image\/png/)
     expect(res.headers['cache-control']).toMatch(/private/)
     const img = PNG.sync.read(res.body)
-    expect([img.width, img.height]).toEqual([640, 128])
-    expect(Math.abs(brightestRow(img, 320) - logRow(TONE_HZ, 128, RATE / 2))).toBeLessThanOrEqual(1)
-    const cached = path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-640x128.png')
+    expect([img.width, img.height]).toEqual([512, 128])
+    expect(Math.abs(brightestRow(img, 256) - logRow(TONE_HZ, 128, RATE / 2))).toBeLessThanOrEqual(1)
+    const cached = path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-512x128.png')
     expect(fs.readFileSync(cached).equals(res.body)).toBe(true)
+    // The whole take on the default axis: 0 s to the take's end, 20 Hz to Nyquist, −110 dBFS floor.
+    expect(res.headers['x-spectrogram-start']).toBe('0')
+    expect(Number(res.headers['x-spectrogram-end'])).toBeCloseTo(SECONDS, 3)
+    expect(res.headers['x-spectrogram-min-hz']).toBe('20')
+    expect(res.headers['x-spectrogram-max-hz']).toBe(String(RATE / 2))
+    expect(res.headers['x-spectrogram-floor-db']).toBe('-110')
   })
 
   it('serves the second request from the cached file', async () => {
-    const cached = path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-700x100.png')
-    const first = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=700&height=100`).expect(200)
+    const cached = path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-1024x64.png')
+    const first = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=1000&height=70`).expect(200)
     expect(fs.existsSync(cached)).toBe(true)
     // Replace the cached image with a different one: the route must answer with it.
-    const marker = new PNG({ width: 700, height: 100 })
+    const marker = new PNG({ width: 1024, height: 64 })
     marker.data.fill(255)
     fs.writeFileSync(cached, PNG.sync.write(marker))
-    const second = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=700&height=100`).expect(200)
+    const second = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=1000&height=70`).expect(200)
     expect(second.body.equals(first.body)).toBe(false)
     expect(second.body.equals(fs.readFileSync(cached))).toBe(true)
   })
 
-  it('uses 1600×256 by default and clamps sizes to 64..4000 × 32..1024', async () => {
+  it('uses 1600×256 by default and snaps any size onto the menu (widths 256–3200, heights 64–512) instead of refusing it', async () => {
     const byDefault = PNG.sync.read((await png(producer, `/api/takes/${takeId}/spectrogram.png`).expect(200)).body)
     expect([byDefault.width, byDefault.height]).toEqual([1600, 256])
-    const clamped = PNG.sync.read((await png(producer, `/api/takes/${takeId}/spectrogram.png?width=10&height=5000`).expect(200)).body)
-    expect([clamped.width, clamped.height]).toEqual([64, 1024])
+    const tiny = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=10&height=5000`).expect(200)
+    expect([PNG.sync.read(tiny.body).width, PNG.sync.read(tiny.body).height]).toEqual([256, 512])
+    expect([tiny.headers['x-spectrogram-width'], tiny.headers['x-spectrogram-height']]).toEqual(['256', '512'])
+    const near = PNG.sync.read((await png(producer, `/api/takes/${takeId}/spectrogram.png?width=1590.7&height=250`).expect(200)).body)
+    expect([near.width, near.height]).toEqual([1600, 256])
+  })
+
+  it('snaps the floor to whole dB and the band to whole Hz, and says so in its headers', async () => {
+    const res = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=256&height=64&floorDb=-90.6&minHz=30.4&maxHz=7000.7&scale=linear`).expect(200)
+    expect(res.headers['x-spectrogram-floor-db']).toBe('-91')
+    expect(res.headers['x-spectrogram-min-hz']).toBe('30')
+    expect(res.headers['x-spectrogram-max-hz']).toBe('7001')
+    expect(res.headers['x-spectrogram-scale']).toBe('linear')
+    // A nearby request lands on the same variant: the same cached file, byte for byte.
+    const again = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=260&height=60&floorDb=-91.4&minHz=29.6&maxHz=7001.2&scale=linear`).expect(200)
+    expect(again.body.equals(res.body)).toBe(true)
+    expect(fs.existsSync(path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-256x64-linear-30-7001-f-91.png'))).toBe(true)
   })
 
   it('refuses a size that is not a number', async () => {
@@ -129,12 +150,23 @@ describe('GET /api/takes/:id/spectrogram.png (whole take)', () => {
 })
 
 describe('GET /api/takes/:id/spectrogram.png?start&end (excerpt)', () => {
-  it('draws a detailed excerpt at the requested size', async () => {
+  it('draws a detailed excerpt at the nearest menu size', async () => {
     const res = await png(producer, `/api/takes/${takeId}/spectrogram.png?start=12.5&end=14.5&width=1200&height=320`).expect(200)
     expect(res.headers['content-type']).toMatch(/^image\/png/)
     const img = PNG.sync.read(res.body)
-    expect([img.width, img.height]).toEqual([1200, 320])
-    expect(Math.abs(brightestRow(img, 600) - logRow(TONE_HZ, 320, RATE / 2))).toBeLessThanOrEqual(1)
+    expect([img.width, img.height]).toEqual([1024, 256])
+    expect(Math.abs(brightestRow(img, 512) - logRow(TONE_HZ, 256, RATE / 2))).toBeLessThanOrEqual(1)
+  })
+
+  it('snaps start down and end up to 10 ms, answers the rendered span in headers, and caches the excerpt', async () => {
+    const url = `/api/takes/${takeId}/spectrogram.png?start=12.345&end=14.001&width=512&height=64`
+    const res = await png(producer, url).expect(200)
+    expect(res.headers['x-spectrogram-start']).toBe('12.34')
+    expect(res.headers['x-spectrogram-end']).toBe('14.01')
+    const cached = path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-512x64-log-20-8000-f-110-t1234-1401.png')
+    expect(fs.readFileSync(cached).equals(res.body)).toBe(true)
+    const same = await png(producer, `/api/takes/${takeId}/spectrogram.png?start=12.341&end=14.009&width=512&height=64`).expect(200)
+    expect(same.body.equals(res.body)).toBe(true)
   })
 
   it('refuses an excerpt longer than 30 s with 400 EXCERPT_TOO_LONG', async () => {
