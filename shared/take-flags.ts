@@ -3,8 +3,8 @@
 // summary after a batch upload. One pure function, so every list says the same.
 //
 // The analysis is read defensively: the measurement schema grows additively
-// (a clipping summary, a high-accuracy true peak), and older takes lack those
-// fields. Unknown shapes give no flag rather than a wrong one.
+// (the longest clipped run, a high-accuracy true peak), and older takes lack
+// those fields. Unknown shapes give no flag rather than a wrong one.
 
 /** The delivery ceiling a true peak must stay under (EBU R 128 practice: −1 dBTP). */
 export const CEILING_DBTP = -1
@@ -51,9 +51,9 @@ interface Clipping {
 }
 
 /**
- * Clipping from whichever shape the analysis has: a summary object
- * (`analysis.clipping` with a share or a sample count and a longest run), or
- * the per-channel counts of samples in full-scale runs (`levels.channels[].clippedSamples`).
+ * Clipping from the per-channel counts of samples in flat full-scale runs
+ * (`levels.channels[].clippedSamples`) and the longest such run
+ * (`longestClipSamples`, absent from analyses stored before it was measured).
  */
 function clippingOf(analysis: Rec, format: FlaggableTake['format']): Clipping | null {
   const frames = num(format?.frames)
@@ -62,33 +62,12 @@ function clippingOf(analysis: Rec, format: FlaggableTake['format']): Clipping | 
   const total = frames && channels ? frames * channels : null
   const levels = isRec(analysis.levels) ? analysis.levels : {}
   const perChannel = Array.isArray(levels.channels) ? levels.channels.filter(isRec) : []
-
-  let longest: number | null = null
-  const toSeconds = (r: Rec) => {
-    const s = num(r.longestRunSeconds)
-    if (s !== null) return s
-    const f = num(r.longestRunFrames) ?? num(r.longestRunSamples) ?? num(r.longestClippedRun)
-    return f !== null && rate ? f / rate : null
-  }
-
-  let share: number | null = null
-  const summary = isRec(analysis.clipping) ? analysis.clipping : null
-  if (summary) {
-    share = num(summary.share) ?? num(summary.fraction)
-    const count = num(summary.clippedSamples) ?? num(summary.samples)
-    if (share === null && count !== null && total) share = count / total
-    longest = toSeconds(summary)
-  }
-  if (share === null && perChannel.length && total) {
-    const count = perChannel.reduce((a, c) => a + (num(c.clippedSamples) ?? 0), 0)
-    share = count / total
-  }
-  for (const c of perChannel) {
-    const s = toSeconds(c)
-    if (s !== null && (longest === null || s > longest)) longest = s
-  }
-  if (share === null || share <= 0) return null
-  return { share, longestSeconds: longest }
+  if (!total || !perChannel.length) return null
+  const count = perChannel.reduce((a, c) => a + (num(c.clippedSamples) ?? 0), 0)
+  if (count <= 0) return null
+  const runs = perChannel.map((c) => num(c.longestClipSamples)).filter((r): r is number => r !== null)
+  const longestSeconds = runs.length && rate ? Math.max(...runs) / rate : null
+  return { share: count / total, longestSeconds }
 }
 
 /** The highest true peak the analysis holds: the plain figure or any more accurate one beside it. */

@@ -26,6 +26,8 @@ export interface ChannelTotals {
   sumSquares: number
   frames: number
   clipped: number
+  /** The longest flat run at full scale, in samples (0 when nothing clipped). */
+  longestClip: number
   overFullScale: number
 }
 
@@ -40,6 +42,7 @@ export class LevelsMeter {
   private readonly sum: Float64Array
   private readonly sumSquares: Float64Array
   private readonly clipped: Float64Array
+  private readonly longestClip: Float64Array
   private readonly over: Float64Array
   private readonly float: boolean
   private readonly limit: number
@@ -54,6 +57,7 @@ export class LevelsMeter {
     this.sum = new Float64Array(opts.channels)
     this.sumSquares = new Float64Array(opts.channels)
     this.clipped = new Float64Array(opts.channels)
+    this.longestClip = new Float64Array(opts.channels)
     this.over = new Float64Array(opts.channels)
     this.float = opts.encoding === 'float'
     this.run = new Float64Array(opts.channels)
@@ -95,6 +99,7 @@ export class LevelsMeter {
           run += sign
           // The second sample of a run also counts its first.
           clipped += run * sign === 2 ? 2 : 1
+          if (run * sign > this.longestClip[ch]) this.longestClip[ch] = run * sign
         } else run = sign
       } else run = 0
     }
@@ -109,6 +114,7 @@ export class LevelsMeter {
       sumSquares: this.sumSquares[channel],
       frames: this.frames,
       clipped: this.clipped[channel],
+      longestClip: this.longestClip[channel],
       overFullScale: this.over[channel],
     }
   }

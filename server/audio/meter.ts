@@ -160,6 +160,7 @@ export class Meter {
         dcOffset: frames > 0 && Number.isFinite(t.sum) ? t.sum / frames : 0,
         crestFactorDb: peakDb !== null && rmsDb !== null ? peakDb - rmsDb : null,
         clippedSamples: t.clipped,
+        longestClipSamples: t.longestClip,
         preciseTruePeakDbtp: amplitudeDb(precise),
         overFullScaleSamples: t.overFullScale,
         invalidSamples: this.invalid[ch],

@@ -35,6 +35,8 @@ export const ChannelLevels = z.object({
    */
   clippedSamples: z.number().int(),
   // Added in measurement round two; absent from analyses stored before it.
+  /** The longest of those flat runs, in samples. */
+  longestClipSamples: z.number().int().optional(),
   /** High-accuracy true peak (64-tap windowed sinc), the figure ceilings are held to. */
   preciseTruePeakDbtp: Db.optional(),
   /** Float files only: samples beyond full scale (|x| > 1), which a float file can hold unclipped. */

@@ -38,6 +38,8 @@ describe('clipped samples', () => {
     const x = Float32Array.from([0, top, 0.5, top, top, top, 0, -1, -1, 0.2, top, -1, top, -1, 0, 0, top, top])
     const r = measure([x], { sampleRate: 48000, channelMask: 0, encoding: 'pcm', validBitsPerSample: 16 }, 17)
     expect(r.levels.channels[0].clippedSamples).toBe(3 + 2 + 2)
+    // The run of 3 at the top is the longest (what the "longest 12 ms" of a Clipped flag reads).
+    expect(r.levels.channels[0].longestClipSamples).toBe(3)
   })
 
   it('in float files, clipped means flat runs at exactly ±1.0; beyond ±1.0 is "over full scale", not clipped (rule in levels.ts)', () => {

@@ -13,7 +13,7 @@ const channel = (clippedSamples = 0, extra: Record<string, number> = {}) => ({
   clippedSamples,
   ...extra,
 })
-function take(opts: { clipped?: number[]; truePeak?: number | null; lufs?: number | null; extraLevels?: object; clipping?: object; status?: string; chExtra?: Record<string, number> } = {}): FlaggableTake {
+function take(opts: { clipped?: number[]; truePeak?: number | null; lufs?: number | null; extraLevels?: object; status?: string; chExtra?: Record<string, number> } = {}): FlaggableTake {
   return {
     status: opts.status ?? 'ready',
     format,
@@ -27,7 +27,6 @@ function take(opts: { clipped?: number[]; truePeak?: number | null; lufs?: numbe
       },
       loudness: { integratedLufs: opts.lufs === undefined ? -23 : opts.lufs, loudnessRangeLu: 3, maxMomentaryLufs: -20, maxShortTermLufs: -21 },
       noiseFloorDbfs: -60,
-      ...(opts.clipping ? { clipping: opts.clipping } : {}),
     },
   }
 }
@@ -44,14 +43,10 @@ describe('takeFlags', () => {
     expect(flags).toEqual([{ kind: 'clipped', label: 'Clipped', detail: '0.4 % clipped' }])
   })
 
-  it('adds the longest run when the analysis knows it, in frames or seconds', () => {
-    // 576 frames at 48 kHz = 12 ms
-    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestRunFrames: 576 } }))[0].detail).toBe('0.4 % clipped, longest 12 ms')
-    expect(takeFlags(take({ clipping: { share: 0.004, longestRunSeconds: 1.25 } }))[0].detail).toBe('0.4 % clipped, longest 1.3 s')
-  })
-
-  it('prefers a clipping summary when the analysis has one', () => {
-    expect(takeFlags(take({ clipped: [0, 0], clipping: { clippedSamples: 9600 } }))[0].detail).toBe('1.0 % clipped')
+  it('adds the longest run of any channel when the analysis knows it', () => {
+    // 576 samples at 48 kHz = 12 ms; 60,000 = 1.25 s
+    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestClipSamples: 576 } }))[0].detail).toBe('0.4 % clipped, longest 12 ms')
+    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestClipSamples: 60_000 } }))[0].detail).toBe('0.4 % clipped, longest 1.3 s')
   })
 
   it('flags a true peak above −1 dBTP (EBU R 128 delivery practice), not one at it', () => {
