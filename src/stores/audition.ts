@@ -1,5 +1,6 @@
 import { acceptHMRUpdate, defineStore } from 'pinia'
 import { computed, ref, shallowRef, watch, watchEffect } from 'vue'
+import type { Take } from '@shared/schemas/takes'
 import { applyGains, wireMedia } from '@/composables/use-audio-chain'
 
 /** Everyone auditions at this loudness when even level is on (EBU R 128's programme level). */
@@ -34,6 +35,16 @@ export interface AuditionItem {
   /** Where the name links to (the listening bench for a take). */
   href?: string
 }
+
+/** A take as something to audition (library rows, the logging sheet, the listening bench). */
+export const takeItem = (t: Take): AuditionItem => ({
+  key: `take:${t.id}`,
+  name: t.title || t.filename,
+  url: `/api/takes/${t.id}/audio`,
+  integratedLufs: t.analysis?.loudness.integratedLufs ?? null,
+  truePeakDbtp: t.analysis?.levels.truePeakDbtp ?? null,
+  href: `/takes/${t.id}`,
+})
 
 /**
  * What is playing, everywhere: one player for lists (library, packs, share

@@ -241,13 +241,23 @@ describe('the logging sheet', () => {
     const row = (name: string) => page.locator('[data-test=log-row]', { hasText: name })
     const flags = async (name: string) => ((await row(name).locator('[data-test=take-flags]').count()) ? ((await row(name).locator('[data-test=take-flags]').textContent()) ?? '') : '').replace(/\s+/g, ' ').replace(/ :/g, ':')
     await expect.poll(() => flags('QUIET.WAV'), { timeout: 60_000 }).toContain('Too quiet to measure: below the −70 LUFS gate')
-    await expect.poll(() => flags('LOUD.WAV'), { timeout: 60_000 }).toMatch(/Clipped: [\d.<]+ % clipped/)
+    // sox clips the peaks of a 300 Hz sine at twice full scale into flat runs of about half a millisecond.
+    await expect.poll(() => flags('LOUD.WAV'), { timeout: 60_000 }).toMatch(/Clipped: [\d.<]+ % clipped, longest 1 ms/)
     expect(await flags('LOUD.WAV')).toMatch(/Over the ceiling: true peak [−\d.]+ dBTP, above the −1 dBTP ceiling/)
     await expect.poll(() => row('WRONG.WAV').locator('[data-test=take-flags]').count()).toBe(0)
     await screenshot(page, 'logsheet-flags')
 
+    // Auditioning from the sheet: play a row, then N and P walk the rows in the sheet's order (by file name).
+    const strip = page.locator('[data-test=now-playing]')
+    await page.getByRole('button', { name: 'Play LOUD.WAV' }).click()
+    await expect.poll(() => strip.innerText()).toContain('LOUD')
+    await page.keyboard.press('n')
+    await expect.poll(() => strip.innerText()).toContain('QUIET')
+    await page.keyboard.press('p')
+    await expect.poll(() => strip.innerText()).toContain('LOUD')
+
     await page.getByRole('button', { name: 'Remove WRONG.WAV' }).click()
-    await expect.poll(() => page.locator('.el-message-box').innerText()).toContain('30 days')
+    await expect.poll(() => page.locator('[data-test=confirm-dialog]').innerText()).toContain('30 days')
     await page.getByRole('button', { name: 'Remove the take' }).click()
     await expect.poll(() => rows.count()).toBe(2)
     await expect.poll(() => page.locator('[data-test=removed-notice]').innerText()).toContain('Removed “WRONG.WAV”')
