@@ -1,0 +1,20 @@
+// Runs on a heavy-work thread (server/core/heavy-worker.ts), never on the API's
+// event loop: reads the excerpt of the take block by block, feeds the curve's
+// tracker and writes the file in memory (at most MODULATION_LIMITS.maxPoints
+// points, so a few tens of MB at worst).
+import { probeWav, readFrames } from '../audio/wav-reader'
+import { EnvelopeFollower, SpectralTracker, type CurveTracker } from './curves'
+import { curveFile, type ModulationFile, type ModulationOrder } from './modulation-files'
+
+export async function computeModulation(path: string, o: ModulationOrder): Promise<ModulationFile> {
+  const info = await probeWav(path)
+  const rate = info.format.sampleRate
+  const startFrame = Math.min(info.format.frames, Math.round(o.startSeconds * rate))
+  const endFrame = Math.min(info.format.frames, Math.max(startFrame, Math.round(o.endSeconds * rate)))
+  const frames = endFrame - startFrame
+  const timing = { attackMs: o.attackMs, releaseMs: o.releaseMs, rateHz: o.rateHz }
+  const tracker: CurveTracker =
+    o.source === 'envelope' ? new EnvelopeFollower(rate, frames, timing) : new SpectralTracker(rate, frames, { kind: o.source, ...timing })
+  for await (const block of readFrames(path, info, { startFrame, endFrame, recycle: 2 })) tracker.push(block)
+  return curveFile(tracker.finish(), o)
+}
