@@ -3,8 +3,8 @@
 // one read buffer of memory plus the curve itself. Every curve has one point
 // every 1/rateHz seconds from the excerpt's start (round(seconds × rateHz)
 // points, at least one), in its natural unit:
-//   envelope  peak amplitude of the loudest channel, 0…1 of full scale, through a
-//             one-pole follower (attack while rising, release while falling)
+//   envelope  peak amplitude of the loudest channel (within ±5 ms), 0…1 of full
+//             scale, through a one-pole follower (attack rising, release falling)
 //   centroid  spectral centroid of the mono mix, Hz
 //   tone      frequency of the strongest spectral peak of the mono mix, Hz
 // Centroid and tone come from Hann-windowed FFT frames (≈ 85 ms, at least eight
@@ -31,13 +31,28 @@ export interface EnvelopeOptions {
   rateHz: number
 }
 
+/**
+ * The peak detector reads the largest |x| within ±HOLD_MS/2 of each sample (the take is there
+ * to read ahead: no lag): 10 ms, one period of 100 Hz and the spacing of a rectified 50 Hz hum's
+ * peaks, so a steady tone reads its true peak amplitude without the carrier's ripple, whatever
+ * the attack. The follower then rises (attack) and falls (release) on it.
+ */
+export const HOLD_MS = 10
+
 /** Envelope follower of the peak amplitude of the loudest channel. */
 export class EnvelopeFollower implements CurveTracker {
   private readonly out: Float32Array
   private readonly a: number
   private readonly r: number
+  /** Half the detector's window, in samples: the detector's value for sample n is known at n + half. */
+  private readonly half: number
+  /** Sliding maximum over the last 2·half + 1 samples: a deque of (index, value) with falling values. */
+  private readonly dqIndex: Float64Array
+  private readonly dqValue: Float32Array
+  private head = 0
+  private size = 0
   private env = 0
-  private n = 0 // samples seen
+  private m = 0 // samples read
   private k = 0 // points written
   private next = 0 // sample index of point k
 
@@ -49,23 +64,46 @@ export class EnvelopeFollower implements CurveTracker {
     this.out = new Float32Array(curvePoints(frames, sampleRate, o.rateHz))
     this.a = onePole(o.attackMs, sampleRate)
     this.r = onePole(o.releaseMs, sampleRate)
+    this.half = Math.max(0, Math.round((HOLD_MS * sampleRate) / 2000))
+    this.dqIndex = new Float64Array(2 * this.half + 2)
+    this.dqValue = new Float32Array(2 * this.half + 2)
+  }
+
+  /** Reads |x| of sample m; the largest of samples m − 2·half … m, the detector's value for sample m − half. */
+  private peak(m: number, x: number): number {
+    const cap = this.dqIndex.length
+    while (this.size > 0 && this.dqValue[(this.head + this.size - 1) % cap] <= x) this.size--
+    const tail = (this.head + this.size) % cap
+    this.dqIndex[tail] = m
+    this.dqValue[tail] = x
+    this.size++
+    while (this.dqIndex[this.head] < m - 2 * this.half) {
+      this.head = (this.head + 1) % cap
+      this.size--
+    }
+    return this.dqValue[this.head]
+  }
+
+  /** One more |x|: moves the follower on by the sample `half` before it. */
+  private step(x: number): void {
+    const p = this.peak(this.m, x)
+    const n = this.m++ - this.half
+    if (n < 0) return
+    // The first point reads the level there, not a rise from silence.
+    this.env = n === 0 ? p : p + (p > this.env ? this.a : this.r) * (this.env - p)
+    while (this.k < this.out.length && this.next === n) this.emit(this.env)
   }
 
   push(planar: Float32Array[]): void {
     const len = planar[0]?.length ?? 0
-    const { a, r, out } = this
-    let env = this.env
     for (let i = 0; i < len; i++) {
       let x = 0
       for (const ch of planar) {
         const v = Math.abs(ch[i])
         if (v > x) x = v
       }
-      env = x + (x > env ? a : r) * (env - x)
-      while (this.k < out.length && this.next === this.n) this.emit(env)
-      this.n++
+      this.step(x)
     }
-    this.env = env
   }
 
   private emit(v: number): void {
@@ -74,6 +112,7 @@ export class EnvelopeFollower implements CurveTracker {
   }
 
   finish(): Float32Array {
+    for (let i = 0; i < this.half; i++) this.step(0) // the last samples' windows end with the excerpt
     while (this.k < this.out.length) this.emit(this.env) // points past the last sample hold it
     return this.out
   }
@@ -91,6 +130,9 @@ const SILENT_DBFS = -90
 /** tone: peaks below this are not looked for (DC and sub-audio drift). */
 const TONE_MIN_HZ = 10
 
+/** Samples of context a SpectralTracker uses on each side of an excerpt: half a frame. */
+export const spectralContext = (sampleRate: number) => spectralFrameSize(sampleRate) / 2
+
 /** FFT size for a sample rate: the power of two nearest to 85 ms (4096 at 48 kHz), at least 256. */
 export function spectralFrameSize(sampleRate: number): number {
   return Math.max(256, 2 ** Math.round(Math.log2(sampleRate * 0.085)))
@@ -98,8 +140,10 @@ export function spectralFrameSize(sampleRate: number): number {
 
 /**
  * Spectral centroid or strongest tone over time. Frames are centred every `hop` samples from the
- * excerpt's start (an eighth of the frame, or one point apart when points are sparser); samples
- * before the start and after the end count as silence.
+ * excerpt's start (an eighth of the frame, or one point apart when points are sparser). The first
+ * `lead` samples pushed come before the excerpt (up to half a frame of the take around an excerpt,
+ * see leadFor) and samples pushed past its end are used too, so an excerpt's first and last points
+ * see the sound on both sides; beyond what is pushed is silence (a whole take's ends).
  */
 export class SpectralTracker implements CurveTracker {
   private readonly size: number
@@ -121,6 +165,7 @@ export class SpectralTracker implements CurveTracker {
     private readonly sampleRate: number,
     private readonly frames: number,
     private readonly o: SpectralOptions,
+    lead = 0,
   ) {
     this.size = spectralFrameSize(sampleRate)
     this.hop = Math.max(1, Math.min(Math.floor(sampleRate / o.rateHz), this.size / 8))
@@ -131,9 +176,10 @@ export class SpectralTracker implements CurveTracker {
     this.fft = new FFT(this.size)
     this.spectrum = this.fft.createComplexArray() as number[]
     this.frame = new Float64Array(this.size)
-    this.bufStart = -this.size / 2 // the first frame is centred on sample 0
+    // The first frame is centred on sample 0: the lead, or zeros where there is none.
+    this.bufStart = -this.size / 2
     this.buf = new Float64Array(this.size * 2)
-    this.bufLen = this.size / 2 // zeros before the start
+    this.bufLen = this.size / 2 - Math.min(this.size / 2, Math.max(0, Math.floor(lead)))
   }
 
   push(planar: Float32Array[]): void {
