@@ -5,7 +5,7 @@
 import { availableParallelism } from 'node:os'
 import type { Worker } from 'node:worker_threads'
 import { reviveError, type ErrorInfo } from '../core/thread-errors'
-import { startWorker } from '../core/workers'
+import { startWorker, workerModule } from '../core/workers'
 import type { AnalyzeResult } from './analyze'
 import type { WorkerReply, WorkerTask } from './analyze-worker-serve'
 import { WavFormatError } from './wav-reader'
@@ -20,6 +20,11 @@ export interface AnalysisPool {
 export interface PoolOptions {
   /** Worker entry; defaults to analyze-worker beside this file (.ts under tsx, .js when built). */
   workerUrl?: URL
+  /**
+   * Time limit on a worker's silence: a task that sends neither progress nor an answer for this
+   * long (a reader stuck on hostile metadata, say) has its worker stopped and fails. Default 2 minutes.
+   */
+  silenceLimitMs?: number
 }
 
 interface Task extends WorkerTask {
@@ -31,6 +36,9 @@ interface Task extends WorkerTask {
 interface Slot {
   worker: Worker
   task: Task | null
+  watchdog?: NodeJS.Timeout
+  /** Why the pool stopped this worker, when it did. */
+  stoppedFor?: string
 }
 
 export function defaultPoolSize(): number {
@@ -46,12 +54,27 @@ const revive = (e: ErrorInfo): Error => reviveError(e, { WavFormatError: (x) => 
 
 export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions = {}): AnalysisPool {
   const url = opts.workerUrl ?? defaultWorkerUrl()
+  const silenceLimit = opts.silenceLimitMs ?? 120_000
+  // Bundle the worker now, at start-up: bundling blocks the thread it runs on for a few hundred
+  // milliseconds, which must not fall on the API while it answers requests (the first upload).
+  workerModule(url)
   const slots: Slot[] = []
   const queue: Task[] = []
   let nextId = 1
   let closed = false
 
+  /** (Re)starts the silence limit of a busy worker. */
+  function watch(slot: Slot): void {
+    clearTimeout(slot.watchdog)
+    slot.watchdog = setTimeout(() => {
+      slot.stoppedFor = `it sent nothing for ${Math.round(silenceLimit / 1000)} s and was stopped`
+      void slot.worker.terminate()
+    }, silenceLimit)
+    slot.watchdog.unref()
+  }
+
   function settle(slot: Slot): void {
+    clearTimeout(slot.watchdog)
     slot.task = null
     slot.worker.unref() // an idle worker must not keep the process alive
     dispatch()
@@ -62,7 +85,10 @@ export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions =
     slot.worker.on('message', (m: WorkerReply) => {
       const task = slot.task
       if (!task || m.id !== task.id) return
-      if (m.type === 'progress') task.onProgress?.(m.fraction)
+      if (m.type === 'progress') {
+        watch(slot)
+        task.onProgress?.(m.fraction)
+      }
       else if (m.type === 'done') {
         settle(slot)
         task.resolve(m.result)
@@ -76,12 +102,14 @@ export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions =
       failure = err
     })
     slot.worker.on('exit', (code) => {
+      clearTimeout(slot.watchdog)
       slots.splice(slots.indexOf(slot), 1)
       const task = slot.task
       slot.task = null
       if (task) {
         const why = failure ? failure.message : `exit code ${code}`
-        task.reject(new Error(closed ? 'analysis pool closed' : `analysis worker crashed: ${why}`))
+        const message = slot.stoppedFor ? `measuring stopped answering: ${slot.stoppedFor}` : `analysis worker crashed: ${why}`
+        task.reject(new Error(closed ? 'analysis pool closed' : message))
       }
       if (!closed) dispatch()
     })
@@ -98,6 +126,7 @@ export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions =
       slot.worker.ref()
       const message: WorkerTask = { id: task.id, path: task.path, peaksPath: task.peaksPath }
       slot.worker.postMessage(message)
+      watch(slot)
     }
   }
 

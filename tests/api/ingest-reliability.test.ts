@@ -1,14 +1,15 @@
-// Issue 9, "nothing freezes" and "nothing is lost" on the ingest path: hostile
-// metadata cannot stall the API, repeated filters answer 400, parallel uploads
+// Issue 9, "nothing freezes" and "nothing is lost" on the ingest path: huge
+// metadata lists are bounded (hostile text: ingest-freeze.test.ts), repeated filters answer 400, parallel uploads
 // of the same bytes keep exactly one take with its audio intact, and a take
 // whose measuring failed can be measured again.
 import { createHash } from 'node:crypto'
 import fs from 'node:fs'
+import http from 'node:http'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { createSession, soxWav, uploadTake, waitForTake } from '../helpers/uploads'
-import { hugeTextWav, manyEntriesWav } from '../helpers/hostile-wav'
+import { manyEntriesWav } from '../helpers/hostile-wav'
 import { failureText } from '../../server/ingest/remeasure'
 import { WavFormatError } from '../../server/audio/wav-reader'
 
@@ -29,50 +30,7 @@ afterAll(async () => {
 
 const sha = (p: string) => createHash('sha256').update(fs.readFileSync(p)).digest('hex')
 
-/** Asks /api/health back to back until stopped; returns the slowest answer in ms. */
-function watchHealth(url: string) {
-  let stop = false
-  let slowest = 0
-  let answers = 0
-  const loop = (async () => {
-    while (!stop) {
-      const t = performance.now()
-      const res = await fetch(`${url}/api/health`)
-      await res.arrayBuffer()
-      slowest = Math.max(slowest, performance.now() - t)
-      answers++
-      await new Promise((r) => setTimeout(r, 20))
-    }
-  })()
-  return async () => {
-    stop = true
-    await loop
-    return { slowest, answers }
-  }
-}
-
 describe('nothing freezes', () => {
-  // The limits (2 s to upload, 200 ms per health answer) are the functional limits issue 9 sets.
-  it('1 MiB of iXML, 1 MiB of coding-history spaces and 1 MiB of INFO text: uploads in under 2 s, /api/health answers under 200 ms while it is measured', async () => {
-    const file = path.join(server.dir, 'hostile.wav')
-    fs.writeFileSync(file, hugeTextWav())
-    const health = watchHealth(server.url)
-    const t = performance.now()
-    const res = await uploadTake(rec, sessionId, file, 'hostile.wav')
-    const uploadMs = performance.now() - t
-    expect(res.status).toBe(201)
-    expect(uploadMs).toBeLessThan(2000)
-    const take = await waitForTake(rec, res.body.take.id)
-    const { slowest, answers } = await health()
-    expect(answers).toBeGreaterThan(0)
-    expect(slowest).toBeLessThan(200)
-    expect(take.status).toBe('ready')
-    // The labels come from the file once the worker has read it; what was cut is said.
-    expect(take.title).toBe('hostile title')
-    expect(take.analysis.metadata.ixml.scene).toBe('kept')
-    expect(take.analysis.metadata.dropped).toEqual(expect.arrayContaining([expect.stringMatching(/^iXML document: \d+ characters, kept the first 65536$/)]))
-  })
-
   it('200,000 INFO entries and cue points: measured with at most 1024 of each kept, and a note of the rest', async () => {
     const file = path.join(server.dir, 'many.wav')
     fs.writeFileSync(file, manyEntriesWav(200_000))
@@ -122,6 +80,32 @@ describe('nothing is lost', () => {
     }
     expect(fs.readdirSync(path.join(server.ctx.config.storageDir, 'incoming'))).toEqual([])
   }, 120_000)
+
+  it('an upload cut off at any point (in the part headers, mid-file, just before the closing boundary) leaves no file and no row', async () => {
+    const file = soxWav(path.join(server.dir, 'cut.wav'), { seconds: 2, synth: ['sine', '1234'] })
+    const boundary = 'sfcut'
+    const body = Buffer.concat([
+      Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="cut.wav"\r\nContent-Type: audio/wav\r\n\r\n`),
+      fs.readFileSync(file),
+      Buffer.from(`\r\n--${boundary}--\r\n`),
+    ])
+    const cookie = (await rec.get('/api/auth/me')).request.cookies
+    const count = async () => (await server.ctx.db.selectFrom('takes').select('id').where('filename', '=', 'cut.wav').execute()).length
+    for (const at of [40, 120, Math.floor(body.length / 2), body.length - 12, body.length - 1]) {
+      await new Promise<void>((resolve) => {
+        const req = http.request(`${server.url}/api/capture-sessions/${sessionId}/takes`, {
+          method: 'POST',
+          headers: { 'content-type': `multipart/form-data; boundary=${boundary}`, 'content-length': String(body.length), 'x-csrf-token': rec.token, cookie },
+        })
+        req.on('error', () => resolve())
+        req.write(body.subarray(0, at), () => setTimeout(() => (req.destroy(), resolve()), 100))
+      })
+      await expect.poll(() => fs.readdirSync(path.join(server.ctx.config.storageDir, 'incoming')), { timeout: 5000 }).toEqual([])
+      expect(await count(), `cut at byte ${at} of ${body.length}`).toBe(0)
+    }
+    const sha256 = sha(file)
+    expect(fs.existsSync(server.ctx.storage.abs(server.ctx.storage.audioRelative(sha256)))).toBe(false)
+  })
 
   it('a take that failed for a passing reason is measured again by the uploader; refusals for the rest', async () => {
     const file = soxWav(path.join(server.dir, 'again.wav'), { seconds: 1, synth: ['brownnoise'] })

@@ -30,7 +30,6 @@ const takeCount = async () => Number((await server.ctx.db.selectFrom('takes').se
 function trickle(p: string, headers: Record<string, string>, head: string, chunk: Buffer, everyMs: number) {
   return new Promise<{ status: number; body: string; bytesSent: number }>((resolve) => {
     let sent = 0
-    let timer: NodeJS.Timeout | undefined
     const req = http.request(`${server.url}${p}`, { method: 'POST', headers })
     const done = (status: number, body = '') => {
       clearInterval(timer)
@@ -46,7 +45,7 @@ function trickle(p: string, headers: Record<string, string>, head: string, chunk
     req.on('error', () => done(0))
     req.on('close', () => setTimeout(() => done(0), 200))
     req.write(head)
-    timer = setInterval(() => {
+    const timer = setInterval(() => {
       if (req.destroyed) return
       req.write(chunk)
       sent += chunk.length

@@ -95,6 +95,18 @@ describe('analysis pool', () => {
     })
   }
 
+  it('stops a worker that stays silent past the time limit (a stuck reader): its task fails saying so, queued work completes', async () => {
+    const pool = createAnalysisPool(1, { workerUrl: fixture, silenceLimitMs: 5000 })
+    try {
+      const [stuck, after] = await Promise.allSettled([pool.run(join(dir, 'hang.wav')), pool.run(files[0])])
+      expect(stuck.status).toBe('rejected')
+      expect(String((stuck as PromiseRejectedResult).reason.message)).toBe('measuring stopped answering: it sent nothing for 5 s and was stopped')
+      expect(after.status).toBe('fulfilled')
+    } finally {
+      await pool.close()
+    }
+  }, 60_000)
+
   it('close() rejects queued tasks and refuses new ones', async () => {
     const pool = createAnalysisPool(1)
     const running = pool.run(files[0]).catch((e: Error) => e)

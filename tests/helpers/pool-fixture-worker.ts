@@ -1,6 +1,6 @@
 // A pool worker for tests: serves the real protocol with the real analyzeFile,
 // but a path containing "crash-exit" ends the thread, "crash-throw" throws
-// outside any promise, and "rendezvous" waits until another rendezvous task is
+// outside any promise, "hang" never answers (a busy loop), and "rendezvous" waits until another rendezvous task is
 // running in a different worker at the same time (proving concurrency without
 // looking at a clock: if the pool ran tasks one by one, the wait would fail).
 import { existsSync, readdirSync, writeFileSync } from 'node:fs'
@@ -24,6 +24,7 @@ async function rendezvous(path: string): Promise<void> {
 
 serveAnalysis(parentPort!, async (path, opts) => {
   if (path.includes('crash-exit')) process.exit(7)
+  if (path.includes('hang')) for (;;); // a reader stuck for good: only the pool's silence limit ends it
   if (path.includes('crash-throw')) {
     setImmediate(() => {
       throw new Error('fixture exploded')
