@@ -47,11 +47,11 @@ describe('modulation panel on the listening bench', () => {
 
     await panel.getByRole('radio', { name: /Tone/ }).check()
     const curve = panel.locator('[data-test=modulation-preview] path')
+    // The preview follows the last change after 400 ms: wait until the line drawn is the tone's, which climbs (the envelope's is flat).
     await page.waitForFunction(() => {
-      const d = document.querySelector('[data-test=modulation-preview] path')?.getAttribute('d') ?? ''
-      return d.length > 0 && (document.querySelector('[data-test=modulation-preview] figcaption')?.textContent ?? '').includes('Hz')
-    })
-    await page.waitForTimeout(600) // the preview follows the last change after 400 ms
+      const ys = [...(document.querySelector('[data-test=modulation-preview] path')?.getAttribute('d') ?? '').matchAll(/[ML][\d.]+,([\d.]+)/gu)].map((m) => Number(m[1]))
+      return ys.length > 1 && ys[0] - ys[ys.length - 1] > 10
+    }, undefined, { timeout: 20_000 })
     const [first, last] = ends((await curve.getAttribute('d')) ?? '')
     // 200 Hz → 1.6 kHz is 3 of the 10 octaves above 20 Hz: the line climbs by about 30 % of the strip's height.
     expect(first - last).toBeGreaterThan(25)
@@ -69,6 +69,23 @@ describe('modulation panel on the listening bench', () => {
     expect(count).toBe(3000)
     expect(control).toBe(1)
     expect(lastValue - firstValue).toBeGreaterThan(30) // 3 octaves of 10 on 0…127: about 38 steps
+    await page.close()
+  })
+
+  it('fits a phone screen with the caution in view of the export button', async () => {
+    const page = await browser.newPage({ viewport: { width: 390, height: 844 } })
+    await signInThroughForm(page, server.url, 'designer@example.test')
+    await page.goto(`${server.url}/takes/${takeId}`)
+    const panel = page.locator('[data-test=modulation-panel]')
+    await panel.waitFor()
+    await panel.scrollIntoViewIfNeeded()
+    const box = (await panel.boundingBox())!
+    expect(box.x).toBeGreaterThanOrEqual(0)
+    expect(box.x + box.width).toBeLessThanOrEqual(390)
+    expect(await panel.evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true)
+    await expect(panel.getByRole('button', { name: 'Export' }).isVisible()).resolves.toBe(true)
+    await expect(panel.getByText('must be DC-coupled').isVisible()).resolves.toBe(true)
+    await screenshot(page, 'bench-modulation-phone')
     await page.close()
   })
 })
