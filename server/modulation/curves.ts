@@ -140,7 +140,8 @@ export function spectralFrameSize(sampleRate: number): number {
 
 /**
  * Spectral centroid or strongest tone over time. Frames are centred every `hop` samples from the
- * excerpt's start (an eighth of the frame, or one point apart when points are sparser). The first
+ * excerpt's start (an eighth of the frame, or one point apart when points are sparser; points in
+ * between are interpolated in octaves). The first
  * `lead` samples pushed come before the excerpt (up to half a frame of the take around an excerpt,
  * see leadFor) and samples pushed past its end are used too, so an excerpt's first and last points
  * see the sound on both sides; beyond what is pushed is silence (a whole take's ends).
@@ -168,7 +169,8 @@ export class SpectralTracker implements CurveTracker {
     lead = 0,
   ) {
     this.size = spectralFrameSize(sampleRate)
-    this.hop = Math.max(1, Math.min(Math.floor(sampleRate / o.rateHz), this.size / 8))
+    // Frames every eighth of a frame (≈ 10 ms), or one per point when points are further apart: the cost follows the audio, not rateHz.
+    this.hop = Math.max(this.size / 8, Math.floor(sampleRate / o.rateHz))
     this.frameCount = Math.floor(Math.max(0, frames - 1) / this.hop) + 2 // one frame past the end, for interpolation
     this.hz = new Float64Array(this.frameCount)
     this.window = new Float64Array(this.size)
@@ -199,11 +201,12 @@ export class SpectralTracker implements CurveTracker {
 
   private reserve(extra: number): void {
     // Drop what no frame still needs, then grow if the block does not fit.
-    const keepFrom = this.done * this.hop - this.size / 2 - this.bufStart
-    if (keepFrom > 0) {
-      this.buf.copyWithin(0, keepFrom, this.bufLen)
-      this.bufLen -= keepFrom
-      this.bufStart += keepFrom
+    // (With frames further apart than a frame, the samples between them are dropped as they come.)
+    const drop = Math.min(this.bufLen, this.done * this.hop - this.size / 2 - this.bufStart)
+    if (drop > 0) {
+      this.buf.copyWithin(0, drop, this.bufLen)
+      this.bufLen -= drop
+      this.bufStart += drop
     }
     if (this.bufLen + extra > this.buf.length) {
       const grown = new Float64Array(Math.max(this.buf.length * 2, this.bufLen + extra))
@@ -267,9 +270,10 @@ export class SpectralTracker implements CurveTracker {
 
   finish(): Float32Array {
     // The frames that reach past the end see silence there.
-    this.reserve(this.size)
-    this.buf.fill(0, this.bufLen, this.bufLen + this.size)
-    this.bufLen += this.size
+    const pad = this.hop + this.size
+    this.reserve(pad)
+    this.buf.fill(0, this.bufLen, this.bufLen + pad)
+    this.bufLen += pad
     this.analyseReady()
     holdThroughSilence(this.hz)
     const points = curvePoints(this.frames, this.sampleRate, this.o.rateHz)

@@ -110,6 +110,13 @@ describe('tone', () => {
     expect(worstError(curve, 200, g.f)).toBeLessThan(0.01)
   })
 
+  it('at 2 points a second (one frame per point, the samples between skipped) still reads each point within 1 %', () => {
+    const g = expGlide(4, 100, 3200)
+    const curve = feed(new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 2 }), [g.x], 4096)
+    expect(curve.length).toBe(8)
+    expect(worstError(curve, 2, g.f)).toBeLessThan(0.01)
+  })
+
   it('follows a linear glide 2 kHz → 400 Hz under noise within 1 % (a whole take: away from its ends, where half a frame is silence)', () => {
     const g = linGlide(3, 2000, 400)
     let seed = 7
