@@ -28,6 +28,7 @@ import { registerPackRoutes } from './packs/packs.routes'
 import { registerTakeExportRoutes } from './takes/takes.export'
 import { registerTagRoutes } from './tags/tags.routes'
 import { registerMentionRoutes } from './mentions/mentions.routes'
+import { registerModulationRoutes } from './modulation/modulation.routes'
 
 export interface BuiltApp {
   app: Express
@@ -89,6 +90,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerTakeExportRoutes(api, ctx)
   registerTagRoutes(api, ctx)
   registerMentionRoutes(api, ctx)
+  registerModulationRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

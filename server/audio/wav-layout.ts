@@ -32,6 +32,8 @@ export interface WavWriteOptions {
   cues?: { id: number; frame: number; label?: string }[]
   /** smpl loops; end is the last frame of the loop (inclusive), as the smpl chunk stores it. */
   loops?: { start: number; end: number; type?: number }[]
+  /** A control signal (a modulation source), not audio: any whole rate from 1 Hz up is allowed. */
+  controlRate?: boolean
   /** Tests of malformed input only: the value put in the data size field (e.g. 0 or 0xFFFFFFFF). */
   dataSizeOverride?: number
 }
@@ -58,7 +60,7 @@ export interface Plan {
 
 export function validateOptions(o: WavWriteOptions): void {
   const int = (v: number) => Number.isInteger(v)
-  if (!int(o.sampleRate) || o.sampleRate < MIN_RATE || o.sampleRate > MAX_RATE) throw new RangeError(`sample rate ${o.sampleRate} outside ${MIN_RATE}..${MAX_RATE}`)
+  if (!int(o.sampleRate) || o.sampleRate < (o.controlRate ? 1 : MIN_RATE) || o.sampleRate > MAX_RATE) throw new RangeError(`sample rate ${o.sampleRate} outside ${MIN_RATE}..${MAX_RATE}`)
   if (!int(o.channels) || o.channels < 1 || o.channels > MAX_CHANNELS) throw new RangeError(`channels ${o.channels} outside 1..${MAX_CHANNELS}`)
   const okBits = o.encoding === 'float' ? [32, 64] : [8, 16, 24, 32]
   if (!okBits.includes(o.bitsPerSample)) throw new RangeError(`${o.bitsPerSample}-bit ${o.encoding} is not a valid encoding`)

@@ -10,12 +10,14 @@ import type { SpectrogramOptions } from '../audio/spectrogram'
 import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
 import { createRenderPool, type RenderPool } from '../render/render-pool'
+import type { ModulationFile, ModulationOrder } from '../modulation/modulation-files'
 import { AppError } from './errors'
 
 export interface HeavyWork {
   spectrogram(who: string, path: string, opts: SpectrogramOptions): Promise<Buffer>
   render(who: string, req: RenderRequest, outPath: string): Promise<RenderResult>
   measure(who: string, path: string, startSeconds: number | null, endSeconds: number | null): Promise<LevelReading>
+  modulation(who: string, path: string, order: ModulationOrder): Promise<ModulationFile>
   close(): Promise<void>
 }
 
@@ -69,6 +71,7 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
         return p.run<RenderResult>({ type: 'render', req: plain satisfies PlainRenderRequest, outPath })
       }),
     measure: (who, path, startSeconds, endSeconds) => limited(who, (p) => p.run<LevelReading>({ type: 'measure', path, startSeconds, endSeconds })),
+    modulation: (who, path, order) => limited(who, (p) => p.run<ModulationFile>({ type: 'modulation', path, order })),
     async close() {
       await pool?.close()
     },

@@ -118,3 +118,20 @@ export function upload(url: string, file: File, onProgress: (fraction: number) =
   })()
   return { promise, abort: () => xhr.abort() }
 }
+
+/** A POST whose answer is a file: its bytes and the name from Content-Disposition (e.g. a modulation export). */
+export async function postForFile(url: string, body: unknown): Promise<{ blob: Blob; fileName: string | null; headers: Headers }> {
+  const send = async (token: string) =>
+    fetch(url, { method: 'POST', headers: { 'x-csrf-token': token, 'content-type': 'application/json' }, credentials: 'same-origin', body: JSON.stringify(body) })
+  let res = await send(csrfToken ?? (await fetchCsrf()))
+  if (!res.ok) {
+    const err = await toApiError(res)
+    if (err.code !== 'CSRF_INVALID') throw err
+    resetCsrf()
+    res = await send(await fetchCsrf())
+    if (!res.ok) throw await toApiError(res)
+  }
+  const disposition = res.headers.get('content-disposition') ?? ''
+  const name = /filename="?([^";]+)"?/u.exec(disposition)?.[1] ?? null
+  return { blob: await res.blob(), fileName: name, headers: res.headers }
+}
