@@ -4,7 +4,7 @@
 // 4-frame chunks and the bound of each chunk computed for four chunks at once in
 // 128-bit SIMD lanes. Only chunks whose bound can beat the running maximum go on
 // to the scalar path, which computes the four phases of the Annex 2 table term
-// by term in f64, in the table's order, so the maximum is exactly that of a
+// by term in f64, in the table's order (two outputs at a time in f64x2 lanes), so the maximum is exactly that of a
 // brute-force pass over every output. The SIMD bound works in f32: it is widened by
 // SAFE (far more than its rounding error), so it never skips a chunk the exact
 // bound would check; it may check a few more.
