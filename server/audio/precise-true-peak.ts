@@ -134,8 +134,9 @@ export class PreciseTruePeakMeter {
   readonly annex: TruePeakMeter
   private readonly channels: number
   private readonly peaks: Float64Array
-  /** Per channel: the last samples (absolute frame bufStart on), enough for the pending stretches and their context. */
-  private buffers: Float32Array[]
+  /** Per channel: the last samples (absolute frame bufStart on), enough for the pending stretches and their context, in buffers[ch][0 .. lengths[ch]). */
+  private readonly buffers: Float32Array[]
+  private readonly lengths: number[]
   private bufStart = -HEAD
   private position = 0
   private readonly pending: Candidate[][]
@@ -152,6 +153,7 @@ export class PreciseTruePeakMeter {
     this.peaks = new Float64Array(channels)
     this.thresholds = new Float64Array(channels)
     this.buffers = Array.from({ length: channels }, () => new Float32Array(HEAD)) // silence before the take
+    this.lengths = Array.from({ length: channels }, () => HEAD)
     this.pending = Array.from({ length: channels }, () => [])
   }
 
@@ -169,12 +171,20 @@ export class PreciseTruePeakMeter {
       for (let s = 0; s < stretches; s++) {
         if (o[s] > t) this.pending[ch].push({ from: this.position + s * STRETCH, to: Math.min(this.position + frames, this.position + (s + 1) * STRETCH), annex: o[s] })
       }
-      const old = this.buffers[ch]
-      const work = new Float32Array(old.length + frames)
-      work.set(old, 0)
-      work.set(planar[ch], old.length)
+      // The kept samples stay at the front of a reused store; the block goes after them (one copy, no allocation once the store is big enough).
+      const kept = this.lengths[ch]
+      let store = this.buffers[ch]
+      if (store.length < kept + frames) {
+        const grown = new Float32Array(kept + frames)
+        grown.set(store.subarray(0, kept), 0)
+        store = this.buffers[ch] = grown
+      }
+      store.set(planar[ch], kept)
+      const work = store.subarray(0, kept + frames) // a view of exactly the valid samples: reads past them stay undefined, as before
       this.searchPending(ch, work, this.bufStart, this.position + frames)
-      this.buffers[ch] = keepFrom > this.bufStart ? work.slice(keepFrom - this.bufStart) : work
+      const drop = keepFrom > this.bufStart ? keepFrom - this.bufStart : 0
+      if (drop > 0) store.copyWithin(0, drop, kept + frames)
+      this.lengths[ch] = kept + frames - drop
     }
     this.position += frames
     if (keepFrom > this.bufStart) this.bufStart = keepFrom
@@ -183,7 +193,7 @@ export class PreciseTruePeakMeter {
   /** Searches what is left, with silence after the last sample. */
   finish(): void {
     for (let ch = 0; ch < this.channels; ch++) {
-      const old = this.buffers[ch]
+      const old = this.buffers[ch].subarray(0, this.lengths[ch])
       const work = new Float32Array(old.length + HALF + 1)
       work.set(old, 0)
       this.searchPending(ch, work, this.bufStart, Infinity)

@@ -4,7 +4,7 @@
 // 4-frame chunks and the bound of each chunk computed for four chunks at once in
 // 128-bit SIMD lanes. Only chunks whose bound can beat the running maximum go on
 // to the scalar path, which computes the four phases of the Annex 2 table term
-// by term in f64, in the table's order, so the maximum is exactly that of a
+// by term in f64, in the table's order (two outputs at a time in f64x2 lanes), so the maximum is exactly that of a
 // brute-force pass over every output. The SIMD bound works in f32: it is widened by
 // SAFE (far more than its rounding error), so it never skips a chunk the exact
 // bound would check; it may check a few more.
@@ -71,6 +71,105 @@ function interpolateOuter(x: usize, from: i32, to: i32, running: f64): f64 {
   return peak
 }
 
+/** x[i] and x[i + 1] widened to f64 lanes. */
+@inline function pair(x: usize, i: i32): v128 {
+  return f64x2.promote_low_f32x4(v128.load64_zero(x + (<usize>i << 2)))
+}
+
+/** interpolateInner for outputs i and i + 1 at once in f64x2 lanes: the same products summed in the same order, so the same values. */
+function interpolateInner2(x: usize, from: i32, to: i32, running: f64): f64 {
+  let peakV = f64x2.splat(running)
+  let i = from
+  for (; i + 1 < to; i += 2) {
+    const x0 = pair(x, i - 0)
+    const x1 = pair(x, i - 1)
+    const x2 = pair(x, i - 2)
+    const x3 = pair(x, i - 3)
+    const x4 = pair(x, i - 4)
+    const x5 = pair(x, i - 5)
+    const x6 = pair(x, i - 6)
+    const x7 = pair(x, i - 7)
+    const x8 = pair(x, i - 8)
+    const x9 = pair(x, i - 9)
+    const x10 = pair(x, i - 10)
+    const x11 = pair(x, i - 11)
+    let y1 = f64x2.mul(f64x2.splat(-0.0291748046875), x0)
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(0.029296875), x1))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(-0.0517578125), x2))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(0.089111328125), x3))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(-0.16650390625), x4))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(0.465087890625), x5))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(0.77978515625), x6))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(-0.2003173828125), x7))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(0.1015625), x8))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(-0.0582275390625), x9))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(0.0330810546875), x10))
+    y1 = f64x2.add(y1, f64x2.mul(f64x2.splat(-0.0189208984375), x11))
+    let y2 = f64x2.mul(f64x2.splat(-0.0189208984375), x0)
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(0.0330810546875), x1))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(-0.0582275390625), x2))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(0.1015625), x3))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(-0.2003173828125), x4))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(0.77978515625), x5))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(0.465087890625), x6))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(-0.16650390625), x7))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(0.089111328125), x8))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(-0.0517578125), x9))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(0.029296875), x10))
+    y2 = f64x2.add(y2, f64x2.mul(f64x2.splat(-0.0291748046875), x11))
+    peakV = f64x2.max(peakV, f64x2.max(f64x2.abs(y1), f64x2.abs(y2)))
+  }
+  const peak = max(f64x2.extract_lane(peakV, 0), f64x2.extract_lane(peakV, 1))
+  return i < to ? interpolateInner(x, i, to, peak) : peak
+}
+
+/** interpolateOuter for outputs i and i + 1 at once in f64x2 lanes: the same products summed in the same order, so the same values. */
+function interpolateOuter2(x: usize, from: i32, to: i32, running: f64): f64 {
+  let peakV = f64x2.splat(running)
+  let i = from
+  for (; i + 1 < to; i += 2) {
+    const x0 = pair(x, i - 0)
+    const x1 = pair(x, i - 1)
+    const x2 = pair(x, i - 2)
+    const x3 = pair(x, i - 3)
+    const x4 = pair(x, i - 4)
+    const x5 = pair(x, i - 5)
+    const x6 = pair(x, i - 6)
+    const x7 = pair(x, i - 7)
+    const x8 = pair(x, i - 8)
+    const x9 = pair(x, i - 9)
+    const x10 = pair(x, i - 10)
+    const x11 = pair(x, i - 11)
+    let y0 = f64x2.mul(f64x2.splat(0.001708984375), x0)
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(0.010986328125), x1))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(-0.0196533203125), x2))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(0.033203125), x3))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(-0.0594482421875), x4))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(0.1373291015625), x5))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(0.97216796875), x6))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(-0.102294921875), x7))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(0.047607421875), x8))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(-0.026611328125), x9))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(0.014892578125), x10))
+    y0 = f64x2.add(y0, f64x2.mul(f64x2.splat(-0.00830078125), x11))
+    let y3 = f64x2.mul(f64x2.splat(-0.00830078125), x0)
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.014892578125), x1))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(-0.026611328125), x2))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.047607421875), x3))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(-0.102294921875), x4))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.97216796875), x5))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.1373291015625), x6))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(-0.0594482421875), x7))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.033203125), x8))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(-0.0196533203125), x9))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.010986328125), x10))
+    y3 = f64x2.add(y3, f64x2.mul(f64x2.splat(0.001708984375), x11))
+    peakV = f64x2.max(peakV, f64x2.max(f64x2.abs(y0), f64x2.abs(y3)))
+  }
+  const peak = max(f64x2.extract_lane(peakV, 0), f64x2.extract_lane(peakV, 1))
+  return i < to ? interpolateOuter(x, i, to, peak) : peak
+}
+
 // The scalar path's state: lows and highs of the previous three chunks.
 let l1: f64 = 0, h1: f64 = 0, l2: f64 = 0, h2: f64 = 0, l3: f64 = 0, h3: f64 = 0
 
@@ -89,8 +188,8 @@ function scalarChunk(x: usize, n: i32, firstOutput: i32, c: i32, lo: f64, hi: f6
     const start = max(firstOutput, HISTORY + c * CHUNK)
     const end = min(n, HISTORY + (c + 1) * CHUNK)
     if (start < end) {
-      if (inner > peak) peak = interpolateInner(x, start, end, peak)
-      if (outer > peak) peak = interpolateOuter(x, start, end, peak)
+      if (inner > peak) peak = interpolateInner2(x, start, end, peak)
+      if (outer > peak) peak = interpolateOuter2(x, start, end, peak)
     }
   }
   l3 = l2
