@@ -22,6 +22,7 @@ import { registerTakeRoutes } from './takes/takes.routes'
 import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
+import { registerInstrumentRoutes } from './instrument/instrument.routes'
 import { registerCommentRoutes } from './comments/comments.routes'
 import { registerPackRoutes } from './packs/packs.routes'
 import { registerTakeExportRoutes } from './takes/takes.export'
@@ -82,6 +83,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerSpectrogramRoutes(api, ctx)
   registerSourceRoutes(api, ctx)
   registerRegionRoutes(api, ctx)
+  registerInstrumentRoutes(api, ctx)
   registerCommentRoutes(api, ctx)
   registerPackRoutes(api, ctx)
   registerTakeExportRoutes(api, ctx)

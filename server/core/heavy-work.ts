@@ -10,12 +10,18 @@ import type { SpectrogramOptions } from '../audio/spectrogram'
 import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
 import { createRenderPool, type RenderPool } from '../render/render-pool'
+import type { LoopTask, OnsetTask } from '../instrument/instrument-task'
+import type { LoopFrames } from '../instrument/loops'
+import type { OnsetSliceFrames } from '../instrument/onsets'
 import { AppError } from './errors'
 
 export interface HeavyWork {
   spectrogram(who: string, path: string, opts: SpectrogramOptions): Promise<Buffer>
   render(who: string, req: RenderRequest, outPath: string): Promise<RenderResult>
   measure(who: string, path: string, startSeconds: number | null, endSeconds: number | null): Promise<LevelReading>
+  /** The instrument tools' proposals (server/instrument/). */
+  onsets(who: string, task: OnsetTask): Promise<OnsetSliceFrames[]>
+  loops(who: string, task: LoopTask): Promise<LoopFrames[]>
   close(): Promise<void>
 }
 
@@ -69,6 +75,8 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
         return p.run<RenderResult>({ type: 'render', req: plain satisfies PlainRenderRequest, outPath })
       }),
     measure: (who, path, startSeconds, endSeconds) => limited(who, (p) => p.run<LevelReading>({ type: 'measure', path, startSeconds, endSeconds })),
+    onsets: (who, task) => limited(who, (p) => p.run<OnsetSliceFrames[]>({ type: 'onsets', ...task })),
+    loops: (who, task) => limited(who, (p) => p.run<LoopFrames[]>({ type: 'loops', ...task })),
     async close() {
       await pool?.close()
     },

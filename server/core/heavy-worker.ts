@@ -3,12 +3,14 @@
 //   render       one pack item, for a preview or a quick export
 //   spectrogram  a take's or an excerpt's spectrogram, as PNG bytes
 //   measure      loudness and true peak of a range of a take (an item added to a pack)
+//   onsets, loops  the instrument tools' proposals over a range of a take (server/instrument/)
 import { parentPort } from 'node:worker_threads'
 import { errorInfo } from './thread-errors'
 import { renderItem, type PlainRenderRequest } from '../render/render'
 import { measureRange } from '../render/level-meter'
 import { renderSpectrogram, type SpectrogramOptions } from '../audio/spectrogram'
 import { probeWav } from '../audio/wav-reader'
+import { runLoopTask, runOnsetTask, type LoopTask, type OnsetTask } from '../instrument/instrument-task'
 
 const port = parentPort
 if (!port) throw new Error('heavy-worker must run in a worker thread')
@@ -17,6 +19,8 @@ export type HeavyTask =
   | { type: 'render'; id: number; req: PlainRenderRequest; outPath: string }
   | { type: 'spectrogram'; id: number; path: string; opts: SpectrogramOptions }
   | { type: 'measure'; id: number; path: string; startSeconds: number | null; endSeconds: number | null }
+  | ({ type: 'onsets'; id: number } & OnsetTask)
+  | ({ type: 'loops'; id: number } & LoopTask)
 
 async function serve(m: HeavyTask): Promise<unknown> {
   switch (m.type) {
@@ -34,6 +38,10 @@ async function serve(m: HeavyTask): Promise<unknown> {
       const end = m.endSeconds === null ? info.format.frames : Math.min(info.format.frames, Math.round(m.endSeconds * rate))
       return measureRange(m.path, info, start, end)
     }
+    case 'onsets':
+      return runOnsetTask(m)
+    case 'loops':
+      return runLoopTask(m)
   }
 }
 

@@ -13,6 +13,7 @@ const NEEDED = [
   { program: '/usr/bin/zip', pkg: 'zip' },
   { program: '/usr/bin/python3', pkg: 'python3' },
   { program: '/usr/bin/time', pkg: 'time' },
+  { program: '/usr/bin/aubioonset', pkg: 'aubio-tools' },
   { program: '/usr/share/sounds/alsa/Front_Center.wav', pkg: 'alsa-utils' },
 ]
 
