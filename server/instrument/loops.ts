@@ -203,8 +203,9 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
   if (!starts.length) starts = [w]
   if (starts.length > MAX_STARTS) starts = starts.filter((_, i) => i % Math.ceil(starts.length / MAX_STARTS) === 0)
 
-  // For material without a period, the end may move back to any rising crossing within 5 % of the length.
-  const slack = period ? 2 : Math.min(Math.round(0.05 * wanted), Math.round(0.02 * sr))
+  // The end may move to a rising crossing: for periodic material by at most 0.04 ms (the length stays
+  // a whole number of periods), for other material back by up to 5 % of the length (at most 20 ms).
+  const slack = period ? Math.max(1, Math.floor(0.00004 * sr)) : Math.min(Math.round(0.05 * wanted), Math.round(0.02 * sr))
 
   interface Cand {
     a: number
@@ -230,9 +231,10 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
         }
         const wave = energy > 0 ? diff / energy : 0
         const step = Math.abs(x[a] - x[b - 1]) / p99
-        // Whole periods are kept exactly: a crossing found by the slack must not move the length off them.
-        const offPeriod = period ? Math.abs(b - a - len) : 0
-        cands.push({ a, b, wave, step, cost: wave + 0.1 * Math.max(0, step - 0.5) + offPeriod })
+        // Ends off a rising crossing would be moved by the render; ends off whole periods cost a little.
+        const offCrossing = x[b - 1] < 0 && x[b] >= 0 ? 0 : 1
+        const offPeriod = period ? Math.abs(b - a - len) / (0.0001 * sr) : 0
+        cands.push({ a, b, wave, step, cost: wave + 0.1 * Math.max(0, step - 0.5) + offCrossing + offPeriod })
       }
     }
   }
@@ -241,7 +243,7 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
   // The spectral term for the best few, then distinct proposals (starts 10 ms apart).
   const scored = cands.slice(0, 40).map((c) => {
     const spec = c.b - SPECTRUM_SIZE >= 0 && c.a + SPECTRUM_SIZE <= x.length ? spectralDistance(powerSpectrum(x, c.b - SPECTRUM_SIZE), powerSpectrum(x, c.a)) : 0
-    return { ...c, spec, total: c.wave + 0.1 * Math.max(0, c.step - 0.5) + 0.5 * spec }
+    return { ...c, spec, total: c.cost + 0.5 * spec }
   })
   scored.sort((p, q) => p.total - q.total)
   const out: LoopFrames[] = []
@@ -252,7 +254,7 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
     out.push({
       start: c.a,
       end: c.b,
-      score: Math.round((1 / (1 + 4 * c.total)) * 1000) / 1000,
+      score: Math.round((1 / (1 + 4 * (c.wave + 0.1 * Math.max(0, c.step - 0.5) + 0.5 * c.spec))) * 1000) / 1000,
       crossfadeMs: rough ? Math.round(Math.min(50, Math.max(5, (0.1 * (c.b - c.a) * 1000) / sr))) : 0,
       periodFrames: period,
     })

@@ -81,8 +81,8 @@ export const burstTrain = (seconds: number, sampleRate: number, seed = 1) =>
 export const clickTrain = (seconds: number, sampleRate: number, seed = 2) =>
   train(seconds, sampleRate, seed, [0.06, 0.3], (_k, r) => click(-26 + 20 * r()))
 
-/** 50 Hz hum: harmonics 1–5 at fixed amplitudes and phases, plus white noise 46 dB below the fundamental. */
-export function humWithHarmonics(seconds: number, sampleRate: number, seed = 3): Float32Array {
+/** Mains hum (50 Hz unless told): harmonics 1–5 at fixed amplitudes and phases, plus white noise 46 dB below the fundamental. */
+export function humWithHarmonics(seconds: number, sampleRate: number, seed = 3, hz = 50): Float32Array {
   const n = Math.round(seconds * sampleRate)
   const r = prng(seed)
   const h = [
@@ -95,7 +95,7 @@ export function humWithHarmonics(seconds: number, sampleRate: number, seed = 3):
   const x = new Float32Array(n)
   for (let i = 0; i < n; i++) {
     let s = 0
-    for (let k = 0; k < h.length; k++) s += h[k][0] * Math.sin((TAU * 50 * (k + 1) * i) / sampleRate + h[k][1])
+    for (let k = 0; k < h.length; k++) s += h[k][0] * Math.sin((TAU * hz * (k + 1) * i) / sampleRate + h[k][1])
     x[i] = 0.2 * s + 0.2 * amp(-46) * Math.sqrt(3) * (2 * r() - 1)
   }
   return x
