@@ -35,7 +35,8 @@ export interface LoopOptions {
 const MIN_F0 = 20
 const MAX_F0 = 1000
 const PERIODIC_R = 0.5
-const MAX_STARTS = 1500
+/** Starts tried: periodic material has few candidate ends per start, other material many. */
+const MAX_STARTS = { periodic: 1500, other: 300 }
 const SPECTRUM_SIZE = 1024
 
 /** |x[i+1] − x[i]| at the given quantile. */
@@ -201,7 +202,8 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
   const span = Math.min(room - shortest, Math.max(Math.round(0.25 * sr), period ? Math.round(4 * period) : 0))
   let starts = risingCrossings(x, w, w + span + 1)
   if (!starts.length) starts = [w]
-  if (starts.length > MAX_STARTS) starts = starts.filter((_, i) => i % Math.ceil(starts.length / MAX_STARTS) === 0)
+  const maxStarts = period ? MAX_STARTS.periodic : MAX_STARTS.other
+  if (starts.length > maxStarts) starts = starts.filter((_, i) => i % Math.ceil(starts.length / maxStarts) === 0)
 
   // The end may move to a rising crossing: for periodic material by at most 0.04 ms (the length stays
   // a whole number of periods), for other material back by up to 5 % of the length (at most 20 ms).

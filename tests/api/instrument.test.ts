@@ -3,6 +3,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { LoopSuggestionsResponse, MAX_LOOP_SECONDS, OnsetSuggestionsResponse } from '@shared/schemas/instrument'
 import { encodeWav } from '../../server/audio/wav-writer'
+import { prng } from '../../server/audio/synth'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { createSession, uploadTake, waitForTake } from '../helpers/uploads'
 import { burstTrain, fMeasure, humWithHarmonics } from '../audio/instrument-signals'
@@ -17,6 +18,7 @@ let burstTake: number
 let humTake: number
 let longTake: number
 let adminTake: number
+let noiseTake: number
 
 async function upload(client: Client, planar: Float32Array[], sampleRate: number, name: string): Promise<number> {
   const session = await createSession(client, { title: `Instrument ${name}` })
@@ -37,6 +39,8 @@ beforeAll(async () => {
   humTake = await upload(recordist, [humWithHarmonics(3, 44100)], 44100, 'hum')
   longTake = await upload(recordist, [new Float32Array(8000 * (MAX_LOOP_SECONDS + 2))], 8000, 'long')
   adminTake = await upload(admin, [humWithHarmonics(1, 8000)], 8000, 'admin-hum')
+  const r = prng(8)
+  noiseTake = await upload(recordist, [new Float32Array(48000 * MAX_LOOP_SECONDS).map(() => 0.3 * (2 * r() - 1))], 48000, 'noise')
 }, 120_000)
 afterAll(async () => {
   await server.stop()
@@ -126,6 +130,26 @@ describe('POST /api/takes/:id/loop-suggestions', () => {
       expect(res.status, JSON.stringify(body)).toBe(400)
       expect(res.body.error.code, JSON.stringify(body)).toBe(code)
     }
+  })
+})
+
+describe('off the API thread', () => {
+  it('answers other requests while a long search runs (the search is on a worker thread)', async () => {
+    const order: string[] = []
+    const search = designer.post(`/api/takes/${noiseTake}/loop-suggestions`, { startSeconds: 0, endSeconds: MAX_LOOP_SECONDS }).then((res) => {
+      order.push('search')
+      return res
+    })
+    // Wait until the search has been received (its request is parsed and on the pool), then ask for health.
+    await new Promise((resolve) => setTimeout(resolve, 100))
+    const health = await designer.get('/api/health')
+    order.push('health')
+    expect(health.status).toBe(200)
+    const res = await search
+    expect(res.status).toBe(200)
+    expect(order).toEqual(['health', 'search'])
+    // White noise has no clean join: each proposal comes with a crossfade.
+    for (const l of LoopSuggestionsResponse.parse(res.body).loops) expect(l.crossfadeMs).toBeGreaterThan(0)
   })
 })
 
