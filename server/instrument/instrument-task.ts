@@ -20,7 +20,10 @@ export interface LoopTask {
   minFrames: number
 }
 
-/** The channels' sum over [start, end) (the sum, as the render's loop cuts use) and, optionally, per-hop peaks of any channel. */
+/**
+ * The channels' mean over [start, end) (its signs are those of the sum the render's loop cuts use,
+ * so the same zero crossings) and, optionally, per-hop peaks of any channel.
+ */
 async function readRange(path: string, start: number, end: number, hop?: number) {
   const info = await probeWav(path)
   const to = Math.min(end, info.format.frames)
@@ -41,6 +44,8 @@ async function readRange(path: string, start: number, end: number, hop?: number)
     }
     at += n
   }
+  const k = 1 / info.format.channels
+  if (k !== 1) for (let i = 0; i < mono.length; i++) mono[i] *= k
   return { mono, peaks, sampleRate: info.format.sampleRate }
 }
 

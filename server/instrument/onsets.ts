@@ -24,7 +24,7 @@ export interface OnsetOptions {
   sampleRate: number
   /** 0–1: higher finds softer onsets. */
   sensitivity?: number
-  /** Per-hop largest |sample| over all channels (from `hopPeaks`); default: from `mono`. */
+  /** Per-hop largest |sample| over all channels (as `hopPeaks` makes them): detection and reported peaks use them, so channels of opposite polarity do not cancel; default: from `x`. */
   peaks?: Float32Array
 }
 
@@ -92,7 +92,8 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
   }
   const mean = (from: number, to: number) => (cum[Math.min(hops, to)] - cum[Math.max(0, from)]) / Math.max(1, Math.min(hops, to) - Math.max(0, from))
   const floorDb = quantileDb(Array.from({ length: hops }, (_, h) => db(cum[h + 1] - cum[h])), 0.1)
-  const own = hopPeaks([x], hop)
+  // Peaks of any channel when given: channels of opposite polarity do not cancel out of the detection.
+  const own = opts.peaks ?? hopPeaks([x], hop)
   const maxPeak = (from: number, to: number) => {
     let m = 0
     for (let h = Math.max(0, from); h < Math.min(hops, to); h++) m = Math.max(m, own[h])
@@ -117,7 +118,6 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
     inRun = hit
   }
 
-  const peaks = opts.peaks ?? own
   const crossingWindow = Math.round(CROSSING_SEARCH_SECONDS * sr)
   const starts = onsetHops.map((h) => {
     // First sample that stands out from the background by half the rise.
@@ -159,7 +159,7 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
     const end = Math.min(limitFrame, x.length, Math.max(endHop * hop, s.frame + Math.round(SHORTEST_SLICE_SECONDS * sr)))
     if (end - s.frame < minSlice) continue
     let peak = 0
-    for (let h = Math.floor(s.frame / hop); h < Math.ceil(end / hop) && h < peaks.length; h++) peak = Math.max(peak, peaks[h])
+    for (let h = Math.floor(s.frame / hop); h < Math.ceil(end / hop) && h < own.length; h++) peak = Math.max(peak, own[h])
     slices.push({ start: s.frame, end, peak })
   }
   return slices

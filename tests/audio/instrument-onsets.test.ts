@@ -6,7 +6,7 @@ import { execFileSync } from 'node:child_process'
 import { writeFileSync } from 'node:fs'
 import { afterAll, describe, expect, it } from 'vitest'
 import { encodeWav } from '../../server/audio/wav-writer'
-import { detectOnsets, precedingCrossing } from '../../server/instrument/onsets'
+import { detectOnsets, hopFrames, hopPeaks, precedingCrossing } from '../../server/instrument/onsets'
 import { makeTmpDir } from '../helpers/audio-files'
 import { burstTrain, clickTrain, fMeasure, type KnownEvents } from './instrument-signals'
 
@@ -85,6 +85,16 @@ describe('onset slicing', () => {
     const low = detectOnsets(quiet.samples, { sampleRate: 48000, sensitivity: 0 }).length
     const high = detectOnsets(quiet.samples, { sampleRate: 48000, sensitivity: 1 }).length
     expect(low).toBeLessThanOrEqual(high)
+  })
+
+  it('finds onsets on stereo channels of opposite polarity (their mean is silent) from the channels’ peaks', () => {
+    const sig = burstTrain(4, 48000, 13)
+    const left = sig.samples
+    const right = left.map((v) => -v)
+    const mean = new Float32Array(left.length) // (left + right) / 2: nothing
+    const peaks = hopPeaks([left, right], hopFrames(48000))
+    const slices = detectOnsets(mean, { sampleRate: 48000, peaks })
+    expect(fMeasure(sig.onsets, slices.map((s) => s.start / 48000), TOLERANCE).f).toBeGreaterThanOrEqual(0.9)
   })
 
   it('moves back to the preceding crossing, a near rising one first', () => {
