@@ -31,6 +31,11 @@ export interface CommentTable {
   resolved_by: number | null
   created_at: Generated<string>
   edited_at: string | null
+  /** The frequency band a listening note is pinned to (both or neither). */
+  low_hz: number | null
+  high_hz: number | null
+  /** keep | trim | re-take | reject (NOTE_OUTCOMES); top-level notes only. */
+  outcome: string | null
 }
 export type CommentRow = Selectable<CommentTable>
 export type NewComment = Insertable<CommentTable>

@@ -9,10 +9,14 @@ import './styles/index.scss'
 import App from './App.vue'
 import { router } from './router'
 import { useThemeStore } from './stores/theme'
+import { strayfieldLocale } from './components/ui/locale'
+import { applyA11yFallbacks } from './components/ui/a11y'
 
 const app = createApp(App)
 app.use(createPinia())
 useThemeStore()
 app.use(router)
-app.use(ElementPlus)
+// Element Plus speaks with our own words for empty lists and no match (src/components/ui/locale.ts).
+app.use(ElementPlus, { locale: strayfieldLocale })
 app.mount('#app')
+applyA11yFallbacks()

@@ -6,6 +6,7 @@ import {
   type UpdateCommentBody,
 } from '@shared/schemas/library'
 import type { User } from '@shared/schemas/auth'
+import { NOTE_OUTCOMES, type NoteOutcome } from '@shared/schemas/notes'
 import type { AppContext } from '../core/context'
 import type { Db } from '../core/database'
 import { AppError, forbidden, notFound } from '../core/errors'
@@ -18,6 +19,8 @@ import { activeMembers, commentsOf, findComment, insertComment, updateComment, t
 
 type Member = Awaited<ReturnType<typeof activeMembers>>[number]
 
+const asOutcome = (v: string | null): NoteOutcome | null => ((NOTE_OUTCOMES as readonly string[]).includes(v ?? '') ? (v as NoteOutcome) : null)
+
 /** API comments from rows in time order: top-level ones are numbered 1, 2, 3… */
 function toComments(rows: CommentJoined[], members: Member[]): Comment[] {
   let n = 0
@@ -29,6 +32,9 @@ function toComments(rows: CommentJoined[], members: Member[]): Comment[] {
     author: r.author_id && r.author_name ? { id: r.author_id, name: r.author_name } : null,
     body: r.body,
     atSeconds: r.at_seconds,
+    lowHz: r.low_hz,
+    highHz: r.high_hz,
+    outcome: r.parent_id === null ? asOutcome(r.outcome) : null,
     regionId: r.region_id,
     resolved: r.resolved_at !== null,
     resolvedAt: r.resolved_at,
@@ -125,6 +131,16 @@ export async function createComment(ctx: AppContext, user: User, takeId: number,
       durationSeconds: take.duration_seconds,
     })
   }
+  const lowHz = body.lowHz ?? null
+  const highHz = body.highHz ?? null
+  const nyquist = take.sample_rate ? take.sample_rate / 2 : null
+  if (highHz !== null && nyquist !== null && highHz > nyquist) {
+    throw new AppError(400, 'OUT_OF_RANGE', `${highHz} Hz is above the take's highest frequency (${nyquist} Hz, half its sample rate)`, {
+      highHz,
+      nyquistHz: nyquist,
+    })
+  }
+  const outcome = body.outcome ?? null
   const regionId = body.regionId ?? null
   const region = regionId !== null ? await findRegion(ctx.db, takeId, regionId) : undefined
   if (regionId !== null && !region) throw new AppError(400, 'REGION_NOT_FOUND', `Take ${takeId} has no region ${regionId}`, { regionId })
@@ -137,14 +153,26 @@ export async function createComment(ctx: AppContext, user: User, takeId: number,
   }
 
   const id = await ctx.db.transaction().execute(async (trx) => {
-    const { id } = await insertComment(trx, { take_id: takeId, author_id: user.id, body: body.body, at_seconds: at, region_id: regionId, parent_id: parentId })
+    const { id } = await insertComment(trx, {
+      take_id: takeId,
+      author_id: user.id,
+      body: body.body,
+      at_seconds: at,
+      low_hz: lowHz,
+      high_hz: highHz,
+      outcome,
+      region_id: regionId,
+      parent_id: parentId,
+    })
     const all = toComments(await commentsOf(trx, takeId), [])
     const mine = all.find((c) => c.id === id)!
     if (parentId === null) {
       const where = at !== null ? ` at ${formatTakeTime(at)}` : region ? ` on region \u201c${region.name}\u201d` : ''
-      await recordEvent(trx, takeId, user, 'commented', `Comment #${mine.number}${where}: \u201c${excerpt(body.body)}\u201d`)
+      const band = lowHz !== null && highHz !== null ? `, ${formatBand(lowHz, highHz)}` : ''
+      const verdict = outcome ? ` (${outcome})` : ''
+      await recordEvent(trx, takeId, user, 'commented', `Note #${mine.number}${where}${band}${verdict}: \u201c${excerpt(body.body)}\u201d`)
     } else {
-      await recordEvent(trx, takeId, user, 'replied', `Reply to comment #${rootOf(all, mine).number}: \u201c${excerpt(body.body)}\u201d`)
+      await recordEvent(trx, takeId, user, 'replied', `Reply to note #${rootOf(all, mine).number}: \u201c${excerpt(body.body)}\u201d`)
     }
     return id
   })
@@ -158,7 +186,14 @@ export async function createComment(ctx: AppContext, user: User, takeId: number,
   return comment
 }
 
-/** Text: the author only. Resolve and reopen: anyone who may comment. */
+/** "8.9–9.2 kHz", "50–120 Hz": a band as people read it. */
+export function formatBand(lowHz: number, highHz: number): string {
+  const k = highHz >= 1000
+  const f = (hz: number) => (k ? (hz / 1000).toFixed(hz < 10000 ? 1 : 0) : String(Math.round(hz)))
+  return `${f(lowHz)}\u2013${f(highHz)} ${k ? 'kHz' : 'Hz'}`
+}
+
+/** Text: the author only. Outcome, resolve and reopen: anyone who may comment. */
 export async function editComment(ctx: AppContext, user: User, takeId: number, commentId: number, body: UpdateCommentBody): Promise<Comment> {
   const take = await loadTake(ctx.db, takeId)
   const row = await loadComment(ctx.db, takeId, commentId)
@@ -167,9 +202,17 @@ export async function editComment(ctx: AppContext, user: User, takeId: number, c
 
   const before = toComments(await commentsOf(ctx.db, takeId), [])
   const number = rootOf(before, before.find((c) => c.id === commentId)!).number
-  const label = row.parent_id === null ? `comment #${number}` : `a reply to comment #${number}`
+  const label = row.parent_id === null ? `note #${number}` : `a reply to note #${number}`
+  if (body.outcome !== undefined && row.parent_id !== null) {
+    throw new AppError(400, 'NOT_A_NOTE', 'A reply carries no outcome; set it on the note it answers', { parentId: row.parent_id })
+  }
+  const newOutcome = body.outcome !== undefined && body.outcome !== row.outcome ? body.outcome : undefined
   await ctx.db.transaction().execute(async (trx) => {
     if (newText !== null) await updateComment(trx, commentId, { body: newText, edited_at: nowIso() })
+    if (newOutcome !== undefined) {
+      await updateComment(trx, commentId, { outcome: newOutcome })
+      await recordEvent(trx, takeId, user, 'outcome', newOutcome ? `Marked ${label} \u201c${newOutcome}\u201d` : `Cleared the outcome of ${label}`)
+    }
     if (body.resolved === true && row.resolved_at === null) {
       await updateComment(trx, commentId, { resolved_at: nowIso(), resolved_by: user.id })
       await recordEvent(trx, takeId, user, 'resolved', `Resolved ${label}`)

@@ -11,7 +11,8 @@ import { searchTakeRows } from './takes.search'
 
 /** More than this many matches asks the user to narrow the query instead of building a huge file. */
 export const EXPORT_MAX_TAKES = 50_000
-const PAGE = 200
+/** Takes read per round: few rounds (each rescans the filter index), small enough to keep memory flat. */
+const PAGE = 1000
 
 export const LIBRARY_CSV_HEADER = [
   'id', 'file', 'title', 'capture', 'device', 'state', 'duration (s)', 'format',
@@ -20,6 +21,12 @@ export const LIBRARY_CSV_HEADER = [
 
 const one = (v: number | null) => (v === null ? null : Math.round(v * 10) / 10)
 const CHANNELS: Record<number, string> = { 1: 'mono', 2: 'stereo' }
+
+function groupBy<T>(xs: T[], key: (x: T) => number): Map<number, T[]> {
+  const out = new Map<number, T[]>()
+  for (const x of xs) out.set(key(x), [...(out.get(key(x)) ?? []), x])
+  return out
+}
 
 export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; count: number }> {
   const rows: (string | number | null)[][] = []
@@ -30,8 +37,10 @@ export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; c
     }
     const ids = found.map((r) => r.id)
     const [links, tags] = await Promise.all([sourcesOf(db, ids), tagsOf(db, ids)])
+    const linksOf = groupBy(links, (l) => l.take_id)
+    const tagsOfTake = groupBy(tags, (t) => t.take_id)
     for (const r of found) {
-      const mine = links.filter((l) => l.take_id === r.id)
+      const mine = linksOf.get(r.id) ?? []
       const format = r.sample_rate
         ? `${r.sample_rate / 1000} kHz ${r.bits_per_sample ?? '?'}-bit ${CHANNELS[r.channels ?? 0] ?? `${r.channels} ch`}`
         : ''
@@ -40,7 +49,7 @@ export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; c
         mine.map((l) => l.name).join('; '), mine.map((l) => l.state).join('; '),
         r.duration_seconds === null ? null : Math.round(r.duration_seconds * 1000) / 1000, format,
         one(r.integrated_lufs), one(r.true_peak_dbtp), one(r.loudness_range_lu), r.hum_hz,
-        tags.filter((t) => t.take_id === r.id).map((t) => t.tag).join('; '), r.status,
+        (tagsOfTake.get(r.id) ?? []).map((t) => t.tag).join('; '), r.status,
       ])
     }
     if (found.length < PAGE || page * PAGE >= total) break

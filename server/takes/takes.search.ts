@@ -64,6 +64,8 @@ function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
   if (q.hum === '50' || q.hum === '60') c.push(sql`takes.hum_hz = ${Number(q.hum)}`)
   if (q.hum === 'none') c.push(sql`takes.hum_hz IS NULL AND takes.status = 'ready'`)
   if (q.status) c.push(sql`takes.status = ${q.status}`)
+  // Listening notes' outcome ("takes with a keep note"), from the comments_outcome_take index.
+  if (q.noteOutcome) c.push(sql`takes.id IN (SELECT take_id FROM comments WHERE outcome = ${q.noteOutcome} AND parent_id IS NULL)`)
   return c
 }
 

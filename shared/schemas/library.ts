@@ -2,6 +2,7 @@
 // history, regions and comments. Field names are part of the public API.
 import { z } from 'zod'
 import { Id } from './common'
+import { NoteOutcome } from './notes'
 import { TakeSourceLink } from './sources'
 import { Take } from './takes'
 
@@ -119,6 +120,7 @@ export const HISTORY_KINDS = [
   'replied',
   'resolved',
   'reopened',
+  'outcome',
   'region-added',
   'region-changed',
   'region-removed',
@@ -186,7 +188,13 @@ export const Comment = z.object({
   /** Plain text exactly as written. Render it as text, never as HTML. */
   body: z.string(),
   atSeconds: z.number().nullable(),
+  /** The frequency band the note is pinned to on the spectrogram (both or neither), in Hz. */
+  lowHz: z.number().nullable(),
+  highHz: z.number().nullable(),
+  /** The trade outcome of a top-level note (keep, trim, re-take, reject); null when none was given. */
+  outcome: NoteOutcome.nullable(),
   regionId: z.number().int().nullable(),
+  /** Kept for older clients; the bench shows outcomes instead. */
   resolved: z.boolean(),
   resolvedAt: z.string().nullable(),
   resolvedBy: UserRef.nullable(),
@@ -208,17 +216,33 @@ const commentBody = z
   .refine((s) => s.trim().length > 0, 'Write something first')
 
 /** Stored byte for byte: the body is not trimmed, escaped or otherwise changed. */
-export const CreateCommentBody = z.object({
-  body: commentBody,
-  atSeconds: seconds.nullish(),
-  regionId: Id.nullish(),
-  parentId: Id.nullish(),
-})
+const hertz = z.number().finite().min(0, 'Frequencies start at 0 Hz')
+
+/** A band needs both edges, low below high; it is checked against the take's Nyquist frequency on the server. */
+const bandRule = <T extends { lowHz?: number | null; highHz?: number | null }>(b: T) =>
+  (b.lowHz === undefined || b.lowHz === null) === (b.highHz === undefined || b.highHz === null) && (b.lowHz == null || b.lowHz < b.highHz!)
+
+export const CreateCommentBody = z
+  .object({
+    body: commentBody,
+    atSeconds: seconds.nullish(),
+    lowHz: hertz.nullish(),
+    highHz: hertz.nullish(),
+    outcome: NoteOutcome.nullish(),
+    regionId: Id.nullish(),
+    parentId: Id.nullish(),
+  })
+  .refine(bandRule, { message: 'Give a band as lowHz and highHz together, low below high', path: ['highHz'] })
+  .refine((b) => (b.lowHz == null && b.outcome == null) || b.parentId == null, {
+    message: 'A reply carries no band and no outcome; set them on the note it answers',
+    path: ['parentId'],
+  })
 export type CreateCommentBody = z.infer<typeof CreateCommentBody>
 
+/** outcome: null clears it. */
 export const UpdateCommentBody = z
-  .object({ body: commentBody.optional(), resolved: z.boolean().optional() })
-  .refine((b) => b.body !== undefined || b.resolved !== undefined, 'Send body or resolved')
+  .object({ body: commentBody.optional(), resolved: z.boolean().optional(), outcome: NoteOutcome.nullable().optional() })
+  .refine((b) => b.body !== undefined || b.resolved !== undefined || b.outcome !== undefined, 'Send body, outcome or resolved')
 export type UpdateCommentBody = z.infer<typeof UpdateCommentBody>
 
 // ---- @mentions ----

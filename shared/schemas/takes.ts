@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { Analysis, WavFormat } from './analysis'
+import { NoteOutcome } from './notes'
 import { SourceKind } from './sources'
 
 export const TAKE_STATUSES = ['queued', 'analyzing', 'ready', 'failed'] as const
@@ -90,6 +91,8 @@ export const TakeQuery = z.object({
   minLra: num.optional(),
   maxLra: num.optional(),
   hum: z.enum(['50', '60', 'none']).optional(),
+  /** Takes with at least one listening note carrying this outcome. */
+  noteOutcome: NoteOutcome.optional(),
   status: TakeStatus.optional(),
   sort: TakeSort.optional(),
   order: z.enum(['asc', 'desc']).optional(),

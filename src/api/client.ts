@@ -65,6 +65,13 @@ export const api = {
   delete: <T>(url: string) => request<T>('DELETE', url),
 }
 
+/** An image with its response headers (the spectrogram says in headers what it actually rendered). */
+export async function fetchImage(url: string, signal?: AbortSignal): Promise<{ blob: Blob; headers: Headers }> {
+  const res = await fetch(url, { credentials: 'same-origin', signal })
+  if (!res.ok) throw await toApiError(res)
+  return { blob: await res.blob(), headers: res.headers }
+}
+
 /** Query string from an object, leaving out empty values. */
 export function qs(params: Record<string, unknown>): string {
   const sp = new URLSearchParams()

@@ -3,9 +3,10 @@ import { computed, ref } from 'vue'
 import type { Peaks } from '@shared/schemas/analysis'
 import type { Take } from '@shared/schemas/takes'
 import type { Comment, Region, HistoryEvent, UpdateTakeBody } from '@shared/schemas/library'
+import type { NoteOutcome } from '@shared/schemas/notes'
 import { api } from '@/api/client'
 
-/** The listening bench: one take, its regions, its discussion and its history. */
+/** The listening bench: one take, its regions, its listening notes and its history. */
 export const useBenchStore = defineStore('bench', () => {
   const take = ref<Take | null>(null)
   const peaks = ref<Peaks | null>(null)
@@ -22,6 +23,19 @@ export const useBenchStore = defineStore('bench', () => {
     const tasks: Promise<unknown>[] = [loadRegions(), loadComments(), loadHistory()]
     if (take.value.status === 'ready') tasks.push(api.get<Peaks>(`/api/takes/${takeId}/peaks?maxPoints=8000`).then((p) => (peaks.value = p)))
     await Promise.all(tasks)
+  }
+
+  /**
+   * Finer waveform peaks for a deep zoom on a long take (the first load holds
+   * at most 8000 min/max pairs); loaded once, on demand.
+   */
+  let fineFor = 0
+  async function loadFinePeaks() {
+    const takeId = id.value
+    if (!takeId || fineFor === takeId) return
+    fineFor = takeId
+    const fine = await api.get<Peaks>(`/api/takes/${takeId}/peaks?maxPoints=200000`)
+    if (id.value === takeId) peaks.value = fine
   }
 
   const loadRegions = async () => (regions.value = (await api.get<{ regions: Region[] }>(`/api/takes/${id.value}/regions`)).regions)
@@ -45,22 +59,19 @@ export const useBenchStore = defineStore('bench', () => {
     regions.value = regions.value.filter((r) => r.id !== regionId)
   }
 
-  async function comment(body: string, atSeconds?: number | null, parentId?: number | null, regionId?: number | null) {
-    await api.post(`/api/takes/${id.value}/comments`, {
-      body,
-      ...(atSeconds !== null && atSeconds !== undefined ? { atSeconds } : {}),
-      ...(parentId ? { parentId } : {}),
-      ...(regionId ? { regionId } : {}),
-    })
+  /** A listening note (or a reply): only the fields that are set are sent. */
+  async function comment(note: { body: string; atSeconds?: number | null; lowHz?: number | null; highHz?: number | null; outcome?: NoteOutcome | null; regionId?: number | null; parentId?: number | null }) {
+    const set = Object.fromEntries(Object.entries(note).filter(([, v]) => v !== null && v !== undefined))
+    await api.post(`/api/takes/${id.value}/comments`, set)
     await Promise.all([loadComments(), loadHistory()])
   }
 
-  async function updateComment(commentId: number, patch: { body?: string; resolved?: boolean }) {
+  async function updateComment(commentId: number, patch: { body?: string; outcome?: NoteOutcome | null }) {
     await api.patch(`/api/takes/${id.value}/comments/${commentId}`, patch)
-    await loadComments()
+    await Promise.all([loadComments(), loadHistory()])
   }
 
-  return { take, peaks, regions, comments, history, open, edit, addRegion, removeRegion, comment, updateComment, loadHistory }
+  return { take, peaks, regions, comments, history, open, loadFinePeaks, edit, addRegion, removeRegion, comment, updateComment, loadHistory }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useBenchStore, import.meta.hot))

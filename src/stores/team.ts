@@ -34,13 +34,19 @@ export const useTeamStore = defineStore('team', () => {
     invitations.value = invitations.value.map((i) => (i.id === id ? invitation : i))
   }
 
+  /** Withdraws an invitation that was not accepted yet: its link stops working. */
+  async function withdraw(id: number) {
+    await api.delete(`/api/invitations/${id}`)
+    invitations.value = invitations.value.filter((i) => i.id !== id)
+  }
+
   async function loadOutbox() {
     const res = await api.get<{ messages: OutboxMessage[]; transport: string }>('/api/outbox')
     outbox.value = res.messages
     transport.value = res.transport
   }
 
-  return { members, invitations, outbox, transport, load, update, invite, resend, loadOutbox }
+  return { members, invitations, outbox, transport, load, update, invite, resend, withdraw, loadOutbox }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useTeamStore, import.meta.hot))

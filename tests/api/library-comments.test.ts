@@ -111,10 +111,10 @@ describe('threads', () => {
     const events = (await as.producer.get(`/api/takes/${take}/history`)).body.events as { kind: string; summary: string; user: { name: string } | null }[]
     const oldestFirst = [...events].reverse()
     expect(oldestFirst.map((e) => e.kind)).toEqual(['commented', 'replied', 'commented', 'replied', 'commented', 'resolved', 'reopened', 'resolved'])
-    expect(oldestFirst[0]).toMatchObject({ summary: 'Comment #1 at 0:12.5: \u201cWhine starts clean here\u201d', user: { name: 'Dana Humbucker' } })
-    expect(oldestFirst[1].summary).toBe('Reply to comment #1: \u201cAgreed, the coil was closest then\u201d')
-    expect(oldestFirst[3].summary).toBe('Reply to comment #1: \u201cReply to the reply\u201d')
-    expect(oldestFirst[5]).toMatchObject({ summary: 'Resolved comment #1', user: { name: 'Cass Earwig' } })
+    expect(oldestFirst[0]).toMatchObject({ summary: 'Note #1 at 0:12.5: \u201cWhine starts clean here\u201d', user: { name: 'Dana Humbucker' } })
+    expect(oldestFirst[1].summary).toBe('Reply to note #1: \u201cAgreed, the coil was closest then\u201d')
+    expect(oldestFirst[3].summary).toBe('Reply to note #1: \u201cReply to the reply\u201d')
+    expect(oldestFirst[5]).toMatchObject({ summary: 'Resolved note #1', user: { name: 'Cass Earwig' } })
   })
 })
 

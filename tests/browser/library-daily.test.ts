@@ -97,6 +97,9 @@ describe('range filters', () => {
     expect(expected.length).toBeGreaterThan(0)
     expect(expected.length).toBeLessThan(takes.length)
     await expect.poll(shownIds, { timeout: 10_000 }).toEqual(expected.sort((a, b) => a - b))
+    // Only the −17 LUFS take lies between them; the count says so in the singular.
+    expect(expected).toHaveLength(1)
+    expect(await page.locator('[data-test=library-total]').innerText()).toBe('1 take')
     const url = new URL(page.url())
     expect(url.searchParams.get('minLufs')).toBe('-20')
     expect(url.searchParams.get('maxLufs')).toBe('-10')
@@ -175,6 +178,15 @@ describe('auditioning with the keyboard', () => {
     await page.keyboard.press('n')
     await expect.poll(() => strip().locator('[data-test=now-playing-name]').innerText(), { timeout: 10_000 }).toBe(byId.get(order[1])!.title)
     await screenshot(page, 'library-now-playing')
+    // The scrubber moves the position from the keyboard too (a range input: arrows step it).
+    const scrub = strip().getByRole('slider', { name: 'Position' })
+    await scrub.focus()
+    await page.keyboard.press('Home')
+    // Chromium steps a range input by a tenth of its span on PageUp: four of them reach 2.4 s of the 6 s take.
+    for (let i = 0; i < 4; i++) await page.keyboard.press('PageUp')
+    await expect.poll(async () => toSeconds(await elapsed()), { timeout: 10_000 }).toBeGreaterThanOrEqual(2.3)
+    expect(toSeconds(await elapsed())).toBeLessThan(5)
+    await page.locator('body').click({ position: { x: 5, y: 5 } })
     // Space pauses: the time stops.
     await page.keyboard.press(' ')
     await expect.poll(() => strip().locator('[data-test=now-playing-toggle]').getAttribute('aria-label'), { timeout: 10_000 }).toBe('Play (Space)')
@@ -192,6 +204,19 @@ describe('auditioning with the keyboard', () => {
     await expect.poll(() => page.locator('[data-take][aria-current=true]').getAttribute('data-take'), { timeout: 10_000 }).toBe(String(order[2]))
     await page.keyboard.press('Enter')
     await page.waitForURL(`**/takes/${order[2]}`)
+  })
+})
+
+describe('Enter on a focused control', () => {
+  it('presses that control (here a column heading sorts) instead of opening the bench', async () => {
+    await page.goto(`${server.url}/library`)
+    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    await page.getByRole('button', { name: 'Integrated' }).focus()
+    await page.keyboard.press('Enter')
+    await expect.poll(() => new URL(page.url()).searchParams.get('sort'), { timeout: 10_000 }).toBe('integratedLufs')
+    expect(new URL(page.url()).pathname).toBe('/library')
+    const lufs = takes.concat(adminTake).sort((a, b) => a.lufs - b.lufs).map((t) => t.id)
+    await expect.poll(rowOrder, { timeout: 10_000 }).toEqual(lufs)
   })
 })
 
@@ -241,6 +266,21 @@ describe('tags', () => {
     const history = (await designer.get(`/api/takes/${takes[0].id}/history`).expect(200)).body.events
     expect(history[0].summary).toBe('Tag “mains” renamed to “mains hum” (tag manager)')
     await screenshot(page, 'tag-manager')
+  })
+
+  it('the tag manager merges two tags into one typed name', async () => {
+    await page.getByRole('checkbox', { name: 'Pick bright whine to merge' }).check()
+    await page.getByRole('checkbox', { name: 'Pick mains hum to merge' }).check()
+    const into = page.locator('[data-test=tag-merge-into]')
+    await into.click()
+    await page.keyboard.press('Control+a')
+    await page.keyboard.type('whine')
+    await page.keyboard.press('Enter')
+    await expect.poll(() => page.locator('[data-test=tag-done]').innerText(), { timeout: 10_000 }).toBe('“bright whine”, “mains hum” merged into “whine” on 2 takes.')
+    await expect.poll(() => page.locator('[data-tag="whine"] td.num').innerText(), { timeout: 10_000 }).toBe('2')
+    expect(await page.locator('[data-tag="bright whine"], [data-tag="mains hum"]').count()).toBe(0)
+    const res = await designer.get(`/api/takes/${takes[1].id}`).expect(200)
+    expect(res.body.take.tags).toEqual(['hum', 'whine'])
   })
 })
 

@@ -1,6 +1,6 @@
 // The library and the listening bench in Debian's Chromium: a long take draws
 // from the server's peaks while only a little of its audio is fetched, plays,
-// takes a comment at a time position, and searches survive a reload.
+// takes a listening note at a time position, and searches survive a reload.
 import path from 'node:path'
 import fs from 'node:fs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
@@ -65,19 +65,20 @@ describe('listening bench', () => {
 
   it('plays and moves the playhead', async () => {
     const before = await page.locator('[data-test=playhead]').innerText()
-    expect(before.startsWith('0.0 s')).toBe(true)
+    expect(before.startsWith('0:00.0')).toBe(true)
     await page.locator('[data-test=play]').click()
-    await expect.poll(() => page.locator('[data-test=playhead]').innerText(), { timeout: 15_000 }).not.toMatch(/^0\.0 s/)
+    await expect.poll(() => page.locator('[data-test=playhead]').innerText(), { timeout: 15_000 }).not.toMatch(/^0:00\.0/)
     await page.locator('[data-test=play]').click()
-    await expect(page.locator('[data-test=hearing-caution]').innerText()).resolves.toMatch(/Start quiet/)
+    await expect(page.locator('[data-test=now-playing-caution]').innerText()).resolves.toMatch(/Start quiet/)
   })
 
-  it('adds a comment at the playhead and shows its numbered marker on the waveform', async () => {
-    await page.locator('[data-test=comment-input] textarea, textarea[data-test=comment-input]').first().fill('Hiss rises here <b>not bold</b>')
-    await page.locator('[data-test=comment-post]').click()
+  it('adds a listening note at the playhead (Ctrl+Enter) and marks it with the author initials on the field strip', async () => {
+    await page.getByLabel('Listening note', { exact: true }).click()
+    await page.keyboard.type('Hiss rises here <b>not bold</b>')
+    await page.keyboard.press('Control+Enter')
     await expect.poll(() => page.locator('[data-test=discussion]').innerText()).toContain('Hiss rises here <b>not bold</b>')
-    await expect.poll(() => page.locator('.sf-tick').count()).toBe(1)
-    await expect(page.locator('.sf-tick').first().innerText()).resolves.toBe('1')
+    await expect.poll(() => page.locator('[data-test=note-mark]').count()).toBe(1)
+    await expect(page.locator('[data-test=note-mark]').first().innerText()).resolves.toBe('DH')
     await screenshot(page, 'listening-bench')
   })
 })

@@ -42,7 +42,8 @@ describe('packs in the browser', () => {
     await page.locator('[data-test=add-to-pack] .el-select').click()
     await page.locator('.el-select-dropdown__item', { hasText: 'Bench hums, volume one' }).click()
     await page.locator('[data-test=add-to-pack] button').click()
-    await expect.poll(() => page.locator('.el-message').innerText()).toMatch(/2 items added/)
+    // The notice stands beside the button that added them (src/components/ui/notice.ts).
+    await expect.poll(() => page.locator('[data-test=notice]').innerText()).toMatch(/2 items added/)
 
     await page.goto(`${server.url}/packs/${packId}`)
     await expect.poll(() => page.locator('[data-test=pack-items] [data-item]').count()).toBe(2)

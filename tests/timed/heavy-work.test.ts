@@ -3,7 +3,7 @@
 // and one member cannot queue more than a few of them at once.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
-import { binary, newSession, SIGNALS, uploadMeasured } from './packs-fixtures'
+import { binary, newSession, SIGNALS, uploadMeasured } from '../api/packs-fixtures'
 import { makeTmpDir } from '../helpers/audio-files'
 
 let server: TestServer
