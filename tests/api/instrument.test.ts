@@ -6,6 +6,7 @@ import { encodeWav } from '../../server/audio/wav-writer'
 import { prng } from '../../server/audio/synth'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { createSession, uploadTake, waitForTake } from '../helpers/uploads'
+import { insertSession, insertTakeRow, userIds } from './library-fixtures'
 import { burstTrain, fMeasure, humWithHarmonics } from '../audio/instrument-signals'
 
 let server: TestServer
@@ -166,6 +167,19 @@ describe('who may ask', () => {
     expect((await recordist.post(`/api/takes/${humTake}/loop-suggestions`, body)).status).toBe(200)
     expect((await designer.post(`/api/takes/${adminTake}/loop-suggestions`, body)).status).toBe(200)
     expect((await admin.post(`/api/takes/${humTake}/onset-suggestions`, {})).status).toBe(200)
+  })
+
+  it('answers 409 for a take not yet measured and 404 FILE_MISSING, without a path, when its file is gone', async () => {
+    const users = await userIds(server.ctx.db)
+    const session = await insertSession(server.ctx.db, 'Rows only')
+    const pending = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Still analyzing' })
+    await server.ctx.db.updateTable('takes').set({ status: 'analyzing' }).where('id', '=', pending).execute()
+    const early = await designer.post(`/api/takes/${pending}/onset-suggestions`, {})
+    expect([early.status, early.body.error.code]).toEqual([409, 'NOT_MEASURED'])
+    const gone = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'File lost', duration: 2 })
+    const res = await designer.post(`/api/takes/${gone}/loop-suggestions`, { startSeconds: 0, endSeconds: 1 })
+    expect([res.status, res.body.error.code]).toEqual([404, 'FILE_MISSING'])
+    expect(JSON.stringify(res.body)).not.toContain(server.dir)
   })
 
   it('answers 404 for an unknown take', async () => {
