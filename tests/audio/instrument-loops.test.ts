@@ -23,6 +23,7 @@ const hums: { name: string; sampleRate: number; hz: number }[] = [
   { name: '50 Hz at 44.1 kHz', sampleRate: 44100, hz: 50 },
   { name: '50.02 Hz at 48 kHz (a grid running fast: the period is not a whole number of frames)', sampleRate: 48000, hz: 50.02 },
   { name: '60 Hz at 96 kHz', sampleRate: 96000, hz: 60 },
+  { name: 'a motor-like drone at 23.7 Hz, 44.1 kHz (same harmonics)', sampleRate: 44100, hz: 23.7 },
 ]
 
 /** Distance of `seconds` from the nearest whole number of periods. */
