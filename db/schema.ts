@@ -4,6 +4,7 @@ import type { Generated, Insertable, Selectable, Updateable } from 'kysely'
 // Feature tables added later live in their own files and join the Database interface below.
 import type { LibraryTables } from './schema-library'
 import type { PackTables } from './schema-packs'
+import type { RemovalTables } from './schema-removals'
 
 export interface UserTable {
   id: Generated<number>
@@ -169,7 +170,7 @@ export interface JobTable {
 }
 export type JobRow = Selectable<JobTable>
 
-export interface Database extends LibraryTables, PackTables {
+export interface Database extends LibraryTables, PackTables, RemovalTables {
   users: UserTable
   sessions: SessionTable
   settings: SettingTable

@@ -19,6 +19,7 @@ import { registerCaptureRoutes } from './captures/captures.routes'
 import { registerIngestRoutes } from './ingest/ingest.routes'
 import { bodyDeadline } from './ingest/slow-bodies'
 import { registerTakeRoutes } from './takes/takes.routes'
+import { registerTakeRemovalRoutes } from './takes/takes.removal.routes'
 import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
@@ -80,6 +81,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerCaptureRoutes(api, ctx)
   registerIngestRoutes(api, ctx)
   registerTakeRoutes(api, ctx)
+  registerTakeRemovalRoutes(api, ctx)
   registerSpectrogramRoutes(api, ctx)
   registerSourceRoutes(api, ctx)
   registerRegionRoutes(api, ctx)

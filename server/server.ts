@@ -12,6 +12,7 @@ import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
 import { buildPackJob } from './packs/build.job'
+import { startRemovalSweep } from './takes/takes.removal'
 import { createHeavyWork } from './core/heavy-work'
 
 export interface RunningServer {
@@ -49,6 +50,8 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
+  // Removed takes older than 30 days are purged with their files, at start and daily.
+  const stopRemovalSweep = startRemovalSweep(db, storage)
   const built = await createApp(ctx)
   const server = http.createServer(built.app)
   // Long takes upload for a long time: Node's 5-minute whole-request limit is lifted here and
@@ -73,6 +76,7 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
           server.closeAllConnections()
         })
         await ctx.jobs.stop()
+        await stopRemovalSweep()
         await pool.close()
         await heavy.close()
         await built.close()

@@ -26,6 +26,8 @@ export const PERMISSIONS = {
   'takes:edit-any': ['admin', 'designer'],
   /** The catalogue of source devices. */
   'sources:manage': ['admin', 'designer'],
+  /** Add a device to the catalogue (name and kind) where a take is logged; the rest is filled in by 'sources:manage'. */
+  'sources:create': ['admin', 'recordist', 'designer'],
   /** Curate packs, render, build, publish, share links. */
   'packs:manage': ['admin', 'designer'],
   /** See published packs and download their published versions. */

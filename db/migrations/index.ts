@@ -8,6 +8,7 @@ import * as takeSearch from './20261201140000_take_search'
 import * as library from './20261201150000_library'
 import * as packs from './20261201160000_packs'
 import * as hardening from './20261202110000_hardening'
+import * as takeRemovals from './20261202130000_take_removals'
 import * as listeningNotes from './20261202150000_listening_notes'
 import * as packBuildNotes from './20261202160000_pack_build_notes'
 
@@ -18,6 +19,7 @@ export const migrations: Record<string, Migration> = {
   '20261201150000_library': library,
   '20261201160000_packs': packs,
   '20261202110000_hardening': hardening,
+  '20261202130000_take_removals': takeRemovals,
   '20261202150000_listening_notes': listeningNotes,
   '20261202160000_pack_build_notes': packBuildNotes,
 }

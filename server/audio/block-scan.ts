@@ -17,6 +17,9 @@ export class BlockScan {
   hi: Float32Array[]
   /** Σx² over all channels per chunk. */
   energy: Float64Array
+  /** Per channel and chunk: Σx and Σx². */
+  chunkSum: Float64Array[]
+  chunkEnergy: Float64Array[]
 
   constructor(channels: number) {
     this.channels = channels
@@ -25,6 +28,8 @@ export class BlockScan {
     this.lo = Array.from({ length: channels }, () => new Float32Array(0))
     this.hi = Array.from({ length: channels }, () => new Float32Array(0))
     this.energy = new Float64Array(0)
+    this.chunkSum = Array.from({ length: channels }, () => new Float64Array(0))
+    this.chunkEnergy = Array.from({ length: channels }, () => new Float64Array(0))
   }
 
   scan(planar: Float32Array[]): void {
@@ -34,6 +39,8 @@ export class BlockScan {
       this.lo = this.lo.map(() => new Float32Array(chunks))
       this.hi = this.hi.map(() => new Float32Array(chunks))
       this.energy = new Float64Array(chunks)
+      this.chunkSum = this.chunkSum.map(() => new Float64Array(chunks))
+      this.chunkEnergy = this.chunkEnergy.map(() => new Float64Array(chunks))
     }
     this.frames = n
     this.chunks = chunks
@@ -49,16 +56,25 @@ export class BlockScan {
     const loA = this.lo[a], hiA = this.hi[a]
     const loB = b < 0 ? loA : this.lo[b], hiB = b < 0 ? hiA : this.hi[b]
     const both = b >= 0 ? 1 : 0
+    const sumA = this.chunkSum[a], nrgA = this.chunkEnergy[a]
+    const sumB = b < 0 ? sumA : this.chunkSum[b], nrgB = b < 0 ? nrgA : this.chunkEnergy[b]
     let sa = 0, qa = 0, sb = 0, qb = 0
     let c = 0
     let i = 0
     for (; i + 3 < n; i += 4, c++) {
       const a0 = xa[i], a1 = xa[i + 1], a2 = xa[i + 2], a3 = xa[i + 3]
       const b0 = xb[i], b1 = xb[i + 1], b2 = xb[i + 2], b3 = xb[i + 3]
-      sa += a0 + a1 + (a2 + a3)
-      sb += b0 + b1 + (b2 + b3)
+      const ca = a0 + a1 + (a2 + a3)
+      const cb = b0 + b1 + (b2 + b3)
+      sa += ca
+      sb += cb
       const ea = a0 * a0 + a1 * a1 + (a2 * a2 + a3 * a3)
       const eb = b0 * b0 + b1 * b1 + (b2 * b2 + b3 * b3)
+      // Channel b is written first so that, when b is a (one channel left), a's values stand.
+      sumB[c] = cb
+      nrgB[c] = eb
+      sumA[c] = ca
+      nrgA[c] = ea
       qa += ea
       qb += eb
       const ec = ea + both * eb
@@ -73,7 +89,7 @@ export class BlockScan {
     }
     if (i < n) {
       // The partial last chunk, channel by channel.
-      const tail = (x: Float32Array, lo: Float32Array, hi: Float32Array) => {
+      const tail = (x: Float32Array, lo: Float32Array, hi: Float32Array, cs: Float64Array, ce: Float64Array) => {
         let l = Infinity, h = -Infinity, s = 0, q = 0
         for (let j = i; j < n; j++) {
           const v = x[j]
@@ -84,14 +100,16 @@ export class BlockScan {
         }
         lo[c] = l
         hi[c] = h
+        cs[c] = s
+        ce[c] = q
         return { s, q }
       }
-      const ta = tail(xa, loA, hiA)
+      const ta = tail(xa, loA, hiA, sumA, nrgA)
       sa += ta.s
       qa += ta.q
       let ec = ta.q
       if (b >= 0) {
-        const tb = tail(xb, loB, hiB)
+        const tb = tail(xb, loB, hiB, sumB, nrgB)
         sb += tb.s
         qb += tb.q
         ec += tb.q

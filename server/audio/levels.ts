@@ -1,11 +1,14 @@
 // Sample-domain levels per channel: sample peak, RMS (plain mathematical
 // convention: a full-scale sine reads −3.01 dBFS), DC offset and clipping.
 //
-// Clipping rule: a sample is at full scale when |x| ≥ 1 − 1 LSB of the file's
-// valid bits (that is, the largest positive code or the most negative one) or,
-// for float files, when |x| ≥ 1.0. Clipped samples are those in runs of two or
-// more consecutive full-scale samples of the same polarity in one channel: a
-// single sample touching full scale is a peak, a flat top is a clip.
+// Clipping rule: a sample is at the format's limit when |x| ≥ 1 − 1 LSB of the
+// file's valid bits (that is, the largest positive code or the most negative
+// one) or, for float files, when |x| is exactly 1.0 (what a clipper writes).
+// Clipped samples are those in runs of two or more consecutive samples at the
+// limit, of the same polarity, in one channel: a single sample touching full
+// scale is a peak, a flat top is a clip. A float file can hold samples beyond
+// full scale without clipping them; those are counted apart, as "over full
+// scale" (|x| > 1.0), and are never called clipped.
 
 import { CHUNK, type BlockScan } from './block-scan'
 
@@ -13,6 +16,8 @@ export interface LevelsOptions {
   channels: number
   encoding: 'pcm' | 'float'
   validBitsPerSample: number
+  /** Samples arrive multiplied by this (float-64 files beyond the float-32 range); full scale is this. */
+  scale?: number
 }
 
 export interface ChannelTotals {
@@ -21,6 +26,7 @@ export interface ChannelTotals {
   sumSquares: number
   frames: number
   clipped: number
+  overFullScale: number
 }
 
 export function fullScaleThreshold(encoding: 'pcm' | 'float', validBits: number): number {
@@ -34,16 +40,22 @@ export class LevelsMeter {
   private readonly sum: Float64Array
   private readonly sumSquares: Float64Array
   private readonly clipped: Float64Array
+  private readonly over: Float64Array
+  private readonly float: boolean
+  private readonly limit: number
   private readonly run: Float64Array // signed length of the current full-scale run (+ top, − bottom)
   private frames = 0
 
   constructor(opts: LevelsOptions) {
     this.channels = opts.channels
-    this.threshold = fullScaleThreshold(opts.encoding, opts.validBitsPerSample)
+    this.limit = opts.scale ?? 1
+    this.threshold = fullScaleThreshold(opts.encoding, opts.validBitsPerSample) * this.limit
     this.peak = new Float64Array(opts.channels)
     this.sum = new Float64Array(opts.channels)
     this.sumSquares = new Float64Array(opts.channels)
     this.clipped = new Float64Array(opts.channels)
+    this.over = new Float64Array(opts.channels)
+    this.float = opts.encoding === 'float'
     this.run = new Float64Array(opts.channels)
   }
 
@@ -74,7 +86,10 @@ export class LevelsMeter {
     let clipped = this.clipped[ch]
     for (let i = from; i < to; i++) {
       const v = x[i]
-      if (Math.abs(v) >= t) {
+      if (this.float && Math.abs(v) > this.limit) {
+        this.over[ch]++
+        run = 0
+      } else if (Math.abs(v) >= t) {
         const sign = v > 0 ? 1 : -1
         if (run * sign > 0) {
           run += sign
@@ -94,6 +109,7 @@ export class LevelsMeter {
       sumSquares: this.sumSquares[channel],
       frames: this.frames,
       clipped: this.clipped[channel],
+      overFullScale: this.over[channel],
     }
   }
 }

@@ -210,9 +210,10 @@ export class LoudnessMeter {
       const l = powerToLufs(p)
       return l !== null && l > ABSOLUTE_GATE ? l : null
     }
-    // Short-sound loudness: all the K-weighted energy over the sound's own length (partial sub-block included).
+    // Short-sound loudness: all the K-weighted energy over the sound's own length (partial sub-block
+    // included), with the same −70 LUFS absolute gate as a block: below it there is nothing to measure.
     const frames = this.position
-    const short = frames > 0 && frames < SHORT_SOUND_SECONDS * this.opts.sampleRate ? powerToLufs((this.totalEnergy + this.currentEnergy) / frames) : null
+    const short = frames > 0 && frames < SHORT_SOUND_SECONDS * this.opts.sampleRate ? level((this.totalEnergy + this.currentEnergy) / frames) : null
     return {
       integratedLufs: this.integrated(),
       loudnessRangeLu: this.range(),

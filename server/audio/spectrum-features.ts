@@ -4,7 +4,7 @@
 // 0 dB whatever its frequency, because a tone's level is taken from the power
 // of its whole Hann main lobe (±2 bins) rather than from one bin, which would
 // read up to 1.4 dB low between bins.
-import type { MainsHum, Spectrum, TonalPeak } from '@shared/schemas/analysis'
+import type { HumHarmonic, MainsHum, Spectrum, TonalPeak } from '@shared/schemas/analysis'
 import type { PowerSpectrum } from './spectrum'
 
 const PEAK_PROMINENCE_DB = 10
@@ -15,11 +15,11 @@ const MAX_TONAL_PEAKS = 8
 const FLOOR_HALF_WIDTH_HZ = 50
 const LOBE = 2
 const HUM_THRESHOLD_DB = 6
-const HUM_HARMONICS = 10
 
-export function describeSpectrum(s: PowerSpectrum | null): Spectrum {
-  if (s === null) return { centroidHz: null, tonalPeaks: [], mainsHum: { hz: null, ratioDb: null } }
-  return { centroidHz: centroid(s), tonalPeaks: tonalPeaks(s), mainsHum: mainsHum(s) }
+export function describeSpectrum(s: PowerSpectrum | null, hum?: MainsHum): Spectrum {
+  if (s === null) return { centroidHz: null, tonalPeaks: [], mainsHum: hum ?? { hz: null, ratioDb: null } }
+  const h = readHum(s)
+  return { centroidHz: centroid(s), tonalPeaks: tonalPeaks(s), mainsHum: hum ?? { hz: h.hz, ratioDb: h.ratioDb } }
 }
 
 function binHz(s: PowerSpectrum): number {
@@ -81,35 +81,87 @@ function refinedHz(s: PowerSpectrum, k: number): number {
 }
 
 /**
- * Mains hum: for 50 and 60 Hz, the power in narrow bands at the fundamental
- * and its harmonics (up to the 10th, below Nyquist) against the power the
- * neighbouring bands would put there. A band's half-width grows with the
- * harmonic number to follow a mains frequency that is off by up to 0.5 %.
+ * Mains hum. For 50 and 60 Hz: the fundamental is measured (the strongest bin within ±1 % of the
+ * nominal frequency, refined), then narrow bands at the first eight harmonics of it are compared
+ * with the power the neighbouring bands would put there. A band's half-width grows with the
+ * harmonic number to follow a mains frequency that is off by up to 0.5 %. A harmonic stands out
+ * when its band is ≥ 6 dB over its neighbours. It is a mains pattern when the fundamental stands
+ * out, or when at least three of harmonics 2–8 do, one of them odd: a single tone at 100, 150, 300
+ * or 400 Hz is one harmonic and is not mains hum, and a tone at 100 Hz with its own overtones
+ * (harmonics 2, 4, 6, 8 of 50 Hz, all even) cannot be told from any 100 Hz sound, so it is not
+ * called mains either. The hum bands together must also hold at least −70 dB of the signal's power
+ * (in a clean high whine they hold only quantisation noise, whose ratio to its neighbours is chance).
  */
-function mainsHum(s: PowerSpectrum): MainsHum {
-  let total = 0
-  for (let k = 1; k < s.power.length; k++) total += s.power[k]
-  const candidates = ([50, 60] as const).map((f0) => ({ hz: f0, ...humBands(s, f0) }))
-  const measured = candidates.filter((c): c is { hz: 50 | 60; ratioDb: number; inBand: number } => c.ratioDb !== null)
-  if (measured.length === 0) return { hz: null, ratioDb: null }
-  const best = measured.reduce((a, b) => (b.ratioDb > a.ratioDb ? b : a))
-  // A hum must also carry a share of the take's energy: in a clean high whine the
-  // hum bands hold only quantisation noise, whose ratio to its neighbours is chance.
-  const audible = total > 0 && best.inBand / total >= HUM_MIN_SHARE
-  return { hz: best.ratioDb >= HUM_THRESHOLD_DB && audible ? best.hz : null, ratioDb: best.ratioDb }
+export interface HumReading {
+  hz: 50 | 60 | null
+  ratioDb: number | null
+  measuredHz: number | null
+  harmonics: HumHarmonic[]
+  confidence: number
 }
 
+const HUM_HARMONICS = 8
 /** Hum bands must hold at least this share of the total power (−70 dB; common practice, chosen here). */
 const HUM_MIN_SHARE = 1e-7
 
-function humBands(s: PowerSpectrum, f0: number): { ratioDb: number | null; inBand: number } {
+/** `thresholdDb`: how far a harmonic must stand out (6 dB on averaged spectra; one segment's spectrum is noisier, so its verdict asks for 10). */
+export function readHum(s: PowerSpectrum, thresholdDb = HUM_THRESHOLD_DB): HumReading {
+  let total = 0
+  for (let k = 1; k < s.power.length; k++) total += s.power[k]
+  const candidates = ([50, 60] as const).map((f0) => humCandidate(s, f0, total, thresholdDb))
+  const mains = candidates.filter((c) => c.mains)
+  const pick = (list: typeof candidates) => list.reduce((a, b) => (score(b) > score(a) || (score(b) === score(a) && (b.ratioDb ?? -Infinity) > (a.ratioDb ?? -Infinity)) ? b : a))
+  const best = mains.length > 0 ? pick(mains) : pick(candidates)
+  const verdict = best.mains ? best.f0 : null
+  return {
+    hz: verdict,
+    ratioDb: best.ratioDb,
+    measuredHz: verdict ? best.measuredHz : null,
+    harmonics: best.harmonics,
+    confidence: verdict ? confidence(best) : 0,
+  }
+}
+
+interface Candidate {
+  f0: 50 | 60
+  measuredHz: number
+  ratioDb: number | null
+  harmonics: HumHarmonic[]
+  mains: boolean
+}
+
+function score(c: Candidate): number {
+  return c.harmonics.reduce((n, h) => n + (h.standsOut ? (h.n === 1 ? 2 : 1) : 0), 0)
+}
+
+/**
+ * 0..1: the fundamental counts 2 and each other harmonic that stands out 1, out of 4; times how far
+ * they stand out on average, out of 12 dB. A fundamental alone 12 dB up gives 0.5; a fundamental
+ * and two harmonics that far up give 1.
+ */
+function confidence(c: Candidate): number {
+  const up = c.harmonics.filter((h) => h.standsOut)
+  if (up.length === 0) return 0
+  const mean = up.reduce((a, h) => a + (h.aboveNeighboursDb ?? 0), 0) / up.length
+  return Math.round(Math.min(1, score(c) / 4) * Math.min(1, mean / 12) * 100) / 100
+}
+
+function humCandidate(s: PowerSpectrum, f0: 50 | 60, total: number, thresholdDb: number): Candidate {
   const hz = binHz(s)
   const nyquist = s.sampleRate / 2
+  // The measured fundamental: the strongest bin within ±1 %, refined; the nominal one if that is not a peak.
+  let measuredHz: number = f0
+  let bestK = -1
+  for (let k = Math.max(2, Math.floor((f0 * 0.99) / hz)); k <= Math.ceil((f0 * 1.01) / hz) && k < s.power.length - 1; k++) {
+    if (bestK < 0 || s.power[k] > s.power[bestK]) bestK = k
+  }
+  if (bestK > 0 && s.power[bestK] > s.power[bestK - 1] && s.power[bestK] >= s.power[bestK + 1]) measuredHz = refinedHz(s, bestK)
+  const harmonics: HumHarmonic[] = []
   let inBand = 0
   let expected = 0
   for (let h = 1; h <= HUM_HARMONICS; h++) {
-    const f = h * f0
-    const halfWidth = 1.5 * hz + 0.005 * f
+    const f = h * measuredHz
+    const halfWidth = 1.5 * hz + 0.005 * h * f0
     if (f + 5 * halfWidth >= nyquist) break
     const lo = Math.ceil((f - halfWidth) / hz)
     const hi = Math.floor((f + halfWidth) / hz)
@@ -126,9 +178,17 @@ function humBands(s: PowerSpectrum, f0: number): { ratioDb: number | null; inBan
         sideBins++
       }
     }
+    const exp = sideBins > 0 ? (side / sideBins) * (hi - lo + 1) : 0
     inBand += band
-    if (sideBins > 0) expected += (side / sideBins) * (hi - lo + 1)
+    expected += exp
+    const db = band > 0 && exp > 0 ? 10 * Math.log10(band / exp) : null
+    harmonics.push({ n: h, hz: Math.round(f * 100) / 100, aboveNeighboursDb: db, standsOut: false })
   }
-  if (!(inBand > 0) || !(expected > 0)) return { ratioDb: null, inBand }
-  return { ratioDb: 10 * Math.log10(inBand / expected), inBand }
+  const ratioDb = inBand > 0 && expected > 0 ? 10 * Math.log10(inBand / expected) : null
+  const audible = total > 0 && inBand / total >= HUM_MIN_SHARE
+  for (const h of harmonics) h.standsOut = audible && h.aboveNeighboursDb !== null && h.aboveNeighboursDb >= thresholdDb
+  const fundamental = harmonics[0]?.standsOut ?? false
+  const others = harmonics.filter((h) => h.n > 1 && h.standsOut)
+  const mains = fundamental || (others.length >= 3 && others.some((h) => h.n % 2 === 1))
+  return { f0, measuredHz, ratioDb, harmonics, mains }
 }

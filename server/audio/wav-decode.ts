@@ -15,7 +15,7 @@ export interface DecodeFormat {
  * Decode `frames` whole frames from `buf` (whose byteOffset must be a multiple of 8,
  * e.g. from Buffer.allocUnsafeSlow) into out[c][0..frames).
  */
-export function decodeInterleaved(buf: Buffer, frames: number, f: DecodeFormat, out: Float32Array[]): void {
+export function decodeInterleaved(buf: Buffer, frames: number, f: DecodeFormat, out: Float32Array[], float64Scale = 1): void {
   const ch = f.channels
   const n = frames * ch
   const ab = buf.buffer
@@ -26,7 +26,8 @@ export function decodeInterleaved(buf: Buffer, frames: number, f: DecodeFormat, 
       spread(src, ch, frames, out, 1)
     } else {
       const src = LE ? new Float64Array(ab, off, n) : readAll(buf, n, (i) => buf.readDoubleLE(i * 8))
-      spread(src, ch, frames, out, 1)
+      // A power of two, so the scaling is exact: float-64 samples beyond the float-32 range are measured scaled.
+      spread(src, ch, frames, out, float64Scale)
     }
     return
   }

@@ -198,6 +198,8 @@ export interface ReadFramesOptions {
    * later is yielded. Saves an allocation per block in hot loops; default: fresh arrays.
    */
   recycle?: number
+  /** Float-64 files only: multiply samples by this (a power of two) before they become float-32. */
+  float64Scale?: number
 }
 
 function clampInt(v: number | undefined, lo: number, hi: number, dflt: number): number {
@@ -243,7 +245,7 @@ export async function* readFrames(path: string, info: WavInfo, opts: ReadFramesO
         out = []
         for (let c = 0; c < format.channels; c++) out.push(new Float32Array(frames))
       }
-      decodeInterleaved(buf, frames, format, out)
+      decodeInterleaved(buf, frames, format, out, opts.float64Scale)
       frame += frames
       if (frames < want) {
         yield out

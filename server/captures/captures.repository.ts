@@ -1,6 +1,7 @@
 import { sql } from 'kysely'
 import type { Db } from '../core/database'
 import type { CaptureSessionUpdate } from '../../db/schema'
+import { visibleTake } from '../takes/takes.removal'
 
 export const selectSessions = (db: Db) =>
   db
@@ -9,14 +10,15 @@ export const selectSessions = (db: Db) =>
     .selectAll('s')
     .select((eb) => [
       'u.name as creator_name',
-      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').select(eb.fn.countAll<number>().as('n')).as('take_count'),
+      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where(visibleTake()).select(eb.fn.countAll<number>().as('n')).as('take_count'),
       eb
         .selectFrom('takes')
         .whereRef('takes.session_id', '=', 's.id')
+        .where(visibleTake())
         .select(sql<number>`coalesce(sum(duration_seconds), 0)`.as('d'))
         .as('total_duration'),
-      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where('hum_hz', '=', 50).select(eb.fn.countAll<number>().as('n')).as('hum50'),
-      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where('hum_hz', '=', 60).select(eb.fn.countAll<number>().as('n')).as('hum60'),
+      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where(visibleTake()).where('hum_hz', '=', 50).select(eb.fn.countAll<number>().as('n')).as('hum50'),
+      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where(visibleTake()).where('hum_hz', '=', 60).select(eb.fn.countAll<number>().as('n')).as('hum60'),
     ])
 
 export type SessionJoined = Awaited<ReturnType<ReturnType<typeof selectSessions>['executeTakeFirstOrThrow']>>
@@ -33,6 +35,7 @@ export async function stripsOf(db: Db, sessionIds: number[]) {
     .select(['session_id', 'thumb_json'])
     .where('session_id', 'in', sessionIds)
     .where('thumb_json', 'is not', null)
+    .where(visibleTake())
     .orderBy('id')
     .execute()
 }

@@ -20,3 +20,6 @@ export const csvLine = (cells: (string | number | null | undefined)[]) => `${cel
 export function csvDocument(header: string[], rows: (string | number | null | undefined)[][]): string {
   return `\uFEFF${csvLine(header)}${rows.map(csvLine).join('')}`
 }
+
+/** A file name for Content-Disposition: letters, digits, dots, dashes and underscores only. */
+export const csvFileName = (base: string) => `${base.normalize('NFKD').replace(/[^\w.-]+/g, '-').replace(/^-+|-+$/g, '').slice(0, 80) || 'export'}.csv`

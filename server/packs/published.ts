@@ -6,12 +6,12 @@ import type { NextFunction, Response } from 'express'
 import { effectiveSettings, type PackDetail, type PackItem, type PublishedItem } from '@shared/schemas/packs'
 import type { AppContext } from '../core/context'
 import type { Db } from '../core/database'
-import { AppError } from '../core/errors'
+import { AppError, fileError } from '../core/errors'
 import type { PackBuildItemRow } from '../../db/schema-packs'
 import { round2 } from '../render/settings'
 import type { BuildSnapshot, ItemSpec } from './item-spec'
 import * as repo from './packs.repository'
-import { storedEntryRange } from './zip-entries'
+import { storedEntryRange, ZipFormatError } from './zip-entries'
 
 /** A build's frozen snapshot (a damaged or empty one reads as a pack with no items). */
 export function snapshotOf(b: Pick<repo.BuildJoined, 'snapshot_json' | 'pack_name'>): BuildSnapshot {
@@ -152,8 +152,10 @@ export async function sendBuildItem(
   try {
     range = await storedEntryRange(zip, spec.fileName)
   } catch (err) {
-    if ((err as NodeJS.ErrnoException).code === 'ENOENT') throw new AppError(410, 'FILE_MISSING', `The file of version ${build.version} is no longer stored`)
-    throw err
+    if (err instanceof ZipFormatError) throw err
+    // Fixed words for file-system errors (FILE_MISSING…); the path goes to the server log only.
+    console.error(`[packs] build ${build.id}'s zip unreadable: ${zip}: ${(err as Error).message}`)
+    throw fileError(err)
   }
   if (!range) throw publishedItemNotFound()
   const size = range.size

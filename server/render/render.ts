@@ -21,7 +21,7 @@ import { WavWriter, type WavWriteOptions } from '../audio/wav-writer'
 import { LevelMeter, measureRange, type LevelReading } from './level-meter'
 import { bextFor, codingHistory, infoFor, type ItemMetadata } from './metadata'
 import { ditherState, processBlock } from './quantize'
-import { modeTarget, planGain, round2, type GainPlan, type SourceLevels } from './settings'
+import { ceilingPeak, modeTarget, planGain, round2, targetLoudness, type GainPlan, type SourceLevels } from './settings'
 import { loopCut } from './zero-crossing'
 
 export const RENDER_BLOCK_FRAMES = 65536
@@ -137,7 +137,12 @@ export async function renderItem(req: RenderRequest, outPath: string, options: R
     loop = { start: 0, end: end - start - 1, onCrossings: cut.onCrossings }
   }
   const total = end - start
-  const source = req.sourceLevels ?? (await measureRange(req.sourcePath, info, start, end))
+  let source: SourceLevels = req.sourceLevels ?? (await measureRange(req.sourcePath, info, start, end))
+  // A one-shot under 400 ms has no integrated loudness; loudness mode meets its target on the
+  // short-sound loudness, measured here when the given levels do not carry it.
+  if (s.normalize === 'loudness' && targetLoudness(source) === null && total < 0.4 * f.sampleRate && req.sourceLevels) {
+    source = await measureRange(req.sourcePath, info, start, end)
+  }
   const { fadeIn, fadeOut } = fadeFrames(req.kind, s, f.sampleRate, total)
   const seed = seedOf(req)
   let plan: GainPlan = planGain(source, s)
@@ -162,7 +167,7 @@ export async function renderItem(req: RenderRequest, outPath: string, options: R
   const closed = await pass.writer.close()
 
   const target = modeTarget(plan.mode, s)
-  const reached = plan.mode === 'loudness' ? pass.levels.integratedLufs : plan.mode === 'peak' ? pass.levels.truePeakDbtp : null
+  const reached = plan.mode === 'loudness' ? targetLoudness(pass.levels) : plan.mode === 'peak' ? pass.levels.truePeakDbtp : null
   const under = plan.limited && target !== null && reached !== null && target - reached > 0.005 ? round2(target - reached) : null
   return {
     path: outPath,
@@ -192,10 +197,12 @@ export async function renderItem(req: RenderRequest, outPath: string, options: R
 /** The gain change of the corrective pass, or null when the first pass is good. */
 export function correctionDb(plan: GainPlan, s: RenderSettings, got: LevelReading): { db: number; capped: boolean } | null {
   const tp = got.truePeakDbtp
-  if (tp === null) return null
-  const room = s.truePeakCeilingDbtp - tp
+  const peak = ceilingPeak(got)
+  if (tp === null || peak === null) return null
+  // The ceiling is held to the high-accuracy true peak of the samples written.
+  const room = s.truePeakCeilingDbtp - peak
   const target = modeTarget(plan.mode, s)
-  const reached = plan.mode === 'loudness' ? got.integratedLufs : plan.mode === 'peak' ? tp : null
+  const reached = plan.mode === 'loudness' ? targetLoudness(got) : plan.mode === 'peak' ? tp : null
   let want = 0
   if (!plan.limited && target !== null && reached !== null && Math.abs(target - reached) > TARGET_TOLERANCE) want = target - reached
   else if (plan.limited && room > TARGET_TOLERANCE) want = room // the fades took the peak away: there is headroom left

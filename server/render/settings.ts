@@ -7,13 +7,27 @@ import type { RenderSettings } from '@shared/schemas/packs'
 export interface SourceLevels {
   integratedLufs: number | null
   truePeakDbtp: number | null
+  /** High-accuracy true peak, when measured (preferred for the ceiling). */
+  preciseTruePeakDbtp?: number | null
+  /** Short-sound loudness of a range under 400 ms: what loudness mode uses when there is no integrated loudness. */
+  shortSoundLufs?: number | null
+}
+
+/** The loudness a loudness target is met on: integrated, or for a sound under 400 ms its short-sound loudness. */
+export function targetLoudness(src: { integratedLufs: number | null; shortSoundLufs?: number | null }): number | null {
+  return src.integratedLufs ?? src.shortSoundLufs ?? null
+}
+
+/** The true peak a ceiling is held to: the high-accuracy figure when there is one. */
+export function ceilingPeak(src: { truePeakDbtp: number | null; preciseTruePeakDbtp?: number | null }): number | null {
+  return src.preciseTruePeakDbtp ?? src.truePeakDbtp
 }
 
 export interface GainPlan {
   gainDb: number
   /** What the level mode asked for before the ceiling; null when the mode has no target. */
   wantedGainDb: number | null
-  /** The mode actually used: loudness falls back to peak when the range has no integrated loudness (shorter than 0.4 s, or silent). */
+  /** The mode actually used: loudness falls back to peak when the range has no loudness (silent; a range under 0.4 s uses its short-sound loudness). */
   mode: RenderSettings['normalize']
   /** The true-peak ceiling held the gain below what the mode asked for. */
   limited: boolean
@@ -24,12 +38,14 @@ export interface GainPlan {
  * or 0), lowered to (ceiling − true peak) when that is smaller. Digital silence gets 0 dB.
  */
 export function planGain(src: SourceLevels, s: RenderSettings): GainPlan {
-  if (src.truePeakDbtp === null) return { gainDb: 0, wantedGainDb: null, mode: s.normalize, limited: false }
+  const peak = ceilingPeak(src)
+  if (peak === null || src.truePeakDbtp === null) return { gainDb: 0, wantedGainDb: null, mode: s.normalize, limited: false }
   let mode = s.normalize
-  if (mode === 'loudness' && src.integratedLufs === null) mode = 'peak'
+  const loudness = targetLoudness(src)
+  if (mode === 'loudness' && loudness === null) mode = 'peak'
   const wanted =
-    mode === 'loudness' ? s.loudnessTargetLufs - src.integratedLufs! : mode === 'peak' ? s.peakTargetDbtp - src.truePeakDbtp : 0
-  const ceilingGain = s.truePeakCeilingDbtp - src.truePeakDbtp
+    mode === 'loudness' ? s.loudnessTargetLufs - loudness! : mode === 'peak' ? s.peakTargetDbtp - src.truePeakDbtp : 0
+  const ceilingGain = s.truePeakCeilingDbtp - peak
   const limited = ceilingGain < wanted
   return { gainDb: limited ? ceilingGain : wanted, wantedGainDb: mode === 'none' ? null : wanted, mode, limited }
 }

@@ -1,11 +1,13 @@
 import type { Db } from '../core/database'
 import type { SourceRow } from '../../db/schema'
+import { visibleTake } from '../takes/takes.removal'
 
 export const listSourceRows = (db: Db) =>
   db
     .selectFrom('sources')
     .selectAll('sources')
-    .select((eb) => eb.selectFrom('take_sources').whereRef('take_sources.source_id', '=', 'sources.id').select(eb.fn.countAll<number>().as('n')).as('take_count'))
+    // Takes in the Removed list do not count.
+    .select((eb) => eb.selectFrom('take_sources').whereRef('take_sources.source_id', '=', 'sources.id').where(visibleTake('take_sources.take_id')).select(eb.fn.countAll<number>().as('n')).as('take_count'))
     .orderBy('kind')
     .orderBy('name')
     .execute()

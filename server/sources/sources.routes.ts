@@ -12,7 +12,8 @@ export function registerSourceRoutes(api: Api, ctx: AppContext) {
   api.route('get', '/sources/:id', 'library:browse', async (req, res) => {
     res.json({ source: await getSource(ctx.db, params(req, IdParams).id) })
   })
-  api.route('post', '/sources', 'sources:manage', async (req, res) => {
+  /** Recordists add devices where they log takes; editing and removing stays with 'sources:manage'. */
+  api.route('post', '/sources', 'sources:create', async (req, res) => {
     res.status(201).json({ source: await createSource(ctx.db, req.user!, body(req, CreateSourceBody)) })
   })
   api.route('patch', '/sources/:id', 'sources:manage', async (req, res) => {

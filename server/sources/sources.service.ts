@@ -24,7 +24,20 @@ export async function getSource(db: Db, id: number): Promise<Source> {
   return found
 }
 
+/**
+ * A device typed where a take is logged is often one the catalogue already has:
+ * the same name (case and spacing aside) answers 409 naming it, so the picker
+ * can link that one instead of adding a twin.
+ */
+async function assertNameFree(db: Db, name: string, exceptId?: number) {
+  const key = name.trim().replace(/\s+/g, ' ').toLocaleLowerCase()
+  const rows = await db.selectFrom('sources').select(['id', 'name']).execute()
+  const twin = rows.find((r) => r.id !== exceptId && r.name.trim().replace(/\s+/g, ' ').toLocaleLowerCase() === key)
+  if (twin) throw new AppError(409, 'SOURCE_EXISTS', `The catalogue already has a device called \u201c${twin.name}\u201d`, { sourceId: twin.id })
+}
+
 export async function createSource(db: Db, actor: User, body: CreateSourceBody): Promise<Source> {
+  await assertNameFree(db, body.name)
   const row = await db
     .insertInto('sources')
     .values({ name: body.name, kind: body.kind, make_model: body.makeModel ?? null, notes: body.notes ?? null, created_by: actor.id })
@@ -35,6 +48,7 @@ export async function createSource(db: Db, actor: User, body: CreateSourceBody):
 
 export async function updateSource(db: Db, id: number, body: UpdateSourceBody): Promise<Source> {
   if (!(await findSourceRow(db, id))) throw notFound('source device', 'SOURCE_NOT_FOUND')
+  if (body.name !== undefined) await assertNameFree(db, body.name, id)
   await db
     .updateTable('sources')
     .set({

@@ -68,8 +68,8 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
     res.json({ take: await editTake(ctx.db, req.user!, params(req, IdParams).id, body(req, UpdateTakeBody)) })
   })
 
-  /** Tags, devices and capture session of many takes at once, in one transaction. */
-  api.route('post', '/takes/bulk', 'takes:edit-any', async (req, res) => {
+  /** Tags, devices and capture session of many takes at once, in one transaction; recordists only their own takes (see assertMayBulkEdit). */
+  api.route('post', '/takes/bulk', 'takes:edit-own', async (req, res) => {
     res.json(await bulkEdit(ctx.db, req.user!, body(req, BulkEditBody)))
   })
 

@@ -71,6 +71,9 @@ function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
 
 const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
+/** Takes in the Removed list never reach a list (see takes.removal.ts); kept apart from the filters so an unfiltered list still walks its sort's own index. */
+const notRemoved = (id: RawBuilder<unknown> = sql.ref('takes.id')) => sql`${id} NOT IN (SELECT take_id FROM take_removals)`
+
 /**
  * One page of takes for GET /api/takes, and the total that matches.
  *
@@ -106,21 +109,21 @@ export async function searchTakeRows(db: Db, q: TakeQuery): Promise<{ rows: Take
     // filter: pushed into FTS5 as a rowid constraint it would rerun the match per id.
     idQuery = filters.length
       ? sql`SELECT m.id, ${windowTotal} FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
-            WHERE +m.id IN (SELECT takes.id FROM takes INDEXED BY takes_facets ${whereAll(filters)})
+            WHERE +m.id IN (SELECT takes.id FROM takes INDEXED BY takes_facets ${whereAll([...filters, notRemoved()])})
             ORDER BY m.score ${order}, m.id ${order} ${limit}`
-      : sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} ORDER BY bm25(take_fts) ${order}, rowid ${order} ${limit}`
+      : sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} AND ${notRemoved(sql`rowid`)} ORDER BY bm25(take_fts) ${order}, rowid ${order} ${limit}`
   } else {
     const col = sql.ref(SORT_COLUMNS[sort])
     const join = sort === 'session' ? sql`JOIN capture_sessions ON capture_sessions.id = takes.session_id` : sql``
     // Unmeasured takes (null numbers) sort last either way.
     const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${col} IS NULL, `
-    idQuery = sql`SELECT takes.id AS id${all.length ? sql`, ${windowTotal}` : sql``} FROM ${from} ${join} ${whereAll(all)}
+    idQuery = sql`SELECT takes.id AS id${all.length ? sql`, ${windowTotal}` : sql``} FROM ${from} ${join} ${whereAll([...all, notRemoved()])}
                   ORDER BY ${nullsLast}${col} ${order}, takes.id ${order} ${limit}`
   }
   const countQuery: RawBuilder<{ n: number }> =
     fts && !filters.length
-      ? sql`SELECT count(*) AS n FROM take_fts WHERE take_fts MATCH ${fts}`
-      : sql`SELECT count(*) AS n FROM ${from} ${whereAll(all)}`
+      ? sql`SELECT count(*) AS n FROM take_fts WHERE take_fts MATCH ${fts} AND ${notRemoved(sql`rowid`)}`
+      : sql`SELECT count(*) AS n FROM ${from} ${whereAll([...all, notRemoved()])}`
 
   const page = (await idQuery.execute(db)).rows
   const windowed = page.length > 0 && page[0].total !== undefined

@@ -127,6 +127,38 @@ export async function editTake(db: Db, user: User, id: number, body: UpdateTakeB
 const joinWords = (w: string[]) => (w.length < 2 ? w.join('') : `${w.slice(0, -1).join(', ')} and ${w[w.length - 1]}`)
 
 /**
+ * The bulk-edit rule: designers and admins ('takes:edit-any') may bulk-edit any
+ * take; recordists ('takes:edit-own') only takes they uploaded, and may move
+ * them only into capture sessions they created. A selection holding takes of
+ * others is refused whole (403 FORBIDDEN, naming those takes and their
+ * uploaders in the message, their ids in details.takeIds), so nothing changes.
+ */
+async function assertMayBulkEdit(db: Db, user: User, body: BulkEditBody): Promise<void> {
+  if (can(user.role, 'takes:edit-any')) return
+  if (!can(user.role, 'takes:edit-own')) throw forbidden()
+  const rows = await findTakesByIds(db, body.ids)
+  const others = rows.filter((r) => r.uploader_id !== user.id)
+  if (others.length) {
+    const shown = others.slice(0, 10).map((r) => `\u201c${r.title || r.filename}\u201d (${r.uploader_name ? `uploaded by ${r.uploader_name}` : 'no uploader on record'})`)
+    const more = others.length > shown.length ? ` and ${others.length - shown.length} more` : ''
+    throw new AppError(
+      403,
+      'FORBIDDEN',
+      `You can bulk-edit only takes you uploaded; ${others.length} of the ${rows.length} selected ${others.length === 1 ? 'is' : 'are'} not yours: ${shown.join(', ')}${more}. Nothing was changed.`,
+      { takeIds: others.map((r) => r.id) },
+    )
+  }
+  if (body.sessionId !== undefined) {
+    const session = await db.selectFrom('capture_sessions').select(['title', 'created_by']).where('id', '=', body.sessionId).executeTakeFirst()
+    if (session && session.created_by !== user.id) {
+      throw new AppError(403, 'FORBIDDEN', `You can move takes only into capture sessions you created; \u201c${session.title}\u201d is not one of them. Nothing was changed.`, {
+        sessionId: body.sessionId,
+      })
+    }
+  }
+}
+
+/**
  * POST /api/takes/bulk: add and remove tags, replace device links and move to
  * another capture session, for many takes in one transaction. Nothing changes
  * when any id, device or session is unknown, or when a take would end up with
@@ -137,6 +169,7 @@ export async function bulkEdit(db: Db, user: User, body: BulkEditBody): Promise<
   if (missing.length) {
     throw new AppError(404, 'TAKE_NOT_FOUND', `No take with id ${missing.join(', ')}; nothing was changed`, { missingIds: missing })
   }
+  await assertMayBulkEdit(db, user, body)
   const names = await checkSources(db, (body.sources ?? []).map((l) => l.sourceId))
   let sessionTitle: string | null = null
   if (body.sessionId !== undefined) {

@@ -29,16 +29,42 @@ export const ChannelLevels = z.object({
   /** Mean sample value as a fraction of full scale (−1..1). */
   dcOffset: z.number(),
   crestFactorDb: Db,
-  /** Samples that belong to runs of consecutive full-scale samples. */
+  /**
+   * Clipped: samples in flat runs (two or more in a row) at the format's limit, the largest or
+   * smallest PCM code, or exactly ±1.0 in a float file.
+   */
   clippedSamples: z.number().int(),
+  // Added in measurement round two; absent from analyses stored before it.
+  /** High-accuracy true peak (64-tap windowed sinc), the figure ceilings are held to. */
+  preciseTruePeakDbtp: Db.optional(),
+  /** Float files only: samples beyond full scale (|x| > 1), which a float file can hold unclipped. */
+  overFullScaleSamples: z.number().int().optional(),
+  /** NaN and infinite samples, left out of every measurement. */
+  invalidSamples: z.number().int().optional(),
+  /** This channel's noise floor (see NoiseFloor); null when it never falls quiet or is silent. */
+  noiseFloorDbfs: Db.optional(),
+  /** Silent or dead: no 50 ms stretch of it (DC removed) reaches −100 dBFS. */
+  silent: z.boolean().optional(),
 })
 export type ChannelLevels = z.infer<typeof ChannelLevels>
 
+export const InvalidSamples = z.object({
+  /** NaN and infinite samples over all channels. */
+  count: z.number().int(),
+  /** Times (seconds) of the first few of them, distinct to 0.1 s. */
+  times: z.array(z.number()),
+})
+export type InvalidSamples = z.infer<typeof InvalidSamples>
+
 export const Levels = z.object({
   samplePeakDbfs: Db,
+  /** True peak (BS.1770): ITU-R BS.1770-4 Annex 2, 4× oversampling; within about −0.5/+0.25 dB of the real peak. */
   truePeakDbtp: Db,
   rmsDbfs: Db,
   channels: z.array(ChannelLevels),
+  /** High-accuracy true peak over all channels; absent from analyses stored before it. */
+  preciseTruePeakDbtp: Db.optional(),
+  invalidSamples: InvalidSamples.optional(),
 })
 export type Levels = z.infer<typeof Levels>
 
@@ -61,10 +87,37 @@ export type Loudness = z.infer<typeof Loudness>
 export const TonalPeak = z.object({ hz: z.number(), db: z.number() })
 export type TonalPeak = z.infer<typeof TonalPeak>
 
+export const HumHarmonic = z.object({
+  /** 1 = the fundamental. */
+  n: z.number().int(),
+  hz: z.number(),
+  /** Level of the harmonic's band over the bands beside it, dB. */
+  aboveNeighboursDb: z.number().finite().nullable(),
+  standsOut: z.boolean(),
+})
+export type HumHarmonic = z.infer<typeof HumHarmonic>
+
+export const TimeSpan = z.object({ startSeconds: z.number(), endSeconds: z.number() })
+export type TimeSpan = z.infer<typeof TimeSpan>
+
 export const MainsHum = z.object({
+  /** The verdict, and the library's hum filter: 50 or 60 Hz mains hum, or null. */
   hz: z.union([z.literal(50), z.literal(60)]).nullable(),
   /** Energy at the fundamental and harmonics against the neighbouring bands, in dB, for the winning (or best) candidate. */
   ratioDb: z.number().finite().nullable(),
+  // Added in measurement round two; absent from analyses stored before it.
+  /** The fundamental as measured (e.g. 49.96), when hum was found. */
+  measuredHz: z.number().finite().nullable().optional(),
+  /** The first eight harmonics of the best candidate: which stand out, and by how much. */
+  harmonics: z.array(HumHarmonic).optional(),
+  /** 0..1: how clearly the pattern is a mains pattern (fundamental, number of harmonics, how far they stand out). */
+  confidence: z.number().min(0).max(1).optional(),
+  /** Where it was found: channel names ("L", "R", "ch 3"…) and "L−R" (the side signal, which holds hum in antiphase). */
+  signals: z.array(z.string()).optional(),
+  /** Share 0..1 of the take's duration where hum is present; null without hum. */
+  share: z.number().min(0).max(1).nullable().optional(),
+  /** The stretches where it is present. */
+  spans: z.array(TimeSpan).optional(),
 })
 export type MainsHum = z.infer<typeof MainsHum>
 
@@ -132,10 +185,24 @@ export const FileMetadata = z.object({
 })
 export type FileMetadata = z.infer<typeof FileMetadata>
 
+export const NoiseFloor = z.object({
+  /**
+   * The take's noise floor: the highest of its live channels' floors. A channel's floor is the 10th
+   * percentile of the RMS of its 50 ms windows, each window's own mean removed (DC and drift below
+   * about 20 Hz), digital-zero windows left out. null when no live channel falls quiet.
+   */
+  dbfs: Db,
+  /** The take never falls quiet: in every live channel the 10th percentile of its 50 ms levels is within 6 dB of the 95th (a drone, steady noise). */
+  continuous: z.boolean(),
+})
+export type NoiseFloor = z.infer<typeof NoiseFloor>
+
 export const Analysis = z.object({
   levels: Levels,
   loudness: Loudness,
+  /** Same figure as noiseFloor.dbfs (kept for the library's sort and older readers). */
   noiseFloorDbfs: Db,
+  noiseFloor: NoiseFloor.optional(),
   spectrum: Spectrum,
   metadata: FileMetadata,
 })

@@ -124,6 +124,8 @@ export const HISTORY_KINDS = [
   'region-added',
   'region-changed',
   'region-removed',
+  'removed',
+  'restored',
 ] as const
 export type HistoryKind = (typeof HISTORY_KINDS)[number]
 

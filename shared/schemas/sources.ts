@@ -1,29 +1,47 @@
 import { z } from 'zod'
 import { NameText } from './common'
 
-/** The product's own families of electromagnetic sources. */
+/**
+ * The families of devices this trade points pickups at: the one list of source
+ * kinds (server enum, filters, pickers, and the colour per kind all read it).
+ * Ids are API values kept stable across relabelling: 'radio-link' now also
+ * holds phones, 'mains-wiring' also transformers; camera, appliance and
+ * vehicle were added, so no stored row needed a new kind.
+ */
 export const SOURCE_KINDS = [
   'power-supply',
   'display',
   'radio-link',
-  'motor',
   'computer',
+  'motor',
+  'camera',
   'lighting',
+  'appliance',
   'mains-wiring',
+  'vehicle',
   'other',
 ] as const
 export const SourceKind = z.enum(SOURCE_KINDS)
 export type SourceKind = z.infer<typeof SourceKind>
 
 export const SOURCE_KIND_LABELS: Record<SourceKind, string> = {
-  'power-supply': 'Switching power supplies and chargers',
-  display: 'Displays and screens',
-  'radio-link': 'Radios and wireless links',
-  motor: 'Motors and actuators',
+  'power-supply': 'Power supplies and chargers',
+  display: 'Displays',
+  'radio-link': 'Phones and radios',
   computer: 'Computers and storage',
-  lighting: 'Lighting and dimmers',
-  'mains-wiring': 'Mains wiring and transformers',
+  motor: 'Motors and fans',
+  camera: 'Cameras',
+  lighting: 'Lighting',
+  appliance: 'Household appliances',
+  'mains-wiring': 'Transformers and mains wiring',
+  vehicle: 'Vehicles',
   other: 'Other',
+}
+
+/** A caution shown beside kinds where the pickup goes near mains voltage. */
+export const SOURCE_KIND_CAUTIONS: Partial<Record<SourceKind, string>> = {
+  'mains-wiring': 'From outside only: never open a transformer, a socket or a wiring box. Follow local electrical codes.',
+  appliance: 'Mains-powered: keep it closed and listen from outside.',
 }
 
 export const Source = z.object({

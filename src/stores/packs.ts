@@ -13,8 +13,10 @@ export const usePacksStore = defineStore('packs', () => {
     packs.value = (await api.get<{ packs: Pack[] }>('/api/packs')).packs
   }
   async function open(id: number) {
+    // Builds first: once a build shows done, the pack read after it already holds its rendered numbers.
+    const list = (await api.get<{ builds: PackBuild[] }>(`/api/packs/${id}/builds`)).builds
     current.value = (await api.get<{ pack: PackDetail }>(`/api/packs/${id}`)).pack
-    builds.value = (await api.get<{ builds: PackBuild[] }>(`/api/packs/${id}/builds`)).builds
+    builds.value = list
   }
   const reload = () => (current.value ? open(current.value.id) : Promise.resolve())
 

@@ -227,4 +227,20 @@ describe('share links', () => {
     expect((await anon.get(`/api/share/${link.token}/items/999999/audio`)).status).toBe(404)
     expect((await anon.get(`/api/share/${'x'.repeat(43)}/items/1/download`)).status).toBe(404)
   })
+
+  it('answer FILE_MISSING without a server path when the zip is gone', async () => {
+    const link = (await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay() }).expect(201)).body.link
+    const row = await server.ctx.db.selectFrom('pack_builds').select('zip_path').where('id', '=', v1.id).executeTakeFirstOrThrow()
+    const zip = server.ctx.storage.abs(row.zip_path!)
+    fs.renameSync(zip, `${zip}.away`)
+    try {
+      const items = ShareInfo.parse((await anon.get(`/api/share/${link.token}`).expect(200)).body.share).items
+      const res = await anon.get(items[0].downloadUrl)
+      expect(res.status).toBe(404)
+      expect(res.body.error.code).toBe('FILE_MISSING')
+      expect(JSON.stringify(res.body)).not.toContain(server.dir)
+    } finally {
+      fs.renameSync(`${zip}.away`, zip)
+    }
+  })
 })

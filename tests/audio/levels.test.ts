@@ -40,10 +40,11 @@ describe('clipped samples', () => {
     expect(r.levels.channels[0].clippedSamples).toBe(3 + 2 + 2)
   })
 
-  it('in float files only |x| ≥ 1.0 is full scale (common practice)', () => {
-    const x = Float32Array.from([0.99999, 0.99999, 0, 1.0, 1.3, 0, -1.2, -2.5, -1.0, 0])
+  it('in float files, clipped means flat runs at exactly ±1.0; beyond ±1.0 is "over full scale", not clipped (rule in levels.ts)', () => {
+    const x = Float32Array.from([0.99999, 0.99999, 0, 1.0, 1.3, 0, -1.2, -2.5, -1.0, 0, 1.0, 1.0, 1.0, 0, -1.0, -1.0])
     const r = measure([x], { sampleRate: 48000, channelMask: 0, encoding: 'float' })
-    expect(r.levels.channels[0].clippedSamples).toBe(2 + 3)
+    expect(r.levels.channels[0].clippedSamples).toBe(3 + 2)
+    expect(r.levels.channels[0].overFullScaleSamples).toBe(3)
   })
 })
 

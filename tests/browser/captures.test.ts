@@ -40,13 +40,15 @@ describe('capture session upload in the browser', () => {
     await expect.poll(() => page.locator('[data-test=upload-queue] li[data-state=failed]').innerText()).toMatch(/NOTES\.WAV: .*RIFF/)
 
     // Takes move to Ready and show their integrated loudness.
-    const rows = page.locator('[data-test=session-takes] .take-row')
+    const rows = page.locator('[data-test=log-sheet] [data-test=log-row]')
     await expect.poll(() => rows.count(), { timeout: 30_000 }).toBe(3)
-    await expect.poll(() => page.locator('[data-test=session-takes] [data-status=ready]').count(), { timeout: 60_000 }).toBe(3)
-    const text = await page.locator('[data-test=session-takes]').innerText()
+    await expect.poll(() => page.locator('[data-test=log-sheet] [data-status=ready]').count(), { timeout: 60_000 }).toBe(3)
+    const text = await page.locator('[data-test=log-sheet]').innerText()
     expect(text).toMatch(/LUFS/)
     expect(text).toMatch(/50 Hz/)
     expect(text).toContain('REC0003.WAV')
+    // The one-line summary of the batch: three measured, the renamed text file refused.
+    await expect.poll(() => page.locator('[data-test=batch-summary]').innerText(), { timeout: 30_000 }).toMatch(/^3 of 3 measured( · .+)? · 1 refused$/)
     await screenshot(page, 'capture-upload')
     await page.close()
   })

@@ -172,14 +172,14 @@ describe('delivery in the browser', () => {
       await expect.poll(() => rows.count()).toBe(3)
       const texts = await rows.allInnerTexts()
       expect(texts.map((t) => t.match(/\b([123])\b/)?.[1])).toEqual(['1', '2', '3'])
-      await expect.poll(() => page.locator('[data-test=hearing-caution]').innerText()).toMatch(/Start quiet/)
+      await expect.poll(() => page.locator('[data-test=now-playing-caution]').innerText()).toMatch(/Start quiet/)
 
       // Play the second item: the strip names it and its time moves.
       const second = rows.nth(1)
       const name = (await second.locator('.file').innerText()).trim()
       await second.getByRole('button', { name: /^Play / }).click()
       await expect.poll(() => page.locator('[data-test=now-playing-name]').innerText()).toBe(name)
-      await expect.poll(() => page.locator('[data-test=now-playing-time]').innerText(), { timeout: 10_000 }).toMatch(/^(0\.[1-9]|[1-9])/)
+      await expect.poll(() => page.locator('[data-test=now-playing-elapsed]').innerText(), { timeout: 10_000 }).toMatch(/^0:0(0\.[1-9]|[1-9]\.\d)$/)
 
       // Download it alone: the same bytes as the file in the zip (Info-ZIP unzip -p).
       const [download] = await Promise.all([page.waitForEvent('download'), second.getByRole('link', { name: `Download ${name} alone` }).click()])

@@ -38,7 +38,7 @@ describe('packs in the browser', () => {
 
     await page.goto(`${server.url}/library`)
     await expect.poll(() => page.locator('[data-test=library-table] [data-take]').count()).toBe(2)
-    await page.locator('[data-test=library-table] .el-table-v2__header-row .el-checkbox').click()
+    await page.getByLabel('Select every take on this page').check()
     await page.locator('[data-test=add-to-pack] .el-select').click()
     await page.locator('.el-select-dropdown__item', { hasText: 'Bench hums, volume one' }).click()
     await page.locator('[data-test=add-to-pack] button').click()

@@ -115,12 +115,22 @@ describe('short items and fades', () => {
     expect(Math.abs(ffmpegEbur128(out).integratedLufs - -18)).toBeLessThanOrEqual(0.2)
   })
 
-  it('an item shorter than one 400 ms block has no integrated loudness (BS.1770-4 §2.8) and is peak-normalised instead', async () => {
+  it('an item shorter than one 400 ms block has no integrated loudness (BS.1770-4 §2.8) and is normalised by its short-sound loudness', async () => {
     const out = path.join(dir, 'click.wav')
-    const r = await render(src('click-0.25s.wav'), out, { settings: { normalize: 'loudness', peakTargetDbtp: -3 } })
-    expect(r.mode).toBe('peak')
+    const r = await render(src('click-0.25s.wav'), out, { settings: { normalize: 'loudness', loudnessTargetLufs: -24, truePeakCeilingDbtp: -1 } })
+    expect(r.mode).toBe('loudness')
     expect(r.levels.integratedLufs).toBeNull()
-    expect(Math.abs(ffmpegEbur128(out).truePeakDbtp - -3)).toBeLessThanOrEqual(0.3)
+    expect(r.levels.shortSoundLufs).not.toBeNull()
+    expect(Math.abs(r.levels.shortSoundLufs! - -24)).toBeLessThanOrEqual(0.1)
+    expect(r.levels.preciseTruePeakDbtp!).toBeLessThanOrEqual(-1)
+  })
+
+  it('a silent item under 400 ms has no loudness at all and keeps its gain', async () => {
+    const silent = path.join(dir, 'silent-0.2s.wav')
+    sox(['-n', '-r', '48000', '-b', '24', '-c', '1', silent, 'trim', '0', '0.2'])
+    const r = await render(silent, path.join(dir, 'silent-out.wav'), { settings: { normalize: 'loudness' } })
+    expect(r.gainDb).toBe(0)
+    expect(r.levels.shortSoundLufs).toBeNull()
   })
 
   it('fades are equal-power (quarter sine) and the first and last samples are silent, decoded by ffmpeg', async () => {

@@ -210,3 +210,20 @@ export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running:
   for (; c < chunks; c++) peak = scalarChunk(x, n, firstOutput, c, chunkExtremes(x, n, c, false), chunkExtremes(x, n, c, true), peak)
   return peak
 }
+
+/**
+ * The same search over consecutive stretches of `stretch` frames, each started afresh at
+ * `threshold`: out[s] (f64) is the Annex peak of stretch s when it exceeds the threshold, else the
+ * threshold. The high-accuracy search (../precise-true-peak.ts) looks only where out[s] is high.
+ */
+export function scanStretches(x: usize, n: i32, realFrom: i32, firstOutput: i32, threshold: f64, stretch: i32, out: usize): void {
+  const frames = n - HISTORY
+  let s: i32 = 0
+  for (let from: i32 = 0; from < frames; from += stretch) {
+    const len = min(stretch, frames - from)
+    const rf = max(0, realFrom - from)
+    const fo = max(HISTORY, firstOutput - from)
+    store<f64>(out + (<usize>s << 3), scan(x + (<usize>from << 2), len + HISTORY, rf, fo, threshold))
+    s++
+  }
+}

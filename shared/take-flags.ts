@@ -1,0 +1,155 @@
+// What is wrong with a take, in words: the flags shown wherever takes are
+// listed (logging sheet, library, listening bench) and counted in the one-line
+// summary after a batch upload. One pure function, so every list says the same.
+//
+// The analysis is read defensively: the measurement schema grows additively
+// (a clipping summary, a high-accuracy true peak), and older takes lack those
+// fields. Unknown shapes give no flag rather than a wrong one.
+
+/** The delivery ceiling a true peak must stay under (EBU R 128 practice: −1 dBTP). */
+export const CEILING_DBTP = -1
+/** The absolute gate of ITU-R BS.1770-4: blocks below −70 LUFS do not count, so quieter takes have no integrated loudness. */
+export const GATE_LUFS = -70
+
+export type TakeFlagKind = 'clipped' | 'over-ceiling' | 'too-quiet'
+
+export interface TakeFlag {
+  kind: TakeFlagKind
+  /** Short words for the flag ("Clipped"). */
+  label: string
+  /** What it measures, in words ("0.4 % clipped, longest 12 ms"). */
+  detail: string
+}
+
+/** The parts of a take the flags read; `Take` from shared/schemas/takes fits. */
+export interface FlaggableTake {
+  status?: string
+  format: { frames?: number; channels?: number; sampleRate?: number } | null
+  analysis: unknown
+}
+
+type Rec = Record<string, unknown>
+const isRec = (v: unknown): v is Rec => typeof v === 'object' && v !== null && !Array.isArray(v)
+const num = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null)
+const minus = (s: string) => s.replace('-', '\u2212')
+
+/** "0.4 %", "< 0.1 %", "12 %". */
+export function formatShare(fraction: number): string {
+  const pct = fraction * 100
+  if (pct > 0 && pct < 0.1) return '< 0.1 %'
+  return `${pct >= 10 ? pct.toFixed(0) : pct.toFixed(1)} %`
+}
+
+/** "12 ms", "1.3 s". */
+export function formatRun(seconds: number): string {
+  return seconds < 1 ? `${Math.max(1, Math.round(seconds * 1000))} ms` : `${seconds.toFixed(1)} s`
+}
+
+interface Clipping {
+  share: number
+  longestSeconds: number | null
+}
+
+/**
+ * Clipping from whichever shape the analysis has: a summary object
+ * (`analysis.clipping` with a share or a sample count and a longest run), or
+ * the per-channel counts of samples in full-scale runs (`levels.channels[].clippedSamples`).
+ */
+function clippingOf(analysis: Rec, format: FlaggableTake['format']): Clipping | null {
+  const frames = num(format?.frames)
+  const channels = num(format?.channels)
+  const rate = num(format?.sampleRate)
+  const total = frames && channels ? frames * channels : null
+  const levels = isRec(analysis.levels) ? analysis.levels : {}
+  const perChannel = Array.isArray(levels.channels) ? levels.channels.filter(isRec) : []
+
+  let longest: number | null = null
+  const toSeconds = (r: Rec) => {
+    const s = num(r.longestRunSeconds)
+    if (s !== null) return s
+    const f = num(r.longestRunFrames) ?? num(r.longestRunSamples) ?? num(r.longestClippedRun)
+    return f !== null && rate ? f / rate : null
+  }
+
+  let share: number | null = null
+  const summary = isRec(analysis.clipping) ? analysis.clipping : null
+  if (summary) {
+    share = num(summary.share) ?? num(summary.fraction)
+    const count = num(summary.clippedSamples) ?? num(summary.samples)
+    if (share === null && count !== null && total) share = count / total
+    longest = toSeconds(summary)
+  }
+  if (share === null && perChannel.length && total) {
+    const count = perChannel.reduce((a, c) => a + (num(c.clippedSamples) ?? 0), 0)
+    share = count / total
+  }
+  for (const c of perChannel) {
+    const s = toSeconds(c)
+    if (s !== null && (longest === null || s > longest)) longest = s
+  }
+  if (share === null || share <= 0) return null
+  return { share, longestSeconds: longest }
+}
+
+/** The highest true peak the analysis holds: the plain figure or any more accurate one beside it. */
+function truePeakOf(analysis: Rec): number | null {
+  const levels = isRec(analysis.levels) ? analysis.levels : null
+  if (!levels) return null
+  let best: number | null = null
+  for (const [key, value] of Object.entries(levels)) {
+    const v = num(value)
+    if (v !== null && /^truePeak.*Dbtp$/.test(key) && (best === null || v > best)) best = v
+  }
+  return best
+}
+
+/** Every flag of one take, in a fixed order (clipped, over the ceiling, too quiet). Unmeasured takes have none. */
+export function takeFlags(take: FlaggableTake): TakeFlag[] {
+  if (!isRec(take.analysis)) return []
+  const a = take.analysis
+  const flags: TakeFlag[] = []
+
+  const clip = clippingOf(a, take.format)
+  if (clip) {
+    const run = clip.longestSeconds !== null ? `, longest ${formatRun(clip.longestSeconds)}` : ''
+    flags.push({ kind: 'clipped', label: 'Clipped', detail: `${formatShare(clip.share)} clipped${run}` })
+  }
+
+  const tp = truePeakOf(a)
+  if (tp !== null && tp > CEILING_DBTP) {
+    flags.push({
+      kind: 'over-ceiling',
+      label: 'Over the ceiling',
+      detail: `true peak ${minus(tp.toFixed(1))} dBTP, above the ${minus(String(CEILING_DBTP))} dBTP ceiling`,
+    })
+  }
+
+  const loudness = isRec(a.loudness) ? a.loudness : null
+  if (loudness && 'integratedLufs' in loudness) {
+    const lufs = num(loudness.integratedLufs)
+    if (lufs === null || lufs < GATE_LUFS) {
+      flags.push({ kind: 'too-quiet', label: 'Too quiet to measure', detail: `below the ${minus(String(GATE_LUFS))} LUFS gate` })
+    }
+  }
+  return flags
+}
+
+/**
+ * The one line after a batch upload: "12 of 12 measured · 1 clipped · 1 too quiet · 2 refused".
+ * `takes` are the uploads the server accepted; `refused` the files it turned away.
+ */
+export function batchSummary(takes: FlaggableTake[], refused: number): string {
+  const measured = takes.filter((t) => t.status === 'ready').length
+  const failed = takes.filter((t) => t.status === 'failed').length
+  const count = (kind: TakeFlagKind) => takes.filter((t) => takeFlags(t).some((f) => f.kind === kind)).length
+  const parts = [`${measured} of ${takes.length} measured`]
+  if (failed) parts.push(`${failed} could not be measured`)
+  const clipped = count('clipped')
+  const over = count('over-ceiling')
+  const quiet = count('too-quiet')
+  if (clipped) parts.push(`${clipped} clipped`)
+  if (over) parts.push(`${over} over the ceiling`)
+  if (quiet) parts.push(`${quiet} too quiet`)
+  if (refused) parts.push(`${refused} refused`)
+  return parts.join(' \u00b7 ')
+}
