@@ -71,12 +71,12 @@ describe('instrument tools on the bench', () => {
     // Accept with the keyboard: focus the button, press Enter.
     await page.getByRole('button', { name: 'Accept One-shot 1 as a region', exact: true }).focus()
     await page.keyboard.press('Enter')
-    await expect.poll(() => savedRegions().count()).toBe(1)
+    await expect.poll(() => savedRegions().count(), { timeout: 10_000 }).toBe(1)
     expect(await savedRegions().first().innerText()).toContain('One-shot 1')
     expect(await rows().count()).toBe(count - 3)
 
     await page.getByRole('button', { name: 'Accept all' }).click()
-    await expect.poll(() => savedRegions().count()).toBe(count - 2)
+    await expect.poll(() => savedRegions().count(), { timeout: 20_000 }).toBe(count - 2)
     expect(await rows().count()).toBe(0)
   })
 
