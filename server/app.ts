@@ -23,6 +23,7 @@ import { registerTakeRemovalRoutes } from './takes/takes.removal.routes'
 import { registerSpectrogramRoutes } from './spectrogram/spectrogram.routes'
 import { registerSourceRoutes } from './sources/sources.routes'
 import { registerRegionRoutes } from './regions/regions.routes'
+import { registerInstrumentRoutes } from './instrument/instrument.routes'
 import { registerCommentRoutes } from './comments/comments.routes'
 import { registerPackRoutes } from './packs/packs.routes'
 import { registerTakeExportRoutes } from './takes/takes.export'
@@ -85,6 +86,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerSpectrogramRoutes(api, ctx)
   registerSourceRoutes(api, ctx)
   registerRegionRoutes(api, ctx)
+  registerInstrumentRoutes(api, ctx)
   registerCommentRoutes(api, ctx)
   registerPackRoutes(api, ctx)
   registerTakeExportRoutes(api, ctx)

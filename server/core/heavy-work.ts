@@ -11,6 +11,9 @@ import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
 import { createRenderPool, type RenderPool } from '../render/render-pool'
 import type { ModulationFile, ModulationOrder } from '../modulation/modulation-files'
+import type { LoopTask, OnsetTask } from '../instrument/instrument-task'
+import type { LoopFrames } from '../instrument/loops'
+import type { OnsetSliceFrames } from '../instrument/onsets'
 import { AppError } from './errors'
 
 export interface HeavyWork {
@@ -18,6 +21,9 @@ export interface HeavyWork {
   render(who: string, req: RenderRequest, outPath: string): Promise<RenderResult>
   measure(who: string, path: string, startSeconds: number | null, endSeconds: number | null): Promise<LevelReading>
   modulation(who: string, path: string, order: ModulationOrder): Promise<ModulationFile>
+  /** The instrument tools' proposals (server/instrument/). */
+  onsets(who: string, task: OnsetTask): Promise<OnsetSliceFrames[]>
+  loops(who: string, task: LoopTask): Promise<LoopFrames[]>
   close(): Promise<void>
 }
 
@@ -45,7 +51,7 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
   async function limited<T>(who: string, work: (p: RenderPool) => Promise<T>): Promise<T> {
     const n = busy.get(who) ?? 0
     if (n >= perUser) {
-      throw new AppError(429, 'TOO_BUSY', `You already have ${n} images or renders being made; wait for them to finish and try again`, {
+      throw new AppError(429, 'TOO_BUSY', `You already have ${n} images, renders or proposals being made; wait for them to finish and try again`, {
         limit: perUser,
       })
     }
@@ -72,6 +78,8 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
       }),
     measure: (who, path, startSeconds, endSeconds) => limited(who, (p) => p.run<LevelReading>({ type: 'measure', path, startSeconds, endSeconds })),
     modulation: (who, path, order) => limited(who, (p) => p.run<ModulationFile>({ type: 'modulation', path, order })),
+    onsets: (who, task) => limited(who, (p) => p.run<OnsetSliceFrames[]>({ type: 'onsets', ...task })),
+    loops: (who, task) => limited(who, (p) => p.run<LoopFrames[]>({ type: 'loops', ...task })),
     async close() {
       await pool?.close()
     },

@@ -4,6 +4,7 @@
 //   spectrogram  a take's or an excerpt's spectrogram, as PNG bytes
 //   measure      loudness and true peak of a range of a take (an item added to a pack)
 //   modulation   a take's control curve as a csv, wav or MIDI file (server/modulation/)
+//   onsets, loops  the instrument tools' proposals over a range of a take (server/instrument/)
 import { parentPort } from 'node:worker_threads'
 import { errorInfo } from './thread-errors'
 import { renderItem, type PlainRenderRequest } from '../render/render'
@@ -12,6 +13,7 @@ import { renderSpectrogram, type SpectrogramOptions } from '../audio/spectrogram
 import { probeWav } from '../audio/wav-reader'
 import { computeModulation } from '../modulation/modulation-compute'
 import type { ModulationOrder } from '../modulation/modulation-files'
+import { runLoopTask, runOnsetTask, type LoopTask, type OnsetTask } from '../instrument/instrument-task'
 
 const port = parentPort
 if (!port) throw new Error('heavy-worker must run in a worker thread')
@@ -21,6 +23,8 @@ export type HeavyTask =
   | { type: 'spectrogram'; id: number; path: string; opts: SpectrogramOptions }
   | { type: 'measure'; id: number; path: string; startSeconds: number | null; endSeconds: number | null }
   | { type: 'modulation'; id: number; path: string; order: ModulationOrder }
+  | ({ type: 'onsets'; id: number } & OnsetTask)
+  | ({ type: 'loops'; id: number } & LoopTask)
 
 async function serve(m: HeavyTask): Promise<unknown> {
   switch (m.type) {
@@ -40,6 +44,10 @@ async function serve(m: HeavyTask): Promise<unknown> {
     }
     case 'modulation':
       return computeModulation(m.path, m.order)
+    case 'onsets':
+      return runOnsetTask(m)
+    case 'loops':
+      return runLoopTask(m)
   }
 }
 

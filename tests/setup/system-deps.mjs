@@ -14,6 +14,7 @@ const NEEDED = [
   { program: '/usr/bin/python3', pkg: 'python3' },
   { program: '/usr/bin/time', pkg: 'time' },
   { program: '/usr/lib/python3/dist-packages/mido/__init__.py', pkg: 'python3-mido' },
+  { program: '/usr/bin/aubioonset', pkg: 'aubio-tools' },
   { program: '/usr/share/sounds/alsa/Front_Center.wav', pkg: 'alsa-utils' },
 ]
 

@@ -1,0 +1,17 @@
+import { IdParams } from '@shared/schemas/common'
+import { LoopSuggestionsBody, OnsetSuggestionsBody } from '@shared/schemas/instrument'
+import type { AppContext } from '../core/context'
+import type { Api } from '../core/routes'
+import { body, params } from '../core/validate'
+import { loopSuggestions, onsetSuggestions } from './instrument.service'
+
+/** Proposals of one-shots and loops in a take, for whoever may mark regions on it (the own/any rule of take edits). */
+export function registerInstrumentRoutes(api: Api, ctx: AppContext) {
+  api.route('post', '/takes/:id/onset-suggestions', 'takes:edit-own', async (req, res) => {
+    res.json(await onsetSuggestions(ctx, req.user!, params(req, IdParams).id, body(req, OnsetSuggestionsBody)))
+  })
+
+  api.route('post', '/takes/:id/loop-suggestions', 'takes:edit-own', async (req, res) => {
+    res.json(await loopSuggestions(ctx, req.user!, params(req, IdParams).id, body(req, LoopSuggestionsBody)))
+  })
+}

@@ -1,0 +1,61 @@
+// From capture to instrument: the tools that propose one-shots and loops in a
+// take. Each proposes; a person accepts, adjusts or rejects (as regions).
+import { z } from 'zod'
+
+/** Longest range one onset search reads (its samples are held in memory on a worker thread). */
+export const MAX_ONSET_SECONDS = 120
+/** Longest range one loop search reads. */
+export const MAX_LOOP_SECONDS = 60
+/** Shortest loop proposed: below this a loop is a buzz, not a cycle. */
+export const MIN_LOOP_SECONDS = 0.05
+
+const Seconds = z.number().finite().min(0)
+const Sensitivity = z.number().min(0).max(1)
+
+export const OnsetSuggestionsBody = z
+  .object({
+    startSeconds: Seconds.optional(),
+    endSeconds: Seconds.optional(),
+    /** 0–1: higher finds softer onsets (default 0.5). */
+    sensitivity: Sensitivity.optional(),
+  })
+  .strict()
+export type OnsetSuggestionsBody = z.infer<typeof OnsetSuggestionsBody>
+
+export const OnsetSlice = z.object({
+  /** The onset, moved back to the zero crossing before it. */
+  startSeconds: z.number(),
+  /** Where the sound decays below the threshold, or the next onset (a few ms of fade implied). */
+  endSeconds: z.number(),
+  /** Highest sample of the slice on any channel, dBFS. */
+  peakDbfs: z.number(),
+})
+export type OnsetSlice = z.infer<typeof OnsetSlice>
+
+export const OnsetSuggestionsResponse = z.object({ slices: z.array(OnsetSlice) })
+export type OnsetSuggestionsResponse = z.infer<typeof OnsetSuggestionsResponse>
+
+export const LoopSuggestionsBody = z
+  .object({
+    startSeconds: Seconds,
+    endSeconds: Seconds,
+    /** The loop length wanted; default: as long as fits in the range. */
+    approxLengthSeconds: z.number().finite().positive().optional(),
+  })
+  .strict()
+export type LoopSuggestionsBody = z.infer<typeof LoopSuggestionsBody>
+
+export const LoopSuggestion = z.object({
+  /** First frame of the loop (a rising zero crossing of the channels' sum, as pack renders cut loops). */
+  startSeconds: z.number(),
+  /** End of the loop (exclusive): the frame at endSeconds plays again as the start. */
+  endSeconds: z.number(),
+  /** 0–1: 1 is a join as smooth as the material itself (value, slope and short-term spectrum). */
+  score: z.number(),
+  /** 0 when the join is clean; otherwise a crossfade length that hides it. */
+  crossfadeMs: z.number(),
+})
+export type LoopSuggestion = z.infer<typeof LoopSuggestion>
+
+export const LoopSuggestionsResponse = z.object({ loops: z.array(LoopSuggestion) })
+export type LoopSuggestionsResponse = z.infer<typeof LoopSuggestionsResponse>
