@@ -51,7 +51,7 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
   async function limited<T>(who: string, work: (p: RenderPool) => Promise<T>): Promise<T> {
     const n = busy.get(who) ?? 0
     if (n >= perUser) {
-      throw new AppError(429, 'TOO_BUSY', `You already have ${n} images, renders or proposals being made; wait for them to finish and try again`, {
+      throw new AppError(429, 'TOO_BUSY', `You already have ${n} images, renders, proposals or control curves being made; wait for them to finish and try again`, {
         limit: perUser,
       })
     }
