@@ -3,13 +3,12 @@
 // the storage files that copy refers to, each with its SHA-256 in a manifest.
 // Copying storage first would leave rows whose audio arrived after the copy;
 // copying the database file by hand can catch it half-written.
-import { createHash } from 'node:crypto'
 import fs from 'node:fs'
 import path from 'node:path'
 import { pipeline } from 'node:stream/promises'
-import { Transform } from 'node:stream'
 import SQLite from 'better-sqlite3'
 import { lockData } from '../core/data-lock'
+import { hashingTap } from '../core/hash-tap'
 
 export const BACKUP_DB = 'strayfield.sqlite'
 export const MANIFEST = 'manifest.json'
@@ -32,15 +31,7 @@ export interface Manifest {
 /** Copies `from` to `to` (written as `to`.part, then renamed), returning its size and SHA-256. */
 async function copyHashed(from: string, to: string): Promise<{ size: number; sha256: string }> {
   fs.mkdirSync(path.dirname(to), { recursive: true })
-  const hash = createHash('sha256')
-  let size = 0
-  const tap = new Transform({
-    transform(chunk: Buffer, _e, next) {
-      hash.update(chunk)
-      size += chunk.length
-      next(null, chunk)
-    },
-  })
+  const { tap, result } = hashingTap()
   const part = `${to}.part`
   try {
     await pipeline(fs.createReadStream(from), tap, fs.createWriteStream(part))
@@ -49,7 +40,7 @@ async function copyHashed(from: string, to: string): Promise<{ size: number; sha
     fs.rmSync(part, { force: true })
     throw err
   }
-  return { size, sha256: hash.digest('hex') }
+  return result()
 }
 
 function filesUnder(root: string, rel = ''): string[] {

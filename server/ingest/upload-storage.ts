@@ -1,10 +1,9 @@
 import fs from 'node:fs'
-import { createHash } from 'node:crypto'
-import { Transform } from 'node:stream'
 import { pipeline } from 'node:stream/promises'
 import type { Request } from 'express'
 import type { StorageEngine } from 'multer'
 import type { Storage } from '../core/storage'
+import { hashingTap } from '../core/hash-tap'
 
 export interface StreamedFile {
   path: string
@@ -22,17 +21,9 @@ export function hashingDiskStorage(storage: Storage): StorageEngine {
   return {
     _handleFile(_req: Request, file, cb) {
       const target = storage.incomingPath()
-      const hash = createHash('sha256')
-      let size = 0
-      const tap = new Transform({
-        transform(chunk: Buffer, _enc, next) {
-          hash.update(chunk)
-          size += chunk.length
-          next(null, chunk)
-        },
-      })
+      const { tap, result } = hashingTap()
       pipeline(file.stream, tap, fs.createWriteStream(target, { flags: 'wx' }))
-        .then(() => cb(null, { path: target, size, sha256: hash.digest('hex') } as Partial<Express.Multer.File>))
+        .then(() => cb(null, { path: target, ...result() } as Partial<Express.Multer.File>))
         .catch((err) => {
           fs.rm(target, { force: true }, () => cb(err))
         })

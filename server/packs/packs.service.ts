@@ -33,7 +33,7 @@ import { outputNames, type NamingFacts } from './naming'
 import type { ItemSpec } from './item-spec'
 import * as repo from './packs.repository'
 import { buildToApi } from './builds.mapper'
-import { itemSeconds, newestPublished, publishedDetail, snapshotOf } from './published'
+import { itemSeconds, newestPublished, publishedDetail, renderedOf, snapshotOf } from './published'
 
 export const managesPacks = (user: Pick<User, 'role'>) => can(user.role, 'packs:manage')
 
@@ -237,20 +237,7 @@ export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRo
         expectedGainDb: plan ? round2(plan.gainDb) : null,
         expectedUnderTargetDb: plan && plan.limited && plan.wantedGainDb !== null ? round2(plan.wantedGainDb - plan.gainDb) : null,
       },
-      rendered: r
-        ? {
-            buildId: r.build_id,
-            version: r.version,
-            file: r.file_name,
-            integratedLufs: round2(r.integrated_lufs),
-            truePeakDbtp: round2(r.true_peak_dbtp),
-            loudnessRangeLu: round2(r.loudness_range_lu),
-            gainDb: round2(r.gain_db)!,
-            underTargetDb: r.under_target_db,
-            sizeBytes: r.size_bytes,
-            sha256: r.sha256,
-          }
-        : null,
+      rendered: r ? renderedOf(r, { id: r.build_id, version: r.version }) : null,
     }
   })
 }

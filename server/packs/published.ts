@@ -97,7 +97,8 @@ export async function publishedDetail(db: Db, base: Omit<PackDetail, 'items'>, b
   }
 }
 
-function renderedOf(r: PackBuildItemRow, build: repo.BuildJoined): PackItem['rendered'] {
+/** A rendered item's numbers as the API shows them (the draft editor and the published snapshot alike). */
+export function renderedOf(r: PackBuildItemRow, build: { id: number; version: number }): NonNullable<PackItem['rendered']> {
   return {
     buildId: build.id,
     version: build.version,
