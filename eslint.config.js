@@ -2,9 +2,21 @@ import js from '@eslint/js'
 import tseslint from 'typescript-eslint'
 import pluginVue from 'eslint-plugin-vue'
 import globals from 'globals'
+import prettier from 'eslint-config-prettier/flat'
 
 export default tseslint.config(
-  { ignores: ['dist/**', 'node_modules/**', 'storage/**', 'db/*.sqlite*', 'tests/.artifacts/**', 'bench/.data/**', 'tmp-smoke/**', 'server/**/*.as.ts'] },
+  {
+    ignores: [
+      'dist/**',
+      'node_modules/**',
+      'storage/**',
+      'db/*.sqlite*',
+      'tests/.artifacts/**',
+      'bench/.data/**',
+      'tmp-smoke/**',
+      'server/**/*.as.ts',
+    ],
+  },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   ...pluginVue.configs['flat/recommended'],
@@ -33,4 +45,6 @@ export default tseslint.config(
     files: ['db/migrations/**', 'server/core/database.ts'],
     rules: { '@typescript-eslint/no-explicit-any': 'off' },
   },
+  // Layout belongs to Prettier (`npm run format`); this turns off every stylistic rule that would fight it.
+  prettier,
 )
