@@ -39,7 +39,29 @@ function makeTake(minutes: number): string {
   process.stdout.write(`generating ${relative(root, file)} with sox…\n`)
   const tmp = `${file}.part.wav`
   // Pink noise with a 1 kHz tone and 50 Hz hum mixed in: broadband, tonal and mains content.
-  execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '2', tmp, 'synth', String(minutes * 60), 'pinknoise', 'synth', 'sine', 'mix', '1000', 'synth', 'sine', 'mix', '50', 'vol', '-16dB'])
+  execFileSync('sox', [
+    '-n',
+    '-r',
+    '48000',
+    '-b',
+    '24',
+    '-c',
+    '2',
+    tmp,
+    'synth',
+    String(minutes * 60),
+    'pinknoise',
+    'synth',
+    'sine',
+    'mix',
+    '1000',
+    'synth',
+    'sine',
+    'mix',
+    '50',
+    'vol',
+    '-16dB',
+  ])
   renameSync(tmp, file)
   return file
 }
@@ -74,7 +96,18 @@ async function main(): Promise<void> {
     const self = fileURLToPath(import.meta.url)
     const peaks = join(dataDir, `take-${minutes}min.peaks`)
     const runs = {
-      ffmpeg: () => timed('ffmpeg', ['-nostats', '-hide_banner', '-i', file, '-af', 'ebur128=peak=true:framelog=verbose', '-f', 'null', '-']),
+      ffmpeg: () =>
+        timed('ffmpeg', [
+          '-nostats',
+          '-hide_banner',
+          '-i',
+          file,
+          '-af',
+          'ebur128=peak=true:framelog=verbose',
+          '-f',
+          'null',
+          '-',
+        ]),
       sox: () => timed('sox', [file, '-n', 'stats']),
       ours: () => timed(process.execPath, ['--import', 'tsx', self, '--child', file, peaks]),
     }
@@ -85,7 +118,10 @@ async function main(): Promise<void> {
       for (const tool of Object.keys(runs) as (keyof typeof runs)[]) {
         const run = runs[tool]()
         const prev = best[tool]
-        best[tool] = prev === null || run.seconds < prev.seconds ? { ...run, maxRssMb: Math.max(run.maxRssMb, prev?.maxRssMb ?? 0) } : { ...prev, maxRssMb: Math.max(run.maxRssMb, prev.maxRssMb) }
+        best[tool] =
+          prev === null || run.seconds < prev.seconds
+            ? { ...run, maxRssMb: Math.max(run.maxRssMb, prev?.maxRssMb ?? 0) }
+            : { ...prev, maxRssMb: Math.max(run.maxRssMb, prev.maxRssMb) }
       }
     }
     const { ffmpeg, sox, ours } = best as Record<keyof typeof runs, Run & { stdout: string }>
@@ -96,10 +132,18 @@ async function main(): Promise<void> {
       `| ${name} | ${tool} | ${r.seconds.toFixed(2)} | ${(audioSeconds / r.seconds).toFixed(0)}× | ${r.maxRssMb.toFixed(0)} MB | ${extra} |`
     rows.push(row('ffmpeg ebur128=peak=true', ffmpeg))
     rows.push(row('sox stats', sox))
-    rows.push(row('strayfield analyzeFile + peaks', ours, `**${ratio.toFixed(2)}** (analysis alone ${inner.seconds.toFixed(2)} s)`))
+    rows.push(
+      row(
+        'strayfield analyzeFile + peaks',
+        ours,
+        `**${ratio.toFixed(2)}** (analysis alone ${inner.seconds.toFixed(2)} s)`,
+      ),
+    )
     process.stdout.write(`${rows.slice(-3).join('\n')}\n`)
   }
-  const cpu = execFileSync('sh', ['-c', "grep -m1 'model name' /proc/cpuinfo | cut -d: -f2"], { encoding: 'utf8' }).trim()
+  const cpu = execFileSync('sh', ['-c', "grep -m1 'model name' /proc/cpuinfo | cut -d: -f2"], {
+    encoding: 'utf8',
+  }).trim()
   const md = [
     '# Analysis benchmark',
     '',

@@ -32,11 +32,63 @@ const round1 = (x: number) => Math.round(x * 10) / 10
 
 // ---- an invented catalogue ----
 
-const SOUNDS = ['hum', 'whine', 'chirp', 'crackle', 'data burst', 'drone', 'buzz', 'click train', 'sweep', 'warble', 'pulse', 'hiss', 'tick', 'squeal', 'flutter']
-const MOODS = ['steady', 'nervous', 'faint', 'harsh', 'glassy', 'wobbly', 'dense', 'sparse', 'bright', 'dark', 'gritty', 'smooth']
-const EXTRA_TAGS = ['loopable', 'intro', 'texture', 'bed', 'impact', 'glitch', 'ui', 'sci-fi', 'industrial', 'close', 'distant', 'mono-safe', 'noisy', 'clean', 'rhythmic']
+const SOUNDS = [
+  'hum',
+  'whine',
+  'chirp',
+  'crackle',
+  'data burst',
+  'drone',
+  'buzz',
+  'click train',
+  'sweep',
+  'warble',
+  'pulse',
+  'hiss',
+  'tick',
+  'squeal',
+  'flutter',
+]
+const MOODS = [
+  'steady',
+  'nervous',
+  'faint',
+  'harsh',
+  'glassy',
+  'wobbly',
+  'dense',
+  'sparse',
+  'bright',
+  'dark',
+  'gritty',
+  'smooth',
+]
+const EXTRA_TAGS = [
+  'loopable',
+  'intro',
+  'texture',
+  'bed',
+  'impact',
+  'glitch',
+  'ui',
+  'sci-fi',
+  'industrial',
+  'close',
+  'distant',
+  'mono-safe',
+  'noisy',
+  'clean',
+  'rhythmic',
+]
 const DEVICE_WORDS: Record<string, string[]> = {
-  'power-supply': ['laptop charger', 'phone charger', 'bench power supply', 'wall adapter', 'battery charger', 'power supply'],
+  'power-supply': [
+    'laptop charger',
+    'phone charger',
+    'bench power supply',
+    'wall adapter',
+    'battery charger',
+    'power supply',
+  ],
   display: ['desk monitor', 'old tube television', 'tablet screen', 'projector', 'e-paper panel'],
   'radio-link': ['two-way radio', 'wireless router', 'baby monitor', 'key fob', 'telemetry link'],
   motor: ['desk fan', 'drill', 'blender', 'aquarium pump', 'elevator motor', 'shaver'],
@@ -45,11 +97,56 @@ const DEVICE_WORDS: Record<string, string[]> = {
   'mains-wiring': ['doorbell transformer', 'extension lead', 'fuse box', 'wall socket'],
   other: ['induction hob', 'electric toothbrush', 'card reader', 'vending machine'],
 }
-const STATES = ['idle', 'charging', 'full load', 'booting', 'standby', 'speed 1', 'speed 2', 'speed 3', 'transmitting', 'receiving', 'seeking', 'brightness 30 %', 'brightness 100 %', 'spinning up', 'sleep', 'scrolling', 'dimmed', '']
-const PLACES = ['back workshop', 'roof deck', 'cellar corridor', 'studio B', 'kitchen', 'office floor 3', 'garage', 'train platform', 'server room', 'library annex']
+const STATES = [
+  'idle',
+  'charging',
+  'full load',
+  'booting',
+  'standby',
+  'speed 1',
+  'speed 2',
+  'speed 3',
+  'transmitting',
+  'receiving',
+  'seeking',
+  'brightness 30 %',
+  'brightness 100 %',
+  'spinning up',
+  'sleep',
+  'scrolling',
+  'dimmed',
+  '',
+]
+const PLACES = [
+  'back workshop',
+  'roof deck',
+  'cellar corridor',
+  'studio B',
+  'kitchen',
+  'office floor 3',
+  'garage',
+  'train platform',
+  'server room',
+  'library annex',
+]
 
-function analysisJson(lufs: number, tp: number, lra: number, sp: number, nf: number, hum: 50 | 60 | null, channels: number): string {
-  const ch = Array.from({ length: channels }, () => ({ samplePeakDbfs: sp, truePeakDbtp: tp, rmsDbfs: lufs - 3, dcOffset: 0, crestFactorDb: sp - lufs + 3, clippedSamples: 0 }))
+function analysisJson(
+  lufs: number,
+  tp: number,
+  lra: number,
+  sp: number,
+  nf: number,
+  hum: 50 | 60 | null,
+  channels: number,
+): string {
+  const ch = Array.from({ length: channels }, () => ({
+    samplePeakDbfs: sp,
+    truePeakDbtp: tp,
+    rmsDbfs: lufs - 3,
+    dcOffset: 0,
+    crestFactorDb: sp - lufs + 3,
+    clippedSamples: 0,
+  }))
   return JSON.stringify({
     levels: { samplePeakDbfs: sp, truePeakDbtp: tp, rmsDbfs: lufs - 3, channels: ch },
     loudness: { integratedLufs: lufs, loudnessRangeLu: lra, maxMomentaryLufs: lufs + 4, maxShortTermLufs: lufs + 2 },
@@ -73,7 +170,12 @@ async function seed(db: Db): Promise<void> {
         for (let i = 1; i <= 5; i++) {
           const row = await trx
             .insertInto('sources')
-            .values({ name: `${word[0].toUpperCase()}${word.slice(1)} ${i}`, kind, make_model: `Generic ${word}, unit ${i}`, notes: null })
+            .values({
+              name: `${word[0].toUpperCase()}${word.slice(1)} ${i}`,
+              kind,
+              make_model: `Generic ${word}, unit ${i}`,
+              notes: null,
+            })
             .returning('id')
             .executeTakeFirstOrThrow()
           sources.push({ id: row.id, kind })
@@ -86,7 +188,12 @@ async function seed(db: Db): Promise<void> {
     for (let i = 0; i < 500; i++) {
       const row = await trx
         .insertInto('capture_sessions')
-        .values({ title: `${pick(MOODS)} ${pick(SOUNDS)} hunt ${i + 1}`, date: `2026-${String(1 + (i % 12)).padStart(2, '0')}-${String(1 + (i % 28)).padStart(2, '0')}`, location: pick(PLACES), created_by: pick(users).id })
+        .values({
+          title: `${pick(MOODS)} ${pick(SOUNDS)} hunt ${i + 1}`,
+          date: `2026-${String(1 + (i % 12)).padStart(2, '0')}-${String(1 + (i % 28)).padStart(2, '0')}`,
+          location: pick(PLACES),
+          created_by: pick(users).id,
+        })
         .returning('id')
         .executeTakeFirstOrThrow()
       sessions.push(row.id)
@@ -122,14 +229,26 @@ async function seed(db: Db): Promise<void> {
             uploader_id: pick(users).id,
             filename: `T${String(i).padStart(5, '0')}_${sound.replace(/\s/g, '_')}.wav`,
             title: `${pick(MOODS)} ${pick(words)} ${sound} ${i % 97}`,
-            description: rand() < 0.4 ? `${pick(MOODS)} ${sound} from the ${pick(words)}, ${pick(STATES) || 'resting'}` : '',
+            description:
+              rand() < 0.4 ? `${pick(MOODS)} ${sound} from the ${pick(words)}, ${pick(STATES) || 'resting'}` : '',
             notes: rand() < 0.2 ? `Pickup ${Math.round(between(1, 30))} cm away; ${pick(MOODS)}` : '',
             audio_path: `audio/${sha.slice(0, 2)}/${sha}.wav`,
             size_bytes: Math.round(duration * rate * channels * 3),
             sha256: sha,
             status,
             progress: ready ? 1 : 0,
-            format_json: JSON.stringify({ container: 'RIFF', encoding: 'pcm', bitsPerSample: 24, validBitsPerSample: 24, sampleRate: rate, channels, channelMask: 0, frames: Math.round(duration * rate), durationSeconds: duration, recovered: false }),
+            format_json: JSON.stringify({
+              container: 'RIFF',
+              encoding: 'pcm',
+              bitsPerSample: 24,
+              validBitsPerSample: 24,
+              sampleRate: rate,
+              channels,
+              channelMask: 0,
+              frames: Math.round(duration * rate),
+              durationSeconds: duration,
+              recovered: false,
+            }),
             analysis_json: ready ? analysisJson(lufs, tp, lra, sp, nf, hum, channels) : null,
             thumb_json: ready ? JSON.stringify(Array.from({ length: 48 }, () => round1(rand()))) : null,
             duration_seconds: duration,
@@ -146,7 +265,12 @@ async function seed(db: Db): Promise<void> {
             created_at: created,
             updated_at: created,
           })
-          const tags = new Set([sound, ...(rand() < 0.7 ? [pick(EXTRA_TAGS)] : []), ...(rand() < 0.4 ? [pick(SOUNDS)] : []), ...(rand() < 0.3 ? [pick(EXTRA_TAGS)] : [])])
+          const tags = new Set([
+            sound,
+            ...(rand() < 0.7 ? [pick(EXTRA_TAGS)] : []),
+            ...(rand() < 0.4 ? [pick(SOUNDS)] : []),
+            ...(rand() < 0.3 ? [pick(EXTRA_TAGS)] : []),
+          ])
           const links = [{ source_id: src.id, state: pick(STATES) }]
           if (rand() < 0.2) {
             const other = pick(sources)
@@ -157,11 +281,21 @@ async function seed(db: Db): Promise<void> {
         const ids = await trx.insertInto('takes').values(rows).returning('id').execute()
         const tagRows = ids.flatMap((r, k) => extras[k].tags.map((tag) => ({ take_id: r.id, tag })))
         const linkRows = ids.flatMap((r, k) => extras[k].links.map((l) => ({ take_id: r.id, ...l })))
-        for (let k = 0; k < tagRows.length; k += 2000) await trx.insertInto('take_tags').values(tagRows.slice(k, k + 2000)).execute()
-        for (let k = 0; k < linkRows.length; k += 2000) await trx.insertInto('take_sources').values(linkRows.slice(k, k + 2000)).execute()
+        for (let k = 0; k < tagRows.length; k += 2000)
+          await trx
+            .insertInto('take_tags')
+            .values(tagRows.slice(k, k + 2000))
+            .execute()
+        for (let k = 0; k < linkRows.length; k += 2000)
+          await trx
+            .insertInto('take_sources')
+            .values(linkRows.slice(k, k + 2000))
+            .execute()
       }
     })
-    process.stdout.write(`\rseeded ${Math.min(TAKES, start + 5000)} / ${TAKES} takes (${((Date.now() - t0) / 1000).toFixed(0)} s)`)
+    process.stdout.write(
+      `\rseeded ${Math.min(TAKES, start + 5000)} / ${TAKES} takes (${((Date.now() - t0) / 1000).toFixed(0)} s)`,
+    )
   }
   process.stdout.write('\n')
 }
@@ -199,7 +333,15 @@ const quantile = (xs: number[], p: number) => {
 async function serve(dbFile: string, storageDir: string) {
   const child = spawn(process.execPath, ['--import', 'tsx', 'server/main.ts'], {
     cwd: root,
-    env: { ...process.env, PORT: '0', STRAYFIELD_DB: dbFile, STRAYFIELD_STORAGE: storageDir, STRAYFIELD_DEMO: '1', SMTP_URL: '', SESSION_SECRET: '' },
+    env: {
+      ...process.env,
+      PORT: '0',
+      STRAYFIELD_DB: dbFile,
+      STRAYFIELD_STORAGE: storageDir,
+      STRAYFIELD_DEMO: '1',
+      SMTP_URL: '',
+      SESSION_SECRET: '',
+    },
     stdio: ['ignore', 'pipe', 'inherit'],
   })
   const url = await new Promise<string>((resolve, reject) => {
@@ -237,10 +379,22 @@ async function main(): Promise<void> {
   )
   const db = seeder.ctx.db
   if (!reuse) await seed(db)
-  const sourceCount = Number((await db.selectFrom('sources').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const anySession = (await db.selectFrom('capture_sessions').select('id').orderBy('id').limit(1).offset(41).executeTakeFirstOrThrow()).id
-  const anyUploader = (await db.selectFrom('users').select('id').where('email', '=', 'recordist@example.test').executeTakeFirstOrThrow()).id
-  const fanId = (await db.selectFrom('sources').select('id').where('name', '=', 'Desk fan 3').executeTakeFirstOrThrow()).id
+  const sourceCount = Number(
+    (
+      await db
+        .selectFrom('sources')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .executeTakeFirstOrThrow()
+    ).n,
+  )
+  const anySession = (
+    await db.selectFrom('capture_sessions').select('id').orderBy('id').limit(1).offset(41).executeTakeFirstOrThrow()
+  ).id
+  const anyUploader = (
+    await db.selectFrom('users').select('id').where('email', '=', 'recordist@example.test').executeTakeFirstOrThrow()
+  ).id
+  const fanId = (await db.selectFrom('sources').select('id').where('name', '=', 'Desk fan 3').executeTakeFirstOrThrow())
+    .id
   await seeder.stop()
 
   const server = await serve(dbFile, storageDir)
@@ -285,7 +439,9 @@ async function main(): Promise<void> {
       }
       const r = { name, qs, p50: quantile(times, 0.5), p95: quantile(times, 0.95), matches }
       results.push(r)
-      console.log(`${name.padEnd(48)} p50 ${r.p50.toFixed(1).padStart(6)} ms   p95 ${r.p95.toFixed(1).padStart(6)} ms   ${r.matches} matches`)
+      console.log(
+        `${name.padEnd(48)} p50 ${r.p50.toFixed(1).padStart(6)} ms   p95 ${r.p95.toFixed(1).padStart(6)} ms   ${r.matches} matches`,
+      )
     }
 
     const loadAfter = os.loadavg()[0]

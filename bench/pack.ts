@@ -17,7 +17,19 @@
 // `zip -0`, warm in the page cache like the build's sources were.
 // Sources are made by sox once and kept in bench/.data/pack/ (git-ignored).
 import { execFileSync, spawnSync } from 'node:child_process'
-import { existsSync, linkSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync, copyFileSync } from 'node:fs'
+import {
+  existsSync,
+  linkSync,
+  mkdirSync,
+  mkdtempSync,
+  readdirSync,
+  readFileSync,
+  renameSync,
+  rmSync,
+  statSync,
+  writeFileSync,
+  copyFileSync,
+} from 'node:fs'
 import { availableParallelism, tmpdir } from 'node:os'
 import { dirname, join, relative } from 'node:path'
 import { fileURLToPath } from 'node:url'
@@ -56,7 +68,29 @@ function makeLongSource(): string {
   mkdirSync(dirname(file), { recursive: true })
   process.stdout.write(`generating ${relative(root, file)} with sox…\n`)
   const tmp = `${file}.part.wav`
-  execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '2', tmp, 'synth', '3600', 'pinknoise', 'synth', 'sine', 'mix', '1000', 'synth', 'sine', 'mix', '50', 'vol', '-16dB'])
+  execFileSync('sox', [
+    '-n',
+    '-r',
+    '48000',
+    '-b',
+    '24',
+    '-c',
+    '2',
+    tmp,
+    'synth',
+    '3600',
+    'pinknoise',
+    'synth',
+    'sine',
+    'mix',
+    '1000',
+    'synth',
+    'sine',
+    'mix',
+    '50',
+    'vol',
+    '-16dB',
+  ])
   renameSync(tmp, file)
   return file
 }
@@ -72,7 +106,29 @@ function makeSources(): string[] {
     const tmp = `${file}.part.wav`
     // Pink noise with a tone and mains hum at a different level per take.
     const hz = 200 + 150 * i
-    execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '2', tmp, 'synth', String(MINUTES * 60), 'pinknoise', 'synth', 'sine', 'mix', String(hz), 'synth', 'sine', 'mix', '50', 'vol', `-${14 + i}dB`])
+    execFileSync('sox', [
+      '-n',
+      '-r',
+      '48000',
+      '-b',
+      '24',
+      '-c',
+      '2',
+      tmp,
+      'synth',
+      String(MINUTES * 60),
+      'pinknoise',
+      'synth',
+      'sine',
+      'mix',
+      String(hz),
+      'synth',
+      'sine',
+      'mix',
+      '50',
+      'vol',
+      `-${14 + i}dB`,
+    ])
     renameSync(tmp, file)
   }
   return files
@@ -116,16 +172,33 @@ async function child(work: string, levelsFile: string): Promise<void> {
   type Ctx = import('../server/core/context').AppContext
 
   const levels = JSON.parse(readFileSync(levelsFile, 'utf8')) as Levels[]
-  const config = loadConfig({}, { dbFile: join(work, 'db.sqlite'), storageDir: join(work, 'storage'), demo: true, demoAudio: false, runJobs: false })
+  const config = loadConfig(
+    {},
+    {
+      dbFile: join(work, 'db.sqlite'),
+      storageDir: join(work, 'storage'),
+      demo: true,
+      demoAudio: false,
+      runJobs: false,
+    },
+  )
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
   const storage = new Storage(config.storageDir)
   const mailer = { send: async () => undefined, describe: () => 'none', close: async () => undefined }
   const ctx: Ctx = { config, db, mailer, storage, jobs: new JobRunner(db, {}), heavy: createHeavyWork() }
   await seedDemo(ctx)
-  const designer = await db.selectFrom('users').select(['id', 'email', 'name', 'role']).where('role', '=', 'designer').executeTakeFirstOrThrow()
+  const designer = await db
+    .selectFrom('users')
+    .select(['id', 'email', 'name', 'role'])
+    .where('role', '=', 'designer')
+    .executeTakeFirstOrThrow()
   const user = { ...designer, role: 'designer' as const }
-  const session = await db.insertInto('capture_sessions').values({ title: 'Benchmark capture', date: '2026-12-01' }).returning('id').executeTakeFirstOrThrow()
+  const session = await db
+    .insertInto('capture_sessions')
+    .values({ title: 'Benchmark capture', date: '2026-12-01' })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   const takeIds: number[] = []
   let sourceBytes = 0
   for (const [i, l] of levels.entries()) {
@@ -165,15 +238,30 @@ async function child(work: string, levelsFile: string): Promise<void> {
   }
   const pack = await db
     .insertInto('packs')
-    .values({ name: 'Benchmark pack', naming_template: '{title}_{index}', settings_json: JSON.stringify({}), created_by: user.id })
+    .values({
+      name: 'Benchmark pack',
+      naming_template: '{title}_{index}',
+      settings_json: JSON.stringify({}),
+      created_by: user.id,
+    })
     .returning('id')
     .executeTakeFirstOrThrow()
-  await addItems(ctx, user, pack.id, takeIds.map((takeId) => ({ takeId, kind: 'one-shot' as const })))
+  await addItems(
+    ctx,
+    user,
+    pack.id,
+    takeIds.map((takeId) => ({ takeId, kind: 'one-shot' as const })),
+  )
   const build = await requestBuild(ctx, user, pack.id)
   const t0 = performance.now()
   // BENCH_PACK_WORKERS=0 renders in the build process's own thread, N in N worker threads; unset: what the job chooses.
   const forced = process.env.BENCH_PACK_WORKERS
-  const built = await runBuild(ctx, build.id, async () => undefined, forced === undefined ? {} : { renderThreads: Number(forced) })
+  const built = await runBuild(
+    ctx,
+    build.id,
+    async () => undefined,
+    forced === undefined ? {} : { renderThreads: Number(forced) },
+  )
   const buildSeconds = (performance.now() - t0) / 1000
   if (!built) throw new Error('the build did not run')
   const row = await db.selectFrom('pack_builds').selectAll().where('id', '=', build.id).executeTakeFirstOrThrow()
@@ -191,7 +279,12 @@ async function child(work: string, levelsFile: string): Promise<void> {
   process.stdout.write(`${JSON.stringify(report)}\n`)
 }
 
-function timed(cmd: string, args: string[], cwd = root, env: NodeJS.ProcessEnv = process.env): { seconds: number; maxRssMb: number; stdout: string } {
+function timed(
+  cmd: string,
+  args: string[],
+  cwd = root,
+  env: NodeJS.ProcessEnv = process.env,
+): { seconds: number; maxRssMb: number; stdout: string } {
   const t0 = performance.now()
   const r = spawnSync(TIME, ['-v', cmd, ...args], { encoding: 'utf8', maxBuffer: 1 << 28, cwd, env })
   const seconds = (performance.now() - t0) / 1000
@@ -230,7 +323,9 @@ async function main(): Promise<void> {
       else env.BENCH_PACK_WORKERS = workers
       const run = timed(process.execPath, ['--import', 'tsx', self, '--child', dir, levelsFile], root, env)
       const report = JSON.parse(run.stdout.trim().split('\n').pop()!) as ChildReport
-      process.stdout.write(`${label}: ${report.buildSeconds.toFixed(1)} s, build process ${report.buildRssMb.toFixed(0)} MB, job side ${run.maxRssMb.toFixed(0)} MB, ${report.workers} render thread(s)\n`)
+      process.stdout.write(
+        `${label}: ${report.buildSeconds.toFixed(1)} s, build process ${report.buildRssMb.toFixed(0)} MB, job side ${run.maxRssMb.toFixed(0)} MB, ${report.workers} render thread(s)\n`,
+      )
       return { label, dir, report, maxRssMb: run.maxRssMb }
     }
     // Rounds interleave a build (the job's own choice of render threads) with `zip -0` of the same
@@ -242,7 +337,9 @@ async function main(): Promise<void> {
     const first = build(label, packLevels, files, undefined)
     execFileSync('unzip', ['-q', first.report.zipPath, '-d', unpacked])
     rmSync(first.dir, { recursive: true, force: true })
-    const wavs = readdirSync(unpacked).filter((f) => f.endsWith('.wav')).sort()
+    const wavs = readdirSync(unpacked)
+      .filter((f) => f.endsWith('.wav'))
+      .sort()
     const renderedBytes = wavs.reduce((n, f) => n + statSync(join(unpacked, f)).size, 0)
     const zip0 = (): number => {
       warm(wavs.map((f) => join(unpacked, f)))
@@ -269,12 +366,19 @@ async function main(): Promise<void> {
     const bestZip = Math.min(...rounds.map((r) => r.zipSeconds))
     const best = rounds.map((r) => r.run).reduce((a, b) => (b.report.buildSeconds < a.report.buildSeconds ? b : a))
     // The job's choice: its fastest round, and the largest peak memory of all its rounds.
-    const chosen = { ...best, label: `${label} (best of ${ROUNDS})`, report: { ...best.report, buildRssMb: Math.max(...rounds.map((r) => r.run.report.buildRssMb)) }, maxRssMb: Math.max(...rounds.map((r) => r.run.maxRssMb)) }
+    const chosen = {
+      ...best,
+      label: `${label} (best of ${ROUNDS})`,
+      report: { ...best.report, buildRssMb: Math.max(...rounds.map((r) => r.run.report.buildRssMb)) },
+      maxRssMb: Math.max(...rounds.map((r) => r.run.maxRssMb)),
+    }
     const row = (r: { label: string; report: ChildReport; maxRssMb: number }, zipSeconds: number | null) =>
       `| ${r.label} | ${(mb(r.report.sourceBytes) / 1000).toFixed(2)} GB | ${r.report.workers === 0 ? 'none (its own thread)' : `${r.report.workers} worker${r.report.workers > 1 ? 's' : ''}`} | ` +
       `${r.report.buildSeconds.toFixed(1)} | ${(mb(r.report.sourceBytes) / r.report.buildSeconds).toFixed(0)} MB/s | ${r.report.buildRssMb.toFixed(0)} MB | ${r.maxRssMb.toFixed(0)} MB | ` +
       `${zipSeconds === null ? '—' : zipSeconds.toFixed(1)} | ${zipSeconds === null ? '—' : `**${(r.report.buildSeconds / zipSeconds).toFixed(2)}**`} |`
-    const cpu = execFileSync('sh', ['-c', "grep -m1 'model name' /proc/cpuinfo | cut -d: -f2"], { encoding: 'utf8' }).trim()
+    const cpu = execFileSync('sh', ['-c', "grep -m1 'model name' /proc/cpuinfo | cut -d: -f2"], {
+      encoding: 'utf8',
+    }).trim()
     const load = readFileSync('/proc/loadavg', 'utf8').split(' ').slice(0, 3).join(' ')
     const md = [
       '# Pack build benchmark',
@@ -285,7 +389,7 @@ async function main(): Promise<void> {
       'writes, patches bext, and stores all with manifest.json, manifest.csv and LICENSE.txt in one zip (archiver, store), fsynced.',
       'The build runs in a process of its own (the build process), started by the job; its thread writes the zip while render worker threads render.',
       'Build seconds: from the job starting the build process to the zip in place; throughput: source megabytes per build second.',
-      'Peak memory: the build process (all its threads, getrusage); the job side (database, job, this process\'s tsx) by `/usr/bin/time -v`, for reference.',
+      "Peak memory: the build process (all its threads, getrusage); the job side (database, job, this process's tsx) by `/usr/bin/time -v`, for reference.",
       `\`zip -0\`: Info-ZIP storing the same rendered files (${(mb(renderedBytes) / 1000).toFixed(2)} GB), warm in the page cache.`,
       `Render threads: the job's choice (two on two cores or more, for a build this large), fastest of ${ROUNDS} rounds interleaved with \`zip -0\` (its peak memory the largest of`,
       'the rounds; the ratio fastest build ÷ fastest zip -0); then one build forced to one worker thread and one to none.',
@@ -301,7 +405,10 @@ async function main(): Promise<void> {
       '',
       '| round | build seconds | peak memory, build process | zip -0 seconds | build ÷ zip -0 |',
       '| ---: | ---: | ---: | ---: | ---: |',
-      ...rounds.map((r, i) => `| ${i + 1} | ${r.run.report.buildSeconds.toFixed(1)} | ${r.run.report.buildRssMb.toFixed(0)} MB | ${r.zipSeconds.toFixed(1)} | ${(r.run.report.buildSeconds / r.zipSeconds).toFixed(2)} |`),
+      ...rounds.map(
+        (r, i) =>
+          `| ${i + 1} | ${r.run.report.buildSeconds.toFixed(1)} | ${r.run.report.buildRssMb.toFixed(0)} MB | ${r.zipSeconds.toFixed(1)} | ${(r.run.report.buildSeconds / r.zipSeconds).toFixed(2)} |`,
+      ),
       '',
     ].join('\n')
     process.stdout.write(`\n${md}\n`)

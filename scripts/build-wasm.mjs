@@ -18,7 +18,9 @@ let stale = 0
 try {
   for (const src of sources) {
     const out = join(tmp, 'out.wasm')
-    execFileSync(asc, [src, '-o', out, '-O3', '--runtime', 'stub', '--noAssert', '--enable', 'simd'], { stdio: 'inherit' })
+    execFileSync(asc, [src, '-o', out, '-O3', '--runtime', 'stub', '--noAssert', '--enable', 'simd'], {
+      stdio: 'inherit',
+    })
     const b64 = readFileSync(out).toString('base64')
     const target = src.replace(/\.as\.ts$/, '.wasm.ts')
     const text = [
@@ -30,7 +32,9 @@ try {
     const kept = existsSync(target) ? readFileSync(target, 'utf8') : null
     if (kept === text) continue
     if (check) {
-      process.stderr.write(`${relative(root, target)} is not what ${relative(root, src)} compiles to: run npm run build:wasm\n`)
+      process.stderr.write(
+        `${relative(root, target)} is not what ${relative(root, src)} compiles to: run npm run build:wasm\n`,
+      )
       stale++
     } else {
       writeFileSync(target, text)

@@ -9,4 +9,9 @@ const children = [
 const stop = () => children.forEach((c) => c.kill('SIGTERM'))
 process.on('SIGINT', stop)
 process.on('SIGTERM', stop)
-children.forEach((c) => c.on('exit', (code) => { stop(); process.exitCode = code ?? 0 }))
+children.forEach((c) =>
+  c.on('exit', (code) => {
+    stop()
+    process.exitCode = code ?? 0
+  }),
+)

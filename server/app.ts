@@ -76,7 +76,14 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
 
   const api = createApi(app)
   registerHealthRoutes(api, ctx)
-  registerAuthRoutes(api, ctx, { passport, store, csrfToken: csrf.generateCsrfToken, preSignIn: csrf.preSignIn, sessionCookie, cookieOptions })
+  registerAuthRoutes(api, ctx, {
+    passport,
+    store,
+    csrfToken: csrf.generateCsrfToken,
+    preSignIn: csrf.preSignIn,
+    sessionCookie,
+    cookieOptions,
+  })
   registerTeamRoutes(api, ctx, { store, passport })
   registerOutboxRoutes(api, ctx)
   registerCaptureRoutes(api, ctx)

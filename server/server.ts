@@ -24,7 +24,10 @@ export interface RunningServer {
 }
 
 /** Opens the database, migrates, seeds the demo when asked, starts mail and HTTP. */
-export async function startServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = process.env): Promise<RunningServer> {
+export async function startServer(
+  overrides: Partial<Config> = {},
+  env: NodeJS.ProcessEnv = process.env,
+): Promise<RunningServer> {
   const config = loadConfig(env, overrides)
   checkDemoIsLocal(config) // before anything is opened or seeded
   // Before anything touches the data: the partial-upload sweep and the re-queuing of jobs below

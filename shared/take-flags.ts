@@ -107,7 +107,11 @@ export function takeFlags(take: FlaggableTake): TakeFlag[] {
   if (loudness && 'integratedLufs' in loudness) {
     const lufs = num(loudness.integratedLufs)
     if (lufs === null || lufs < GATE_LUFS) {
-      flags.push({ kind: 'too-quiet', label: 'Too quiet to measure', detail: `below the ${minus(String(GATE_LUFS))} LUFS gate` })
+      flags.push({
+        kind: 'too-quiet',
+        label: 'Too quiet to measure',
+        detail: `below the ${minus(String(GATE_LUFS))} LUFS gate`,
+      })
     }
   }
   return flags

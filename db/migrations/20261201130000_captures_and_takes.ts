@@ -115,5 +115,6 @@ export async function up(db: Kysely<any>): Promise<void> {
 }
 
 export async function down(db: Kysely<any>): Promise<void> {
-  for (const t of ['jobs', 'take_events', 'take_tags', 'take_sources', 'takes', 'capture_sessions', 'sources']) await db.schema.dropTable(t).execute()
+  for (const t of ['jobs', 'take_events', 'take_tags', 'take_sources', 'takes', 'capture_sessions', 'sources'])
+    await db.schema.dropTable(t).execute()
 }

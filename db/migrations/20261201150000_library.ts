@@ -49,7 +49,11 @@ export async function up(db: Kysely<any>): Promise<void> {
   await db.schema.dropIndex('take_tags_tag').execute()
   await db.schema.createIndex('take_tags_tag_take').on('take_tags').columns(['tag', 'take_id']).execute()
   await db.schema.dropIndex('take_sources_source').execute()
-  await db.schema.createIndex('take_sources_source_take').on('take_sources').columns(['source_id', 'take_id', 'state']).execute()
+  await db.schema
+    .createIndex('take_sources_source_take')
+    .on('take_sources')
+    .columns(['source_id', 'take_id', 'state'])
+    .execute()
 }
 
 const FACETS = [

@@ -40,7 +40,10 @@ export async function up(db: Kysely<any>): Promise<void> {
     .addColumn('created_by', 'integer', (c) => c.references('users.id').onDelete('set null'))
     .addColumn('created_at', 'text', (c) => c.notNull().defaultTo(now))
     .addColumn('updated_at', 'text', (c) => c.notNull().defaultTo(now))
-    .addCheckConstraint('pack_items_range', sql`start_seconds IS NULL OR end_seconds IS NULL OR end_seconds > start_seconds`)
+    .addCheckConstraint(
+      'pack_items_range',
+      sql`start_seconds IS NULL OR end_seconds IS NULL OR end_seconds > start_seconds`,
+    )
     .execute()
   await db.schema.createIndex('pack_items_pack').on('pack_items').columns(['pack_id', 'position']).execute()
   await db.schema.createIndex('pack_items_take').on('pack_items').column('take_id').execute()
@@ -120,5 +123,6 @@ export async function up(db: Kysely<any>): Promise<void> {
 }
 
 export async function down(db: Kysely<any>): Promise<void> {
-  for (const t of ['pack_share_links', 'pack_follows', 'pack_build_items', 'pack_builds', 'pack_items', 'packs']) await db.schema.dropTable(t).execute()
+  for (const t of ['pack_share_links', 'pack_follows', 'pack_build_items', 'pack_builds', 'pack_items', 'packs'])
+    await db.schema.dropTable(t).execute()
 }

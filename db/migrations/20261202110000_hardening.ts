@@ -11,8 +11,13 @@ export async function up(db: Kysely<any>): Promise<void> {
   await db.schema.alterTable('pack_share_links').addColumn('open_download_bytes', 'integer').execute()
 
   await db.schema.alterTable('sessions').addColumn('user_id', 'integer').execute()
-  await db.schema.alterTable('sessions').addColumn('created_at', 'integer', (c) => c.notNull().defaultTo(0)).execute()
-  await sql`UPDATE sessions SET user_id = json_extract(data, '$.passport.user'), created_at = CAST(strftime('%s','now') AS INTEGER) * 1000`.execute(db)
+  await db.schema
+    .alterTable('sessions')
+    .addColumn('created_at', 'integer', (c) => c.notNull().defaultTo(0))
+    .execute()
+  await sql`UPDATE sessions SET user_id = json_extract(data, '$.passport.user'), created_at = CAST(strftime('%s','now') AS INTEGER) * 1000`.execute(
+    db,
+  )
   await db.schema.createIndex('sessions_user_id').on('sessions').column('user_id').execute()
 
   await db.schema

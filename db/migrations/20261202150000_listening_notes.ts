@@ -13,7 +13,12 @@ export async function up(db: Kysely<any>): Promise<void> {
     .addColumn('outcome', 'text', (c) => c.check(sql`outcome IN ('keep', 'trim', 're-take', 'reject')`))
     .execute()
   // The library's "takes with a keep note" filter reads take ids straight from here.
-  await db.schema.createIndex('comments_outcome_take').on('comments').columns(['outcome', 'take_id']).where(sql.ref('outcome'), 'is not', null).execute()
+  await db.schema
+    .createIndex('comments_outcome_take')
+    .on('comments')
+    .columns(['outcome', 'take_id'])
+    .where(sql.ref('outcome'), 'is not', null)
+    .execute()
 }
 
 export async function down(db: Kysely<any>): Promise<void> {

@@ -33,7 +33,11 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     validBitsPerSample: format.validBitsPerSample,
   })
   const peaks = opts.peaksPath
-    ? new PeaksBuilder(opts.peaksPath, { sampleRate: format.sampleRate, channels: format.channels, frames: format.frames })
+    ? new PeaksBuilder(opts.peaksPath, {
+        sampleRate: format.sampleRate,
+        channels: format.channels,
+        frames: format.frames,
+      })
     : null
   try {
     let done = 0

@@ -53,17 +53,30 @@ export class BlockScan {
   /** Scans channels a and b (b = −1: a only); adds to the chunk energies when `accumulate`, else sets them. */
   private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
     const e = this.energy
-    const loA = this.lo[a], hiA = this.hi[a]
-    const loB = b < 0 ? loA : this.lo[b], hiB = b < 0 ? hiA : this.hi[b]
+    const loA = this.lo[a],
+      hiA = this.hi[a]
+    const loB = b < 0 ? loA : this.lo[b],
+      hiB = b < 0 ? hiA : this.hi[b]
     const both = b >= 0 ? 1 : 0
-    const sumA = this.chunkSum[a], nrgA = this.chunkEnergy[a]
-    const sumB = b < 0 ? sumA : this.chunkSum[b], nrgB = b < 0 ? nrgA : this.chunkEnergy[b]
-    let sa = 0, qa = 0, sb = 0, qb = 0
+    const sumA = this.chunkSum[a],
+      nrgA = this.chunkEnergy[a]
+    const sumB = b < 0 ? sumA : this.chunkSum[b],
+      nrgB = b < 0 ? nrgA : this.chunkEnergy[b]
+    let sa = 0,
+      qa = 0,
+      sb = 0,
+      qb = 0
     let c = 0
     let i = 0
     for (; i + 3 < n; i += 4, c++) {
-      const a0 = xa[i], a1 = xa[i + 1], a2 = xa[i + 2], a3 = xa[i + 3]
-      const b0 = xb[i], b1 = xb[i + 1], b2 = xb[i + 2], b3 = xb[i + 3]
+      const a0 = xa[i],
+        a1 = xa[i + 1],
+        a2 = xa[i + 2],
+        a3 = xa[i + 3]
+      const b0 = xb[i],
+        b1 = xb[i + 1],
+        b2 = xb[i + 2],
+        b3 = xb[i + 3]
       const ca = a0 + a1 + (a2 + a3)
       const cb = b0 + b1 + (b2 + b3)
       sa += ca
@@ -80,8 +93,14 @@ export class BlockScan {
       const ec = ea + both * eb
       e[c] = accumulate ? e[c] + ec : ec
       // Selects, not branches: on noise a branch here mispredicts half the time.
-      const la = a0 < a1 ? a0 : a1, ha = a0 < a1 ? a1 : a0, ma = a2 < a3 ? a2 : a3, na = a2 < a3 ? a3 : a2
-      const lb = b0 < b1 ? b0 : b1, hb = b0 < b1 ? b1 : b0, mb = b2 < b3 ? b2 : b3, nb = b2 < b3 ? b3 : b2
+      const la = a0 < a1 ? a0 : a1,
+        ha = a0 < a1 ? a1 : a0,
+        ma = a2 < a3 ? a2 : a3,
+        na = a2 < a3 ? a3 : a2
+      const lb = b0 < b1 ? b0 : b1,
+        hb = b0 < b1 ? b1 : b0,
+        mb = b2 < b3 ? b2 : b3,
+        nb = b2 < b3 ? b3 : b2
       loA[c] = la < ma ? la : ma
       hiA[c] = ha > na ? ha : na
       loB[c] = lb < mb ? lb : mb
@@ -90,7 +109,10 @@ export class BlockScan {
     if (i < n) {
       // The partial last chunk, channel by channel.
       const tail = (x: Float32Array, lo: Float32Array, hi: Float32Array, cs: Float64Array, ce: Float64Array) => {
-        let l = Infinity, h = -Infinity, s = 0, q = 0
+        let l = Infinity,
+          h = -Infinity,
+          s = 0,
+          q = 0
         for (let j = i; j < n; j++) {
           const v = x[j]
           s += v

@@ -63,7 +63,8 @@ function kernelScratch(samples: number): number {
   kKernel ??= instantiate<KKernel>(WASM_BASE64)
   const buffer = kKernel.scratch(IO_BYTES + samples * 4)
   if (ioView.buffer !== buffer) ioView = new Float64Array(buffer, kKernel.base, 18)
-  if (samplesView.buffer !== buffer || samplesView.length < samples) samplesView = new Float32Array(buffer, kKernel.base + IO_BYTES, samples)
+  if (samplesView.buffer !== buffer || samplesView.length < samples)
+    samplesView = new Float32Array(buffer, kKernel.base + IO_BYTES, samples)
   return kKernel.base + IO_BYTES
 }
 
@@ -163,7 +164,8 @@ export class LoudnessMeter {
     const slot = k % SHORT_TERM_SUBBLOCKS
     const e = this.currentEnergy
     const leavingShort = k >= SHORT_TERM_SUBBLOCKS ? this.subEnergy[slot] : 0
-    const leavingMomentary = k >= MOMENTARY_SUBBLOCKS ? this.subEnergy[(k - MOMENTARY_SUBBLOCKS) % SHORT_TERM_SUBBLOCKS] : 0
+    const leavingMomentary =
+      k >= MOMENTARY_SUBBLOCKS ? this.subEnergy[(k - MOMENTARY_SUBBLOCKS) % SHORT_TERM_SUBBLOCKS] : 0
     this.subEnergy[slot] = e
     this.subCount = k + 1
     this.totalEnergy += e
@@ -197,7 +199,8 @@ export class LoudnessMeter {
 
   private windowEnergy(subBlocks: number): number {
     let energy = 0
-    for (let j = 1; j <= Math.min(subBlocks, this.subCount); j++) energy += this.subEnergy[(this.subCount - j) % SHORT_TERM_SUBBLOCKS]
+    for (let j = 1; j <= Math.min(subBlocks, this.subCount); j++)
+      energy += this.subEnergy[(this.subCount - j) % SHORT_TERM_SUBBLOCKS]
     return energy
   }
 
@@ -213,7 +216,10 @@ export class LoudnessMeter {
     // Short-sound loudness: all the K-weighted energy over the sound's own length (partial sub-block
     // included), with the same −70 LUFS absolute gate as a block: below it there is nothing to measure.
     const frames = this.position
-    const short = frames > 0 && frames < SHORT_SOUND_SECONDS * this.opts.sampleRate ? level((this.totalEnergy + this.currentEnergy) / frames) : null
+    const short =
+      frames > 0 && frames < SHORT_SOUND_SECONDS * this.opts.sampleRate
+        ? level((this.totalEnergy + this.currentEnergy) / frames)
+        : null
     return {
       integratedLufs: this.integrated(),
       loudnessRangeLu: this.range(),

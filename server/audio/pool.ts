@@ -50,7 +50,8 @@ function defaultWorkerUrl(): URL {
   return new URL(`./analyze-worker${ext}`, import.meta.url)
 }
 
-const revive = (e: ErrorInfo): Error => reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
+const revive = (e: ErrorInfo): Error =>
+  reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
 
 export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions = {}): AnalysisPool {
   const url = opts.workerUrl ?? defaultWorkerUrl()
@@ -88,8 +89,7 @@ export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions =
       if (m.type === 'progress') {
         watch(slot)
         task.onProgress?.(m.fraction)
-      }
-      else if (m.type === 'done') {
+      } else if (m.type === 'done') {
         settle(slot)
         task.resolve(m.result)
       } else {
@@ -108,7 +108,9 @@ export function createAnalysisPool(size = defaultPoolSize(), opts: PoolOptions =
       slot.task = null
       if (task) {
         const why = failure ? failure.message : `exit code ${code}`
-        const message = slot.stoppedFor ? `measuring stopped answering: ${slot.stoppedFor}` : `analysis worker crashed: ${why}`
+        const message = slot.stoppedFor
+          ? `measuring stopped answering: ${slot.stoppedFor}`
+          : `analysis worker crashed: ${why}`
         task.reject(new Error(closed ? 'analysis pool closed' : message))
       }
       if (!closed) dispatch()

@@ -161,7 +161,8 @@ export class PreciseTruePeakMeter {
     const frames = planar[0]?.length ?? 0
     if (frames === 0) return
     const stretches = Math.ceil(frames / STRETCH)
-    if ((this.out[0]?.length ?? 0) < stretches) this.out = Array.from({ length: this.channels }, () => new Float64Array(stretches))
+    if ((this.out[0]?.length ?? 0) < stretches)
+      this.out = Array.from({ length: this.channels }, () => new Float64Array(stretches))
     for (let ch = 0; ch < this.channels; ch++) this.thresholds[ch] = this.peaks[ch] * SCREEN
     this.annex.pushScreened(planar, this.thresholds, STRETCH, this.out)
     const keepFrom = this.position + frames - (STRETCH + HALF + HEAD)
@@ -169,7 +170,12 @@ export class PreciseTruePeakMeter {
       const o = this.out[ch]
       const t = this.thresholds[ch]
       for (let s = 0; s < stretches; s++) {
-        if (o[s] > t) this.pending[ch].push({ from: this.position + s * STRETCH, to: Math.min(this.position + frames, this.position + (s + 1) * STRETCH), annex: o[s] })
+        if (o[s] > t)
+          this.pending[ch].push({
+            from: this.position + s * STRETCH,
+            to: Math.min(this.position + frames, this.position + (s + 1) * STRETCH),
+            annex: o[s],
+          })
       }
       // The kept samples stay at the front of a reused store; the block goes after them (one copy, no allocation once the store is big enough).
       const kept = this.lengths[ch]

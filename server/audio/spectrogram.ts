@@ -111,7 +111,13 @@ function lutIndex(db: number, floorDb: number): number {
 }
 
 /** The edges of row r (counted from the bottom) of the frequency axis, in Hz. */
-export function rowBandHz(r: number, height: number, minHz: number, maxHz: number, scale: SpectrogramScaleKind): [number, number] {
+export function rowBandHz(
+  r: number,
+  height: number,
+  minHz: number,
+  maxHz: number,
+  scale: SpectrogramScaleKind,
+): [number, number] {
   if (scale === 'log') {
     const ratio = maxHz / minHz
     return [minHz * ratio ** (r / height), minHz * ratio ** ((r + 1) / height)]
@@ -128,7 +134,8 @@ export function planSpectrogram(info: WavInfo, opts: SpectrogramOptions): Spectr
   }
   const sr = info.format.sampleRate
   const total = info.format.frames
-  const toFrame = (s: number | undefined, dflt: number) => (s === undefined ? dflt : Math.min(total, Math.max(0, Math.round(s * sr))))
+  const toFrame = (s: number | undefined, dflt: number) =>
+    s === undefined ? dflt : Math.min(total, Math.max(0, Math.round(s * sr)))
   const startFrame = toFrame(opts.startSeconds, 0)
   const endFrame = Math.max(startFrame, toFrame(opts.endSeconds, total))
   const detail = (endFrame - startFrame) / sr <= DETAIL_SPAN_SECONDS
@@ -161,7 +168,12 @@ interface RowMap {
 function mapRows(height: number, plan: SpectrogramPlan, scale: SpectrogramScaleKind): RowMap {
   const binHz = plan.sampleRate / plan.fftSize
   const last = plan.fftSize / 2
-  const m: RowMap = { kLo: new Int32Array(height), kHi: new Int32Array(height), k0: new Int32Array(height), frac: new Float64Array(height) }
+  const m: RowMap = {
+    kLo: new Int32Array(height),
+    kHi: new Int32Array(height),
+    k0: new Int32Array(height),
+    frac: new Float64Array(height),
+  }
   for (let r = 0; r < height; r++) {
     const [lo, hi] = rowBandHz(r, height, plan.minHz, plan.maxHz, scale)
     const centre = scale === 'log' ? Math.sqrt(lo * hi) : (lo + hi) / 2
@@ -194,7 +206,11 @@ async function readMono(path: string, info: WavInfo, from: number, to: number, o
   const channels = info.format.channels
   const scale = 1 / channels
   let at = 0
-  for await (const block of readFrames(path, info, { startFrame: from, endFrame: to, blockFrames: READ_BLOCK_FRAMES })) {
+  for await (const block of readFrames(path, info, {
+    startFrame: from,
+    endFrame: to,
+    blockFrames: READ_BLOCK_FRAMES,
+  })) {
     const n = block[0].length
     const first = block[0]
     if (channels === 1) out.set(first, at)

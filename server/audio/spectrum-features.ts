@@ -110,7 +110,10 @@ export function readHum(s: PowerSpectrum, thresholdDb = HUM_THRESHOLD_DB): HumRe
   for (let k = 1; k < s.power.length; k++) total += s.power[k]
   const candidates = ([50, 60] as const).map((f0) => humCandidate(s, f0, total, thresholdDb))
   const mains = candidates.filter((c) => c.mains)
-  const pick = (list: typeof candidates) => list.reduce((a, b) => (score(b) > score(a) || (score(b) === score(a) && (b.ratioDb ?? -Infinity) > (a.ratioDb ?? -Infinity)) ? b : a))
+  const pick = (list: typeof candidates) =>
+    list.reduce((a, b) =>
+      score(b) > score(a) || (score(b) === score(a) && (b.ratioDb ?? -Infinity) > (a.ratioDb ?? -Infinity)) ? b : a,
+    )
   const best = mains.length > 0 ? pick(mains) : pick(candidates)
   const verdict = best.mains ? best.f0 : null
   return {
@@ -152,10 +155,15 @@ function humCandidate(s: PowerSpectrum, f0: 50 | 60, total: number, thresholdDb:
   // The measured fundamental: the strongest bin within ±1 %, refined; the nominal one if that is not a peak.
   let measuredHz: number = f0
   let bestK = -1
-  for (let k = Math.max(2, Math.floor((f0 * 0.99) / hz)); k <= Math.ceil((f0 * 1.01) / hz) && k < s.power.length - 1; k++) {
+  for (
+    let k = Math.max(2, Math.floor((f0 * 0.99) / hz));
+    k <= Math.ceil((f0 * 1.01) / hz) && k < s.power.length - 1;
+    k++
+  ) {
     if (bestK < 0 || s.power[k] > s.power[bestK]) bestK = k
   }
-  if (bestK > 0 && s.power[bestK] > s.power[bestK - 1] && s.power[bestK] >= s.power[bestK + 1]) measuredHz = refinedHz(s, bestK)
+  if (bestK > 0 && s.power[bestK] > s.power[bestK - 1] && s.power[bestK] >= s.power[bestK + 1])
+    measuredHz = refinedHz(s, bestK)
   const harmonics: HumHarmonic[] = []
   let inBand = 0
   let expected = 0

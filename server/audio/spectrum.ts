@@ -134,7 +134,8 @@ export class SpectrumMeter {
       const to = Math.min(n, seg.start + this.length - this.position)
       if (to <= from) continue
       mixInto(seg.buffer, seg.filled, planar, from, to)
-      if (seg.side && seg.filled < this.sideSize) sideInto(seg.side, seg.filled, planar, from, Math.min(to, from + this.sideSize - seg.filled))
+      if (seg.side && seg.filled < this.sideSize)
+        sideInto(seg.side, seg.filled, planar, from, Math.min(to, from + this.sideSize - seg.filled))
       seg.filled += to - from
     }
     this.position = blockEnd
@@ -211,11 +212,21 @@ export class SpectrumMeter {
   }
 
   private sideSpectrum(power: Float64Array, segments: number): PowerSpectrum {
-    return { power: segments === 1 ? power : power.map((p) => p / segments), fftSize: this.sideSize, sampleRate: this.sampleRate, windowEnergy: this.sideWindowEnergy }
+    return {
+      power: segments === 1 ? power : power.map((p) => p / segments),
+      fftSize: this.sideSize,
+      sampleRate: this.sampleRate,
+      windowEnergy: this.sideWindowEnergy,
+    }
   }
 
   private spectrumOf(power: Float64Array, segments: number): PowerSpectrum {
-    return { power: segments === 1 ? power : power.map((p) => p / segments), fftSize: this.size, sampleRate: this.sampleRate, windowEnergy: this.windowEnergy }
+    return {
+      power: segments === 1 ? power : power.map((p) => p / segments),
+      fftSize: this.size,
+      sampleRate: this.sampleRate,
+      windowEnergy: this.windowEnergy,
+    }
   }
 
   private hann(len: number): Float64Array {
@@ -281,6 +292,15 @@ export class SpectrumMeter {
         i = j
       }
     }
-    return { hz, ratioDb: best.r.ratioDb, measuredHz: best.r.measuredHz, harmonics: best.r.harmonics, confidence: best.r.confidence, signals, share, spans }
+    return {
+      hz,
+      ratioDb: best.r.ratioDb,
+      measuredHz: best.r.measuredHz,
+      harmonics: best.r.harmonics,
+      confidence: best.r.confidence,
+      signals,
+      share,
+      spans,
+    }
   }
 }

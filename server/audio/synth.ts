@@ -26,7 +26,8 @@ const dbToAmp = (db: number) => 10 ** (db / 20)
 const TAU = 2 * Math.PI
 
 function frameCount(o: SynthBase): number {
-  if (!(o.seconds >= 0) || !Number.isInteger(o.sampleRate) || o.sampleRate <= 0) throw new RangeError('seconds >= 0 and an integer sampleRate are required')
+  if (!(o.seconds >= 0) || !Number.isInteger(o.sampleRate) || o.sampleRate <= 0)
+    throw new RangeError('seconds >= 0 and an integer sampleRate are required')
   return Math.round(o.seconds * o.sampleRate)
 }
 
@@ -78,7 +79,13 @@ export function whiteNoise(o: SynthBase): Float32Array[] {
 export function pinkNoise(o: SynthBase): Float32Array[] {
   return perChannel(o, (r) => {
     const x = new Float32Array(frameCount(o))
-    let b0 = 0, b1 = 0, b2 = 0, b3 = 0, b4 = 0, b5 = 0, b6 = 0
+    let b0 = 0,
+      b1 = 0,
+      b2 = 0,
+      b3 = 0,
+      b4 = 0,
+      b5 = 0,
+      b6 = 0
     for (let i = 0; i < x.length; i++) {
       const w = 2 * r() - 1
       b0 = 0.99886 * b0 + w * 0.0555179
@@ -126,7 +133,9 @@ export function switchingWhine(o: SynthBase & { hz?: number; sidebandHz?: number
 }
 
 /** Data bursts: gated trains of noisy pulses, like a packet radio or a serial line heard through a coil. */
-export function dataBursts(o: SynthBase & { burstsPerSecond?: number; duty?: number; pulseHz?: number }): Float32Array[] {
+export function dataBursts(
+  o: SynthBase & { burstsPerSecond?: number; duty?: number; pulseHz?: number },
+): Float32Array[] {
   const n = frameCount(o)
   const r = prng(o.seed ?? 1)
   const period = Math.max(1, Math.round(o.sampleRate / (o.burstsPerSecond ?? 6)))

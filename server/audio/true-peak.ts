@@ -25,12 +25,12 @@ import { instantiate, type KernelInstance } from './wasm/instance'
 import { WASM_BASE64 } from './wasm/true-peak.wasm'
 
 const PHASE_0 = [
-  0.001708984375, 0.010986328125, -0.0196533203125, 0.033203125, -0.0594482421875, 0.1373291015625,
-  0.97216796875, -0.102294921875, 0.047607421875, -0.0266113281250, 0.014892578125, -0.00830078125,
+  0.001708984375, 0.010986328125, -0.0196533203125, 0.033203125, -0.0594482421875, 0.1373291015625, 0.97216796875,
+  -0.102294921875, 0.047607421875, -0.026611328125, 0.014892578125, -0.00830078125,
 ]
 const PHASE_1 = [
-  -0.0291748046875, 0.029296875, -0.0517578125, 0.089111328125, -0.16650390625, 0.465087890625,
-  0.77978515625, -0.2003173828125, 0.1015625, -0.0582275390625, 0.0330810546875, -0.0189208984375,
+  -0.0291748046875, 0.029296875, -0.0517578125, 0.089111328125, -0.16650390625, 0.465087890625, 0.77978515625,
+  -0.2003173828125, 0.1015625, -0.0582275390625, 0.0330810546875, -0.0189208984375,
 ]
 // Phases 2 and 3 are phases 1 and 0 reversed (the prototype is linear-phase).
 export const TRUE_PEAK_PHASES: readonly (readonly number[])[] = [
@@ -60,7 +60,15 @@ interface Kernel {
   memory: WebAssembly.Memory
   setGains(ig: number, iag: number, og: number, oag: number): void
   scan(x: number, n: number, realFrom: number, firstOutput: number, running: number): number
-  scanStretches(x: number, n: number, realFrom: number, firstOutput: number, threshold: number, stretch: number, out: number): void
+  scanStretches(
+    x: number,
+    n: number,
+    realFrom: number,
+    firstOutput: number,
+    threshold: number,
+    stretch: number,
+    out: number,
+  ): void
 }
 
 /** One instance per thread; its scratch holds the work array of whichever meter is pushing. */
@@ -145,4 +153,3 @@ export class TruePeakMeter {
     return this.peaks[channel]
   }
 }
-

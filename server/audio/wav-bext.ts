@@ -44,7 +44,13 @@ export interface BextInput {
   codingHistory?: string
 }
 
-const LOUDNESS_KEYS = ['loudnessValue', 'loudnessRange', 'maxTruePeakLevel', 'maxMomentaryLoudness', 'maxShortTermLoudness'] as const
+const LOUDNESS_KEYS = [
+  'loudnessValue',
+  'loudnessRange',
+  'maxTruePeakLevel',
+  'maxMomentaryLoudness',
+  'maxShortTermLoudness',
+] as const
 
 /** Fixed-width ASCII field: stops at the first NUL, then drops trailing spaces/NULs. */
 export function fieldString(b: Buffer, start: number, end: number): string {
@@ -120,7 +126,10 @@ export function encodeBext(i: BextInput, size = bextSize(i.codingHistory)): Buff
   }
   LOUDNESS_KEYS.forEach((k, n) => {
     const v = i[k]
-    const q = v === null || v === undefined || !Number.isFinite(v) ? BEXT_UNUSED : Math.max(-32768, Math.min(32766, Math.round(v * 100)))
+    const q =
+      v === null || v === undefined || !Number.isFinite(v)
+        ? BEXT_UNUSED
+        : Math.max(-32768, Math.min(32766, Math.round(v * 100)))
     b.writeInt16LE(q, o.loudnessValue + 2 * n)
   })
   putString(b, o.codingHistory, b.length - o.codingHistory, i.codingHistory)

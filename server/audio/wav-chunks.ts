@@ -49,7 +49,8 @@ export function parseInfo(data: Buffer, budget = new MetaBudget()): Record<strin
   const info: Record<string, string> = {}
   for (const e of listEntries(data, budget, 'LIST/INFO')) {
     // Decode no more than a field's worth (UTF-8 takes at most 4 bytes a character).
-    if (e.data.length > 4 * FIELD_CAP) budget.note(`INFO ${e.id}: ${e.data.length} bytes, read the first ${4 * FIELD_CAP}`)
+    if (e.data.length > 4 * FIELD_CAP)
+      budget.note(`INFO ${e.id}: ${e.data.length} bytes, read the first ${4 * FIELD_CAP}`)
     const text = trimEndCodes(decodeText(headBytes(e.data, 4 * FIELD_CAP)), [NUL, SPACE])
     info[e.id] = budget.text(`INFO ${e.id}`, text)
   }
@@ -63,7 +64,10 @@ export function parseAdtl(data: Buffer, budget = new MetaBudget()): Map<number, 
   for (const e of listEntries(data, budget, 'LIST/adtl')) {
     if (e.data.length < 4 || (e.id !== 'labl' && e.id !== 'note')) continue
     const text = stripNul(decodeText(headBytes(e.data.subarray(4), 4 * FIELD_CAP)))
-    ;(e.id === 'labl' ? labl : note).set(e.data.readUInt32LE(0), budget.text(`cue label ${e.data.readUInt32LE(0)}`, text))
+    ;(e.id === 'labl' ? labl : note).set(
+      e.data.readUInt32LE(0),
+      budget.text(`cue label ${e.data.readUInt32LE(0)}`, text),
+    )
   }
   for (const [id, t] of note) if (!labl.has(id)) labl.set(id, t)
   return labl
@@ -91,7 +95,14 @@ export function parseSmpl(data: Buffer, budget = new MetaBudget()): Loop[] {
 
 /** The FileMetadata fields our own parsers fill (tags come from music-metadata in the reader). */
 export function parseChunksMetadata(chunks: RawChunk[], budget = new MetaBudget()): Omit<FileMetadata, 'tags'> {
-  const meta: Omit<FileMetadata, 'tags'> = { bext: null, ixml: null, info: {}, cues: [], loops: [], dropped: budget.dropped }
+  const meta: Omit<FileMetadata, 'tags'> = {
+    bext: null,
+    ixml: null,
+    info: {},
+    cues: [],
+    loops: [],
+    dropped: budget.dropped,
+  }
   const labels = new Map<number, string>()
   let cuePoints: { id: number; frame: number }[] = []
   for (const c of chunks) {
@@ -146,11 +157,13 @@ export function encodeCue(cues: { id: number; frame: number }[]): Buffer {
 }
 
 export function encodeAdtl(cues: { id: number; label?: string }[]): Buffer | null {
-  const parts = cues.filter((c) => c.label !== undefined).map((c) => {
-    const id = Buffer.alloc(4)
-    id.writeUInt32LE(c.id)
-    return chunk('labl', Buffer.concat([id, textZ(c.label ?? '')]))
-  })
+  const parts = cues
+    .filter((c) => c.label !== undefined)
+    .map((c) => {
+      const id = Buffer.alloc(4)
+      id.writeUInt32LE(c.id)
+      return chunk('labl', Buffer.concat([id, textZ(c.label ?? '')]))
+    })
   return parts.length ? chunk('LIST', Buffer.concat([Buffer.from('adtl', 'latin1'), ...parts])) : null
 }
 

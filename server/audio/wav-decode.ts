@@ -15,7 +15,13 @@ export interface DecodeFormat {
  * Decode `frames` whole frames from `buf` (whose byteOffset must be a multiple of 8,
  * e.g. from Buffer.allocUnsafeSlow) into out[c][0..frames).
  */
-export function decodeInterleaved(buf: Buffer, frames: number, f: DecodeFormat, out: Float32Array[], float64Scale = 1): void {
+export function decodeInterleaved(
+  buf: Buffer,
+  frames: number,
+  f: DecodeFormat,
+  out: Float32Array[],
+  float64Scale = 1,
+): void {
   const ch = f.channels
   const n = frames * ch
   const ab = buf.buffer
@@ -76,10 +82,19 @@ export function decodeInterleaved(buf: Buffer, frames: number, f: DecodeFormat, 
  * 24-bit stereo on a little-endian host: two frames (12 bytes) are three 32-bit words, so it
  * takes three loads instead of twelve; the same integers, so the same floats, as the byte path.
  */
-function decodeStereo24(w: Int32Array, src: Uint8Array, frames: number, l: Float32Array, r: Float32Array, k: number): void {
+function decodeStereo24(
+  w: Int32Array,
+  src: Uint8Array,
+  frames: number,
+  l: Float32Array,
+  r: Float32Array,
+  k: number,
+): void {
   const pairs = frames >> 1
   for (let p = 0, i = 0, j = 0; p < pairs; p++, i += 2, j += 3) {
-    const w0 = w[j], w1 = w[j + 1], w2 = w[j + 2]
+    const w0 = w[j],
+      w1 = w[j + 1],
+      w2 = w[j + 2]
     l[i] = ((w0 << 8) >> 8) * k
     r[i] = (((w1 << 16) | ((w0 >>> 24) << 8)) >> 8) * k
     l[i + 1] = (((w2 << 24) | ((w1 >>> 16) << 8)) >> 8) * k

@@ -43,14 +43,28 @@ function quantize(x: number, scale: number, lo: number, hi: number, dither: Tpdf
  * Encode frames [from, from+frames) of `planar` into `buf` (byteOffset a multiple of 8).
  * `dither` (PCM only) adds ±1 LSB triangular noise before rounding.
  */
-export function encodeInterleaved(planar: ArrayLike<number>[], from: number, frames: number, f: EncodeFormat, buf: Buffer, dither: Tpdf | null): void {
+export function encodeInterleaved(
+  planar: ArrayLike<number>[],
+  from: number,
+  frames: number,
+  f: EncodeFormat,
+  buf: Buffer,
+  dither: Tpdf | null,
+): void {
   const ch = f.channels
   const n = frames * ch
   const ab = buf.buffer
   const off = buf.byteOffset
   if (f.encoding === 'float') {
     // Little-endian hosts interleave straight into buf (aligned: byteOffset a multiple of 8).
-    const dst = f.bitsPerSample === 32 ? (LE ? new Float32Array(ab, off, n) : new Float32Array(n)) : LE ? new Float64Array(ab, off, n) : new Float64Array(n)
+    const dst =
+      f.bitsPerSample === 32
+        ? LE
+          ? new Float32Array(ab, off, n)
+          : new Float32Array(n)
+        : LE
+          ? new Float64Array(ab, off, n)
+          : new Float64Array(n)
     for (let c = 0; c < ch; c++) {
       const src = planar[c]
       for (let i = 0, j = c; i < frames; i++, j += ch) dst[j] = src[from + i]
@@ -70,7 +84,8 @@ export function encodeInterleaved(planar: ArrayLike<number>[], from: number, fra
     case 8:
       for (let c = 0; c < ch; c++) {
         const src = planar[c]
-        for (let i = 0, j = c; i < frames; i++, j += ch) buf[j] = quantize(src[from + i], scale, lo, hi, dither) * shift + 128
+        for (let i = 0, j = c; i < frames; i++, j += ch)
+          buf[j] = quantize(src[from + i], scale, lo, hi, dither) * shift + 128
       }
       return
     case 16: {
@@ -86,7 +101,18 @@ export function encodeInterleaved(planar: ArrayLike<number>[], from: number, fra
       const dst = new Uint8Array(ab, off, n * 3)
       const step = ch * 3
       if (LE && ch === 2 && !dither && off % 4 === 0) {
-        encodeStereo24(planar[0], planar[1], from, frames, scale, lo, hi, shift, new Int32Array(ab, off, 3 * (frames >> 1)), dst)
+        encodeStereo24(
+          planar[0],
+          planar[1],
+          from,
+          frames,
+          scale,
+          lo,
+          hi,
+          shift,
+          new Int32Array(ab, off, 3 * (frames >> 1)),
+          dst,
+        )
         return
       }
       for (let c = 0; c < ch; c++) {
@@ -118,7 +144,18 @@ export function encodeInterleaved(planar: ArrayLike<number>[], from: number, fra
  * 24-bit stereo without dither on a little-endian host: two frames (12 bytes) go out as three
  * 32-bit words instead of twelve byte stores. The same samples (quantize), so the same bytes.
  */
-function encodeStereo24(l: ArrayLike<number>, r: ArrayLike<number>, from: number, frames: number, scale: number, lo: number, hi: number, shift: number, w: Int32Array, dst: Uint8Array): void {
+function encodeStereo24(
+  l: ArrayLike<number>,
+  r: ArrayLike<number>,
+  from: number,
+  frames: number,
+  scale: number,
+  lo: number,
+  hi: number,
+  shift: number,
+  w: Int32Array,
+  dst: Uint8Array,
+): void {
   const pairs = frames >> 1
   for (let p = 0, i = from, j = 0; p < pairs; p++, i += 2, j += 3) {
     const a = quantize(l[i], scale, lo, hi, null) * shift
@@ -166,7 +203,10 @@ export function encodeIntsInterleaved(ints: Int32Array[], frames: number, bits: 
     const r = ints[1]
     const pairs = frames >> 1
     for (let p = 0, i = 0, j = 0; p < pairs; p++, i += 2, j += 3) {
-      const a = l[i], b = r[i], c = l[i + 1], d = r[i + 1]
+      const a = l[i],
+        b = r[i],
+        c = l[i + 1],
+        d = r[i + 1]
       w[j] = (a & 0xffffff) | (b << 24)
       w[j + 1] = ((b >> 8) & 0xffff) | (c << 16)
       w[j + 2] = ((c >> 16) & 0xff) | (d << 8)
@@ -175,7 +215,8 @@ export function encodeIntsInterleaved(ints: Int32Array[], frames: number, bits: 
       const i = frames - 1
       const o = buf.byteOffset + i * 6
       const u = new Uint8Array(buf.buffer, o, 6)
-      const a = l[i], b = r[i]
+      const a = l[i],
+        b = r[i]
       u[0] = a & 0xff
       u[1] = (a >> 8) & 0xff
       u[2] = (a >> 16) & 0xff

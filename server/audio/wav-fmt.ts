@@ -11,12 +11,23 @@ export const MAX_RATE = 384000
 export const MAX_CHANNELS = 8
 
 /** Tail (bytes 2..15) of KSDATAFORMAT_SUBTYPE_PCM / _IEEE_FLOAT: xxxxxxxx-0000-0010-8000-00AA00389B71. */
-export const SUBFORMAT_TAIL = Buffer.from([0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xaa, 0x00, 0x38, 0x9b, 0x71])
+export const SUBFORMAT_TAIL = Buffer.from([
+  0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xaa, 0x00, 0x38, 0x9b, 0x71,
+])
 
 // Names for a readable refusal; only a few common tags (common practice).
 const TAG_NAMES: Record<number, string> = {
-  0x0002: 'ADPCM', 0x0006: 'A-law', 0x0007: 'mu-law', 0x0011: 'ADPCM', 0x0031: 'GSM 6.10',
-  0x0050: 'MPEG', 0x0055: 'MPEG', 0x00ff: 'AAC', 0x1600: 'AAC', 0x1602: 'AAC', 0x0000: 'unknown',
+  0x0002: 'ADPCM',
+  0x0006: 'A-law',
+  0x0007: 'mu-law',
+  0x0011: 'ADPCM',
+  0x0031: 'GSM 6.10',
+  0x0050: 'MPEG',
+  0x0055: 'MPEG',
+  0x00ff: 'AAC',
+  0x1600: 'AAC',
+  0x1602: 'AAC',
+  0x0000: 'unknown',
 }
 
 export interface FmtFields {
@@ -54,11 +65,14 @@ export function parseFmt(b: Buffer): FmtFields {
     channelMask = b.readUInt32LE(20)
     tag = b.readUInt16LE(24)
     if (!b.subarray(26, 40).equals(SUBFORMAT_TAIL)) {
-      throw new WavFormatError(`unsupported encoding: extensible sub-format ${b.subarray(24, 40).toString('hex')} is neither PCM nor float`)
+      throw new WavFormatError(
+        `unsupported encoding: extensible sub-format ${b.subarray(24, 40).toString('hex')} is neither PCM nor float`,
+      )
     }
   }
   if (tag !== FORMAT_PCM && tag !== FORMAT_FLOAT) throw unsupported(tag)
-  if (channels < 1 || channels > MAX_CHANNELS) throw new WavFormatError(`channels ${channels} outside 1..${MAX_CHANNELS}`)
+  if (channels < 1 || channels > MAX_CHANNELS)
+    throw new WavFormatError(`channels ${channels} outside 1..${MAX_CHANNELS}`)
   if (sampleRate < MIN_RATE || sampleRate > MAX_RATE) {
     throw new WavFormatError(`sample rate ${sampleRate} Hz is outside ${MIN_RATE}..${MAX_RATE}`)
   }
@@ -78,7 +92,18 @@ export function parseFmt(b: Buffer): FmtFields {
   }
   const expected = channels * (bits / 8)
   if (blockAlign !== expected && blockAlign !== 0) {
-    throw new WavFormatError(`block align ${blockAlign} does not match ${channels} channels of ${bits}-bit samples (${expected})`)
+    throw new WavFormatError(
+      `block align ${blockAlign} does not match ${channels} channels of ${bits}-bit samples (${expected})`,
+    )
   }
-  return { formatTag, encoding, bitsPerSample: bits, validBitsPerSample: validBits, sampleRate, channels, channelMask, blockAlign: expected }
+  return {
+    formatTag,
+    encoding,
+    bitsPerSample: bits,
+    validBitsPerSample: validBits,
+    sampleRate,
+    channels,
+    channelMask,
+    blockAlign: expected,
+  }
 }

@@ -19,7 +19,10 @@ export function decodeEntities(s: string): string {
 }
 
 export function escapeXml(s: string): string {
-  return s.replace(/[<>&"']/g, (c) => `&${({ '<': 'lt', '>': 'gt', '&': 'amp', '"': 'quot', "'": 'apos' } as const)[c as '<']};`)
+  return s.replace(
+    /[<>&"']/g,
+    (c) => `&${({ '<': 'lt', '>': 'gt', '&': 'amp', '"': 'quot', "'": 'apos' } as const)[c as '<']};`,
+  )
 }
 
 type Field = (typeof FIELDS)[number]

@@ -8,7 +8,15 @@
 // In RF64/BW64 every 32-bit size that ds64 covers holds 0xFFFFFFFF (Tech 3306).
 import { chunk, encodeAdtl, encodeCue, encodeInfo, encodeSmpl } from './wav-chunks'
 import { encodeBext, bextSize, type BextInput } from './wav-bext'
-import { FORMAT_EXTENSIBLE, FORMAT_FLOAT, FORMAT_PCM, MAX_CHANNELS, MAX_RATE, MIN_RATE, SUBFORMAT_TAIL } from './wav-fmt'
+import {
+  FORMAT_EXTENSIBLE,
+  FORMAT_FLOAT,
+  FORMAT_PCM,
+  MAX_CHANNELS,
+  MAX_RATE,
+  MIN_RATE,
+  SUBFORMAT_TAIL,
+} from './wav-fmt'
 
 export type { BextInput } from './wav-bext'
 
@@ -60,12 +68,16 @@ export interface Plan {
 
 export function validateOptions(o: WavWriteOptions): void {
   const int = (v: number) => Number.isInteger(v)
-  if (!int(o.sampleRate) || o.sampleRate < (o.controlRate ? 1 : MIN_RATE) || o.sampleRate > MAX_RATE) throw new RangeError(`sample rate ${o.sampleRate} outside ${MIN_RATE}..${MAX_RATE}`)
-  if (!int(o.channels) || o.channels < 1 || o.channels > MAX_CHANNELS) throw new RangeError(`channels ${o.channels} outside 1..${MAX_CHANNELS}`)
+  if (!int(o.sampleRate) || o.sampleRate < (o.controlRate ? 1 : MIN_RATE) || o.sampleRate > MAX_RATE)
+    throw new RangeError(`sample rate ${o.sampleRate} outside ${MIN_RATE}..${MAX_RATE}`)
+  if (!int(o.channels) || o.channels < 1 || o.channels > MAX_CHANNELS)
+    throw new RangeError(`channels ${o.channels} outside 1..${MAX_CHANNELS}`)
   const okBits = o.encoding === 'float' ? [32, 64] : [8, 16, 24, 32]
-  if (!okBits.includes(o.bitsPerSample)) throw new RangeError(`${o.bitsPerSample}-bit ${o.encoding} is not a valid encoding`)
+  if (!okBits.includes(o.bitsPerSample))
+    throw new RangeError(`${o.bitsPerSample}-bit ${o.encoding} is not a valid encoding`)
   const vb = o.validBitsPerSample ?? o.bitsPerSample
-  if (!int(vb) || vb < 1 || vb > o.bitsPerSample || (o.encoding === 'float' && vb !== o.bitsPerSample)) throw new RangeError(`valid bits ${vb} not possible in ${o.bitsPerSample}-bit ${o.encoding}`)
+  if (!int(vb) || vb < 1 || vb > o.bitsPerSample || (o.encoding === 'float' && vb !== o.bitsPerSample))
+    throw new RangeError(`valid bits ${vb} not possible in ${o.bitsPerSample}-bit ${o.encoding}`)
 }
 
 function fmtPayload(o: WavWriteOptions, validBits: number, blockAlign: number): { tag: number; buf: Buffer } {
@@ -125,7 +137,19 @@ export function planLayout(o: WavWriteOptions): Plan {
   const dh = Buffer.alloc(8)
   dh.write('data', 0, 4, 'latin1')
   push(dh)
-  return { header: Buffer.concat(parts), container, blockAlign, bits: o.bitsPerSample, validBits, ds64At, factAt, bextAt, bextSize: bSize, dataSizeAt, dataOffset: at }
+  return {
+    header: Buffer.concat(parts),
+    container,
+    blockAlign,
+    bits: o.bitsPerSample,
+    validBits,
+    ds64At,
+    factAt,
+    bextAt,
+    bextSize: bSize,
+    dataSizeAt,
+    dataOffset: at,
+  }
 }
 
 /** Chunks written after the data (and its pad byte). */

@@ -131,7 +131,7 @@ export async function probeWav(path: string): Promise<WavInfo> {
       const avail = fileSize - payload
 
       if (id === 'data' && !data) {
-        const placeholder = size === 0 || size32 === 0xffffffff && (!ds64 || size === 0)
+        const placeholder = size === 0 || (size32 === 0xffffffff && (!ds64 || size === 0))
         const bytes = placeholder || size > avail ? avail : size
         const recovered = placeholder ? size32 === 0xffffffff || avail > 0 : size > avail
         data = { offset: payload, bytes, recovered }
@@ -180,7 +180,11 @@ export async function probeWav(path: string): Promise<WavInfo> {
 }
 
 /** Odd sizes are followed by a pad byte; a few writers forget it, so take the unpadded position when only it holds a chunk id. */
-async function nextChunk(read: (p: number, n: number) => Promise<Buffer>, payload: number, size: number): Promise<number> {
+async function nextChunk(
+  read: (p: number, n: number) => Promise<Buffer>,
+  payload: number,
+  size: number,
+): Promise<number> {
   const end = payload + size
   if (size % 2 === 0) return end
   const probe = await read(end, 5)
@@ -212,7 +216,11 @@ function clampInt(v: number | undefined, lo: number, hi: number, dflt: number): 
  * is the container-width integer / 2^(bits−1) (extensible valid bits sit in the top bits),
  * float is passed through unclipped. Memory is one read buffer plus the yielded block.
  */
-export async function* readFrames(path: string, info: WavInfo, opts: ReadFramesOptions = {}): AsyncGenerator<Float32Array[]> {
+export async function* readFrames(
+  path: string,
+  info: WavInfo,
+  opts: ReadFramesOptions = {},
+): AsyncGenerator<Float32Array[]> {
   const { format, blockAlign, dataOffset } = info
   const total = format.frames
   const start = clampInt(opts.startFrame, 0, total, 0)
@@ -227,7 +235,9 @@ export async function* readFrames(path: string, info: WavInfo, opts: ReadFramesO
     const bytes = Math.min(block, end - start) * blockAlign
     let buf = Buffer.allocUnsafeSlow(bytes)
     let spare = end - start > block ? Buffer.allocUnsafeSlow(bytes) : null
-    const ring: (Float32Array[] | undefined)[] | null = opts.recycle ? new Array(Math.max(2, Math.floor(opts.recycle))) : null
+    const ring: (Float32Array[] | undefined)[] | null = opts.recycle
+      ? new Array(Math.max(2, Math.floor(opts.recycle)))
+      : null
     let turn = 0
     let frame = start
     ahead = readAt(fh, dataOffset + frame * blockAlign, Math.min(block, end - frame) * blockAlign, buf)
@@ -288,7 +298,9 @@ export async function readMetadata(path: string, info: WavInfo, opts: ReadMetada
     for (const c of info.chunks) {
       if (!META_IDS.has(c.id)) continue
       if (c.size > MAX_META_CHUNK || read + c.size > TOTAL_CHUNK_BYTES) {
-        budget.note(`${c.id.trim()} chunk of ${c.size} bytes at byte ${c.offset}: skipped (metadata is read up to ${MAX_META_CHUNK / 2 ** 20} MiB a chunk, ${TOTAL_CHUNK_BYTES / 2 ** 20} MiB a file)`)
+        budget.note(
+          `${c.id.trim()} chunk of ${c.size} bytes at byte ${c.offset}: skipped (metadata is read up to ${MAX_META_CHUNK / 2 ** 20} MiB a chunk, ${TOTAL_CHUNK_BYTES / 2 ** 20} MiB a file)`,
+        )
         continue
       }
       read += c.size
@@ -304,7 +316,7 @@ export async function readMetadata(path: string, info: WavInfo, opts: ReadMetada
   // music-metadata walks every entry itself (500,000 INFO entries took it 150 s, and a time limit
   // cannot stop it), so it only reads files whose metadata stayed within our bounds.
   if (budget.dropped.length || read > TAGS_MAX_BYTES) {
-    budget.note('general tags: not read (the file\'s metadata is over the limits above)')
+    budget.note("general tags: not read (the file's metadata is over the limits above)")
     return { ...meta, tags: mergeInfoTags(tags, meta.info), dropped: budget.dropped }
   }
   try {

@@ -90,17 +90,24 @@ export class WavWriter {
     if (this.done) return Promise.reject(new Error('WavWriter is closed'))
     const bits = this.plan.bits
     if (this.opts.encoding !== 'pcm' || (bits !== 16 && bits !== 24) || this.plan.validBits !== bits || this.dither) {
-      return Promise.reject(new RangeError('writeInts takes 16- or 24-bit PCM without the writer\'s own dither'))
+      return Promise.reject(new RangeError("writeInts takes 16- or 24-bit PCM without the writer's own dither"))
     }
-    if (ints.length !== this.opts.channels || ints.some((c) => c.length < frames)) return Promise.reject(new RangeError(`expected ${this.opts.channels} channel arrays of ${frames} frames`))
-    const run = this.queue.then(() => this.appendBlocks(frames, (from, n) => encodeIntsInterleaved(from === 0 ? ints : ints.map((c) => c.subarray(from)), n, bits, this.buf)))
+    if (ints.length !== this.opts.channels || ints.some((c) => c.length < frames))
+      return Promise.reject(new RangeError(`expected ${this.opts.channels} channel arrays of ${frames} frames`))
+    const run = this.queue.then(() =>
+      this.appendBlocks(frames, (from, n) =>
+        encodeIntsInterleaved(from === 0 ? ints : ints.map((c) => c.subarray(from)), n, bits, this.buf),
+      ),
+    )
     this.queue = run.catch(() => {})
     return run
   }
 
   private writeNow(planar: ArrayLike<number>[]): Promise<void> {
     const n = checkPlanar(planar, this.opts.channels)
-    return this.appendBlocks(n, (from, frames) => encodeInterleaved(planar, from, frames, this.fmt, this.buf, this.dither))
+    return this.appendBlocks(n, (from, frames) =>
+      encodeInterleaved(planar, from, frames, this.fmt, this.buf, this.dither),
+    )
   }
 
   /** Encodes `total` frames into the block buffer BLOCK_FRAMES at a time (encode(from, n)) and appends each. */
@@ -118,7 +125,8 @@ export class WavWriter {
   /** Replaces the bext written on close (e.g. with loudness measured during the render). Needs opts.bext at open. */
   updateBext(b: BextInput): void {
     if (this.plan.bextAt === null) throw new Error('no bext reserved: pass opts.bext to WavWriter.open')
-    if (bextSize(b.codingHistory) > this.plan.bextSize) throw new RangeError('coding history longer than the reserved bext chunk')
+    if (bextSize(b.codingHistory) > this.plan.bextSize)
+      throw new RangeError('coding history longer than the reserved bext chunk')
     this.bext = b
   }
 

@@ -27,12 +27,24 @@ const HOUR = 60 * 60 * 1000
 
 export function registerAuthRoutes(api: Api, ctx: AppContext, deps: AuthDeps): void {
   const c = ctx.config
-  const perAccount = new LoginThrottle({ free: c.loginFailuresAllowed, baseMs: c.loginDelayBaseMs, maxMs: c.loginDelayMaxMs, forgetMs: c.loginWindowMs })
-  const perAddress = new LoginThrottle({ free: c.loginFailuresAllowed * 3, baseMs: c.loginDelayBaseMs, maxMs: 15 * 60 * 1000, forgetMs: c.loginWindowMs })
+  const perAccount = new LoginThrottle({
+    free: c.loginFailuresAllowed,
+    baseMs: c.loginDelayBaseMs,
+    maxMs: c.loginDelayMaxMs,
+    forgetMs: c.loginWindowMs,
+  })
+  const perAddress = new LoginThrottle({
+    free: c.loginFailuresAllowed * 3,
+    baseMs: c.loginDelayBaseMs,
+    maxMs: 15 * 60 * 1000,
+    forgetMs: c.loginWindowMs,
+  })
 
   const authenticate = (req: Request, res: Response) =>
     new Promise<Express.User | false>((resolve, reject) => {
-      deps.passport.authenticate('local', (err: unknown, user: Express.User | false) => (err ? reject(err) : resolve(user)))(req, res, reject)
+      deps.passport.authenticate('local', (err: unknown, user: Express.User | false) =>
+        err ? reject(err) : resolve(user),
+      )(req, res, reject)
     })
 
   api.route('get', '/auth/csrf', 'public', (req, res) => {
@@ -49,7 +61,9 @@ export function registerAuthRoutes(api: Api, ctx: AppContext, deps: AuthDeps): v
       if (wait > 0) {
         const seconds = Math.ceil(wait / 1000)
         res.set('Retry-After', String(seconds))
-        throw new AppError(429, 'TOO_MANY_ATTEMPTS', `Too many failed sign-ins: wait ${seconds} s and try again`, { retryAfterSeconds: seconds })
+        throw new AppError(429, 'TOO_MANY_ATTEMPTS', `Too many failed sign-ins: wait ${seconds} s and try again`, {
+          retryAfterSeconds: seconds,
+        })
       }
       const found = await authenticate(req, res)
       if (!found) {
@@ -97,13 +111,21 @@ export function registerAuthRoutes(api: Api, ctx: AppContext, deps: AuthDeps): v
       },
     })
   const resetPerAddress = resetLimit(c.passwordResetsPerAddress, (req) => `address:${ipKeyGenerator(req.ip ?? '')}`)
-  const resetPerEmail = resetLimit(c.passwordResetsPerEmail, (req) => `email:${String(req.body?.email ?? '').trim().toLowerCase()}`)
+  const resetPerEmail = resetLimit(
+    c.passwordResetsPerEmail,
+    (req) =>
+      `email:${String(req.body?.email ?? '')
+        .trim()
+        .toLowerCase()}`,
+  )
 
   /** 202 at once, whoever the address belongs to; the lookup and the mail happen afterwards. */
   api.route('post', '/auth/password-reset', 'public', resetPerAddress, resetPerEmail, (req, res) => {
     const { email } = body(req, PasswordResetRequest)
     res.status(202).json({ ok: true, message: 'If that address belongs to an account, a reset link is on its way' })
-    requestPasswordReset(ctx, email).catch((err) => console.error(`[auth] password reset mail failed: ${(err as Error).message}`))
+    requestPasswordReset(ctx, email).catch((err) =>
+      console.error(`[auth] password reset mail failed: ${(err as Error).message}`),
+    )
   })
 
   api.route('post', '/auth/password-reset/:token', 'public', async (req, res) => {

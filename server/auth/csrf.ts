@@ -15,14 +15,22 @@ export function createCsrf(secret: string, secure: boolean) {
   const cookieOptions = { sameSite: 'lax' as const, secure, httpOnly: true, path: '/' }
   const { generateCsrfToken, doubleCsrfProtection } = doubleCsrf({
     getSecret: () => secret,
-    getSessionIdentifier: (req) => (req.user ? `session:${req.sessionID}` : `pre:${(req.cookies?.[preCookie] as string | undefined) ?? ''}`),
+    getSessionIdentifier: (req) =>
+      req.user ? `session:${req.sessionID}` : `pre:${(req.cookies?.[preCookie] as string | undefined) ?? ''}`,
     cookieName: secure ? '__Host-sf.csrf' : 'sf.csrf',
     cookieOptions,
     getCsrfTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
   })
   const protect: RequestHandler = (req, res, next) => {
     doubleCsrfProtection(req, res, (err?: unknown) => {
-      if (err) return next(new AppError(403, 'CSRF_INVALID', 'Missing or invalid CSRF token: fetch one from GET /api/auth/csrf and send it in x-csrf-token'))
+      if (err)
+        return next(
+          new AppError(
+            403,
+            'CSRF_INVALID',
+            'Missing or invalid CSRF token: fetch one from GET /api/auth/csrf and send it in x-csrf-token',
+          ),
+        )
       next()
     })
   }

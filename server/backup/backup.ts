@@ -62,7 +62,12 @@ function filesUnder(root: string, rel = ''): string[] {
 /** Uploads in flight, builds being written, locks: never part of a backup. */
 const transient = (rel: string) => {
   const parts = rel.split(path.sep)
-  return parts[0] === 'incoming' || (parts[0] === 'builds' && parts[1] === 'tmp') || parts.some((p) => p.startsWith('.')) || rel.endsWith('.part')
+  return (
+    parts[0] === 'incoming' ||
+    (parts[0] === 'builds' && parts[1] === 'tmp') ||
+    parts.some((p) => p.startsWith('.')) ||
+    rel.endsWith('.part')
+  )
 }
 
 function integrityOk(file: string): string {
@@ -75,7 +80,8 @@ function integrityOk(file: string): string {
 }
 
 export async function backup(dbFile: string, storageDir: string, outDir: string): Promise<Manifest> {
-  if (fs.existsSync(outDir) && fs.readdirSync(outDir).length) throw new Error(`${outDir} is not empty; give a new or empty folder for the backup`)
+  if (fs.existsSync(outDir) && fs.readdirSync(outDir).length)
+    throw new Error(`${outDir} is not empty; give a new or empty folder for the backup`)
   fs.mkdirSync(path.join(outDir, 'storage'), { recursive: true })
 
   // 1. The database, consistent as of one moment, while the server may keep writing.
@@ -108,7 +114,8 @@ export async function backup(dbFile: string, storageDir: string, outDir: string)
       throw err
     }
     const expected = wanted.get(rel)
-    if (expected && expected !== got.sha256) throw new Error(`${rel} does not match its take's SHA-256: the stored audio is damaged`)
+    if (expected && expected !== got.sha256)
+      throw new Error(`${rel} does not match its take's SHA-256: the stored audio is damaged`)
     files.push({ path: rel.split(path.sep).join('/'), ...got })
   }
   const copied = new Set(files.map((f) => path.normalize(f.path)))
@@ -128,10 +135,13 @@ export async function backup(dbFile: string, storageDir: string, outDir: string)
  */
 export async function restore(fromDir: string, dbFile: string, storageDir: string): Promise<Manifest> {
   const manifestFile = path.join(fromDir, MANIFEST)
-  if (!fs.existsSync(manifestFile)) throw new Error(`${fromDir} holds no ${MANIFEST}: not a backup, or one that did not finish`)
+  if (!fs.existsSync(manifestFile))
+    throw new Error(`${fromDir} holds no ${MANIFEST}: not a backup, or one that did not finish`)
   const manifest = JSON.parse(fs.readFileSync(manifestFile, 'utf8')) as Manifest
-  if (fs.existsSync(dbFile)) throw new Error(`${dbFile} exists; restore into a fresh place (move the current data aside first)`)
-  if (filesUnder(storageDir).some((f) => !transient(f))) throw new Error(`${storageDir} already holds files; restore into a fresh place (move the current data aside first)`)
+  if (fs.existsSync(dbFile))
+    throw new Error(`${dbFile} exists; restore into a fresh place (move the current data aside first)`)
+  if (filesUnder(storageDir).some((f) => !transient(f)))
+    throw new Error(`${storageDir} already holds files; restore into a fresh place (move the current data aside first)`)
   const check = integrityOk(path.join(fromDir, manifest.database))
   if (check !== 'ok') throw new Error(`the backup's database failed its integrity check: ${check}`)
 
@@ -139,7 +149,8 @@ export async function restore(fromDir: string, dbFile: string, storageDir: strin
   try {
     for (const f of manifest.files) {
       const rel = path.normalize(f.path)
-      if (rel.startsWith('..') || path.isAbsolute(rel)) throw new Error(`manifest path leaves the storage folder: ${f.path}`)
+      if (rel.startsWith('..') || path.isAbsolute(rel))
+        throw new Error(`manifest path leaves the storage folder: ${f.path}`)
       const target = path.join(storageDir, rel)
       const got = await copyHashed(path.join(fromDir, 'storage', rel), target)
       if (got.sha256 !== f.sha256 || got.size !== f.size) {

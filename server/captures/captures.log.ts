@@ -7,7 +7,8 @@ import { searchTakeRows } from '../takes/takes.search'
 import { takeRowsToTakes } from '../takes/takes.mapper'
 import { getSession } from './captures.service'
 
-const round1 = (v: number | null | undefined) => (v === null || v === undefined || !Number.isFinite(v) ? null : Math.round(v * 10) / 10)
+const round1 = (v: number | null | undefined) =>
+  v === null || v === undefined || !Number.isFinite(v) ? null : Math.round(v * 10) / 10
 
 export function formatLine(t: Take): string {
   const f = t.format
@@ -35,7 +36,10 @@ export async function captureLogCsv(db: Db, sessionId: number): Promise<{ title:
   const session = await getSession(db, sessionId)
   const takes: Take[] = []
   for (let page = 1; ; page++) {
-    const { rows } = await searchTakeRows(db, TakeQuery.parse({ sessionId, sort: 'filename', order: 'asc', page, pageSize: 200 }))
+    const { rows } = await searchTakeRows(
+      db,
+      TakeQuery.parse({ sessionId, sort: 'filename', order: 'asc', page, pageSize: 200 }),
+    )
     takes.push(...(await takeRowsToTakes(db, rows, { withoutFileMetadata: true })))
     if (rows.length < 200) break
   }

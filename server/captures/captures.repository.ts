@@ -10,15 +10,32 @@ export const selectSessions = (db: Db) =>
     .selectAll('s')
     .select((eb) => [
       'u.name as creator_name',
-      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where(visibleTake()).select(eb.fn.countAll<number>().as('n')).as('take_count'),
+      eb
+        .selectFrom('takes')
+        .whereRef('takes.session_id', '=', 's.id')
+        .where(visibleTake())
+        .select(eb.fn.countAll<number>().as('n'))
+        .as('take_count'),
       eb
         .selectFrom('takes')
         .whereRef('takes.session_id', '=', 's.id')
         .where(visibleTake())
         .select(sql<number>`coalesce(sum(duration_seconds), 0)`.as('d'))
         .as('total_duration'),
-      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where(visibleTake()).where('hum_hz', '=', 50).select(eb.fn.countAll<number>().as('n')).as('hum50'),
-      eb.selectFrom('takes').whereRef('takes.session_id', '=', 's.id').where(visibleTake()).where('hum_hz', '=', 60).select(eb.fn.countAll<number>().as('n')).as('hum60'),
+      eb
+        .selectFrom('takes')
+        .whereRef('takes.session_id', '=', 's.id')
+        .where(visibleTake())
+        .where('hum_hz', '=', 50)
+        .select(eb.fn.countAll<number>().as('n'))
+        .as('hum50'),
+      eb
+        .selectFrom('takes')
+        .whereRef('takes.session_id', '=', 's.id')
+        .where(visibleTake())
+        .where('hum_hz', '=', 60)
+        .select(eb.fn.countAll<number>().as('n'))
+        .as('hum60'),
     ])
 
 export type SessionJoined = Awaited<ReturnType<ReturnType<typeof selectSessions>['executeTakeFirstOrThrow']>>

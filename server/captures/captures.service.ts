@@ -6,7 +6,10 @@ import { findSession, listSessions, stripsOf, updateSession, type SessionJoined 
 
 const STRIP_TAKES = 24
 
-function sessionRowToSession(r: SessionJoined, strips: { session_id: number; thumb_json: string | null }[]): CaptureSession {
+function sessionRowToSession(
+  r: SessionJoined,
+  strips: { session_id: number; thumb_json: string | null }[],
+): CaptureSession {
   return {
     id: r.id,
     title: r.title,
@@ -36,7 +39,10 @@ export async function getSession(db: Db, id: number): Promise<CaptureSession> {
 
 export async function listAllSessions(db: Db): Promise<CaptureSession[]> {
   const rows = await listSessions(db)
-  const strips = await stripsOf(db, rows.map((r) => r.id))
+  const strips = await stripsOf(
+    db,
+    rows.map((r) => r.id),
+  )
   return rows.map((r) => sessionRowToSession(r, strips))
 }
 

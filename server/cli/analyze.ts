@@ -58,7 +58,18 @@ function hum(a: Analysis): string {
 }
 
 function table(results: AnalyzeCliResult[]): string {
-  const head = ['file', 'format', 'duration', 'integrated', 'LRA', 'true peak', 'sample peak', 'RMS', 'noise floor', 'hum']
+  const head = [
+    'file',
+    'format',
+    'duration',
+    'integrated',
+    'LRA',
+    'true peak',
+    'sample peak',
+    'RMS',
+    'noise floor',
+    'hum',
+  ]
   const rows = results.map((r) => {
     if (!r.ok) return [basename(r.file), `error ${r.error.code}: ${r.error.message}`]
     const { levels, loudness } = r.analysis
@@ -76,7 +87,9 @@ function table(results: AnalyzeCliResult[]): string {
     ]
   })
   // Widths from complete rows only; an error row runs on past the columns.
-  const widths = head.map((h, i) => Math.max(h.length, ...rows.filter((r) => r.length === head.length).map((r) => r[i].length)))
+  const widths = head.map((h, i) =>
+    Math.max(h.length, ...rows.filter((r) => r.length === head.length).map((r) => r[i].length)),
+  )
   const line = (cells: string[]) => cells.map((c, i) => (i < cells.length - 1 ? c.padEnd(widths[i]) : c)).join('  ')
   return [line(head), ...rows.map(line)].join('\n') + '\n'
 }

@@ -13,7 +13,8 @@ const { dbFile, storageDir } = loadConfig()
 try {
   const m = await backup(dbFile, storageDir, dir)
   console.log(`Backed up ${dbFile} and ${m.files.length} storage files to ${dir}`)
-  if (m.missing.length) console.warn(`Already missing from storage (rows kept, no file to copy): ${m.missing.join(', ')}`)
+  if (m.missing.length)
+    console.warn(`Already missing from storage (rows kept, no file to copy): ${m.missing.join(', ')}`)
 } catch (err) {
   console.error(`Backup failed: ${(err as Error).message}`)
   process.exit(1)

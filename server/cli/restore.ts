@@ -12,7 +12,9 @@ if (!dir) {
 const { dbFile, storageDir } = loadConfig()
 try {
   const m = await restore(dir, dbFile, storageDir)
-  console.log(`Restored the backup of ${m.createdAt} (${m.files.length} storage files) into ${dbFile} and ${storageDir}`)
+  console.log(
+    `Restored the backup of ${m.createdAt} (${m.files.length} storage files) into ${dbFile} and ${storageDir}`,
+  )
 } catch (err) {
   console.error(`Restore failed: ${(err as Error).message}`)
   process.exit(1)

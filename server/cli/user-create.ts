@@ -31,10 +31,14 @@ async function askPassword(): Promise<string> {
 }
 
 async function main() {
-  const { values } = parseArgs({ options: { email: { type: 'string' }, name: { type: 'string' }, role: { type: 'string', default: 'admin' } } })
+  const { values } = parseArgs({
+    options: { email: { type: 'string' }, name: { type: 'string' }, role: { type: 'string', default: 'admin' } },
+  })
   const parsed = Args.safeParse(values)
   if (!parsed.success) {
-    console.error(`user:create: ${describeZod(parsed.error)}\nUsage: npm run user:create -- --email E --name N --role admin`)
+    console.error(
+      `user:create: ${describeZod(parsed.error)}\nUsage: npm run user:create -- --email E --name N --role admin`,
+    )
     process.exit(2)
   }
   const password = process.env.STRAYFIELD_PASSWORD ?? (await askPassword())

@@ -16,14 +16,21 @@ const selectComments = (db: Db) =>
 
 /** A take's comments in time order (creation, then id). */
 export const commentsOf = (db: Db, takeId: number): Promise<CommentJoined[]> =>
-  selectComments(db).where('comments.take_id', '=', takeId).orderBy('comments.created_at').orderBy('comments.id').execute()
+  selectComments(db)
+    .where('comments.take_id', '=', takeId)
+    .orderBy('comments.created_at')
+    .orderBy('comments.id')
+    .execute()
 
 export const findComment = (db: Db, id: number): Promise<CommentJoined | undefined> =>
   selectComments(db).where('comments.id', '=', id).executeTakeFirst()
 
-export const insertComment = (db: Db, c: NewComment) => db.insertInto('comments').values(c).returning('id').executeTakeFirstOrThrow()
+export const insertComment = (db: Db, c: NewComment) =>
+  db.insertInto('comments').values(c).returning('id').executeTakeFirstOrThrow()
 
-export const updateComment = (db: Db, id: number, patch: CommentUpdate) => db.updateTable('comments').set(patch).where('id', '=', id).execute()
+export const updateComment = (db: Db, id: number, patch: CommentUpdate) =>
+  db.updateTable('comments').set(patch).where('id', '=', id).execute()
 
 /** Active team members, the people a comment can mention. */
-export const activeMembers = (db: Db) => db.selectFrom('users').select(['id', 'name', 'email']).where('active', '=', 1).orderBy('id').execute()
+export const activeMembers = (db: Db) =>
+  db.selectFrom('users').select(['id', 'name', 'email']).where('active', '=', 1).orderBy('id').execute()

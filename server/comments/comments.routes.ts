@@ -12,7 +12,9 @@ export function registerCommentRoutes(api: Api, ctx: AppContext) {
   })
 
   api.route('post', '/takes/:id/comments', 'comments:write', async (req, res) => {
-    res.status(201).json({ comment: await createComment(ctx, req.user!, params(req, IdParams).id, body(req, CreateCommentBody)) })
+    res
+      .status(201)
+      .json({ comment: await createComment(ctx, req.user!, params(req, IdParams).id, body(req, CreateCommentBody)) })
   })
 
   api.route('patch', '/takes/:id/comments/:commentId', 'comments:write', async (req, res) => {

@@ -15,11 +15,19 @@ import { mentionMail } from '../mail/messages'
 import { findRegion } from '../regions/regions.repository'
 import { loadTake, recordEvent } from '../takes/takes.service'
 import type { TakeJoined } from '../takes/takes.repository'
-import { activeMembers, commentsOf, findComment, insertComment, updateComment, type CommentJoined } from './comments.repository'
+import {
+  activeMembers,
+  commentsOf,
+  findComment,
+  insertComment,
+  updateComment,
+  type CommentJoined,
+} from './comments.repository'
 
 type Member = Awaited<ReturnType<typeof activeMembers>>[number]
 
-const asOutcome = (v: string | null): NoteOutcome | null => ((NOTE_OUTCOMES as readonly string[]).includes(v ?? '') ? (v as NoteOutcome) : null)
+const asOutcome = (v: string | null): NoteOutcome | null =>
+  (NOTE_OUTCOMES as readonly string[]).includes(v ?? '') ? (v as NoteOutcome) : null
 
 /** API comments from rows in time order: top-level ones are numbered 1, 2, 3… */
 function toComments(rows: CommentJoined[], members: Member[]): Comment[] {
@@ -98,7 +106,14 @@ export interface CommentOptions {
  * the comment's moment. Runs after the comment is saved; a failed delivery is
  * logged and never undoes the comment.
  */
-function notifyMentions(ctx: AppContext, take: TakeJoined, comment: Comment, author: User, recipients: Member[], all: Comment[]): Promise<void> {
+function notifyMentions(
+  ctx: AppContext,
+  take: TakeJoined,
+  comment: Comment,
+  author: User,
+  recipients: Member[],
+  all: Comment[],
+): Promise<void> {
   const to = recipients.filter((m) => m.id !== author.id)
   if (!to.length) return Promise.resolve()
   return (async () => {
@@ -114,15 +129,31 @@ function notifyMentions(ctx: AppContext, take: TakeJoined, comment: Comment, aut
         .executeTakeFirst()
       if (!first) continue
       try {
-        await ctx.mailer.send(mentionMail(m.email, { author: author.name, takeTitle: take.title || take.filename, time: formatTakeTime(t), link, body: comment.body }))
+        await ctx.mailer.send(
+          mentionMail(m.email, {
+            author: author.name,
+            takeTitle: take.title || take.filename,
+            time: formatTakeTime(t),
+            link,
+            body: comment.body,
+          }),
+        )
       } catch (err) {
-        console.error(`[mail] mention of ${m.email} in comment ${comment.id} on take ${take.id} was not delivered: ${(err as Error).message}`)
+        console.error(
+          `[mail] mention of ${m.email} in comment ${comment.id} on take ${take.id} was not delivered: ${(err as Error).message}`,
+        )
       }
     }
   })().catch((err) => console.error(`[mail] mentions of comment ${comment.id} failed: ${(err as Error).message}`))
 }
 
-export async function createComment(ctx: AppContext, user: User, takeId: number, body: CreateCommentBody, opts: CommentOptions = {}): Promise<Comment> {
+export async function createComment(
+  ctx: AppContext,
+  user: User,
+  takeId: number,
+  body: CreateCommentBody,
+  opts: CommentOptions = {},
+): Promise<Comment> {
   const take = await loadTake(ctx.db, takeId)
   const at = body.atSeconds ?? null
   if (at !== null && take.duration_seconds !== null && at > take.duration_seconds) {
@@ -135,15 +166,21 @@ export async function createComment(ctx: AppContext, user: User, takeId: number,
   const highHz = body.highHz ?? null
   const nyquist = take.sample_rate ? take.sample_rate / 2 : null
   if (highHz !== null && nyquist !== null && highHz > nyquist) {
-    throw new AppError(400, 'OUT_OF_RANGE', `${highHz} Hz is above the take's highest frequency (${nyquist} Hz, half its sample rate)`, {
-      highHz,
-      nyquistHz: nyquist,
-    })
+    throw new AppError(
+      400,
+      'OUT_OF_RANGE',
+      `${highHz} Hz is above the take's highest frequency (${nyquist} Hz, half its sample rate)`,
+      {
+        highHz,
+        nyquistHz: nyquist,
+      },
+    )
   }
   const outcome = body.outcome ?? null
   const regionId = body.regionId ?? null
   const region = regionId !== null ? await findRegion(ctx.db, takeId, regionId) : undefined
-  if (regionId !== null && !region) throw new AppError(400, 'REGION_NOT_FOUND', `Take ${takeId} has no region ${regionId}`, { regionId })
+  if (regionId !== null && !region)
+    throw new AppError(400, 'REGION_NOT_FOUND', `Take ${takeId} has no region ${regionId}`, { regionId })
   const parentId = body.parentId ?? null
   if (parentId !== null) {
     const parent = await findComment(ctx.db, parentId)
@@ -170,9 +207,21 @@ export async function createComment(ctx: AppContext, user: User, takeId: number,
       const where = at !== null ? ` at ${formatTakeTime(at)}` : region ? ` on region \u201c${region.name}\u201d` : ''
       const band = lowHz !== null && highHz !== null ? `, ${formatBand(lowHz, highHz)}` : ''
       const verdict = outcome ? ` (${outcome})` : ''
-      await recordEvent(trx, takeId, user, 'commented', `Note #${mine.number}${where}${band}${verdict}: \u201c${excerpt(body.body)}\u201d`)
+      await recordEvent(
+        trx,
+        takeId,
+        user,
+        'commented',
+        `Note #${mine.number}${where}${band}${verdict}: \u201c${excerpt(body.body)}\u201d`,
+      )
     } else {
-      await recordEvent(trx, takeId, user, 'replied', `Reply to note #${rootOf(all, mine).number}: \u201c${excerpt(body.body)}\u201d`)
+      await recordEvent(
+        trx,
+        takeId,
+        user,
+        'replied',
+        `Reply to note #${rootOf(all, mine).number}: \u201c${excerpt(body.body)}\u201d`,
+      )
     }
     return id
   })
@@ -194,24 +243,42 @@ export function formatBand(lowHz: number, highHz: number): string {
 }
 
 /** Text: the author only. Outcome, resolve and reopen: anyone who may comment. */
-export async function editComment(ctx: AppContext, user: User, takeId: number, commentId: number, body: UpdateCommentBody): Promise<Comment> {
+export async function editComment(
+  ctx: AppContext,
+  user: User,
+  takeId: number,
+  commentId: number,
+  body: UpdateCommentBody,
+): Promise<Comment> {
   const take = await loadTake(ctx.db, takeId)
   const row = await loadComment(ctx.db, takeId, commentId)
   const newText = body.body !== undefined && body.body !== row.body ? body.body : null
-  if (newText !== null && row.author_id !== user.id) throw forbidden('Only the author can change the text of a comment; reply instead')
+  if (newText !== null && row.author_id !== user.id)
+    throw forbidden('Only the author can change the text of a comment; reply instead')
 
   const before = toComments(await commentsOf(ctx.db, takeId), [])
-  const number = rootOf(before, before.find((c) => c.id === commentId)!).number
+  const number = rootOf(
+    before,
+    before.find((c) => c.id === commentId)!,
+  ).number
   const label = row.parent_id === null ? `note #${number}` : `a reply to note #${number}`
   if (body.outcome !== undefined && row.parent_id !== null) {
-    throw new AppError(400, 'NOT_A_NOTE', 'A reply carries no outcome; set it on the note it answers', { parentId: row.parent_id })
+    throw new AppError(400, 'NOT_A_NOTE', 'A reply carries no outcome; set it on the note it answers', {
+      parentId: row.parent_id,
+    })
   }
   const newOutcome = body.outcome !== undefined && body.outcome !== row.outcome ? body.outcome : undefined
   await ctx.db.transaction().execute(async (trx) => {
     if (newText !== null) await updateComment(trx, commentId, { body: newText, edited_at: nowIso() })
     if (newOutcome !== undefined) {
       await updateComment(trx, commentId, { outcome: newOutcome })
-      await recordEvent(trx, takeId, user, 'outcome', newOutcome ? `Marked ${label} \u201c${newOutcome}\u201d` : `Cleared the outcome of ${label}`)
+      await recordEvent(
+        trx,
+        takeId,
+        user,
+        'outcome',
+        newOutcome ? `Marked ${label} \u201c${newOutcome}\u201d` : `Cleared the outcome of ${label}`,
+      )
     }
     if (body.resolved === true && row.resolved_at === null) {
       await updateComment(trx, commentId, { resolved_at: nowIso(), resolved_by: user.id })

@@ -93,7 +93,10 @@ export function parseTrustProxy(v: string | undefined): number | string[] | null
   const t = v?.trim()
   if (!t || t === '0' || t === 'false') return null
   if (/^\d+$/.test(t)) return Number(t)
-  return t.split(',').map((s) => s.trim()).filter(Boolean)
+  return t
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean)
 }
 
 /** Whether a URL's host is this machine (localhost, 127.0.0.0/8, ::1). */
@@ -114,5 +117,6 @@ export const DEMO_REFUSAL =
 
 /** Refuses a configuration that would expose the demo team beyond this machine. */
 export function checkDemoIsLocal(config: Pick<Config, 'demo' | 'publicUrl'>): void {
-  if (config.demo && !isLoopbackUrl(config.publicUrl)) throw new Error(`${DEMO_REFUSAL} (PUBLIC_URL is ${config.publicUrl})`)
+  if (config.demo && !isLoopbackUrl(config.publicUrl))
+    throw new Error(`${DEMO_REFUSAL} (PUBLIC_URL is ${config.publicUrl})`)
 }

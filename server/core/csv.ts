@@ -22,4 +22,11 @@ export function csvDocument(header: string[], rows: (string | number | null | un
 }
 
 /** A file name for Content-Disposition: letters, digits, dots, dashes and underscores only. */
-export const csvFileName = (base: string) => `${base.normalize('NFKD').replace(/[^\w.-]+/g, '-').replace(/^-+|-+$/g, '').slice(0, 80) || 'export'}.csv`
+export const csvFileName = (base: string) =>
+  `${
+    base
+      .normalize('NFKD')
+      .replace(/[^\w.-]+/g, '-')
+      .replace(/^-+|-+$/g, '')
+      .slice(0, 80) || 'export'
+  }.csv`

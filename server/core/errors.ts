@@ -79,7 +79,11 @@ const DRAIN_LIMIT = 64 * 1024 * 1024
  * discard it first, so the client gets to see the answer instead of a broken
  * pipe; a large one is cut off once the answer is out.
  */
-function afterDrain(req: Parameters<ErrorRequestHandler>[1], res: Parameters<ErrorRequestHandler>[2], send: () => void) {
+function afterDrain(
+  req: Parameters<ErrorRequestHandler>[1],
+  res: Parameters<ErrorRequestHandler>[2],
+  send: () => void,
+) {
   if (req.complete || req.readableEnded || !req.readable) return send()
   const announced = Number(req.headers['content-length'] ?? Infinity)
   if (announced > DRAIN_LIMIT) {
@@ -116,13 +120,18 @@ const respond: ErrorRequestHandler = (err, req, res, _next) => {
     return
   }
   // Errors thrown by body parsers and multer carry a status and a type.
-  const status = typeof err?.status === 'number' ? err.status : typeof err?.statusCode === 'number' ? err.statusCode : 500
+  const status =
+    typeof err?.status === 'number' ? err.status : typeof err?.statusCode === 'number' ? err.statusCode : 500
   if (status === 413 || err?.code === 'LIMIT_FILE_SIZE') {
-    res.status(413).json({ error: { code: 'TOO_LARGE', message: 'The upload is larger than the server accepts', details: {} } })
+    res
+      .status(413)
+      .json({ error: { code: 'TOO_LARGE', message: 'The upload is larger than the server accepts', details: {} } })
     return
   }
   if (status >= 400 && status < 500) {
-    res.status(status).json({ error: { code: 'BAD_REQUEST', message: String(err?.message ?? 'Bad request'), details: {} } })
+    res
+      .status(status)
+      .json({ error: { code: 'BAD_REQUEST', message: String(err?.message ?? 'Bad request'), details: {} } })
     return
   }
   console.error(`[error] ${req.method} ${req.originalUrl}`, err)

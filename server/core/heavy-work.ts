@@ -51,9 +51,14 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
   async function limited<T>(who: string, work: (p: RenderPool) => Promise<T>): Promise<T> {
     const n = busy.get(who) ?? 0
     if (n >= perUser) {
-      throw new AppError(429, 'TOO_BUSY', `You already have ${n} images, renders, proposals or control curves being made; wait for them to finish and try again`, {
-        limit: perUser,
-      })
+      throw new AppError(
+        429,
+        'TOO_BUSY',
+        `You already have ${n} images, renders, proposals or control curves being made; wait for them to finish and try again`,
+        {
+          limit: perUser,
+        },
+      )
     }
     busy.set(who, n + 1)
     try {
@@ -76,7 +81,8 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
         const { onFrames: _f, shouldStop: _s, sourceInfo: _i, ...plain } = req
         return p.run<RenderResult>({ type: 'render', req: plain satisfies PlainRenderRequest, outPath })
       }),
-    measure: (who, path, startSeconds, endSeconds) => limited(who, (p) => p.run<LevelReading>({ type: 'measure', path, startSeconds, endSeconds })),
+    measure: (who, path, startSeconds, endSeconds) =>
+      limited(who, (p) => p.run<LevelReading>({ type: 'measure', path, startSeconds, endSeconds })),
     modulation: (who, path, order) => limited(who, (p) => p.run<ModulationFile>({ type: 'modulation', path, order })),
     onsets: (who, task) => limited(who, (p) => p.run<OnsetSliceFrames[]>({ type: 'onsets', ...task })),
     loops: (who, task) => limited(who, (p) => p.run<LoopFrames[]>({ type: 'loops', ...task })),

@@ -39,7 +39,8 @@ async function serve(m: HeavyTask): Promise<unknown> {
       const info = await probeWav(m.path)
       const rate = info.format.sampleRate
       const start = Math.round((m.startSeconds ?? 0) * rate)
-      const end = m.endSeconds === null ? info.format.frames : Math.min(info.format.frames, Math.round(m.endSeconds * rate))
+      const end =
+        m.endSeconds === null ? info.format.frames : Math.min(info.format.frames, Math.round(m.endSeconds * rate))
       return measureRange(m.path, info, start, end)
     }
     case 'modulation':

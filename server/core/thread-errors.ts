@@ -28,5 +28,9 @@ export function errorInfo(err: unknown): ErrorInfo {
 export function reviveError(e: ErrorInfo, known: Record<string, (e: ErrorInfo) => Error> = {}): Error {
   const make = known[e.name]
   if (make) return make(e)
-  return Object.assign(new Error(e.message), { name: e.name, ...(e.code ? { code: e.code } : {}), ...(e.reason ? { reason: e.reason } : {}) })
+  return Object.assign(new Error(e.message), {
+    name: e.name,
+    ...(e.code ? { code: e.code } : {}),
+    ...(e.reason ? { reason: e.reason } : {}),
+  })
 }

@@ -10,7 +10,9 @@ export async function seedDemo(ctx: AppContext): Promise<boolean> {
   const passwordHash = await hashPassword(DEMO_PASSWORD)
   const ids: Record<string, number> = {}
   for (const a of DEMO_ACCOUNTS) {
-    ids[a.role] = (await insertUser(ctx.db, { email: a.email, name: a.name, role: a.role, password_hash: passwordHash })).id
+    ids[a.role] = (
+      await insertUser(ctx.db, { email: a.email, name: a.name, role: a.role, password_hash: passwordHash })
+    ).id
   }
   if (ctx.config.demoAudio) await seedDemoLibrary(ctx, ids.recordist)
   return true

@@ -19,7 +19,8 @@ async function thumbnail(peaksPath: string): Promise<number[]> {
     const from = Math.floor((i * pairs) / THUMB_POINTS)
     const to = Math.max(from + 1, Math.floor(((i + 1) * pairs) / THUMB_POINTS))
     let m = 0
-    for (const ch of peaks.data) for (let j = from; j < to && j < pairs; j++) m = Math.max(m, Math.abs(ch[2 * j]), Math.abs(ch[2 * j + 1]))
+    for (const ch of peaks.data)
+      for (let j = from; j < to && j < pairs; j++) m = Math.max(m, Math.abs(ch[2 * j]), Math.abs(ch[2 * j + 1]))
     out.push(Math.round(Math.min(1, m) * 1000) / 1000)
   }
   return out
@@ -49,7 +50,10 @@ export function measuredColumns(format: WavFormat, analysis: Analysis) {
  * Title, description and notes from what the recorder wrote into the file (read in the worker,
  * never on the upload's request thread), for the fields nobody has edited since the upload.
  */
-function labelsFromFile(take: { filename: string; title: string; description: string; notes: string }, meta: FileMetadata) {
+function labelsFromFile(
+  take: { filename: string; title: string; description: string; notes: string },
+  meta: FileMetadata,
+) {
   const fromFile = prefillFromMetadata(meta, take.filename)
   const atUpload = prefillFromMetadata(null, take.filename)
   return {
@@ -81,7 +85,13 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
         const now = await findTake(trx, take.id)
         if (!now) return
         const labels = labelsFromFile(now, analysis.metadata)
-        await updateTake(trx, take.id, { ...measuredColumns(format, analysis), ...labels, thumb_json: JSON.stringify(thumb), status: 'ready', progress: 1 })
+        await updateTake(trx, take.id, {
+          ...measuredColumns(format, analysis),
+          ...labels,
+          thumb_json: JSON.stringify(thumb),
+          status: 'ready',
+          progress: 1,
+        })
       })
       await addEvent(
         ctx.db,

@@ -45,7 +45,10 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
       info = await probeWav(file.path)
     } catch (err) {
       if (err instanceof WavFormatError) {
-        throw new AppError(415, 'UNSUPPORTED_AUDIO', `${originalName}: ${err.message}`, { file: originalName, reason: err.message })
+        throw new AppError(415, 'UNSUPPORTED_AUDIO', `${originalName}: ${err.message}`, {
+          file: originalName,
+          reason: err.message,
+        })
       }
       throw err
     }
@@ -103,7 +106,10 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
       if (isStorageFull(err)) throw storageFull()
       if (String(err).includes('UNIQUE constraint failed: takes.sha256')) {
         const dup = await findTakeBySha(ctx.db, file.sha256)
-        throw new AppError(409, 'DUPLICATE', `${originalName} has the same content as take ${dup?.id}`, { takeId: dup?.id, file: originalName })
+        throw new AppError(409, 'DUPLICATE', `${originalName} has the same content as take ${dup?.id}`, {
+          takeId: dup?.id,
+          file: originalName,
+        })
       }
       throw err
     }

@@ -13,6 +13,9 @@ export function prefillFromMetadata(meta: FileMetadata | null, filename: string)
   const sceneTake = [ixml?.scene && `Scene ${ixml.scene}`, ixml?.take && `take ${ixml.take}`].filter(Boolean).join(', ')
   const bextFirst = meta?.bext?.description?.split(/\r?\n/)[0]?.trim() ?? ''
   const title = (meta?.info.INAM?.trim() || sceneTake || bextFirst.slice(0, 120) || base).slice(0, 200)
-  const notes = [ixml?.note, meta?.info.ICMT].map((s) => s?.trim()).filter(Boolean).join('\n')
+  const notes = [ixml?.note, meta?.info.ICMT]
+    .map((s) => s?.trim())
+    .filter(Boolean)
+    .join('\n')
   return { title, description: meta?.bext?.description?.trim() ?? '', notes }
 }

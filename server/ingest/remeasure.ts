@@ -12,7 +12,8 @@ import { assertMayEditTake } from '../takes/takes.service'
 export function failureText(message: string, err?: unknown): string {
   if (err instanceof WavFormatError) return `${message}. Measuring again will not help: the file itself cannot be read.`
   const code = (err as NodeJS.ErrnoException | undefined)?.code
-  if (code === 'ENOENT') return `${message}. Measuring again will help only once the audio file is back in storage (restore it from a backup).`
+  if (code === 'ENOENT')
+    return `${message}. Measuring again will help only once the audio file is back in storage (restore it from a backup).`
   return `${message}. This may pass (a full disk, a stopped worker): measuring again may help.`
 }
 
@@ -22,14 +23,29 @@ export async function measureAgain(ctx: AppContext, user: User, id: number) {
   if (!take) throw notFound('take', 'TAKE_NOT_FOUND')
   assertMayEditTake(user, take, 'measure again')
   if (take.status !== 'failed') {
-    throw new AppError(409, 'NOT_FAILED', `Take ${take.id} is ${take.status}; only a take whose measuring failed is measured again`, { status: take.status })
+    throw new AppError(
+      409,
+      'NOT_FAILED',
+      `Take ${take.id} is ${take.status}; only a take whose measuring failed is measured again`,
+      { status: take.status },
+    )
   }
   if (!fs.existsSync(ctx.storage.abs(take.audio_path))) {
-    throw new AppError(409, 'FILE_MISSING', `Take ${take.id}'s audio file is not in storage; restore it from a backup, then measure again`)
+    throw new AppError(
+      409,
+      'FILE_MISSING',
+      `Take ${take.id}'s audio file is not in storage; restore it from a backup, then measure again`,
+    )
   }
   await ctx.db.transaction().execute(async (trx) => {
-    const claimed = await trx.updateTable('takes').set({ status: 'queued', progress: 0, error: null }).where('id', '=', id).where('status', '=', 'failed').executeTakeFirst()
-    if (Number(claimed.numUpdatedRows) !== 1) throw new AppError(409, 'NOT_FAILED', `Take ${take.id} was queued again meanwhile`)
+    const claimed = await trx
+      .updateTable('takes')
+      .set({ status: 'queued', progress: 0, error: null })
+      .where('id', '=', id)
+      .where('status', '=', 'failed')
+      .executeTakeFirst()
+    if (Number(claimed.numUpdatedRows) !== 1)
+      throw new AppError(409, 'NOT_FAILED', `Take ${take.id} was queued again meanwhile`)
     await addEvent(trx, id, user.id, 'requeued', 'Queued for measuring again')
     await ctx.jobs.enqueue(trx, 'analyze-take', id)
   })

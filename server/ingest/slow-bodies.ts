@@ -36,7 +36,11 @@ export function bodyDeadline(ms: number): RequestHandler {
     if (ms <= 0 || req.complete) return next()
     const timer = setTimeout(() => {
       if (req.complete) return
-      cutOff(req, res, new AppError(408, 'REQUEST_TIMEOUT', `The request did not arrive whole within ${Math.round(ms / 1000)} s`))
+      cutOff(
+        req,
+        res,
+        new AppError(408, 'REQUEST_TIMEOUT', `The request did not arrive whole within ${Math.round(ms / 1000)} s`),
+      )
     }, ms)
     timer.unref()
     ;(req as Liftable)[LIFT] = () => clearTimeout(timer)
@@ -61,9 +65,14 @@ export function minimumRate(bytesPerSecond: number, windowMs: number): RequestHa
       cutOff(
         req,
         res,
-        new AppError(408, 'UPLOAD_TOO_SLOW', `The upload sent ${got} bytes in ${Math.round(windowMs / 1000)} s, less than the ${Math.round(bytesPerSecond / 1024)} KB/s this server requires; nothing was kept`, {
-          minBytesPerSecond: bytesPerSecond,
-        }),
+        new AppError(
+          408,
+          'UPLOAD_TOO_SLOW',
+          `The upload sent ${got} bytes in ${Math.round(windowMs / 1000)} s, less than the ${Math.round(bytesPerSecond / 1024)} KB/s this server requires; nothing was kept`,
+          {
+            minBytesPerSecond: bytesPerSecond,
+          },
+        ),
       )
     }, windowMs)
     timer.unref()

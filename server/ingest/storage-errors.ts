@@ -7,4 +7,8 @@ const FULL = new Set(['ENOSPC', 'EDQUOT'])
 export const isStorageFull = (err: unknown): boolean => FULL.has((err as NodeJS.ErrnoException | null)?.code ?? '')
 
 export const storageFull = () =>
-  new AppError(507, 'STORAGE_FULL', 'The server has no room left to store this upload; nothing was kept. Try again once space has been freed.')
+  new AppError(
+    507,
+    'STORAGE_FULL',
+    'The server has no room left to store this upload; nothing was kept. Try again once space has been freed.',
+  )

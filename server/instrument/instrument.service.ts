@@ -18,39 +18,78 @@ import type { TakeJoined } from '../takes/takes.repository'
 
 const round6 = (s: number) => Math.round(s * 1e6) / 1e6
 
-async function measuredTake(ctx: AppContext, user: User, id: number): Promise<TakeJoined & { sample_rate: number; duration_seconds: number }> {
+async function measuredTake(
+  ctx: AppContext,
+  user: User,
+  id: number,
+): Promise<TakeJoined & { sample_rate: number; duration_seconds: number }> {
   const take = await loadTake(ctx.db, id)
   assertMayEditTake(user, take, 'look for one-shots and loops in')
   if (take.status !== 'ready' || !take.sample_rate || take.duration_seconds === null) {
-    throw new AppError(409, 'NOT_MEASURED', `Take ${take.id} is ${take.status}; proposals can be made once it is measured`)
+    throw new AppError(
+      409,
+      'NOT_MEASURED',
+      `Take ${take.id} is ${take.status}; proposals can be made once it is measured`,
+    )
   }
   return take as TakeJoined & { sample_rate: number; duration_seconds: number }
 }
 
 /** The range in frames: inside the take, start before end, at most `max` seconds long. */
-function rangeFrames(take: { sample_rate: number; duration_seconds: number }, start: number, end: number, max: number, tool: string) {
+function rangeFrames(
+  take: { sample_rate: number; duration_seconds: number },
+  start: number,
+  end: number,
+  max: number,
+  tool: string,
+) {
   const d = take.duration_seconds
-  if (!(start < end)) throw new AppError(400, 'OUT_OF_RANGE', 'The range must end after it starts', { startSeconds: start, endSeconds: end })
-  if (end > d + 1e-9) {
-    throw new AppError(400, 'OUT_OF_RANGE', `The range ends at ${round6(end)} s, after the end of the take (${round6(d)} s)`, {
+  if (!(start < end))
+    throw new AppError(400, 'OUT_OF_RANGE', 'The range must end after it starts', {
       startSeconds: start,
       endSeconds: end,
-      durationSeconds: d,
     })
+  if (end > d + 1e-9) {
+    throw new AppError(
+      400,
+      'OUT_OF_RANGE',
+      `The range ends at ${round6(end)} s, after the end of the take (${round6(d)} s)`,
+      {
+        startSeconds: start,
+        endSeconds: end,
+        durationSeconds: d,
+      },
+    )
   }
   if (end - start > max) {
-    throw new AppError(400, 'RANGE_TOO_LONG', `${tool} reads at most ${max} s at a time; choose a range of at most ${max} s (${round6(end - start)} s were asked for)`, {
-      maxSeconds: max,
-      seconds: end - start,
-    })
+    throw new AppError(
+      400,
+      'RANGE_TOO_LONG',
+      `${tool} reads at most ${max} s at a time; choose a range of at most ${max} s (${round6(end - start)} s were asked for)`,
+      {
+        maxSeconds: max,
+        seconds: end - start,
+      },
+    )
   }
   const sr = take.sample_rate
   return { sr, startFrame: Math.round(start * sr), endFrame: Math.min(Math.round(end * sr), Math.round(d * sr)) }
 }
 
-export async function onsetSuggestions(ctx: AppContext, user: User, id: number, body: OnsetSuggestionsBody): Promise<OnsetSuggestionsResponse> {
+export async function onsetSuggestions(
+  ctx: AppContext,
+  user: User,
+  id: number,
+  body: OnsetSuggestionsBody,
+): Promise<OnsetSuggestionsResponse> {
   const take = await measuredTake(ctx, user, id)
-  const r = rangeFrames(take, body.startSeconds ?? 0, body.endSeconds ?? take.duration_seconds, MAX_ONSET_SECONDS, 'Slicing at onsets')
+  const r = rangeFrames(
+    take,
+    body.startSeconds ?? 0,
+    body.endSeconds ?? take.duration_seconds,
+    MAX_ONSET_SECONDS,
+    'Slicing at onsets',
+  )
   const slices = await ctx.heavy.onsets(`user:${user.id}`, {
     path: ctx.storage.abs(take.audio_path),
     startFrame: r.startFrame,
@@ -66,11 +105,20 @@ export async function onsetSuggestions(ctx: AppContext, user: User, id: number, 
   }
 }
 
-export async function loopSuggestions(ctx: AppContext, user: User, id: number, body: LoopSuggestionsBody): Promise<LoopSuggestionsResponse> {
+export async function loopSuggestions(
+  ctx: AppContext,
+  user: User,
+  id: number,
+  body: LoopSuggestionsBody,
+): Promise<LoopSuggestionsResponse> {
   const take = await measuredTake(ctx, user, id)
   const r = rangeFrames(take, body.startSeconds, body.endSeconds, MAX_LOOP_SECONDS, 'Finding loops')
   if (body.approxLengthSeconds !== undefined && body.approxLengthSeconds > body.endSeconds - body.startSeconds) {
-    throw new AppError(400, 'LOOP_TOO_LONG', `A loop of ${round6(body.approxLengthSeconds)} s does not fit in a range of ${round6(body.endSeconds - body.startSeconds)} s`)
+    throw new AppError(
+      400,
+      'LOOP_TOO_LONG',
+      `A loop of ${round6(body.approxLengthSeconds)} s does not fit in a range of ${round6(body.endSeconds - body.startSeconds)} s`,
+    )
   }
   if (body.endSeconds - body.startSeconds < MIN_LOOP_SECONDS * 2) {
     throw new AppError(400, 'RANGE_TOO_SHORT', `Finding loops needs a range of at least ${MIN_LOOP_SECONDS * 2} s`)

@@ -149,7 +149,8 @@ function fft(re: Float64Array, im: Float64Array): void {
 function powerSpectrum(x: Float32Array, from: number): Float64Array {
   const re = new Float64Array(SPECTRUM_SIZE)
   const im = new Float64Array(SPECTRUM_SIZE)
-  for (let i = 0; i < SPECTRUM_SIZE; i++) re[i] = (x[from + i] ?? 0) * (0.5 - 0.5 * Math.cos((2 * Math.PI * i) / SPECTRUM_SIZE))
+  for (let i = 0; i < SPECTRUM_SIZE; i++)
+    re[i] = (x[from + i] ?? 0) * (0.5 - 0.5 * Math.cos((2 * Math.PI * i) / SPECTRUM_SIZE))
   fft(re, im)
   const p = new Float64Array(SPECTRUM_SIZE / 2)
   for (let k = 0; k < p.length; k++) p[k] = re[k] * re[k] + im[k] * im[k]
@@ -208,7 +209,9 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
 
   // The end may move to a rising crossing: for periodic material by at most 0.04 ms (the length stays
   // a whole number of periods), for other material back by up to 5 % of the length (at most 20 ms).
-  const slack = period ? Math.max(1, Math.floor(0.00004 * sr)) : Math.min(Math.round(0.05 * wanted), Math.round(0.02 * sr))
+  const slack = period
+    ? Math.max(1, Math.floor(0.00004 * sr))
+    : Math.min(Math.round(0.05 * wanted), Math.round(0.02 * sr))
 
   interface Cand {
     a: number
@@ -245,7 +248,10 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
 
   // The spectral term for the best few, then distinct proposals (starts 10 ms apart).
   const scored = cands.slice(0, 40).map((c) => {
-    const spec = c.b - SPECTRUM_SIZE >= 0 && c.a + SPECTRUM_SIZE <= x.length ? spectralDistance(powerSpectrum(x, c.b - SPECTRUM_SIZE), powerSpectrum(x, c.a)) : 0
+    const spec =
+      c.b - SPECTRUM_SIZE >= 0 && c.a + SPECTRUM_SIZE <= x.length
+        ? spectralDistance(powerSpectrum(x, c.b - SPECTRUM_SIZE), powerSpectrum(x, c.a))
+        : 0
     return { ...c, spec, total: c.cost + 0.5 * spec }
   })
   scored.sort((p, q) => p.total - q.total)
@@ -265,4 +271,3 @@ export function findLoops(x: Float32Array, opts: LoopOptions): LoopFrames[] {
   }
   return out
 }
-

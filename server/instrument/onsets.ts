@@ -90,8 +90,12 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
     for (let i = h * hop, e = i + hop; i < e; i++) s += x[i] * x[i]
     cum[h + 1] = cum[h] + s / hop
   }
-  const mean = (from: number, to: number) => (cum[Math.min(hops, to)] - cum[Math.max(0, from)]) / Math.max(1, Math.min(hops, to) - Math.max(0, from))
-  const floorDb = quantileDb(Array.from({ length: hops }, (_, h) => db(cum[h + 1] - cum[h])), 0.1)
+  const mean = (from: number, to: number) =>
+    (cum[Math.min(hops, to)] - cum[Math.max(0, from)]) / Math.max(1, Math.min(hops, to) - Math.max(0, from))
+  const floorDb = quantileDb(
+    Array.from({ length: hops }, (_, h) => db(cum[h + 1] - cum[h])),
+    0.1,
+  )
   // Peaks of any channel when given: channels of opposite polarity do not cancel out of the detection.
   const own = opts.peaks ?? hopPeaks([x], hop)
   const maxPeak = (from: number, to: number) => {
@@ -100,7 +104,10 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
     return m
   }
   const peakDb = (from: number, to: number) => 20 * Math.log10(maxPeak(from, to) + 1e-10)
-  const floorPeakDb = quantileDb(Array.from({ length: hops }, (_, h) => 20 * Math.log10(own[h] + 1e-10)), 0.1)
+  const floorPeakDb = quantileDb(
+    Array.from({ length: hops }, (_, h) => 20 * Math.log10(own[h] + 1e-10)),
+    0.1,
+  )
   const rise = riseThresholdDb(opts.sensitivity)
   const minGap = Math.round(MIN_GAP_SECONDS / HOP_SECONDS)
 
@@ -129,7 +136,11 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
         break
       }
     }
-    return { hop: h, frame: precedingCrossing(x, at, crossingWindow, Math.round(RISING_PREFERRED_SECONDS * sr)), backgroundDb: db(mean(h - BEFORE_HOPS, h)) }
+    return {
+      hop: h,
+      frame: precedingCrossing(x, at, crossingWindow, Math.round(RISING_PREFERRED_SECONDS * sr)),
+      backgroundDb: db(mean(h - BEFORE_HOPS, h)),
+    }
   })
 
   const slices: OnsetSliceFrames[] = []
@@ -156,10 +167,15 @@ export function detectOnsets(x: Float32Array, opts: OnsetOptions): OnsetSliceFra
         break
       }
     }
-    const end = Math.min(limitFrame, x.length, Math.max(endHop * hop, s.frame + Math.round(SHORTEST_SLICE_SECONDS * sr)))
+    const end = Math.min(
+      limitFrame,
+      x.length,
+      Math.max(endHop * hop, s.frame + Math.round(SHORTEST_SLICE_SECONDS * sr)),
+    )
     if (end - s.frame < minSlice) continue
     let peak = 0
-    for (let h = Math.floor(s.frame / hop); h < Math.ceil(end / hop) && h < own.length; h++) peak = Math.max(peak, own[h])
+    for (let h = Math.floor(s.frame / hop); h < Math.ceil(end / hop) && h < own.length; h++)
+      peak = Math.max(peak, own[h])
     slices.push({ start: s.frame, end, peak })
   }
   return slices

@@ -76,8 +76,19 @@ export class JobRunner {
       if (Number(claimed.numUpdatedRows) !== 1) return
       const current = { ...job, attempts: job.attempts + 1 }
       try {
-        await handler.run(current, (p) => this.db.updateTable('jobs').set({ progress: p }).where('id', '=', job.id).execute().then(() => undefined))
-        await this.db.updateTable('jobs').set({ status: 'done', progress: 1, finished_at: nowIso() }).where('id', '=', job.id).execute()
+        await handler.run(current, (p) =>
+          this.db
+            .updateTable('jobs')
+            .set({ progress: p })
+            .where('id', '=', job.id)
+            .execute()
+            .then(() => undefined),
+        )
+        await this.db
+          .updateTable('jobs')
+          .set({ status: 'done', progress: 1, finished_at: nowIso() })
+          .where('id', '=', job.id)
+          .execute()
       } catch (err) {
         // Stopping: leave it 'running' so the next start queues it again.
         if (this.stopped) return
@@ -95,7 +106,11 @@ export class JobRunner {
   }
 
   private async fail(job: JobRow, message: string, err?: unknown): Promise<void> {
-    await this.db.updateTable('jobs').set({ status: 'failed', error: message, finished_at: nowIso() }).where('id', '=', job.id).execute()
+    await this.db
+      .updateTable('jobs')
+      .set({ status: 'failed', error: message, finished_at: nowIso() })
+      .where('id', '=', job.id)
+      .execute()
     await this.handlers[job.kind as JobKind]?.failed?.(job, message, err)
   }
 

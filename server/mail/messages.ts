@@ -26,7 +26,10 @@ export function passwordResetMail(to: string, link: string): OutgoingMail {
   }
 }
 
-export function mentionMail(to: string, m: { author: string; takeTitle: string; time: string; link: string; body: string }): OutgoingMail {
+export function mentionMail(
+  to: string,
+  m: { author: string; takeTitle: string; time: string; link: string; body: string },
+): OutgoingMail {
   const quoted = m.body.length > 1000 ? `${m.body.slice(0, 1000)}…` : m.body
   return {
     to,
@@ -42,7 +45,13 @@ export function mentionMail(to: string, m: { author: string; takeTitle: string; 
   }
 }
 
-export function packPublishedMail(to: string, packName: string, version: number, link: string, note: string | null = null): OutgoingMail {
+export function packPublishedMail(
+  to: string,
+  packName: string,
+  version: number,
+  link: string,
+  note: string | null = null,
+): OutgoingMail {
   const changed = note?.trim() ? `What changed in version ${version}:\n${note.trim()}\n\n` : ''
   return {
     to,

@@ -6,12 +6,19 @@ import { mentionableMembers } from './mentions.repository'
 
 /** "Dana Humbucker" → "Dana.Humbucker": a handle the mention rule reads as the full name. */
 export function handleOf(name: string): string {
-  return name.normalize('NFC').match(/[\p{L}\p{N}]+/gu)?.join('.') ?? ''
+  return (
+    name
+      .normalize('NFC')
+      .match(/[\p{L}\p{N}]+/gu)
+      ?.join('.') ?? ''
+  )
 }
 
 /** Active members with their handles; e-mail addresses stay on the server. */
 export async function members(db: Db): Promise<MentionMember[]> {
-  return (await mentionableMembers(db)).map((m) => ({ id: m.id, name: m.name, handle: handleOf(m.name) })).filter((m) => m.handle)
+  return (await mentionableMembers(db))
+    .map((m) => ({ id: m.id, name: m.name, handle: handleOf(m.name) }))
+    .filter((m) => m.handle)
 }
 
 /** Who posting `body` would notify (never the author), and the handles that name nobody. */
@@ -20,6 +27,8 @@ export async function previewMentions(db: Db, author: User, body: string): Promi
   const notified = resolveMentions(body, all)
     .filter((m) => m.id !== author.id)
     .map((m) => ({ id: m.id, name: m.name }))
-  const unmatched = [...new Set(mentionHandles(body).map((h) => h.handle))].filter((h) => resolveMentions(`@${h}`, all).length === 0)
+  const unmatched = [...new Set(mentionHandles(body).map((h) => h.handle))].filter(
+    (h) => resolveMentions(`@${h}`, all).length === 0,
+  )
   return { notified, unmatched }
 }

@@ -17,7 +17,8 @@ import FFT from 'fft.js'
 export const onePole = (ms: number, rate: number) => (ms > 0 ? Math.exp(-1000 / (ms * rate)) : 0)
 
 /** Number of curve points for `frames` samples at `sampleRate`. */
-export const curvePoints = (frames: number, sampleRate: number, rateHz: number) => Math.max(1, Math.round((frames / sampleRate) * rateHz))
+export const curvePoints = (frames: number, sampleRate: number, rateHz: number) =>
+  Math.max(1, Math.round((frames / sampleRate) * rateHz))
 
 export interface CurveTracker {
   push(planar: Float32Array[]): void
@@ -310,7 +311,12 @@ export function slew(v: Float64Array, up: number, down: number): void {
 }
 
 /** The curve's control value 0…1: the envelope itself, or octaves above referenceHz over `octaves`; clamped. */
-export function controlFraction(value: number, source: 'envelope' | 'centroid' | 'tone', referenceHz: number, octaves: number): number {
+export function controlFraction(
+  value: number,
+  source: 'envelope' | 'centroid' | 'tone',
+  referenceHz: number,
+  octaves: number,
+): number {
   const u = source === 'envelope' ? value : Math.log2(value / referenceHz) / octaves
   return Number.isFinite(u) ? Math.min(1, Math.max(0, u)) : 0
 }

@@ -18,7 +18,14 @@ export async function computeModulation(path: string, o: ModulationOrder): Promi
   const lead = Math.min(startFrame, context)
   const tail = Math.min(info.format.frames - endFrame, context)
   const tracker: CurveTracker =
-    o.source === 'envelope' ? new EnvelopeFollower(rate, frames, timing) : new SpectralTracker(rate, frames, { kind: o.source, ...timing }, lead)
-  for await (const block of readFrames(path, info, { startFrame: startFrame - lead, endFrame: endFrame + tail, recycle: 2 })) tracker.push(block)
+    o.source === 'envelope'
+      ? new EnvelopeFollower(rate, frames, timing)
+      : new SpectralTracker(rate, frames, { kind: o.source, ...timing }, lead)
+  for await (const block of readFrames(path, info, {
+    startFrame: startFrame - lead,
+    endFrame: endFrame + tail,
+    recycle: 2,
+  }))
+    tracker.push(block)
   return curveFile(tracker.finish(), o)
 }

@@ -45,13 +45,20 @@ export function scaleText(o: ModulationOrder): string {
   return `${unit}${span} = ${meaning}${volts}`
 }
 
-const mapped = (v: number, o: ModulationOrder) => o.range.low + controlFraction(v, o.source, o.referenceHz, o.octaves) * (o.range.high - o.range.low)
+const mapped = (v: number, o: ModulationOrder) =>
+  o.range.low + controlFraction(v, o.source, o.referenceHz, o.octaves) * (o.range.high - o.range.low)
 
 export function curveCsv(curve: Float32Array, o: ModulationOrder): ModulationFile {
   const lines = [csvLine(['time', 'value'])]
   const digits = o.source === 'envelope' ? 6 : 3
-  for (let k = 0; k < curve.length; k++) lines.push(csvLine([Number((k / o.rateHz).toFixed(6)), Number(curve[k].toFixed(digits))]))
-  return { bytes: Buffer.from(lines.join(''), 'ascii'), points: curve.length, unit: o.source === 'envelope' ? 'FS' : 'Hz', scale: null }
+  for (let k = 0; k < curve.length; k++)
+    lines.push(csvLine([Number((k / o.rateHz).toFixed(6)), Number(curve[k].toFixed(digits))]))
+  return {
+    bytes: Buffer.from(lines.join(''), 'ascii'),
+    points: curve.length,
+    unit: o.source === 'envelope' ? 'FS' : 'Hz',
+    scale: null,
+  }
 }
 
 export function curveWav(curve: Float32Array, o: ModulationOrder): ModulationFile {
@@ -64,7 +71,11 @@ export function curveWav(curve: Float32Array, o: ModulationOrder): ModulationFil
     bitsPerSample: 32,
     controlRate: true,
     bext: {
-      description: `Modulation ${o.source} of ${o.label}, ${num(o.startSeconds)}-${num(o.endSeconds)} s. Scale: ${scale}`.slice(0, 256),
+      description:
+        `Modulation ${o.source} of ${o.label}, ${num(o.startSeconds)}-${num(o.endSeconds)} s. Scale: ${scale}`.slice(
+          0,
+          256,
+        ),
       originator: 'Strayfield',
       codingHistory: `A=PCM,F=${o.rateHz},W=32,M=mono,T=control signal\r\n`,
     },
@@ -84,12 +95,20 @@ export function curveMidi(curve: Float32Array, o: ModulationOrder): ModulationFi
     // Absolute times rounded to the tick, so rates that do not divide 1000 do not drift.
     const at = Math.round((k * 1000) / o.rateHz)
     const value = Math.min(127, Math.max(0, Math.round(mapped(curve[k], o))))
-    events.push({ deltaTime: at - tick, type: 'controller', channel: o.channel - 1, controllerType: o.controller, value })
+    events.push({
+      deltaTime: at - tick,
+      type: 'controller',
+      channel: o.channel - 1,
+      controllerType: o.controller,
+      value,
+    })
     tick = at
   }
   const end = Math.round((curve.length * 1000) / o.rateHz)
   events.push({ deltaTime: end - tick, type: 'endOfTrack' })
-  const bytes = Uint8Array.from(writeMidi({ header: { format: 0, numTracks: 1, ticksPerBeat: TICKS_PER_BEAT }, tracks: [events] }))
+  const bytes = Uint8Array.from(
+    writeMidi({ header: { format: 0, numTracks: 1, ticksPerBeat: TICKS_PER_BEAT }, tracks: [events] }),
+  )
   return { bytes, points: curve.length, unit: null, scale }
 }
 

@@ -19,7 +19,12 @@ const round = (s: number) => Math.round(s * 1000) / 1000
 
 /** "coil-hum_envelope_1.5-4s.mid": the take's name without its extension, in safe characters. */
 export function modulationFileName(takeName: string, o: ModulationOrder, whole: boolean): string {
-  const base = takeName.replace(/\.[^.]*$/u, '').replace(/[^A-Za-z0-9._-]+/gu, '-').replace(/^[-.]+|-+$/gu, '').slice(0, 80) || 'take'
+  const base =
+    takeName
+      .replace(/\.[^.]*$/u, '')
+      .replace(/[^A-Za-z0-9._-]+/gu, '-')
+      .replace(/^[-.]+|-+$/gu, '')
+      .slice(0, 80) || 'take'
   const span = whole ? '' : `_${round(o.startSeconds)}-${round(o.endSeconds)}s`
   return `${base}_${o.source}${span}.${EXTENSIONS[o.format]}`
 }
@@ -28,7 +33,11 @@ export async function planModulation(db: Db, takeId: number, b: ModulationBody):
   const row = await findTake(db, takeId)
   if (!row) throw notFound('take', 'TAKE_NOT_FOUND')
   if (row.status !== 'ready' || !row.sample_rate || row.duration_seconds === null) {
-    throw new AppError(409, 'NOT_MEASURED', `Take ${row.id} is ${row.status}; modulation sources can be made once it is measured`)
+    throw new AppError(
+      409,
+      'NOT_MEASURED',
+      `Take ${row.id} is ${row.status}; modulation sources can be made once it is measured`,
+    )
   }
   const duration = row.duration_seconds
   const start = b.startSeconds ?? 0
@@ -59,7 +68,12 @@ export async function planModulation(db: Db, takeId: number, b: ModulationBody):
       { maxPoints: MODULATION_LIMITS.maxPoints, points },
     )
   }
-  const order: ModulationOrder = { ...b, startSeconds: start, endSeconds: end, label: `take ${row.id} (${row.filename})` }
+  const order: ModulationOrder = {
+    ...b,
+    startSeconds: start,
+    endSeconds: end,
+    label: `take ${row.id} (${row.filename})`,
+  }
   const whole = b.startSeconds === undefined && b.endSeconds === undefined
   return { order, audioPath: row.audio_path, fileName: modulationFileName(row.filename, order, whole) }
 }

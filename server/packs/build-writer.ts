@@ -11,12 +11,17 @@
 import fs from 'node:fs/promises'
 import path from 'node:path'
 import type { ManifestItem } from '@shared/schemas/packs'
-import { renderItem, RenderStopped, type PlainRenderRequest, type RenderRequest, type RenderResult } from '../render/render'
+import {
+  renderItem,
+  RenderStopped,
+  type PlainRenderRequest,
+  type RenderRequest,
+  type RenderResult,
+} from '../render/render'
 import { createRenderPool } from '../render/render-pool'
 import { round2 } from '../render/settings'
 import type { BuildSnapshot } from './item-spec'
 import { manifestCsv, PackZip, type ZipEntryResult } from './pack-zip'
-
 
 export interface BuildOrder {
   buildId: number
@@ -81,10 +86,12 @@ interface Renderer {
 }
 
 function rendererFor(order: BuildOrder): Renderer {
-  if (order.renderThreads > 0) return createRenderPool(order.renderThreads, order.renderWorker ? new URL(order.renderWorker) : undefined)
+  if (order.renderThreads > 0)
+    return createRenderPool(order.renderThreads, order.renderWorker ? new URL(order.renderWorker) : undefined)
   return {
     // Temp renders are read into the zip and deleted: only the zip is fsynced.
-    render: (req, outPath, signal) => renderItem({ ...req, shouldStop: () => signal.stopped }, outPath, { durable: false }),
+    render: (req, outPath, signal) =>
+      renderItem({ ...req, shouldStop: () => signal.stopped }, outPath, { durable: false }),
     close: async () => undefined,
   }
 }
@@ -164,7 +171,13 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
         namingTemplate: snap.pack.namingTemplate,
         settings: snap.pack.settings,
       },
-      build: { id: order.buildId, version: order.version, createdAt: order.createdAt, itemCount: manifest.length, generator: 'Strayfield' },
+      build: {
+        id: order.buildId,
+        version: order.version,
+        createdAt: order.createdAt,
+        itemCount: manifest.length,
+        generator: 'Strayfield',
+      },
       items: manifest,
     }
     await zip.addBuffer('manifest.json', Buffer.from(JSON.stringify(json, null, 2) + '\n'))

@@ -73,7 +73,8 @@ export function buildPackJob(ctx: AppContext): JobHandler {
     async failed(job, message) {
       const b = await repo.findBuild(ctx.db, job.ref_id)
       if (!b) return
-      if (b.status !== 'failed' && b.status !== 'done') await repo.updateBuild(ctx.db, b.id, { status: 'failed', error: message, finished_at: nowIso() })
+      if (b.status !== 'failed' && b.status !== 'done')
+        await repo.updateBuild(ctx.db, b.id, { status: 'failed', error: message, finished_at: nowIso() })
       // Given up after interrupted attempts: sweep what the last one left.
       const paths = buildPaths(ctx, b)
       await fs.rm(paths.tmpZip, { force: true })
@@ -95,11 +96,19 @@ class BuildProcessDied extends Error {
 function startBuildProcess(order: BuildOrder): ChildProcess {
   const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
   const entry = workerModule(new URL(`./build-process${ext}`, import.meta.url))
-  return fork(entry, ['--build', String(order.buildId), order.tmpZip], { execArgv: [], serialization: 'advanced', stdio: ['ignore', 'inherit', 'inherit', 'ipc'] })
+  return fork(entry, ['--build', String(order.buildId), order.tmpZip], {
+    execArgv: [],
+    serialization: 'advanced',
+    stdio: ['ignore', 'inherit', 'inherit', 'ipc'],
+  })
 }
 
 /** Sends the order and resolves with the process's answer; a process that dies without one rejects. */
-function runProcess(order: BuildOrder, onFrames: (k: number, frames: number) => void, isStopped: () => boolean): Promise<Exclude<FromBuildProcess, { type: 'frames' }>> {
+function runProcess(
+  order: BuildOrder,
+  onFrames: (k: number, frames: number) => void,
+  isStopped: () => boolean,
+): Promise<Exclude<FromBuildProcess, { type: 'frames' }>> {
   const child = startBuildProcess(order)
   return new Promise((resolve, reject) => {
     let answer: Exclude<FromBuildProcess, { type: 'frames' }> | null = null
@@ -126,7 +135,12 @@ function runProcess(order: BuildOrder, onFrames: (k: number, frames: number) => 
   })
 }
 
-export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p: number) => Promise<void>, options: BuildOptions = {}): Promise<BuildReport | null> {
+export async function runBuild(
+  ctx: AppContext,
+  buildId: number,
+  jobProgress: (p: number) => Promise<void>,
+  options: BuildOptions = {},
+): Promise<BuildReport | null> {
   const build = await repo.findBuild(ctx.db, buildId)
   if (!build || build.status === 'done') return null // deleted meanwhile, or finished before a crash
   const snap = JSON.parse(build.snapshot_json) as BuildSnapshot
@@ -170,7 +184,14 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
     version: build.version,
     createdAt: build.created_at,
     snap,
-    requests: snap.items.map((spec) => renderRequest(spec, ctx.storage.abs(spec.audioPath), `SF-P${snap.pack.id}-V${build.version}-${spec.position}`, createdAt)),
+    requests: snap.items.map((spec) =>
+      renderRequest(
+        spec,
+        ctx.storage.abs(spec.audioPath),
+        `SF-P${snap.pack.id}-V${build.version}-${spec.position}`,
+        createdAt,
+      ),
+    ),
     tmpZip: paths.tmpZip,
     finalZip: ctx.storage.abs(paths.finalRel),
     workDir: paths.workDir,
@@ -196,7 +217,13 @@ export async function runBuild(ctx: AppContext, buildId: number, jobProgress: (p
   return { renderThreads, maxRssKb: answer.maxRssKb }
 }
 
-async function record(ctx: AppContext, buildId: number, snap: BuildSnapshot, paths: BuildPaths, output: BuildOutput): Promise<void> {
+async function record(
+  ctx: AppContext,
+  buildId: number,
+  snap: BuildSnapshot,
+  paths: BuildPaths,
+  output: BuildOutput,
+): Promise<void> {
   const rows: NewPackBuildItem[] = output.items.map((it, k) => {
     const spec = snap.items[k]
     return {
@@ -232,9 +259,19 @@ async function record(ctx: AppContext, buildId: number, snap: BuildSnapshot, pat
 }
 
 /** Marks the build failed (naming the item when one failed) and fails the job with the same words. */
-async function fail(ctx: AppContext, buildId: number, position: number | null, snap: BuildSnapshot, err: unknown): Promise<never> {
+async function fail(
+  ctx: AppContext,
+  buildId: number,
+  position: number | null,
+  snap: BuildSnapshot,
+  err: unknown,
+): Promise<never> {
   const spec = position === null ? null : (snap.items.find((s) => s.position === position) ?? null)
-  const message = spec ? describeItemFailure(spec, err) : err instanceof BuildProcessDied ? err.message : `writing the zip failed: ${(err as Error).message}`
+  const message = spec
+    ? describeItemFailure(spec, err)
+    : err instanceof BuildProcessDied
+      ? err.message
+      : `writing the zip failed: ${(err as Error).message}`
   await repo.updateBuild(ctx.db, buildId, {
     status: 'failed',
     error: message,

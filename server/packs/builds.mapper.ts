@@ -14,7 +14,10 @@ export function buildToApi(b: BuildJoined): PackBuild {
     sizeBytes: b.size_bytes,
     sha256: b.sha256,
     error: b.error,
-    failedItem: b.failed_item_position !== null ? { position: b.failed_item_position, itemId: b.failed_item_id, name: b.failed_item_name ?? '' } : null,
+    failedItem:
+      b.failed_item_position !== null
+        ? { position: b.failed_item_position, itemId: b.failed_item_id, name: b.failed_item_name ?? '' }
+        : null,
     fileName: buildFileName(b.pack_name, b.version),
     downloadUrl: b.status === 'done' ? `/api/pack-builds/${b.id}/download` : null,
     createdBy: b.created_by && b.creator_name ? { id: b.created_by, name: b.creator_name } : null,

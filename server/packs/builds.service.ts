@@ -31,9 +31,14 @@ export async function requestBuild(ctx: AppContext, user: User, packId: number):
   const specs = await itemSpecs(ctx.db, pack, rows)
   const unready = specs.find((s) => s.take.status !== 'ready')
   if (unready) {
-    throw new AppError(409, 'TAKE_NOT_READY', `item ${unready.spec.position} (${unready.spec.outputName}): take ${unready.take.id} is ${unready.take.status}`, {
-      takeId: unready.take.id,
-    })
+    throw new AppError(
+      409,
+      'TAKE_NOT_READY',
+      `item ${unready.spec.position} (${unready.spec.outputName}): take ${unready.take.id} is ${unready.take.status}`,
+      {
+        takeId: unready.take.id,
+      },
+    )
   }
   const snapshot: BuildSnapshot = {
     pack: {
@@ -79,27 +84,45 @@ export async function buildChanges(ctx: AppContext, id: number): Promise<BuildCh
 export async function publishBuild(ctx: AppContext, user: User, id: number, note?: string): Promise<PackBuild> {
   const b = await repo.findBuild(ctx.db, id)
   if (!b) throw buildNotFound()
-  if (b.status !== 'done') throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; only a finished build can be published`)
+  if (b.status !== 'done')
+    throw new AppError(
+      409,
+      'BUILD_NOT_DONE',
+      `Version ${b.version} is ${b.status}; only a finished build can be published`,
+    )
   if (b.published_at) return buildToApi(b)
   const changeNote = note?.trim() ? note.trim() : null
   await repo.updateBuild(ctx.db, id, { published_at: nowIso(), published_by: user.id, change_note: changeNote })
-  const followers = (await repo.followersOf(ctx.db, b.pack_id)).filter((f) => can(f.role as User['role'], 'packs:receive'))
+  const followers = (await repo.followersOf(ctx.db, b.pack_id)).filter((f) =>
+    can(f.role as User['role'], 'packs:receive'),
+  )
   const link = `${ctx.config.publicUrl}/packs/${b.pack_id}`
   // Mail goes out after the answer; a mail server that is down must not undo a publication.
   void (async () => {
     for (const f of followers) {
-      await ctx.mailer.send(packPublishedMail(f.email, b.pack_name, b.version, link, changeNote)).catch((err: unknown) => {
-        console.error(`[packs] could not mail ${f.email} about pack ${b.pack_id} v${b.version}`, err)
-      })
+      await ctx.mailer
+        .send(packPublishedMail(f.email, b.pack_name, b.version, link, changeNote))
+        .catch((err: unknown) => {
+          console.error(`[packs] could not mail ${f.email} about pack ${b.pack_id} v${b.version}`, err)
+        })
     }
   })()
   return buildToApi((await repo.findBuild(ctx.db, id))!)
 }
 
 /** The zip of a finished build the user may download. */
-export async function buildZip(ctx: AppContext, user: User, id: number): Promise<{ path: string; build: repo.BuildJoined }> {
+export async function buildZip(
+  ctx: AppContext,
+  user: User,
+  id: number,
+): Promise<{ path: string; build: repo.BuildJoined }> {
   const b = await visibleBuild(ctx, user, id)
-  if (b.status !== 'done' || !b.zip_path) throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; it can be downloaded once it is done`)
+  if (b.status !== 'done' || !b.zip_path)
+    throw new AppError(
+      409,
+      'BUILD_NOT_DONE',
+      `Version ${b.version} is ${b.status}; it can be downloaded once it is done`,
+    )
   return { path: ctx.storage.abs(b.zip_path), build: b }
 }
 
@@ -107,7 +130,11 @@ export async function buildZip(ctx: AppContext, user: User, id: number): Promise
 export async function deletePackAndBuilds(ctx: AppContext, packId: number): Promise<void> {
   await managedPack(ctx.db, packId)
   if ((await repo.runningBuildsOf(ctx.db, packId)).length) {
-    throw new AppError(409, 'BUILD_RUNNING', 'A build of this pack is queued or running; delete the pack once it has ended')
+    throw new AppError(
+      409,
+      'BUILD_RUNNING',
+      'A build of this pack is queued or running; delete the pack once it has ended',
+    )
   }
   const zips = await repo.zipPathsOf(ctx.db, packId)
   await repo.deletePack(ctx.db, packId)

@@ -5,12 +5,24 @@ import type { BuildChanges } from '@shared/schemas/packs'
 import type { BuildSnapshot, ItemSpec } from './item-spec'
 
 /** Everything that shapes an item's samples (not its name or metadata). */
-const shaping = (s: ItemSpec) => JSON.stringify([s.takeId, s.audioPath, s.startSeconds, s.endSeconds, s.kind, s.settings])
+const shaping = (s: ItemSpec) =>
+  JSON.stringify([s.takeId, s.audioPath, s.startSeconds, s.endSeconds, s.kind, s.settings])
 
-export function computeChanges(prev: BuildSnapshot | null, next: BuildSnapshot, sinceVersion: number | null): BuildChanges {
+export function computeChanges(
+  prev: BuildSnapshot | null,
+  next: BuildSnapshot,
+  sinceVersion: number | null,
+): BuildChanges {
   if (!prev) {
     const n = next.items.length
-    return { sinceVersion: null, added: next.items.map((s) => s.fileName), removed: [], renamed: [], rerendered: [], text: `First published version: ${n} item${n === 1 ? '' : 's'}.` }
+    return {
+      sinceVersion: null,
+      added: next.items.map((s) => s.fileName),
+      removed: [],
+      renamed: [],
+      rerendered: [],
+      text: `First published version: ${n} item${n === 1 ? '' : 's'}.`,
+    }
   }
   const before = new Map(prev.items.filter((s) => s.itemId !== null).map((s) => [s.itemId, s]))
   const after = new Set(next.items.map((s) => s.itemId))

@@ -57,8 +57,15 @@ export function expectedFrames(spec: ItemSpec): number {
 }
 
 /** bext description: the title, the region, the sources and the tags, within the chunk's 256 characters. */
-export function describeItem(spec: Pick<ItemSpec, 'title' | 'description' | 'sources' | 'tags' | 'regionName'>): string {
-  const parts = [spec.title || spec.description, spec.regionName ? `Region: ${spec.regionName}` : '', spec.sources.length ? `Sources: ${spec.sources.join('; ')}` : '', spec.tags.length ? `Tags: ${spec.tags.join(', ')}` : '']
+export function describeItem(
+  spec: Pick<ItemSpec, 'title' | 'description' | 'sources' | 'tags' | 'regionName'>,
+): string {
+  const parts = [
+    spec.title || spec.description,
+    spec.regionName ? `Region: ${spec.regionName}` : '',
+    spec.sources.length ? `Sources: ${spec.sources.join('; ')}` : '',
+    spec.tags.length ? `Tags: ${spec.tags.join(', ')}` : '',
+  ]
   return parts.filter(Boolean).join('. ').slice(0, 256)
 }
 
@@ -75,7 +82,12 @@ export function itemMetadata(spec: ItemSpec, originatorReference: string, create
   }
 }
 
-export function renderRequest(spec: ItemSpec, sourcePath: string, originatorReference: string, createdAt: Date): RenderRequest {
+export function renderRequest(
+  spec: ItemSpec,
+  sourcePath: string,
+  originatorReference: string,
+  createdAt: Date,
+): RenderRequest {
   return {
     sourcePath,
     startSeconds: spec.startSeconds,

@@ -2,13 +2,45 @@
 // portable: ASCII letters, digits, '-' and '_' only, at most 80 characters
 // before '.wav', unique within the pack (case-insensitively, since the common
 // desktop file systems ignore case), never a name Windows reserves.
-import { DEFAULT_NAMING_TEMPLATE, DEFAULT_REGION_NAMING_TEMPLATE, MAX_OUTPUT_NAME, NAMING_TOKENS, type NamingToken } from '@shared/schemas/packs'
+import {
+  DEFAULT_NAMING_TEMPLATE,
+  DEFAULT_REGION_NAMING_TEMPLATE,
+  MAX_OUTPUT_NAME,
+  NAMING_TOKENS,
+  type NamingToken,
+} from '@shared/schemas/packs'
 
 /** Letters that Unicode decomposition does not reduce to ASCII (common practice transliterations). */
 const SPECIAL: Record<string, string> = {
-  ß: 'ss', ẞ: 'SS', æ: 'ae', Æ: 'AE', œ: 'oe', Œ: 'OE', ø: 'o', Ø: 'O', ł: 'l', Ł: 'L', đ: 'd', Đ: 'D',
-  ð: 'd', Ð: 'D', þ: 'th', Þ: 'Th', ı: 'i', ħ: 'h', Ħ: 'H', ŋ: 'ng', Ŋ: 'NG', ĸ: 'k', ſ: 's',
-  µ: 'u', '&': 'and', '+': 'plus', '%': 'pct', '°': 'deg', '#': 'no',
+  ß: 'ss',
+  ẞ: 'SS',
+  æ: 'ae',
+  Æ: 'AE',
+  œ: 'oe',
+  Œ: 'OE',
+  ø: 'o',
+  Ø: 'O',
+  ł: 'l',
+  Ł: 'L',
+  đ: 'd',
+  Đ: 'D',
+  ð: 'd',
+  Ð: 'D',
+  þ: 'th',
+  Þ: 'Th',
+  ı: 'i',
+  ħ: 'h',
+  Ħ: 'H',
+  ŋ: 'ng',
+  Ŋ: 'NG',
+  ĸ: 'k',
+  ſ: 's',
+  µ: 'u',
+  '&': 'and',
+  '+': 'plus',
+  '%': 'pct',
+  '°': 'deg',
+  '#': 'no',
 }
 
 /** Device names Windows refuses as file names, whatever the extension (CON.wav too). */
@@ -109,7 +141,9 @@ export function tokenValues(f: NamingFacts): Record<NamingToken, string> {
 /** Fills a template; unknown tokens (refused by the schema) are left out. The result still needs sanitizeName. */
 export function fillTemplate(template: string, f: NamingFacts): string {
   const v = tokenValues(f)
-  return template.replace(/\{([^}]*)\}/g, (_m, token: string) => ((NAMING_TOKENS as readonly string[]).includes(token) ? v[token as NamingToken] : ''))
+  return template.replace(/\{([^}]*)\}/g, (_m, token: string) =>
+    (NAMING_TOKENS as readonly string[]).includes(token) ? v[token as NamingToken] : '',
+  )
 }
 
 /** The template an item is named by: the default one names an item cut from a named region by that region. */

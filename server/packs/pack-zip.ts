@@ -76,7 +76,12 @@ function useNativeCrc(archive: ZipArchive): void {
   const STORED = 0
   engine._smartStream = function (this: ZipEngine & NodeJS.WritableStream, ae, callback) {
     if (ae.getMethod() !== STORED) return original.call(this, ae, callback)
-    const entry = ae as { getMethod(): number; setCrc(n: number): void; setSize(n: number): void; setCompressedSize(n: number): void }
+    const entry = ae as {
+      getMethod(): number
+      setCrc(n: number): void
+      setSize(n: number): void
+      setCompressedSize(n: number): void
+    }
     const owner = this as unknown as { _afterAppend(ae: unknown): void }
     const crc = new NativeCrc32Stream()
     let error: Error | null = null

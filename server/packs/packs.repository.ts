@@ -23,26 +23,43 @@ export interface PackJoined extends PackRow {
 }
 
 const selectPacks = (db: Db) =>
-  db.selectFrom('packs').leftJoin('users', 'users.id', 'packs.created_by').selectAll('packs').select('users.name as creator_name')
+  db
+    .selectFrom('packs')
+    .leftJoin('users', 'users.id', 'packs.created_by')
+    .selectAll('packs')
+    .select('users.name as creator_name')
 
-export const findPack = (db: Db, id: number): Promise<PackJoined | undefined> => selectPacks(db).where('packs.id', '=', id).executeTakeFirst()
+export const findPack = (db: Db, id: number): Promise<PackJoined | undefined> =>
+  selectPacks(db).where('packs.id', '=', id).executeTakeFirst()
 
 export const listPacks = (db: Db, onlyPublished: boolean): Promise<PackJoined[]> => {
   let q = selectPacks(db)
   if (onlyPublished) {
     q = q.where((eb) =>
-      eb.exists(eb.selectFrom('pack_builds').select('pack_builds.id').whereRef('pack_builds.pack_id', '=', 'packs.id').where('pack_builds.published_at', 'is not', null)),
+      eb.exists(
+        eb
+          .selectFrom('pack_builds')
+          .select('pack_builds.id')
+          .whereRef('pack_builds.pack_id', '=', 'packs.id')
+          .where('pack_builds.published_at', 'is not', null),
+      ),
     )
   }
   return q.orderBy('packs.updated_at', 'desc').orderBy('packs.id', 'desc').execute()
 }
 
-export const insertPack = (db: Db, pack: NewPack) => db.insertInto('packs').values(pack).returning('id').executeTakeFirstOrThrow()
+export const insertPack = (db: Db, pack: NewPack) =>
+  db.insertInto('packs').values(pack).returning('id').executeTakeFirstOrThrow()
 
 export const updatePack = (db: Db, id: number, patch: PackUpdate) =>
-  db.updateTable('packs').set({ ...patch, updated_at: now() }).where('id', '=', id).execute()
+  db
+    .updateTable('packs')
+    .set({ ...patch, updated_at: now() })
+    .where('id', '=', id)
+    .execute()
 
-export const touchPack = (db: Db, id: number) => db.updateTable('packs').set({ updated_at: now() }).where('id', '=', id).execute()
+export const touchPack = (db: Db, id: number) =>
+  db.updateTable('packs').set({ updated_at: now() }).where('id', '=', id).execute()
 
 export const deletePack = (db: Db, id: number) => db.deleteFrom('packs').where('id', '=', id).execute()
 
@@ -55,7 +72,9 @@ export async function packTotals(db: Db, packIds: number[]) {
     .select((eb) => [
       'pack_items.pack_id',
       eb.fn.countAll<number>().as('count'),
-      sql<number>`sum(coalesce(pack_items.end_seconds, takes.duration_seconds, 0) - coalesce(pack_items.start_seconds, 0))`.as('seconds'),
+      sql<number>`sum(coalesce(pack_items.end_seconds, takes.duration_seconds, 0) - coalesce(pack_items.start_seconds, 0))`.as(
+        'seconds',
+      ),
     ])
     .where('pack_items.pack_id', 'in', packIds)
     .groupBy('pack_items.pack_id')
@@ -71,21 +90,35 @@ export const findItem = (db: Db, packId: number, id: number): Promise<PackItemRo
   db.selectFrom('pack_items').selectAll().where('pack_id', '=', packId).where('id', '=', id).executeTakeFirst()
 
 export async function nextPosition(db: Db, packId: number): Promise<number> {
-  const r = await db.selectFrom('pack_items').select((eb) => eb.fn.max<number | null>('position').as('p')).where('pack_id', '=', packId).executeTakeFirst()
+  const r = await db
+    .selectFrom('pack_items')
+    .select((eb) => eb.fn.max<number | null>('position').as('p'))
+    .where('pack_id', '=', packId)
+    .executeTakeFirst()
   return (r?.p ?? 0) + 1
 }
 
-export const insertItem = (db: Db, item: NewPackItem) => db.insertInto('pack_items').values(item).returning('id').executeTakeFirstOrThrow()
+export const insertItem = (db: Db, item: NewPackItem) =>
+  db.insertInto('pack_items').values(item).returning('id').executeTakeFirstOrThrow()
 
 export const updateItem = (db: Db, id: number, patch: PackItemUpdate) =>
-  db.updateTable('pack_items').set({ ...patch, updated_at: now() }).where('id', '=', id).execute()
+  db
+    .updateTable('pack_items')
+    .set({ ...patch, updated_at: now() })
+    .where('id', '=', id)
+    .execute()
 
 export const deleteItem = (db: Db, id: number) => db.deleteFrom('pack_items').where('id', '=', id).execute()
 
 /** Rewrites positions 1..n in the given order (ids must be the pack's items). */
 export async function setPositions(db: Db, packId: number, ids: number[]): Promise<void> {
   for (let i = 0; i < ids.length; i++) {
-    await db.updateTable('pack_items').set({ position: i + 1 }).where('pack_id', '=', packId).where('id', '=', ids[i]).execute()
+    await db
+      .updateTable('pack_items')
+      .set({ position: i + 1 })
+      .where('pack_id', '=', packId)
+      .where('id', '=', ids[i])
+      .execute()
   }
 }
 
@@ -137,7 +170,11 @@ export async function regionNames(db: Db, ids: number[]): Promise<Map<number, st
 }
 
 export const findRegionRange = (db: Db, id: number) =>
-  db.selectFrom('regions').select(['id', 'take_id', 'name', 'start_seconds', 'end_seconds']).where('id', '=', id).executeTakeFirst()
+  db
+    .selectFrom('regions')
+    .select(['id', 'take_id', 'name', 'start_seconds', 'end_seconds'])
+    .where('id', '=', id)
+    .executeTakeFirst()
 
 // ---- builds ----
 
@@ -158,7 +195,8 @@ const selectBuilds = (db: Db) =>
     .select(['creator.name as creator_name', 'publisher.name as publisher_name'])
     .select(sql<string>`coalesce(json_extract(pack_builds.snapshot_json, '$.pack.name'), packs.name)`.as('pack_name'))
 
-export const findBuild = (db: Db, id: number): Promise<BuildJoined | undefined> => selectBuilds(db).where('pack_builds.id', '=', id).executeTakeFirst()
+export const findBuild = (db: Db, id: number): Promise<BuildJoined | undefined> =>
+  selectBuilds(db).where('pack_builds.id', '=', id).executeTakeFirst()
 
 export const buildsOf = (db: Db, packId: number, onlyPublished = false): Promise<BuildJoined[]> => {
   let q = selectBuilds(db).where('pack_builds.pack_id', '=', packId)
@@ -173,7 +211,14 @@ export async function headlineBuilds(db: Db, packIds: number[]): Promise<BuildJo
     .where('pack_builds.pack_id', 'in', packIds)
     .where((eb) =>
       eb.or([
-        eb('pack_builds.version', '=', eb.selectFrom('pack_builds as b').select((e) => e.fn.max('b.version').as('v')).whereRef('b.pack_id', '=', 'pack_builds.pack_id')),
+        eb(
+          'pack_builds.version',
+          '=',
+          eb
+            .selectFrom('pack_builds as b')
+            .select((e) => e.fn.max('b.version').as('v'))
+            .whereRef('b.pack_id', '=', 'pack_builds.pack_id'),
+        ),
         eb(
           'pack_builds.version',
           '=',
@@ -189,24 +234,46 @@ export async function headlineBuilds(db: Db, packIds: number[]): Promise<BuildJo
 }
 
 /** Inserts the next version of a pack's builds (1, 2, 3…) in one transaction. */
-export async function insertBuild(db: Db, build: Omit<NewPackBuild, 'version'>): Promise<{ id: number; version: number }> {
+export async function insertBuild(
+  db: Db,
+  build: Omit<NewPackBuild, 'version'>,
+): Promise<{ id: number; version: number }> {
   // Inside a caller's transaction (a build request) it joins it; alone it opens its own.
   const insert = async (trx: Db) => {
-    const r = await trx.selectFrom('pack_builds').select((eb) => eb.fn.max<number | null>('version').as('v')).where('pack_id', '=', build.pack_id).executeTakeFirst()
+    const r = await trx
+      .selectFrom('pack_builds')
+      .select((eb) => eb.fn.max<number | null>('version').as('v'))
+      .where('pack_id', '=', build.pack_id)
+      .executeTakeFirst()
     const version = (r?.v ?? 0) + 1
-    const row = await trx.insertInto('pack_builds').values({ ...build, version }).returning('id').executeTakeFirstOrThrow()
+    const row = await trx
+      .insertInto('pack_builds')
+      .values({ ...build, version })
+      .returning('id')
+      .executeTakeFirstOrThrow()
     return { id: row.id, version }
   }
   return db.isTransaction ? insert(db) : db.transaction().execute(insert)
 }
 
-export const updateBuild = (db: Db, id: number, patch: PackBuildUpdate) => db.updateTable('pack_builds').set(patch).where('id', '=', id).execute()
+export const updateBuild = (db: Db, id: number, patch: PackBuildUpdate) =>
+  db.updateTable('pack_builds').set(patch).where('id', '=', id).execute()
 
 export const runningBuildsOf = (db: Db, packId: number) =>
-  db.selectFrom('pack_builds').select('id').where('pack_id', '=', packId).where('status', 'in', ['queued', 'running']).execute()
+  db
+    .selectFrom('pack_builds')
+    .select('id')
+    .where('pack_id', '=', packId)
+    .where('status', 'in', ['queued', 'running'])
+    .execute()
 
 export const zipPathsOf = (db: Db, packId: number) =>
-  db.selectFrom('pack_builds').select('zip_path').where('pack_id', '=', packId).where('zip_path', 'is not', null).execute()
+  db
+    .selectFrom('pack_builds')
+    .select('zip_path')
+    .where('pack_id', '=', packId)
+    .where('zip_path', 'is not', null)
+    .execute()
 
 export const insertBuildItems = async (db: Db, rows: NewPackBuildItem[]) => {
   if (rows.length) await db.insertInto('pack_build_items').values(rows).execute()
@@ -224,7 +291,8 @@ export const publishedBefore = (db: Db, packId: number, version: number): Promis
     .orderBy('pack_builds.version', 'desc')
     .executeTakeFirst()
 
-export const deleteBuildItems = (db: Db, buildId: number) => db.deleteFrom('pack_build_items').where('build_id', '=', buildId).execute()
+export const deleteBuildItems = (db: Db, buildId: number) =>
+  db.deleteFrom('pack_build_items').where('build_id', '=', buildId).execute()
 
 /** For each item id: its rendered numbers from the newest finished (or published) build that holds it. */
 export async function latestRendered(db: Db, itemIds: number[], onlyPublished = false) {
@@ -243,9 +311,14 @@ export async function latestRendered(db: Db, itemIds: number[], onlyPublished = 
 // ---- followers ----
 
 export const follow = (db: Db, packId: number, userId: number) =>
-  db.insertInto('pack_follows').values({ pack_id: packId, user_id: userId }).onConflict((oc) => oc.doNothing()).execute()
+  db
+    .insertInto('pack_follows')
+    .values({ pack_id: packId, user_id: userId })
+    .onConflict((oc) => oc.doNothing())
+    .execute()
 
-export const unfollow = (db: Db, packId: number, userId: number) => db.deleteFrom('pack_follows').where('pack_id', '=', packId).where('user_id', '=', userId).execute()
+export const unfollow = (db: Db, packId: number, userId: number) =>
+  db.deleteFrom('pack_follows').where('pack_id', '=', packId).where('user_id', '=', userId).execute()
 
 export async function followInfo(db: Db, packIds: number[], userId: number) {
   if (!packIds.length) return []
@@ -278,18 +351,30 @@ export interface ShareLinkJoined extends PackShareLinkRow {
 }
 
 const selectLinks = (db: Db) =>
-  db.selectFrom('pack_share_links').leftJoin('users', 'users.id', 'pack_share_links.created_by').selectAll('pack_share_links').select('users.name as creator_name')
+  db
+    .selectFrom('pack_share_links')
+    .leftJoin('users', 'users.id', 'pack_share_links.created_by')
+    .selectAll('pack_share_links')
+    .select('users.name as creator_name')
 
-export const findShareLink = (db: Db, id: number): Promise<ShareLinkJoined | undefined> => selectLinks(db).where('pack_share_links.id', '=', id).executeTakeFirst()
+export const findShareLink = (db: Db, id: number): Promise<ShareLinkJoined | undefined> =>
+  selectLinks(db).where('pack_share_links.id', '=', id).executeTakeFirst()
 
 export const linksOf = (db: Db, buildId: number): Promise<ShareLinkJoined[]> =>
   selectLinks(db).where('pack_share_links.build_id', '=', buildId).orderBy('pack_share_links.id', 'desc').execute()
 
-export const insertShareLink = (db: Db, row: { build_id: number; nonce: string; expires_at: string; max_downloads: number | null; created_by: number | null }) =>
-  db.insertInto('pack_share_links').values(row).returning('id').executeTakeFirstOrThrow()
+export const insertShareLink = (
+  db: Db,
+  row: { build_id: number; nonce: string; expires_at: string; max_downloads: number | null; created_by: number | null },
+) => db.insertInto('pack_share_links').values(row).returning('id').executeTakeFirstOrThrow()
 
 export const revokeShareLink = (db: Db, id: number) =>
-  db.updateTable('pack_share_links').set({ revoked_at: now() }).where('id', '=', id).where('revoked_at', 'is', null).execute()
+  db
+    .updateTable('pack_share_links')
+    .set({ revoked_at: now() })
+    .where('id', '=', id)
+    .where('revoked_at', 'is', null)
+    .execute()
 
 /** Counts one download when the link is still usable; false when it is not (checked and counted in one statement). */
 /** Counts a new download (starting at byte `from`) if the link is active and under its limit. */

@@ -33,11 +33,27 @@ import {
   updatePackFields,
   visiblePack,
 } from './packs.service'
-import { buildChanges, buildZip, deletePackAndBuilds, listBuilds, publishBuild, requestBuild, visibleBuild } from './builds.service'
+import {
+  buildChanges,
+  buildZip,
+  deletePackAndBuilds,
+  listBuilds,
+  publishBuild,
+  requestBuild,
+  visibleBuild,
+} from './builds.service'
 import { buildToApi } from './builds.mapper'
 import { buildFileName } from './naming'
 import { renderedPreview } from './preview'
-import { createShareLink, listShareLinks, revokeShareLink, shareDownload, shareHead, shareInfo, shareItemBuild } from './share.service'
+import {
+  createShareLink,
+  listShareLinks,
+  revokeShareLink,
+  shareDownload,
+  shareHead,
+  shareInfo,
+  shareItemBuild,
+} from './share.service'
 import { CONDITIONAL_HEADERS } from './share-ranges'
 import { newestPublished, publishedItemNotFound, sendBuildItem } from './published'
 import { namingPreview } from './packs.service'
@@ -66,7 +82,13 @@ function sendWithRanges(res: Response, next: NextFunction, file: string, size: n
       res
         .status(416)
         .set('Content-Range', `bytes */${size}`)
-        .json({ error: { code: 'RANGE_NOT_SATISFIABLE', message: `The requested range lies outside the file's ${size} bytes`, details: { sizeBytes: size } } })
+        .json({
+          error: {
+            code: 'RANGE_NOT_SATISFIABLE',
+            message: `The requested range lies outside the file's ${size} bytes`,
+            details: { sizeBytes: size },
+          },
+        })
       return
     }
     next(err)
@@ -143,11 +165,24 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
     const { id, itemId } = params(req, ItemParams)
     const pack = await visiblePack(ctx.db, req.user!, id)
     // Those who do not manage packs hear the newest published version itself, out of its zip: nothing unpublished.
-    if (!managesPacks(req.user!)) return sendBuildItem(ctx, res, next, (await newestPublished(ctx.db, id)) ?? raise(publishedItemNotFound()), itemId, 'inline')
+    if (!managesPacks(req.user!))
+      return sendBuildItem(
+        ctx,
+        res,
+        next,
+        (await newestPublished(ctx.db, id)) ?? raise(publishedItemNotFound()),
+        itemId,
+        'inline',
+      )
     const rows = await repo.itemsOf(ctx.db, id)
     const found = (await itemSpecs(ctx.db, pack, rows)).find((s) => s.row.id === itemId)
     if (!found) throw itemNotFound()
-    const file = await renderedPreview(ctx, found.spec, `SF-P${pack.id}-preview-${found.spec.position}`, `user:${req.user!.id}`)
+    const file = await renderedPreview(
+      ctx,
+      found.spec,
+      `SF-P${pack.id}-preview-${found.spec.position}`,
+      `user:${req.user!.id}`,
+    )
     const size = (await stat(file)).size
     res.set('Content-Disposition', `inline; filename="${found.spec.fileName}"`)
     sendWithRanges(res, next, file, size, { contentType: 'audio/wav', cache: 'private, max-age=300' })
@@ -159,7 +194,11 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
     const spec = await exportSpec(ctx, id, query(req, QuickExportQuery), `user:${req.user!.id}`)
     const file = await renderedPreview(ctx, spec, `SF-T${id}-export`, `user:${req.user!.id}`)
     const size = (await stat(file)).size
-    sendWithRanges(res, next, file, size, { contentType: 'audio/wav', downloadName: spec.fileName, cache: 'private, no-cache' })
+    sendWithRanges(res, next, file, size, {
+      contentType: 'audio/wav',
+      downloadName: spec.fileName,
+      cache: 'private, no-cache',
+    })
   })
 
   // ---- builds ----
@@ -196,7 +235,10 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   })
 
   // One item of a build, straight out of its zip (not counted anywhere; the zip is what producers download whole).
-  for (const [suffix, how] of [['audio', 'inline'], ['download', 'attachment']] as const) {
+  for (const [suffix, how] of [
+    ['audio', 'inline'],
+    ['download', 'attachment'],
+  ] as const) {
     api.route('get', `/pack-builds/:id/items/:itemId/${suffix}`, 'packs:receive', async (req, res, next) => {
       const { id, itemId } = params(req, ItemParams)
       await sendBuildItem(ctx, res, next, await visibleBuild(ctx, req.user!, id), itemId, how)
@@ -297,7 +339,10 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
 
   // Single items through a share link: listed on its page, auditioned and downloaded one by one while the link is
   // active; these do not count against the link's download limit (the whole zip does).
-  for (const [suffix, how] of [['audio', 'inline'], ['download', 'attachment']] as const) {
+  for (const [suffix, how] of [
+    ['audio', 'inline'],
+    ['download', 'attachment'],
+  ] as const) {
     api.route('get', `/share/:token/items/:itemId/${suffix}`, 'public', async (req, res, next) => {
       const { token, itemId } = params(req, ShareItemParams)
       await sendBuildItem(ctx, res, next, await shareItemBuild(ctx, token), itemId, how)

@@ -43,7 +43,8 @@ export const itemNotFound = () => new AppError(404, 'ITEM_NOT_FOUND', 'No item w
 /** Shortest item accepted (common practice: shorter cuts are clicks, not sounds). */
 export const MIN_ITEM_SECONDS = 0.01
 
-const parseSettings = (json: string | null): RenderSettings => effectiveSettings(json ? (JSON.parse(json) as object) : null)
+const parseSettings = (json: string | null): RenderSettings =>
+  effectiveSettings(json ? (JSON.parse(json) as object) : null)
 export const parseSettingsOf = (pack: { settings_json: string }): RenderSettings => parseSettings(pack.settings_json)
 const parsePatch = (json: string | null) => (json ? RenderSettingsPatch.parse(JSON.parse(json)) : null)
 
@@ -68,12 +69,18 @@ export async function managedPack(db: Db, id: number): Promise<repo.PackJoined> 
 
 export async function packsToApi(ctx: AppContext, user: User, rows: repo.PackJoined[]): Promise<Pack[]> {
   const ids = rows.map((r) => r.id)
-  const [totals, headlines, follows] = await Promise.all([repo.packTotals(ctx.db, ids), repo.headlineBuilds(ctx.db, ids), repo.followInfo(ctx.db, ids, user.id)])
+  const [totals, headlines, follows] = await Promise.all([
+    repo.packTotals(ctx.db, ids),
+    repo.headlineBuilds(ctx.db, ids),
+    repo.followInfo(ctx.db, ids, user.id),
+  ])
   const manager = managesPacks(user)
   return rows.map((r) => {
     const mine = headlines.filter((b) => b.pack_id === r.id)
     const latest = mine.reduce<repo.BuildJoined | null>((a, b) => (!a || b.version > a.version ? b : a), null)
-    const published = mine.filter((b) => b.published_at).reduce<repo.BuildJoined | null>((a, b) => (!a || b.version > a.version ? b : a), null)
+    const published = mine
+      .filter((b) => b.published_at)
+      .reduce<repo.BuildJoined | null>((a, b) => (!a || b.version > a.version ? b : a), null)
     const t = totals.find((x) => x.pack_id === r.id)
     const f = follows.find((x) => x.pack_id === r.id)
     const publishedBuild = published ? buildToApi(published) : null
@@ -115,7 +122,15 @@ export async function packsToApi(ctx: AppContext, user: User, rows: repo.PackJoi
 type Facts = Awaited<ReturnType<typeof repo.takeFacts>>
 type TakeFact = Facts['takes'][number]
 
-function namingFacts(pack: repo.PackJoined, take: TakeFact, facts: Facts, kind: ItemKind, index: number, count: number, regionName: string | null): NamingFacts {
+function namingFacts(
+  pack: repo.PackJoined,
+  take: TakeFact,
+  facts: Facts,
+  kind: ItemKind,
+  index: number,
+  count: number,
+  regionName: string | null,
+): NamingFacts {
   return {
     devices: facts.sources.filter((s) => s.take_id === take.id).map((s) => ({ name: s.name, state: s.state })),
     tags: facts.tags.filter((t) => t.take_id === take.id).map((t) => t.tag),
@@ -140,8 +155,10 @@ function timeReferenceOf(take: TakeFact): number | null {
   return a.metadata?.bext?.timeReference ?? null
 }
 
-const rangeSeconds = (row: Pick<PackItemRow, 'start_seconds' | 'end_seconds'>, take: { duration_seconds: number | null }) =>
-  (row.end_seconds ?? take.duration_seconds ?? 0) - (row.start_seconds ?? 0)
+const rangeSeconds = (
+  row: Pick<PackItemRow, 'start_seconds' | 'end_seconds'>,
+  take: { duration_seconds: number | null },
+) => (row.end_seconds ?? take.duration_seconds ?? 0) - (row.start_seconds ?? 0)
 
 /** Everything about a pack's items in order: facts, names and render specs. */
 export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow[]) {
@@ -155,11 +172,16 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
     const regionName = row.region_id === null ? null : (regions.get(row.region_id) ?? null)
     return { row, take, naming: namingFacts(pack, take, facts, row.kind as ItemKind, i + 1, rows.length, regionName) }
   })
-  const names = outputNames(pack.naming_template, entries.map((e) => ({ name: e.row.name, facts: e.naming })))
+  const names = outputNames(
+    pack.naming_template,
+    entries.map((e) => ({ name: e.row.name, facts: e.naming })),
+  )
   return entries.map((e, i) => {
     const settings = effectiveSettings(packSettings, parsePatch(e.row.settings_json))
     const sourceLevels =
-      e.row.source_measured_from === null ? null : { integratedLufs: e.row.source_lufs, truePeakDbtp: e.row.source_true_peak_dbtp }
+      e.row.source_measured_from === null
+        ? null
+        : { integratedLufs: e.row.source_lufs, truePeakDbtp: e.row.source_true_peak_dbtp }
     const spec: ItemSpec = {
       itemId: e.row.id,
       position: i + 1,
@@ -195,9 +217,18 @@ export async function namingPreview(ctx: AppContext, packId: number, template: s
 }
 
 /** `publishedOnly`: rendered numbers from published builds only (what producers may see). */
-export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRow[], publishedOnly = false): Promise<PackItem[]> {
+export async function itemsToApi(
+  db: Db,
+  pack: repo.PackJoined,
+  rows: PackItemRow[],
+  publishedOnly = false,
+): Promise<PackItem[]> {
   const specs = await itemSpecs(db, pack, rows)
-  const rendered = await repo.latestRendered(db, rows.map((r) => r.id), publishedOnly)
+  const rendered = await repo.latestRendered(
+    db,
+    rows.map((r) => r.id),
+    publishedOnly,
+  )
   return specs.map(({ row, take, naming, spec }) => {
     const r = rendered.find((x) => x.item_id === row.id)
     const plan = spec.sourceLevels ? planGain(spec.sourceLevels, spec.settings) : null
@@ -235,7 +266,8 @@ export async function itemsToApi(db: Db, pack: repo.PackJoined, rows: PackItemRo
         loudnessRangeLu: round2(row.source_lra_lu),
         measuredFrom: row.source_measured_from === 'take' ? 'take' : 'range',
         expectedGainDb: plan ? round2(plan.gainDb) : null,
-        expectedUnderTargetDb: plan && plan.limited && plan.wantedGainDb !== null ? round2(plan.wantedGainDb - plan.gainDb) : null,
+        expectedUnderTargetDb:
+          plan && plan.limited && plan.wantedGainDb !== null ? round2(plan.wantedGainDb - plan.gainDb) : null,
       },
       rendered: r ? renderedOf(r, { id: r.build_id, version: r.version }) : null,
     }
@@ -255,7 +287,8 @@ export async function packDetail(ctx: AppContext, user: User, pack: repo.PackJoi
 // ---- packs ----
 
 export async function createPack(ctx: AppContext, user: User, body: CreatePackBody): Promise<PackDetail> {
-  const licence = body.licenceText ?? LICENCE_TEMPLATES.find((t) => t.key === (body.licenceTemplate ?? 'royalty-free'))!.text
+  const licence =
+    body.licenceText ?? LICENCE_TEMPLATES.find((t) => t.key === (body.licenceTemplate ?? 'royalty-free'))!.text
   const settings = RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...body.settings })
   const { id } = await repo.insertPack(ctx.db, {
     name: body.name,
@@ -268,9 +301,16 @@ export async function createPack(ctx: AppContext, user: User, body: CreatePackBo
   return packDetail(ctx, user, (await repo.findPack(ctx.db, id))!)
 }
 
-export async function updatePackFields(ctx: AppContext, user: User, id: number, body: UpdatePackBody): Promise<PackDetail> {
+export async function updatePackFields(
+  ctx: AppContext,
+  user: User,
+  id: number,
+  body: UpdatePackBody,
+): Promise<PackDetail> {
   const pack = await managedPack(ctx.db, id)
-  const settings = body.settings ? RenderSettings.parse({ ...parseSettings(pack.settings_json), ...body.settings }) : null
+  const settings = body.settings
+    ? RenderSettings.parse({ ...parseSettings(pack.settings_json), ...body.settings })
+    : null
   await repo.updatePack(ctx.db, id, {
     ...(body.name !== undefined ? { name: body.name } : {}),
     ...(body.description !== undefined ? { description: body.description } : {}),
@@ -292,33 +332,60 @@ interface RangeInput {
 function checkRange(take: TakeFact, r: RangeInput, label = ''): RangeInput {
   const at = label ? `${label}: ` : ''
   if (take.status !== 'ready' || take.duration_seconds === null) {
-    throw new AppError(409, 'TAKE_NOT_READY', `${at}take ${take.id} is ${take.status}; only measured takes go into packs`, { takeId: take.id })
+    throw new AppError(
+      409,
+      'TAKE_NOT_READY',
+      `${at}take ${take.id} is ${take.status}; only measured takes go into packs`,
+      { takeId: take.id },
+    )
   }
   const duration = take.duration_seconds
   const start = r.startSeconds ?? 0
   const end = r.endSeconds ?? duration
-  const bad = (msg: string) => new AppError(400, 'RANGE_INVALID', `${at}${msg}`, { takeId: take.id, durationSeconds: duration })
-  if (start >= duration) throw bad(`the start (${start} s) is not inside take ${take.id}, which lasts ${duration.toFixed(3)} s`)
-  if (end > duration + 1e-6) throw bad(`the end (${end} s) is past the end of take ${take.id}, which lasts ${duration.toFixed(3)} s`)
-  if (end - start < MIN_ITEM_SECONDS) throw bad(`the range must be at least ${MIN_ITEM_SECONDS * 1000} ms long and end after it starts`)
+  const bad = (msg: string) =>
+    new AppError(400, 'RANGE_INVALID', `${at}${msg}`, { takeId: take.id, durationSeconds: duration })
+  if (start >= duration)
+    throw bad(`the start (${start} s) is not inside take ${take.id}, which lasts ${duration.toFixed(3)} s`)
+  if (end > duration + 1e-6)
+    throw bad(`the end (${end} s) is past the end of take ${take.id}, which lasts ${duration.toFixed(3)} s`)
+  if (end - start < MIN_ITEM_SECONDS)
+    throw bad(`the range must be at least ${MIN_ITEM_SECONDS * 1000} ms long and end after it starts`)
   const whole = start === 0 && Math.abs(end - duration) < 1e-6
   if (whole) return { startSeconds: null, endSeconds: null }
-  return { startSeconds: r.startSeconds, endSeconds: r.endSeconds !== null && r.endSeconds >= duration ? null : r.endSeconds }
+  return {
+    startSeconds: r.startSeconds,
+    endSeconds: r.endSeconds !== null && r.endSeconds >= duration ? null : r.endSeconds,
+  }
 }
 
 /** Source levels of a range: the take's own measurement for the whole take, else a measuring pass over the range. */
 async function sourceLevels(ctx: AppContext, who: string, take: TakeFact, r: RangeInput, label = '') {
   if (r.startSeconds === null && r.endSeconds === null && take.true_peak_dbtp !== null) {
-    return { source_lufs: take.integrated_lufs, source_true_peak_dbtp: take.true_peak_dbtp, source_lra_lu: take.loudness_range_lu, source_measured_from: 'take' }
+    return {
+      source_lufs: take.integrated_lufs,
+      source_true_peak_dbtp: take.true_peak_dbtp,
+      source_lra_lu: take.loudness_range_lu,
+      source_measured_from: 'take',
+    }
   }
   const path = ctx.storage.abs(take.audio_path)
   try {
     // On a worker thread: a long range takes seconds to measure.
     const m = await ctx.heavy.measure(who, path, r.startSeconds, r.endSeconds)
-    return { source_lufs: m.integratedLufs, source_true_peak_dbtp: m.truePeakDbtp, source_lra_lu: m.loudnessRangeLu, source_measured_from: 'range' }
+    return {
+      source_lufs: m.integratedLufs,
+      source_true_peak_dbtp: m.truePeakDbtp,
+      source_lra_lu: m.loudnessRangeLu,
+      source_measured_from: 'range',
+    }
   } catch (err) {
     if ((err as NodeJS.ErrnoException).code === 'ENOENT') {
-      throw new AppError(409, 'TAKE_AUDIO_MISSING', `${label ? `${label}: ` : ''}take ${take.id}'s audio file is missing`, { takeId: take.id })
+      throw new AppError(
+        409,
+        'TAKE_AUDIO_MISSING',
+        `${label ? `${label}: ` : ''}take ${take.id}'s audio file is missing`,
+        { takeId: take.id },
+      )
     }
     throw err
   }
@@ -330,20 +397,36 @@ async function resolveRegion(db: Db, body: AddItemBody, label: string): Promise<
   // Checked even when the range is given: an item's region must belong to its take.
   const region = await repo.findRegionRange(db, body.regionId)
   if (!region || region.take_id !== body.takeId) {
-    throw new AppError(400, 'REGION_NOT_FOUND', `${label ? `${label}: ` : ''}take ${body.takeId} has no region ${body.regionId}`)
+    throw new AppError(
+      400,
+      'REGION_NOT_FOUND',
+      `${label ? `${label}: ` : ''}take ${body.takeId} has no region ${body.regionId}`,
+    )
   }
-  return { ...body, startSeconds: body.startSeconds ?? region.start_seconds, endSeconds: body.endSeconds ?? region.end_seconds }
+  return {
+    ...body,
+    startSeconds: body.startSeconds ?? region.start_seconds,
+    endSeconds: body.endSeconds ?? region.end_seconds,
+  }
 }
 
 /** Adds items in order, all or none: each take must be measured and each range inside its take. */
-export async function addItems(ctx: AppContext, user: User, packId: number, bodies: AddItemBody[]): Promise<PackItem[]> {
+export async function addItems(
+  ctx: AppContext,
+  user: User,
+  packId: number,
+  bodies: AddItemBody[],
+): Promise<PackItem[]> {
   const pack = await managedPack(ctx.db, packId)
   const facts = await repo.takeFacts(ctx.db, [...new Set(bodies.map((b) => b.takeId))])
   const prepared: { b: AddItemBody; range: RangeInput; levels: Awaited<ReturnType<typeof sourceLevels>> }[] = []
   for (const [i, raw] of bodies.entries()) {
     const label = bodies.length > 1 ? `items.${i}` : ''
     const take = facts.takes.find((t) => t.id === raw.takeId)
-    if (!take) throw new AppError(404, 'TAKE_NOT_FOUND', `${label ? `${label}: ` : ''}no take with id ${raw.takeId}`, { takeId: raw.takeId })
+    if (!take)
+      throw new AppError(404, 'TAKE_NOT_FOUND', `${label ? `${label}: ` : ''}no take with id ${raw.takeId}`, {
+        takeId: raw.takeId,
+      })
     const b = await resolveRegion(ctx.db, raw, label)
     const range = checkRange(take, { startSeconds: b.startSeconds ?? null, endSeconds: b.endSeconds ?? null }, label)
     prepared.push({ b, range, levels: await sourceLevels(ctx, `user:${user.id}`, take, range, label) })
@@ -374,7 +457,13 @@ export async function addItems(ctx: AppContext, user: User, packId: number, bodi
   return ids.map((id) => all.find((i) => i.id === id)!)
 }
 
-export async function updateItem(ctx: AppContext, packId: number, itemId: number, body: UpdateItemBody, who: string): Promise<PackItem> {
+export async function updateItem(
+  ctx: AppContext,
+  packId: number,
+  itemId: number,
+  body: UpdateItemBody,
+  who: string,
+): Promise<PackItem> {
   const pack = await managedPack(ctx.db, packId)
   const row = await repo.findItem(ctx.db, packId, itemId)
   if (!row) throw itemNotFound()
@@ -387,11 +476,16 @@ export async function updateItem(ctx: AppContext, packId: number, itemId: number
       startSeconds: body.startSeconds !== undefined ? body.startSeconds : row.start_seconds,
       endSeconds: body.endSeconds !== undefined ? body.endSeconds : row.end_seconds,
     })
-    patch = { start_seconds: range.startSeconds, end_seconds: range.endSeconds, ...(await sourceLevels(ctx, who, take, range)) }
+    patch = {
+      start_seconds: range.startSeconds,
+      end_seconds: range.endSeconds,
+      ...(await sourceLevels(ctx, who, take, range)),
+    }
   }
   if (body.name !== undefined) patch.name = body.name?.trim() ? body.name.trim() : null
   if (body.kind !== undefined) patch.kind = body.kind
-  if (body.settings !== undefined) patch.settings_json = body.settings && Object.keys(body.settings).length ? JSON.stringify(body.settings) : null
+  if (body.settings !== undefined)
+    patch.settings_json = body.settings && Object.keys(body.settings).length ? JSON.stringify(body.settings) : null
   await repo.updateItem(ctx.db, itemId, patch)
   await repo.touchPack(ctx.db, packId)
   const all = await itemsToApi(ctx.db, pack, await repo.itemsOf(ctx.db, packId))
@@ -405,7 +499,11 @@ export async function removeItem(ctx: AppContext, packId: number, itemId: number
   await ctx.db.transaction().execute(async (trx) => {
     await repo.deleteItem(trx, itemId)
     const rest = await repo.itemsOf(trx, packId)
-    await repo.setPositions(trx, packId, rest.map((r) => r.id))
+    await repo.setPositions(
+      trx,
+      packId,
+      rest.map((r) => r.id),
+    )
     await repo.touchPack(trx, packId)
   })
 }
@@ -419,7 +517,10 @@ export async function reorderItems(ctx: AppContext, packId: number, itemIds: num
   const missing = rows.filter((r) => !given.has(r.id)).map((r) => r.id)
   const unknown = itemIds.filter((id) => !have.has(id))
   if (given.size !== itemIds.length || missing.length || unknown.length) {
-    throw new AppError(400, 'ORDER_INVALID', 'itemIds must list every item of the pack exactly once', { missing, unknown })
+    throw new AppError(400, 'ORDER_INVALID', 'itemIds must list every item of the pack exactly once', {
+      missing,
+      unknown,
+    })
   }
   await ctx.db.transaction().execute(async (trx) => {
     await repo.setPositions(trx, packId, itemIds)
@@ -430,7 +531,15 @@ export async function reorderItems(ctx: AppContext, packId: number, itemIds: num
 
 // ---- quick export ----
 
-const SETTING_KEYS = ['normalize', 'loudnessTargetLufs', 'peakTargetDbtp', 'truePeakCeilingDbtp', 'bitDepth', 'fadeInMs', 'fadeOutMs'] as const
+const SETTING_KEYS = [
+  'normalize',
+  'loudnessTargetLufs',
+  'peakTargetDbtp',
+  'truePeakCeilingDbtp',
+  'bitDepth',
+  'fadeInMs',
+  'fadeOutMs',
+] as const
 
 /** A take or a range of one as a one-item spec, with a pack's settings and naming (or the defaults), any setting overridden. */
 export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExportQuery, who: string): Promise<ItemSpec> {

@@ -17,12 +17,17 @@ const pending = new Map<string, Promise<string>>()
 
 function keyOf(spec: ItemSpec): string {
   const { itemId: _i, position: _p, ...shaping } = spec
-  return createHash('sha256').update(JSON.stringify({ v: 1, ...shaping })).digest('hex').slice(0, 32)
+  return createHash('sha256')
+    .update(JSON.stringify({ v: 1, ...shaping }))
+    .digest('hex')
+    .slice(0, 32)
 }
 
 async function sweep(dir: string, keep: string): Promise<void> {
   const names = (await fs.readdir(dir)).filter((n) => n.endsWith('.wav') && n !== keep)
-  const stats = await Promise.all(names.map(async (n) => ({ n, t: (await fs.stat(path.join(dir, n)).catch(() => null))?.mtimeMs ?? 0 })))
+  const stats = await Promise.all(
+    names.map(async (n) => ({ n, t: (await fs.stat(path.join(dir, n)).catch(() => null))?.mtimeMs ?? 0 })),
+  )
   stats.sort((a, b) => b.t - a.t)
   const now = Date.now()
   for (const [i, s] of stats.entries()) {
@@ -31,7 +36,12 @@ async function sweep(dir: string, keep: string): Promise<void> {
 }
 
 /** The rendered WAV of a spec, from the cache or rendered now (on a worker thread, counted against `who`). */
-export async function renderedPreview(ctx: AppContext, spec: ItemSpec, originatorReference: string, who: string): Promise<string> {
+export async function renderedPreview(
+  ctx: AppContext,
+  spec: ItemSpec,
+  originatorReference: string,
+  who: string,
+): Promise<string> {
   const dir = ctx.storage.abs(path.join('builds', 'previews'))
   await fs.mkdir(dir, { recursive: true })
   const key = keyOf(spec)
@@ -45,7 +55,11 @@ export async function renderedPreview(ctx: AppContext, spec: ItemSpec, originato
   let job = pending.get(key)
   if (!job) {
     job = (async () => {
-      await ctx.heavy.render(who, renderRequest(spec, ctx.storage.abs(spec.audioPath), originatorReference, new Date()), file)
+      await ctx.heavy.render(
+        who,
+        renderRequest(spec, ctx.storage.abs(spec.audioPath), originatorReference, new Date()),
+        file,
+      )
       await sweep(dir, `${key}.wav`).catch(() => undefined)
       return file
     })().finally(() => pending.delete(key))

@@ -16,11 +16,20 @@ import { storedEntryRange, ZipFormatError } from './zip-entries'
 /** A build's frozen snapshot (a damaged or empty one reads as a pack with no items). */
 export function snapshotOf(b: Pick<repo.BuildJoined, 'snapshot_json' | 'pack_name'>): BuildSnapshot {
   const s = JSON.parse(b.snapshot_json) as Partial<BuildSnapshot>
-  const pack = { id: 0, name: b.pack_name, description: '', licenceText: '', namingTemplate: '', settings: effectiveSettings(null), ...s.pack }
+  const pack = {
+    id: 0,
+    name: b.pack_name,
+    description: '',
+    licenceText: '',
+    namingTemplate: '',
+    settings: effectiveSettings(null),
+    ...s.pack,
+  }
   return { pack, items: Array.isArray(s.items) ? s.items : [] }
 }
 
-export const itemSeconds = (s: Pick<ItemSpec, 'startSeconds' | 'endSeconds' | 'takeDurationSeconds'>) => (s.endSeconds ?? s.takeDurationSeconds) - (s.startSeconds ?? 0)
+export const itemSeconds = (s: Pick<ItemSpec, 'startSeconds' | 'endSeconds' | 'takeDurationSeconds'>) =>
+  (s.endSeconds ?? s.takeDurationSeconds) - (s.startSeconds ?? 0)
 
 /** The id a published item answers to: the pack item it was rendered from (stable across versions). */
 export const publishedItemId = (s: Pick<ItemSpec, 'itemId' | 'position'>) => s.itemId ?? s.position
@@ -39,9 +48,16 @@ const splitSource = (label: string) => {
 }
 
 /** The pack as its newest published build froze it; `base` carries the follow state and the build summaries. */
-export async function publishedDetail(db: Db, base: Omit<PackDetail, 'items'>, build: repo.BuildJoined): Promise<PackDetail> {
+export async function publishedDetail(
+  db: Db,
+  base: Omit<PackDetail, 'items'>,
+  build: repo.BuildJoined,
+): Promise<PackDetail> {
   const snap = snapshotOf(build)
-  const [rendered, facts] = await Promise.all([repo.buildItemsOf(db, build.id), repo.takeFacts(db, [...new Set(snap.items.map((s) => s.takeId))])])
+  const [rendered, facts] = await Promise.all([
+    repo.buildItemsOf(db, build.id),
+    repo.takeFacts(db, [...new Set(snap.items.map((s) => s.takeId))]),
+  ])
   const items: PackItem[] = snap.items.map((s) => {
     const r = rendered.find((x) => x.position === s.position)
     const take = facts.takes.find((t) => t.id === s.takeId)
@@ -98,7 +114,10 @@ export async function publishedDetail(db: Db, base: Omit<PackDetail, 'items'>, b
 }
 
 /** A rendered item's numbers as the API shows them (the draft editor and the published snapshot alike). */
-export function renderedOf(r: PackBuildItemRow, build: { id: number; version: number }): NonNullable<PackItem['rendered']> {
+export function renderedOf(
+  r: PackBuildItemRow,
+  build: { id: number; version: number },
+): NonNullable<PackItem['rendered']> {
   return {
     buildId: build.id,
     version: build.version,
@@ -145,7 +164,12 @@ export async function sendBuildItem(
   itemId: number,
   how: 'inline' | 'attachment',
 ): Promise<void> {
-  if (build.status !== 'done' || !build.zip_path) throw new AppError(409, 'BUILD_NOT_DONE', `Version ${build.version} is ${build.status}; its items can be fetched once it is done`)
+  if (build.status !== 'done' || !build.zip_path)
+    throw new AppError(
+      409,
+      'BUILD_NOT_DONE',
+      `Version ${build.version} is ${build.status}; its items can be fetched once it is done`,
+    )
   const spec = snapshotOf(build).items.find((s) => publishedItemId(s) === itemId)
   if (!spec) throw publishedItemNotFound()
   const zip = ctx.storage.abs(build.zip_path)
@@ -178,7 +202,13 @@ export async function sendBuildItem(
       res
         .status(416)
         .set('Content-Range', `bytes */${size}`)
-        .json({ error: { code: 'RANGE_NOT_SATISFIABLE', message: `The requested range lies outside the item's ${size} bytes`, details: { sizeBytes: size } } })
+        .json({
+          error: {
+            code: 'RANGE_NOT_SATISFIABLE',
+            message: `The requested range lies outside the item's ${size} bytes`,
+            details: { sizeBytes: size },
+          },
+        })
       return
     }
     next(err)

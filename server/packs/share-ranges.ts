@@ -31,4 +31,10 @@ export function isResume(start: number, openBytes: number | null): boolean {
 }
 
 /** Request headers that would make the sender answer other bytes than planned (a 304, a stale If-Range). */
-export const CONDITIONAL_HEADERS = ['if-range', 'if-none-match', 'if-modified-since', 'if-match', 'if-unmodified-since'] as const
+export const CONDITIONAL_HEADERS = [
+  'if-range',
+  'if-none-match',
+  'if-modified-since',
+  'if-match',
+  'if-unmodified-since',
+] as const

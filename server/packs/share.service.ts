@@ -26,7 +26,8 @@ const secretOf = (ctx: AppContext) => sessionSecret(ctx.db, ctx.config.sessionSe
 export const MAX_SHARE_DAYS = 365
 
 export const linkNotFound = () => new AppError(404, 'SHARE_LINK_NOT_FOUND', 'No share link with that id')
-const shareNotFound = () => new AppError(404, 'SHARE_NOT_FOUND', 'This share link does not exist; check that it was copied whole')
+const shareNotFound = () =>
+  new AppError(404, 'SHARE_NOT_FOUND', 'This share link does not exist; check that it was copied whole')
 
 export function linkState(l: repo.ShareLinkJoined, at = new Date().toISOString()): ShareLink['state'] {
   if (l.revoked_at) return 'revoked'
@@ -54,14 +55,25 @@ function linkToApi(ctx: AppContext, secret: string, l: repo.ShareLinkJoined): Sh
   }
 }
 
-export async function createShareLink(ctx: AppContext, user: User, buildId: number, body: CreateShareLinkBody): Promise<ShareLink> {
+export async function createShareLink(
+  ctx: AppContext,
+  user: User,
+  buildId: number,
+  body: CreateShareLinkBody,
+): Promise<ShareLink> {
   const b = await repo.findBuild(ctx.db, buildId)
   if (!b) throw buildNotFound()
-  if (b.status !== 'done') throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; share it once it is done`)
+  if (b.status !== 'done')
+    throw new AppError(409, 'BUILD_NOT_DONE', `Version ${b.version} is ${b.status}; share it once it is done`)
   const expires = new Date(body.expiresAt)
   if (expires.getTime() <= Date.now()) throw new AppError(400, 'EXPIRY_IN_PAST', 'Choose an expiry in the future')
   if (expires.getTime() > Date.now() + MAX_SHARE_DAYS * 24 * 3600 * 1000) {
-    throw new AppError(400, 'EXPIRY_TOO_FAR', `A share link can last at most ${MAX_SHARE_DAYS} days; choose an earlier expiry`, { maxDays: MAX_SHARE_DAYS })
+    throw new AppError(
+      400,
+      'EXPIRY_TOO_FAR',
+      `A share link can last at most ${MAX_SHARE_DAYS} days; choose an earlier expiry`,
+      { maxDays: MAX_SHARE_DAYS },
+    )
   }
   const { id } = await repo.insertShareLink(ctx.db, {
     build_id: buildId,
@@ -160,7 +172,11 @@ export interface ShareDownload {
  * Checks a download through the link and, unless it is a later resume of the last counted
  * download, counts it (see share-ranges.ts); counting happens only once the file is known to exist.
  */
-export async function shareDownload(ctx: AppContext, token: string, rangeHeader: string | undefined): Promise<ShareDownload> {
+export async function shareDownload(
+  ctx: AppContext,
+  token: string,
+  rangeHeader: string | undefined,
+): Promise<ShareDownload> {
   const { link, build } = await resolve(ctx, token)
   const at = new Date().toISOString()
   const state = linkState(link, at)
@@ -172,7 +188,8 @@ export async function shareDownload(ctx: AppContext, token: string, rangeHeader:
   if (plan.kind === 'refuse') return { ...base, range: null }
   const range = plan.kind === 'part' ? { start: plan.start, end: plan.end } : { start: 0, end: size - 1 }
   if (!isResume(range.start, link.open_download_bytes)) {
-    if (!(await repo.countDownload(ctx.db, link.id, at, range.start))) throw gone(linkState((await repo.findShareLink(ctx.db, link.id))!, at))
+    if (!(await repo.countDownload(ctx.db, link.id, at, range.start)))
+      throw gone(linkState((await repo.findShareLink(ctx.db, link.id))!, at))
   }
   return {
     ...base,

@@ -61,7 +61,8 @@ async function readDirectory(fh: FileHandle, fileSize: number): Promise<Map<stri
     dirSize = u64(rec, 40)
     dirOffset = u64(rec, 48)
   }
-  if (dirSize > MAX_DIRECTORY || dirOffset + dirSize > fileSize) throw new ZipFormatError('central directory out of bounds')
+  if (dirSize > MAX_DIRECTORY || dirOffset + dirSize > fileSize)
+    throw new ZipFormatError('central directory out of bounds')
   const dir = await readAt(fh, dirOffset, dirSize)
   const entries = new Map<string, ZipEntry>()
   let p = 0
@@ -124,10 +125,14 @@ export async function zipEntries(file: string): Promise<Map<string, ZipEntry>> {
 }
 
 /** First and last byte (inclusive) of a stored entry's data inside the zip. */
-export async function storedEntryRange(file: string, name: string): Promise<{ start: number; end: number; size: number } | null> {
+export async function storedEntryRange(
+  file: string,
+  name: string,
+): Promise<{ start: number; end: number; size: number } | null> {
   const entry = (await zipEntries(file)).get(name)
   if (!entry) return null
-  if (entry.method !== 0) throw new ZipFormatError(`${name} is compressed; only stored entries can be served as they lie`)
+  if (entry.method !== 0)
+    throw new ZipFormatError(`${name} is compressed; only stored entries can be served as they lie`)
   const fh = await open(file, 'r')
   try {
     const local = await readAt(fh, entry.localHeaderOffset, 30)

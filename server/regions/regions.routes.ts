@@ -12,7 +12,9 @@ export function registerRegionRoutes(api: Api, ctx: AppContext) {
   })
 
   api.route('post', '/takes/:id/regions', 'takes:edit-own', async (req, res) => {
-    res.status(201).json({ region: await createRegion(ctx.db, req.user!, params(req, IdParams).id, body(req, CreateRegionBody)) })
+    res
+      .status(201)
+      .json({ region: await createRegion(ctx.db, req.user!, params(req, IdParams).id, body(req, CreateRegionBody)) })
   })
 
   api.route('patch', '/takes/:id/regions/:regionId', 'takes:edit-own', async (req, res) => {

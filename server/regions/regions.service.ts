@@ -4,7 +4,14 @@ import type { Db } from '../core/database'
 import { AppError, notFound } from '../core/errors'
 import { assertMayEditTake, loadTake, recordEvent } from '../takes/takes.service'
 import type { TakeJoined } from '../takes/takes.repository'
-import { deleteRegion, findRegion, insertRegion, regionsOf, updateRegion, type RegionJoined } from './regions.repository'
+import {
+  deleteRegion,
+  findRegion,
+  insertRegion,
+  regionsOf,
+  updateRegion,
+  type RegionJoined,
+} from './regions.repository'
 
 const toRegion = (r: RegionJoined): Region => ({
   id: r.id,
@@ -22,7 +29,10 @@ const span = (start: number, end: number) => `${formatTakeTime(start)}\u2013${fo
 /** 0 ≤ start < end ≤ duration (the duration is known from the file's header once uploaded). */
 function checkRange(take: TakeJoined, start: number, end: number) {
   if (!(start >= 0 && start < end)) {
-    throw new AppError(400, 'OUT_OF_RANGE', 'A region starts at 0 s or later and ends after it starts', { startSeconds: start, endSeconds: end })
+    throw new AppError(400, 'OUT_OF_RANGE', 'A region starts at 0 s or later and ends after it starts', {
+      startSeconds: start,
+      endSeconds: end,
+    })
   }
   const d = take.duration_seconds
   if (d !== null && end > d) {
@@ -57,13 +67,25 @@ export async function createRegion(db: Db, user: User, takeId: number, body: Cre
       end_seconds: body.endSeconds,
       created_by: user.id,
     })
-    await recordEvent(trx, takeId, user, 'region-added', `Region \u201c${body.name}\u201d ${span(body.startSeconds, body.endSeconds)}`)
+    await recordEvent(
+      trx,
+      takeId,
+      user,
+      'region-added',
+      `Region \u201c${body.name}\u201d ${span(body.startSeconds, body.endSeconds)}`,
+    )
     return id
   })
   return toRegion(await loadRegion(db, takeId, id))
 }
 
-export async function patchRegion(db: Db, user: User, takeId: number, regionId: number, body: UpdateRegionBody): Promise<Region> {
+export async function patchRegion(
+  db: Db,
+  user: User,
+  takeId: number,
+  regionId: number,
+  body: UpdateRegionBody,
+): Promise<Region> {
   const take = await loadTake(db, takeId)
   const region = await loadRegion(db, takeId, regionId)
   assertMayEditTake(user, take, 'change regions on')
@@ -93,6 +115,12 @@ export async function removeRegion(db: Db, user: User, takeId: number, regionId:
   assertMayEditTake(user, take, 'remove regions on')
   await db.transaction().execute(async (trx) => {
     await deleteRegion(trx, regionId)
-    await recordEvent(trx, takeId, user, 'region-removed', `Region \u201c${region.name}\u201d ${span(region.start_seconds, region.end_seconds)} removed`)
+    await recordEvent(
+      trx,
+      takeId,
+      user,
+      'region-removed',
+      `Region \u201c${region.name}\u201d ${span(region.start_seconds, region.end_seconds)} removed`,
+    )
   })
 }

@@ -36,7 +36,12 @@ export interface CodingLine {
 
 /** Coding history in the EBU R 98 line format: A=…,F=…,W=…,M=…,T=… each ended by CR LF. */
 export function codingHistory(lines: CodingLine[]): string {
-  return lines.map((l) => `A=${l.encoding === 'float' ? 'PCM-FLOAT' : 'PCM'},F=${l.sampleRate},W=${l.bits},M=${mode(l.channels)},T=${l.text}\r\n`).join('')
+  return lines
+    .map(
+      (l) =>
+        `A=${l.encoding === 'float' ? 'PCM-FLOAT' : 'PCM'},F=${l.sampleRate},W=${l.bits},M=${mode(l.channels)},T=${l.text}\r\n`,
+    )
+    .join('')
 }
 
 export function bextFor(m: ItemMetadata, history: string, levels: LevelReading | null): BextInput {
@@ -58,7 +63,11 @@ export function bextFor(m: ItemMetadata, history: string, levels: LevelReading |
 }
 
 export function infoFor(m: ItemMetadata): Record<string, string> {
-  const info: Record<string, string> = { INAM: m.title || 'Untitled', ISFT: ORIGINATOR, ICRD: m.createdAt.toISOString().slice(0, 10) }
+  const info: Record<string, string> = {
+    INAM: m.title || 'Untitled',
+    ISFT: ORIGINATOR,
+    ICRD: m.createdAt.toISOString().slice(0, 10),
+  }
   if (m.keywords.length) info.IKEY = m.keywords.join('; ')
   if (m.description) info.ICMT = m.description
   return info

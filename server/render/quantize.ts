@@ -43,7 +43,14 @@ const ROUND = 6755399441055744
  * (when given, one array per channel of at least n) also receives each sample as the integer the
  * file stores, so the writer packs bytes without converting again (WavWriter.writeInts).
  */
-export function processBlock(block: Float32Array[], pos: number, env: Envelope, q: Quantizer, rng: DitherState, ints?: Int32Array[]): void {
+export function processBlock(
+  block: Float32Array[],
+  pos: number,
+  env: Envelope,
+  q: Quantizer,
+  rng: DitherState,
+  ints?: Int32Array[],
+): void {
   const n = block[0]?.length ?? 0
   if (n === 0) return
   const g = env.gain

@@ -49,7 +49,9 @@ export function renderWorkerEntry(): URL {
 }
 
 const revive = (e: ErrorInfo): Error =>
-  e.name === 'Error' && e.message === 'render stopped' ? new RenderStopped() : reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
+  e.name === 'Error' && e.message === 'render stopped'
+    ? new RenderStopped()
+    : reviveError(e, { WavFormatError: (x) => new WavFormatError(x.reason ?? x.message) })
 
 interface Slot {
   worker: Worker
@@ -63,7 +65,10 @@ interface Slot {
 export function createRenderPool(size = defaultRenderWorkers(), entry: URL = renderWorkerEntry()): RenderPool {
   const slots: Slot[] = []
   const waiting: ((s: Slot) => void)[] = []
-  const tasks = new Map<number, { resolve: (r: never) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }>()
+  const tasks = new Map<
+    number,
+    { resolve: (r: never) => void; reject: (e: Error) => void; onFrames?: (n: number) => void; slot: Slot }
+  >()
   let nextId = 1
   let closed = false
 

@@ -29,10 +29,12 @@ port.on('message', (m: RenderTask | { type: 'stop'; id: number }) => {
     },
     m.outPath,
     { durable: false }, // a temp render of a build: zipped and deleted, only the zip is fsynced
-  ).then(
-    (result) => reply({ type: 'done', id: m.id, result }),
-    (err: unknown) => {
-      reply({ type: 'error', id: m.id, error: errorInfo(err) })
-    },
-  ).finally(() => stopped.delete(m.id))
+  )
+    .then(
+      (result) => reply({ type: 'done', id: m.id, result }),
+      (err: unknown) => {
+        reply({ type: 'error', id: m.id, error: errorInfo(err) })
+      },
+    )
+    .finally(() => stopped.delete(m.id))
 })

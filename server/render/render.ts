@@ -94,7 +94,12 @@ function clampFrame(seconds: number | null, rate: number, frames: number, dflt: 
 }
 
 /** Fade lengths in frames; when both do not fit, each gets at most half the item. */
-export function fadeFrames(kind: ItemKind, s: RenderSettings, rate: number, total: number): { fadeIn: number; fadeOut: number } {
+export function fadeFrames(
+  kind: ItemKind,
+  s: RenderSettings,
+  rate: number,
+  total: number,
+): { fadeIn: number; fadeOut: number } {
   if (kind === 'loop') return { fadeIn: 0, fadeOut: 0 }
   let fadeIn = Math.round((s.fadeInMs / 1000) * rate)
   let fadeOut = Math.round((s.fadeOutMs / 1000) * rate)
@@ -121,7 +126,11 @@ export interface RenderItemOptions {
   durable?: boolean
 }
 
-export async function renderItem(req: RenderRequest, outPath: string, options: RenderItemOptions = {}): Promise<RenderResult> {
+export async function renderItem(
+  req: RenderRequest,
+  outPath: string,
+  options: RenderItemOptions = {},
+): Promise<RenderResult> {
   const durable = options.durable ?? true
   const info = req.sourceInfo ?? (await probeWav(req.sourcePath))
   const f = info.format
@@ -152,7 +161,20 @@ export async function renderItem(req: RenderRequest, outPath: string, options: R
     req.onFrames?.(done)
   }
 
-  const first = await renderPass(req, info, outPath, start, end, plan.gainDb, fadeIn, fadeOut, loop, seed, progress, durable)
+  const first = await renderPass(
+    req,
+    info,
+    outPath,
+    start,
+    end,
+    plan.gainDb,
+    fadeIn,
+    fadeOut,
+    loop,
+    seed,
+    progress,
+    durable,
+  )
   let pass = first
   let passes = 1
   const correction = correctionDb(plan, s, first.levels)
@@ -167,8 +189,10 @@ export async function renderItem(req: RenderRequest, outPath: string, options: R
   const closed = await pass.writer.close()
 
   const target = modeTarget(plan.mode, s)
-  const reached = plan.mode === 'loudness' ? targetLoudness(pass.levels) : plan.mode === 'peak' ? pass.levels.truePeakDbtp : null
-  const under = plan.limited && target !== null && reached !== null && target - reached > 0.005 ? round2(target - reached) : null
+  const reached =
+    plan.mode === 'loudness' ? targetLoudness(pass.levels) : plan.mode === 'peak' ? pass.levels.truePeakDbtp : null
+  const under =
+    plan.limited && target !== null && reached !== null && target - reached > 0.005 ? round2(target - reached) : null
   return {
     path: outPath,
     bytes: closed.bytes,
@@ -195,7 +219,11 @@ export async function renderItem(req: RenderRequest, outPath: string, options: R
 }
 
 /** The gain change of the corrective pass, or null when the first pass is good. */
-export function correctionDb(plan: GainPlan, s: RenderSettings, got: LevelReading): { db: number; capped: boolean } | null {
+export function correctionDb(
+  plan: GainPlan,
+  s: RenderSettings,
+  got: LevelReading,
+): { db: number; capped: boolean } | null {
   const tp = got.truePeakDbtp
   const peak = ceilingPeak(got)
   if (tp === null || peak === null) return null
@@ -204,7 +232,8 @@ export function correctionDb(plan: GainPlan, s: RenderSettings, got: LevelReadin
   const target = modeTarget(plan.mode, s)
   const reached = plan.mode === 'loudness' ? targetLoudness(got) : plan.mode === 'peak' ? tp : null
   let want = 0
-  if (!plan.limited && target !== null && reached !== null && Math.abs(target - reached) > TARGET_TOLERANCE) want = target - reached
+  if (!plan.limited && target !== null && reached !== null && Math.abs(target - reached) > TARGET_TOLERANCE)
+    want = target - reached
   else if (plan.limited && room > TARGET_TOLERANCE) want = room // the fades took the peak away: there is headroom left
   const over = room < -0.005
   if (want === 0 && !over) return null
@@ -240,13 +269,20 @@ async function renderPass(
   const dithered = needsDither(info, s, gain, fadeIn + fadeOut > 0)
   const float = s.bitDepth === 32
   const history = codingHistory([
-    { encoding: f.encoding, sampleRate: f.sampleRate, bits: f.validBitsPerSample, channels: f.channels, text: 'source take' },
+    {
+      encoding: f.encoding,
+      sampleRate: f.sampleRate,
+      bits: f.validBitsPerSample,
+      channels: f.channels,
+      text: 'source take',
+    },
     {
       encoding: float ? 'float' : 'pcm',
       sampleRate: f.sampleRate,
       bits: s.bitDepth,
       channels: f.channels,
-      text: `${req.metadata.originatorReference ? req.metadata.originatorReference + ' ' : ''}render, gain ${gainDb >= 0 ? '+' : ''}${gainDb.toFixed(2)} dB, ` +
+      text:
+        `${req.metadata.originatorReference ? req.metadata.originatorReference + ' ' : ''}render, gain ${gainDb >= 0 ? '+' : ''}${gainDb.toFixed(2)} dB, ` +
         `${req.kind === 'loop' ? 'loop on zero crossings' : `fades ${fadeIn}/${fadeOut} frames`}${dithered ? ', TPDF dither' : ''}`,
     },
   ])
@@ -264,7 +300,12 @@ async function renderPass(
   try {
     const meter = new LevelMeter(f.sampleRate, f.channels, f.channelMask)
     const env = { gain, total, fadeIn, fadeOut }
-    const q = { scale: float ? 0 : 2 ** (s.bitDepth - 1), dither: dithered, plainFirst: loop !== null, plainLast: loop !== null }
+    const q = {
+      scale: float ? 0 : 2 ** (s.bitDepth - 1),
+      dither: dithered,
+      plainFirst: loop !== null,
+      plainLast: loop !== null,
+    }
     const rng = ditherState(seed)
     let pos = 0
     // One block's write stays in flight while the next is read, processed and metered. Blocks come
@@ -272,10 +313,17 @@ async function renderPass(
     // k − 3 that used it has long been awaited (the loop awaits write k − 2 before queueing k − 1).
     // PCM output also leaves the quantiser as integers (a ring of three likewise), which the
     // writer packs as they are; float output is written from the block.
-    const ring = float ? null : Array.from({ length: 3 }, () => Array.from({ length: f.channels }, () => new Int32Array(RENDER_BLOCK_FRAMES)))
+    const ring = float
+      ? null
+      : Array.from({ length: 3 }, () => Array.from({ length: f.channels }, () => new Int32Array(RENDER_BLOCK_FRAMES)))
     let turn = 0
     let writing: Promise<void> | null = null
-    for await (const block of readFrames(req.sourcePath, info, { startFrame: start, endFrame: end, blockFrames: RENDER_BLOCK_FRAMES, recycle: 3 })) {
+    for await (const block of readFrames(req.sourcePath, info, {
+      startFrame: start,
+      endFrame: end,
+      blockFrames: RENDER_BLOCK_FRAMES,
+      recycle: 3,
+    })) {
       if (req.shouldStop?.()) throw new RenderStopped()
       const ints = ring ? ring[turn++ % 3] : undefined
       processBlock(block, pos, env, q, rng, ints)

@@ -39,7 +39,8 @@ export interface GainPlan {
  */
 export function planGain(src: SourceLevels, s: RenderSettings): GainPlan {
   const peak = ceilingPeak(src)
-  if (peak === null || src.truePeakDbtp === null) return { gainDb: 0, wantedGainDb: null, mode: s.normalize, limited: false }
+  if (peak === null || src.truePeakDbtp === null)
+    return { gainDb: 0, wantedGainDb: null, mode: s.normalize, limited: false }
   let mode = s.normalize
   const loudness = targetLoudness(src)
   if (mode === 'loudness' && loudness === null) mode = 'peak'

@@ -28,10 +28,17 @@ async function monoWindow(path: string, info: WavInfo, from: number, to: number)
 }
 
 /** Index i in [lo, hi] (absolute frames) with mono[i−1] < 0 ≤ mono[i], nearest to `want`; `mono` starts at frame `base`. */
-export function nearestRisingCrossing(mono: Float32Array, base: number, want: number, lo: number, hi: number): number | null {
+export function nearestRisingCrossing(
+  mono: Float32Array,
+  base: number,
+  want: number,
+  lo: number,
+  hi: number,
+): number | null {
   let best: number | null = null
   for (let i = Math.max(lo, base + 1); i <= Math.min(hi, base + mono.length - 1); i++) {
-    if (mono[i - 1 - base] < 0 && mono[i - base] >= 0 && (best === null || Math.abs(i - want) < Math.abs(best - want))) best = i
+    if (mono[i - 1 - base] < 0 && mono[i - base] >= 0 && (best === null || Math.abs(i - want) < Math.abs(best - want)))
+      best = i
   }
   return best
 }
@@ -50,7 +57,13 @@ function quietest(mono: Float32Array, base: number, want: number, lo: number, hi
 }
 
 /** Moves [start, end) of a loop to rising zero crossings within ±window frames, keeping start < end. */
-export async function loopCut(path: string, info: WavInfo, start: number, end: number, windowFrames = Math.round(LOOP_SEARCH_SECONDS * info.format.sampleRate)): Promise<LoopCut> {
+export async function loopCut(
+  path: string,
+  info: WavInfo,
+  start: number,
+  end: number,
+  windowFrames = Math.round(LOOP_SEARCH_SECONDS * info.format.sampleRate),
+): Promise<LoopCut> {
   const frames = info.format.frames
   const w = Math.max(1, windowFrames)
   // Keep the two searches apart so the loop cannot collapse.

@@ -7,7 +7,14 @@ export const listSourceRows = (db: Db) =>
     .selectFrom('sources')
     .selectAll('sources')
     // Takes in the Removed list do not count.
-    .select((eb) => eb.selectFrom('take_sources').whereRef('take_sources.source_id', '=', 'sources.id').where(visibleTake('take_sources.take_id')).select(eb.fn.countAll<number>().as('n')).as('take_count'))
+    .select((eb) =>
+      eb
+        .selectFrom('take_sources')
+        .whereRef('take_sources.source_id', '=', 'sources.id')
+        .where(visibleTake('take_sources.take_id'))
+        .select(eb.fn.countAll<number>().as('n'))
+        .as('take_count'),
+    )
     .orderBy('kind')
     .orderBy('name')
     .execute()
@@ -27,5 +34,11 @@ export const statesBySource = (db: Db) =>
 
 export const usageCount = async (db: Db, id: number) =>
   Number(
-    (await db.selectFrom('take_sources').select((eb) => eb.fn.countAll<number>().as('n')).where('source_id', '=', id).executeTakeFirstOrThrow()).n,
+    (
+      await db
+        .selectFrom('take_sources')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .where('source_id', '=', id)
+        .executeTakeFirstOrThrow()
+    ).n,
   )

@@ -33,14 +33,23 @@ async function assertNameFree(db: Db, name: string, exceptId?: number) {
   const key = name.trim().replace(/\s+/g, ' ').toLocaleLowerCase()
   const rows = await db.selectFrom('sources').select(['id', 'name']).execute()
   const twin = rows.find((r) => r.id !== exceptId && r.name.trim().replace(/\s+/g, ' ').toLocaleLowerCase() === key)
-  if (twin) throw new AppError(409, 'SOURCE_EXISTS', `The catalogue already has a device called \u201c${twin.name}\u201d`, { sourceId: twin.id })
+  if (twin)
+    throw new AppError(409, 'SOURCE_EXISTS', `The catalogue already has a device called \u201c${twin.name}\u201d`, {
+      sourceId: twin.id,
+    })
 }
 
 export async function createSource(db: Db, actor: User, body: CreateSourceBody): Promise<Source> {
   await assertNameFree(db, body.name)
   const row = await db
     .insertInto('sources')
-    .values({ name: body.name, kind: body.kind, make_model: body.makeModel ?? null, notes: body.notes ?? null, created_by: actor.id })
+    .values({
+      name: body.name,
+      kind: body.kind,
+      make_model: body.makeModel ?? null,
+      notes: body.notes ?? null,
+      created_by: actor.id,
+    })
     .returning('id')
     .executeTakeFirstOrThrow()
   return getSource(db, row.id)
@@ -67,8 +76,17 @@ export async function deleteSource(db: Db, id: number): Promise<void> {
   if (!row) throw notFound('source device', 'SOURCE_NOT_FOUND')
   const used = await usageCount(db, id)
   if (used > 0) {
-    throw new AppError(409, 'SOURCE_IN_USE', `${row.name} is linked to ${used} take${used === 1 ? '' : 's'}; unlink them first`, { takeCount: used })
+    throw new AppError(
+      409,
+      'SOURCE_IN_USE',
+      `${row.name} is linked to ${used} take${used === 1 ? '' : 's'}; unlink them first`,
+      { takeCount: used },
+    )
   }
-  await db.updateTable('capture_sessions').set({ default_source_id: null }).where('default_source_id', '=', id).execute()
+  await db
+    .updateTable('capture_sessions')
+    .set({ default_source_id: null })
+    .where('default_source_id', '=', id)
+    .execute()
   await db.deleteFrom('sources').where('id', '=', id).execute()
 }

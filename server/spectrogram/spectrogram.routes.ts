@@ -58,7 +58,11 @@ export function resolveVariant(q: SpectrogramQuery, sampleRate: number, duration
 /** spectrogram-1600x256.png for the whole take on the default axis and floor; every option spelled out otherwise. */
 export function spectrogramCacheName(v: SpectrogramVariant, nyquist: number): string {
   const size = `${v.width}x${v.height}`
-  const plain = v.scale === 'log' && v.minHz === DEFAULT_LOG_MIN_HZ && v.maxHz === nyquist && v.floorDb === SPECTROGRAM_FLOOR_DB.default
+  const plain =
+    v.scale === 'log' &&
+    v.minHz === DEFAULT_LOG_MIN_HZ &&
+    v.maxHz === nyquist &&
+    v.floorDb === SPECTROGRAM_FLOOR_DB.default
   const span = v.start === null ? '' : `-t${Math.round(v.start * 100)}-${Math.round(v.end! * 100)}`
   if (plain && !span) return `spectrogram-${size}.png`
   return `spectrogram-${size}-${v.scale}-${v.minHz}-${v.maxHz}-f${v.floorDb}${span}.png`
@@ -102,17 +106,26 @@ export function registerSpectrogramRoutes(api: Api, ctx: AppContext) {
     const row = await findTake(ctx.db, id)
     if (!row) throw notFound('take', 'TAKE_NOT_FOUND')
     if (row.status !== 'ready' || !row.sample_rate) {
-      throw new AppError(409, 'NOT_MEASURED', `Take ${row.id} is ${row.status}; its spectrogram exists once it is measured`)
+      throw new AppError(
+        409,
+        'NOT_MEASURED',
+        `Take ${row.id} is ${row.status}; its spectrogram exists once it is measured`,
+      )
     }
     const q = query(req, SpectrogramQuery)
     const duration = row.duration_seconds ?? 0
     if (q.start !== undefined && q.end !== undefined) {
       const length = q.end - q.start
       if (length > MAX_EXCERPT_SECONDS) {
-        throw new AppError(400, 'EXCERPT_TOO_LONG', `An excerpt can be at most ${MAX_EXCERPT_SECONDS} s long; ${round(length)} s were asked for`, {
-          maxSeconds: MAX_EXCERPT_SECONDS,
-          seconds: length,
-        })
+        throw new AppError(
+          400,
+          'EXCERPT_TOO_LONG',
+          `An excerpt can be at most ${MAX_EXCERPT_SECONDS} s long; ${round(length)} s were asked for`,
+          {
+            maxSeconds: MAX_EXCERPT_SECONDS,
+            seconds: length,
+          },
+        )
       }
       if (q.end > duration) {
         throw new AppError(
@@ -125,7 +138,11 @@ export function registerSpectrogramRoutes(api: Api, ctx: AppContext) {
     }
     const v = resolveVariant(q, row.sample_rate, duration)
     if (!(v.maxHz > v.minHz)) {
-      throw new AppError(400, 'BAD_SPECTROGRAM', `The band ${v.minHz}–${v.maxHz} Hz is empty (this take's Nyquist frequency is ${row.sample_rate / 2} Hz)`)
+      throw new AppError(
+        400,
+        'BAD_SPECTROGRAM',
+        `The band ${v.minHz}–${v.maxHz} Hz is empty (this take's Nyquist frequency is ${row.sample_rate / 2} Hz)`,
+      )
     }
     const file = path.join(ctx.storage.derivedDir(row.id), spectrogramCacheName(v, row.sample_rate / 2))
     const png = await image(file, `user:${req.user!.id}`, ctx.storage.abs(row.audio_path), {

@@ -17,7 +17,13 @@ export async function tagsInUse(db: Db, tags: string[]): Promise<Set<string>> {
 
 /** take id → the tags of `tags` it carries. */
 export async function takesWithTags(db: Db, tags: string[]): Promise<Map<number, string[]>> {
-  const rows = await db.selectFrom('take_tags').select(['take_id', 'tag']).where('tag', 'in', tags).orderBy('take_id').orderBy('tag').execute()
+  const rows = await db
+    .selectFrom('take_tags')
+    .select(['take_id', 'tag'])
+    .where('tag', 'in', tags)
+    .orderBy('take_id')
+    .orderBy('tag')
+    .execute()
   const out = new Map<number, string[]>()
   for (const r of rows) out.set(r.take_id, [...(out.get(r.take_id) ?? []), r.tag])
   return out

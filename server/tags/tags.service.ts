@@ -21,7 +21,9 @@ export async function mergeTags(db: Db, user: User, from: string[], into: string
   const used = await tagsInUse(db, others)
   const unknown = others.filter((t) => !used.has(t))
   if (unknown.length) {
-    throw new AppError(404, 'TAG_NOT_FOUND', `No take carries the tag ${quoted(unknown)}; nothing was changed`, { tags: unknown })
+    throw new AppError(404, 'TAG_NOT_FOUND', `No take carries the tag ${quoted(unknown)}; nothing was changed`, {
+      tags: unknown,
+    })
   }
   let takes = 0
   await db.transaction().execute(async (trx) => {
@@ -29,7 +31,13 @@ export async function mergeTags(db: Db, user: User, from: string[], into: string
     for (const [takeId, had] of byTake) {
       await retag(trx, takeId, had, into)
       const verb = had.length === 1 && others.length === 1 ? 'renamed to' : 'merged into'
-      await recordEvent(trx, takeId, user, 'tagged', `Tag${had.length === 1 ? '' : 's'} ${quoted(had)} ${verb} \u201c${into}\u201d (tag manager)`)
+      await recordEvent(
+        trx,
+        takeId,
+        user,
+        'tagged',
+        `Tag${had.length === 1 ? '' : 's'} ${quoted(had)} ${verb} \u201c${into}\u201d (tag manager)`,
+      )
       takes++
     }
   })

@@ -15,8 +15,20 @@ export const EXPORT_MAX_TAKES = 50_000
 const PAGE = 1000
 
 export const LIBRARY_CSV_HEADER = [
-  'id', 'file', 'title', 'capture', 'device', 'state', 'duration (s)', 'format',
-  'integrated loudness (LUFS)', 'true peak (dBTP)', 'loudness range (LU)', 'hum (Hz)', 'tags', 'status',
+  'id',
+  'file',
+  'title',
+  'capture',
+  'device',
+  'state',
+  'duration (s)',
+  'format',
+  'integrated loudness (LUFS)',
+  'true peak (dBTP)',
+  'loudness range (LU)',
+  'hum (Hz)',
+  'tags',
+  'status',
 ]
 
 const one = (v: number | null) => (v === null ? null : Math.round(v * 10) / 10)
@@ -33,7 +45,12 @@ export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; c
   for (let page = 1; ; page++) {
     const { rows: found, total } = await searchTakeRows(db, { ...q, page, pageSize: PAGE })
     if (total > EXPORT_MAX_TAKES) {
-      throw new AppError(400, 'EXPORT_TOO_LARGE', `The query matches ${total} takes; narrow it to at most ${EXPORT_MAX_TAKES} to export`, { total, max: EXPORT_MAX_TAKES })
+      throw new AppError(
+        400,
+        'EXPORT_TOO_LARGE',
+        `The query matches ${total} takes; narrow it to at most ${EXPORT_MAX_TAKES} to export`,
+        { total, max: EXPORT_MAX_TAKES },
+      )
     }
     const ids = found.map((r) => r.id)
     const [links, tags] = await Promise.all([sourcesOf(db, ids), tagsOf(db, ids)])
@@ -45,11 +62,20 @@ export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; c
         ? `${r.sample_rate / 1000} kHz ${r.bits_per_sample ?? '?'}-bit ${CHANNELS[r.channels ?? 0] ?? `${r.channels} ch`}`
         : ''
       rows.push([
-        r.id, r.filename, r.title, r.session_title,
-        mine.map((l) => l.name).join('; '), mine.map((l) => l.state).join('; '),
-        r.duration_seconds === null ? null : Math.round(r.duration_seconds * 1000) / 1000, format,
-        one(r.integrated_lufs), one(r.true_peak_dbtp), one(r.loudness_range_lu), r.hum_hz,
-        (tagsOfTake.get(r.id) ?? []).map((t) => t.tag).join('; '), r.status,
+        r.id,
+        r.filename,
+        r.title,
+        r.session_title,
+        mine.map((l) => l.name).join('; '),
+        mine.map((l) => l.state).join('; '),
+        r.duration_seconds === null ? null : Math.round(r.duration_seconds * 1000) / 1000,
+        format,
+        one(r.integrated_lufs),
+        one(r.true_peak_dbtp),
+        one(r.loudness_range_lu),
+        r.hum_hz,
+        (tagsOfTake.get(r.id) ?? []).map((t) => t.tag).join('; '),
+        r.status,
       ])
     }
     if (found.length < PAGE || page * PAGE >= total) break

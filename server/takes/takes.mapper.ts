@@ -15,7 +15,8 @@ export async function takeRowsToTakes(db: Db, rows: TakeJoined[], opts: MapOptio
   const [links, tags] = await Promise.all([sourcesOf(db, ids), tagsOf(db, ids)])
   return rows.map((r) => {
     const analysis = r.analysis_json ? (JSON.parse(r.analysis_json) as Analysis) : null
-    if (analysis && opts.withoutFileMetadata) analysis.metadata = { bext: null, ixml: null, info: {}, cues: [], loops: [], tags: {}, dropped: [] }
+    if (analysis && opts.withoutFileMetadata)
+      analysis.metadata = { bext: null, ixml: null, info: {}, cues: [], loops: [], tags: {}, dropped: [] }
     return {
       id: r.id,
       sessionId: r.session_id,

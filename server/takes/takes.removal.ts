@@ -19,9 +19,11 @@ import { assertMayEditTake, loadTake, recordEvent } from './takes.service'
 const DAY_MS = 24 * 60 * 60 * 1000
 
 /** SQL condition on `takes.id`: the take is not in the Removed list. */
-export const visibleTake = (idColumn = 'takes.id') => sql<boolean>`${sql.ref(idColumn)} NOT IN (SELECT take_id FROM take_removals)`
+export const visibleTake = (idColumn = 'takes.id') =>
+  sql<boolean>`${sql.ref(idColumn)} NOT IN (SELECT take_id FROM take_removals)`
 
-export const purgeAfter = (removedAt: string) => new Date(Date.parse(removedAt) + REMOVAL_KEEP_DAYS * DAY_MS).toISOString()
+export const purgeAfter = (removedAt: string) =>
+  new Date(Date.parse(removedAt) + REMOVAL_KEEP_DAYS * DAY_MS).toISOString()
 
 const selectRemoved = (db: Db) =>
   db
@@ -80,13 +82,19 @@ export async function removeTake(db: Db, user: User, takeId: number): Promise<Re
   return db.transaction().execute(async (trx) => {
     const row = await loadTake(trx, takeId)
     assertMayEditTake(user, row, 'remove')
-    if (await isRemoved(trx, takeId)) throw new AppError(409, 'TAKE_ALREADY_REMOVED', `Take ${takeId} is already in the Removed list`)
+    if (await isRemoved(trx, takeId))
+      throw new AppError(409, 'TAKE_ALREADY_REMOVED', `Take ${takeId} is already in the Removed list`)
     const held = await publishedBuildsOf(trx, takeId)
     if (held.length) {
       const names = held.map((h) => `\u201c${h.pack_name}\u201d version ${h.version}`).join(', ')
-      throw new AppError(409, 'TAKE_PUBLISHED', `Take ${takeId} is in ${names}, which ${held.length === 1 ? 'is' : 'are'} published; it cannot be removed`, {
-        builds: held.map((h) => ({ packId: h.pack_id, packName: h.pack_name, version: h.version })),
-      })
+      throw new AppError(
+        409,
+        'TAKE_PUBLISHED',
+        `Take ${takeId} is in ${names}, which ${held.length === 1 ? 'is' : 'are'} published; it cannot be removed`,
+        {
+          builds: held.map((h) => ({ packId: h.pack_id, packName: h.pack_name, version: h.version })),
+        },
+      )
     }
     await trx.insertInto('take_removals').values({ take_id: takeId, removed_by: user.id }).execute()
     await recordEvent(trx, takeId, user, 'removed', `Removed; kept ${REMOVAL_KEEP_DAYS} days in the Removed list`)
@@ -99,7 +107,8 @@ export async function restoreTake(db: Db, user: User, takeId: number): Promise<v
   await db.transaction().execute(async (trx) => {
     const row = await loadTake(trx, takeId)
     assertMayEditTake(user, row, 'restore')
-    if (!(await isRemoved(trx, takeId))) throw new AppError(409, 'TAKE_NOT_REMOVED', `Take ${takeId} is not in the Removed list`)
+    if (!(await isRemoved(trx, takeId)))
+      throw new AppError(409, 'TAKE_NOT_REMOVED', `Take ${takeId} is not in the Removed list`)
     await trx.deleteFrom('take_removals').where('take_id', '=', takeId).execute()
     await recordEvent(trx, takeId, user, 'restored', 'Restored from the Removed list')
   })
@@ -142,7 +151,11 @@ export async function purgeRemovedTakes(db: Db, storage: Storage, now = new Date
 }
 
 /** Purges at start and then once a day; returns a stop function. */
-export function startRemovalSweep(db: Db, storage: Storage, log: (msg: string) => void = console.warn): () => Promise<void> {
+export function startRemovalSweep(
+  db: Db,
+  storage: Storage,
+  log: (msg: string) => void = console.warn,
+): () => Promise<void> {
   const sweep = () =>
     purgeRemovedTakes(db, storage)
       .then((ids) => ids.length && log(`Purged ${ids.length} removed take(s): ${ids.join(', ')}`))

@@ -20,7 +20,8 @@ export const findTake = (db: Db, id: number): Promise<TakeJoined | undefined> =>
 export const findTakeBySha = (db: Db, sha256: string) =>
   db.selectFrom('takes').select(['id', 'filename']).where('sha256', '=', sha256).executeTakeFirst()
 
-export const insertTake = (db: Db, take: NewTake) => db.insertInto('takes').values(take).returningAll().executeTakeFirstOrThrow()
+export const insertTake = (db: Db, take: NewTake) =>
+  db.insertInto('takes').values(take).returningAll().executeTakeFirstOrThrow()
 
 export const updateTake = (db: Db, id: number, patch: TakeUpdate) =>
   db
@@ -51,11 +52,18 @@ export async function addEvent(db: Db, takeId: number, userId: number | null, ki
 
 /** Replaces a take's tags with `tags`, touching only the rows that change. Returns what was added and removed. */
 export async function replaceTags(db: Db, takeId: number, tags: string[]) {
-  const current = (await db.selectFrom('take_tags').select('tag').where('take_id', '=', takeId).execute()).map((r) => r.tag)
+  const current = (await db.selectFrom('take_tags').select('tag').where('take_id', '=', takeId).execute()).map(
+    (r) => r.tag,
+  )
   const added = tags.filter((t) => !current.includes(t))
   const removed = current.filter((t) => !tags.includes(t))
-  if (removed.length) await db.deleteFrom('take_tags').where('take_id', '=', takeId).where('tag', 'in', removed).execute()
-  if (added.length) await db.insertInto('take_tags').values(added.map((tag) => ({ take_id: takeId, tag }))).execute()
+  if (removed.length)
+    await db.deleteFrom('take_tags').where('take_id', '=', takeId).where('tag', 'in', removed).execute()
+  if (added.length)
+    await db
+      .insertInto('take_tags')
+      .values(added.map((tag) => ({ take_id: takeId, tag })))
+      .execute()
   return { added, removed }
 }
 
@@ -66,8 +74,16 @@ export interface LinkChange {
 }
 
 /** Replaces a take's device links with `links`, touching only the rows that change. */
-export async function replaceSources(db: Db, takeId: number, links: { sourceId: number; state: string }[]): Promise<LinkChange> {
-  const current = await db.selectFrom('take_sources').select(['source_id', 'state']).where('take_id', '=', takeId).execute()
+export async function replaceSources(
+  db: Db,
+  takeId: number,
+  links: { sourceId: number; state: string }[],
+): Promise<LinkChange> {
+  const current = await db
+    .selectFrom('take_sources')
+    .select(['source_id', 'state'])
+    .where('take_id', '=', takeId)
+    .execute()
   const change: LinkChange = { added: [], removed: [], restated: [] }
   for (const c of current) {
     const next = links.find((l) => l.sourceId === c.source_id)
@@ -76,11 +92,27 @@ export async function replaceSources(db: Db, takeId: number, links: { sourceId: 
   }
   for (const l of links) if (!current.some((c) => c.source_id === l.sourceId)) change.added.push(l)
   if (change.removed.length)
-    await db.deleteFrom('take_sources').where('take_id', '=', takeId).where('source_id', 'in', change.removed.map((r) => r.sourceId)).execute()
+    await db
+      .deleteFrom('take_sources')
+      .where('take_id', '=', takeId)
+      .where(
+        'source_id',
+        'in',
+        change.removed.map((r) => r.sourceId),
+      )
+      .execute()
   for (const r of change.restated)
-    await db.updateTable('take_sources').set({ state: r.to }).where('take_id', '=', takeId).where('source_id', '=', r.sourceId).execute()
+    await db
+      .updateTable('take_sources')
+      .set({ state: r.to })
+      .where('take_id', '=', takeId)
+      .where('source_id', '=', r.sourceId)
+      .execute()
   if (change.added.length)
-    await db.insertInto('take_sources').values(change.added.map((l) => ({ take_id: takeId, source_id: l.sourceId, state: l.state }))).execute()
+    await db
+      .insertInto('take_sources')
+      .values(change.added.map((l) => ({ take_id: takeId, source_id: l.sourceId, state: l.state })))
+      .execute()
   return change
 }
 
@@ -88,7 +120,11 @@ export async function replaceSources(db: Db, takeId: number, links: { sourceId: 
 export async function missingTakeIds(db: Db, ids: number[]): Promise<number[]> {
   const found = new Set<number>()
   for (let i = 0; i < ids.length; i += 500) {
-    const rows = await db.selectFrom('takes').select('id').where('id', 'in', ids.slice(i, i + 500)).execute()
+    const rows = await db
+      .selectFrom('takes')
+      .select('id')
+      .where('id', 'in', ids.slice(i, i + 500))
+      .execute()
     for (const r of rows) found.add(r.id)
   }
   return ids.filter((id) => !found.has(id))
@@ -96,7 +132,12 @@ export async function missingTakeIds(db: Db, ids: number[]): Promise<number[]> {
 
 export async function findTakesByIds(db: Db, ids: number[]): Promise<TakeJoined[]> {
   const out: TakeJoined[] = []
-  for (let i = 0; i < ids.length; i += 500) out.push(...(await selectTakes(db).where('takes.id', 'in', ids.slice(i, i + 500)).execute()))
+  for (let i = 0; i < ids.length; i += 500)
+    out.push(
+      ...(await selectTakes(db)
+        .where('takes.id', 'in', ids.slice(i, i + 500))
+        .execute()),
+    )
   const byId = new Map(out.map((r) => [r.id, r]))
   return ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r)
 }
@@ -130,7 +171,14 @@ export const eventsOf = (db: Db, takeId: number) =>
   db
     .selectFrom('take_events')
     .leftJoin('users', 'users.id', 'take_events.user_id')
-    .select(['take_events.id', 'take_events.kind', 'take_events.summary', 'take_events.user_id', 'users.name as user_name', 'take_events.created_at'])
+    .select([
+      'take_events.id',
+      'take_events.kind',
+      'take_events.summary',
+      'take_events.user_id',
+      'users.name as user_name',
+      'take_events.created_at',
+    ])
     .where('take_events.take_id', '=', takeId)
     .orderBy('take_events.created_at', 'desc')
     .orderBy('take_events.id', 'desc')

@@ -26,7 +26,12 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
   api.route('get', '/takes', 'library:browse', async (req, res) => {
     const q = TakeQuery.parse(req.query)
     const { rows, total } = await searchTakeRows(ctx.db, q)
-    res.json({ items: await takeRowsToTakes(ctx.db, rows, { withoutFileMetadata: true }), total, page: q.page, pageSize: q.pageSize })
+    res.json({
+      items: await takeRowsToTakes(ctx.db, rows, { withoutFileMetadata: true }),
+      total,
+      page: q.page,
+      pageSize: q.pageSize,
+    })
   })
 
   api.route('get', '/takes/:id', 'library:browse', async (req, res) => {
@@ -36,7 +41,12 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
   /** Waveform overview in the form wavesurfer.js takes: one min/max array per channel, −1..1. */
   api.route('get', '/takes/:id/peaks', 'library:browse', async (req, res) => {
     const row = await load(params(req, IdParams).id)
-    if (row.status !== 'ready') throw new AppError(409, 'NOT_MEASURED', `Take ${row.id} is ${row.status}; its waveform exists once it is measured`)
+    if (row.status !== 'ready')
+      throw new AppError(
+        409,
+        'NOT_MEASURED',
+        `Take ${row.id} is ${row.status}; its waveform exists once it is measured`,
+      )
     const { maxPoints } = PeaksQuery.parse(req.query)
     res.set('Cache-Control', 'private, max-age=3600')
     res.json(await readPeaks(ctx.storage.peaksPath(row.id), { maxPoints }))
@@ -45,20 +55,30 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
   /** The audio itself, with HTTP Range support (206, 416, Accept-Ranges) from Express's send. */
   api.route('get', '/takes/:id/audio', 'library:browse', async (req, res, next) => {
     const row = await load(params(req, IdParams).id)
-    res.sendFile(ctx.storage.abs(row.audio_path), {
-      acceptRanges: true,
-      headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, max-age=3600' },
-    }, (err?: Error & { status?: number }) => {
-      if (!err || res.headersSent) return
-      if (err.status === 416) {
-        res
-          .status(416)
-          .set('Content-Range', `bytes */${row.size_bytes}`)
-          .json({ error: { code: 'RANGE_NOT_SATISFIABLE', message: `The requested range lies outside the file's ${row.size_bytes} bytes`, details: { sizeBytes: row.size_bytes } } })
-        return
-      }
-      next(err)
-    })
+    res.sendFile(
+      ctx.storage.abs(row.audio_path),
+      {
+        acceptRanges: true,
+        headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, max-age=3600' },
+      },
+      (err?: Error & { status?: number }) => {
+        if (!err || res.headersSent) return
+        if (err.status === 416) {
+          res
+            .status(416)
+            .set('Content-Range', `bytes */${row.size_bytes}`)
+            .json({
+              error: {
+                code: 'RANGE_NOT_SATISFIABLE',
+                message: `The requested range lies outside the file's ${row.size_bytes} bytes`,
+                details: { sizeBytes: row.size_bytes },
+              },
+            })
+          return
+        }
+        next(err)
+      },
+    )
   })
 
   // ---- editing ----

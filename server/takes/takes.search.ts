@@ -13,7 +13,10 @@ import { selectTakes, type TakeJoined } from './takes.repository'
 export function ftsQuery(q: string): string | null {
   const words = q.normalize('NFKC').match(/[\p{L}\p{N}]+/gu)
   if (!words?.length) return null
-  return words.slice(0, 32).map((w) => `"${w.replace(/"/g, '""')}"*`).join(' ')
+  return words
+    .slice(0, 32)
+    .map((w) => `"${w.replace(/"/g, '""')}"*`)
+    .join(' ')
 }
 
 const SORT_COLUMNS: Record<Exclude<TakeSort, 'relevance'>, string> = {
@@ -43,12 +46,16 @@ const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session',
  */
 function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
   const c: RawBuilder<unknown>[] = []
-  for (const id of new Set(q.sourceId ?? [])) c.push(sql`takes.id IN (SELECT take_id FROM take_sources WHERE source_id = ${id})`)
+  for (const id of new Set(q.sourceId ?? []))
+    c.push(sql`takes.id IN (SELECT take_id FROM take_sources WHERE source_id = ${id})`)
   if (q.sourceKind?.length) {
     const kinds = [...new Set(q.sourceKind)]
-    c.push(sql`takes.id IN (SELECT ts.take_id FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE s.kind IN (${sql.join(kinds)}))`)
+    c.push(
+      sql`takes.id IN (SELECT ts.take_id FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE s.kind IN (${sql.join(kinds)}))`,
+    )
   }
-  for (const tag of new Set((q.tag ?? []).map(normalizeTag))) c.push(sql`takes.id IN (SELECT take_id FROM take_tags WHERE tag = ${tag})`)
+  for (const tag of new Set((q.tag ?? []).map(normalizeTag)))
+    c.push(sql`takes.id IN (SELECT take_id FROM take_tags WHERE tag = ${tag})`)
   if (q.sessionId) c.push(sql`takes.session_id = ${q.sessionId}`)
   if (q.uploaderId) c.push(sql`takes.uploader_id = ${q.uploaderId}`)
   if (q.sampleRate) c.push(sql`takes.sample_rate = ${q.sampleRate}`)
@@ -65,14 +72,16 @@ function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
   if (q.hum === 'none') c.push(sql`takes.hum_hz IS NULL AND takes.status = 'ready'`)
   if (q.status) c.push(sql`takes.status = ${q.status}`)
   // Listening notes' outcome ("takes with a keep note"), from the comments_outcome_take index.
-  if (q.noteOutcome) c.push(sql`takes.id IN (SELECT take_id FROM comments WHERE outcome = ${q.noteOutcome} AND parent_id IS NULL)`)
+  if (q.noteOutcome)
+    c.push(sql`takes.id IN (SELECT take_id FROM comments WHERE outcome = ${q.noteOutcome} AND parent_id IS NULL)`)
   return c
 }
 
 const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
 /** Takes in the Removed list never reach a list (see takes.removal.ts); kept apart from the filters so an unfiltered list still walks its sort's own index. */
-const notRemoved = (id: RawBuilder<unknown> = sql.ref('takes.id')) => sql`${id} NOT IN (SELECT take_id FROM take_removals)`
+const notRemoved = (id: RawBuilder<unknown> = sql.ref('takes.id')) =>
+  sql`${id} NOT IN (SELECT take_id FROM take_removals)`
 
 /**
  * One page of takes for GET /api/takes, and the total that matches.
@@ -128,7 +137,11 @@ export async function searchTakeRows(db: Db, q: TakeQuery): Promise<{ rows: Take
   const page = (await idQuery.execute(db)).rows
   const windowed = page.length > 0 && page[0].total !== undefined
   // An empty page past the end still reports the total; the plain count is cheap where no window ran.
-  const count = windowed ? Number(page[0].total) : page.length === 0 && offset === 0 ? 0 : Number((await countQuery.execute(db)).rows[0]?.n ?? 0)
+  const count = windowed
+    ? Number(page[0].total)
+    : page.length === 0 && offset === 0
+      ? 0
+      : Number((await countQuery.execute(db)).rows[0]?.n ?? 0)
   const ids = page.map((r) => r.id)
   if (!ids.length) return { rows: [], total: count }
 

@@ -33,8 +33,13 @@ import {
 import { takeRowToTake, takeRowsToTakes } from './takes.mapper'
 
 /** A take's history entry, written with the user who caused it. */
-export const recordEvent = (db: Db, takeId: number, user: Pick<User, 'id'> | null, kind: HistoryKind, summary: string) =>
-  addEvent(db, takeId, user?.id ?? null, kind, summary)
+export const recordEvent = (
+  db: Db,
+  takeId: number,
+  user: Pick<User, 'id'> | null,
+  kind: HistoryKind,
+  summary: string,
+) => addEvent(db, takeId, user?.id ?? null, kind, summary)
 
 export async function loadTake(db: Db, id: number): Promise<TakeJoined> {
   const row = await findTake(db, id)
@@ -52,10 +57,16 @@ export function mayEditTake(user: User, take: Pick<TakeJoined, 'uploader_id'>): 
   return can(user.role, 'takes:edit-own') && take.uploader_id === user.id
 }
 
-export function assertMayEditTake(user: User, take: Pick<TakeJoined, 'id' | 'uploader_id' | 'uploader_name'>, what = 'edit'): void {
+export function assertMayEditTake(
+  user: User,
+  take: Pick<TakeJoined, 'id' | 'uploader_id' | 'uploader_name'>,
+  what = 'edit',
+): void {
   if (mayEditTake(user, take)) return
   if (!can(user.role, 'takes:edit-own')) throw forbidden()
-  const by = take.uploader_name ? ` (take ${take.id} was uploaded by ${take.uploader_name})` : ` (take ${take.id} has no uploader on record)`
+  const by = take.uploader_name
+    ? ` (take ${take.id} was uploaded by ${take.uploader_name})`
+    : ` (take ${take.id} has no uploader on record)`
   throw forbidden(`You can ${what} only takes you uploaded${by}`)
 }
 
@@ -64,7 +75,9 @@ async function checkSources(db: Db, ids: number[]): Promise<Map<number, string>>
   const names = await sourceNames(db, ids)
   const missing = ids.filter((id) => !names.has(id))
   if (missing.length) {
-    throw new AppError(400, 'SOURCE_NOT_FOUND', `No source device with id ${missing.join(', ')}`, { sourceIds: missing })
+    throw new AppError(400, 'SOURCE_NOT_FOUND', `No source device with id ${missing.join(', ')}`, {
+      sourceIds: missing,
+    })
   }
   return names
 }
@@ -79,7 +92,9 @@ function sourcesSummary(change: LinkChange, names: Map<number, string>): string 
   return [
     ...change.added.map((l) => `+${label(l.sourceId, l.state)}`),
     ...change.removed.map((l) => `\u2212${label(l.sourceId, l.state)}`),
-    ...change.restated.map((r) => `${names.get(r.sourceId) ?? `device ${r.sourceId}`}: ${r.from || 'no state'} \u2192 ${r.to || 'no state'}`),
+    ...change.restated.map(
+      (r) => `${names.get(r.sourceId) ?? `device ${r.sourceId}`}: ${r.from || 'no state'} \u2192 ${r.to || 'no state'}`,
+    ),
   ].join('; ')
 }
 
@@ -115,7 +130,10 @@ export async function editTake(db: Db, user: User, id: number, body: UpdateTakeB
       const change = await replaceSources(trx, id, body.sources)
       if (changed(change)) {
         touched = true
-        const names = await sourceNames(trx, [...change.added, ...change.removed, ...change.restated].map((l) => l.sourceId))
+        const names = await sourceNames(
+          trx,
+          [...change.added, ...change.removed, ...change.restated].map((l) => l.sourceId),
+        )
         await recordEvent(trx, id, user, 'sources', `Devices ${sourcesSummary(change, names)}`)
       }
     }
@@ -139,7 +157,12 @@ async function assertMayBulkEdit(db: Db, user: User, body: BulkEditBody): Promis
   const rows = await findTakesByIds(db, body.ids)
   const others = rows.filter((r) => r.uploader_id !== user.id)
   if (others.length) {
-    const shown = others.slice(0, 10).map((r) => `\u201c${r.title || r.filename}\u201d (${r.uploader_name ? `uploaded by ${r.uploader_name}` : 'no uploader on record'})`)
+    const shown = others
+      .slice(0, 10)
+      .map(
+        (r) =>
+          `\u201c${r.title || r.filename}\u201d (${r.uploader_name ? `uploaded by ${r.uploader_name}` : 'no uploader on record'})`,
+      )
     const more = others.length > shown.length ? ` and ${others.length - shown.length} more` : ''
     throw new AppError(
       403,
@@ -149,11 +172,20 @@ async function assertMayBulkEdit(db: Db, user: User, body: BulkEditBody): Promis
     )
   }
   if (body.sessionId !== undefined) {
-    const session = await db.selectFrom('capture_sessions').select(['title', 'created_by']).where('id', '=', body.sessionId).executeTakeFirst()
+    const session = await db
+      .selectFrom('capture_sessions')
+      .select(['title', 'created_by'])
+      .where('id', '=', body.sessionId)
+      .executeTakeFirst()
     if (session && session.created_by !== user.id) {
-      throw new AppError(403, 'FORBIDDEN', `You can move takes only into capture sessions you created; \u201c${session.title}\u201d is not one of them. Nothing was changed.`, {
-        sessionId: body.sessionId,
-      })
+      throw new AppError(
+        403,
+        'FORBIDDEN',
+        `You can move takes only into capture sessions you created; \u201c${session.title}\u201d is not one of them. Nothing was changed.`,
+        {
+          sessionId: body.sessionId,
+        },
+      )
     }
   }
 }
@@ -167,14 +199,26 @@ async function assertMayBulkEdit(db: Db, user: User, body: BulkEditBody): Promis
 export async function bulkEdit(db: Db, user: User, body: BulkEditBody): Promise<BulkEditResponse> {
   const missing = await missingTakeIds(db, body.ids)
   if (missing.length) {
-    throw new AppError(404, 'TAKE_NOT_FOUND', `No take with id ${missing.join(', ')}; nothing was changed`, { missingIds: missing })
+    throw new AppError(404, 'TAKE_NOT_FOUND', `No take with id ${missing.join(', ')}; nothing was changed`, {
+      missingIds: missing,
+    })
   }
   await assertMayBulkEdit(db, user, body)
-  const names = await checkSources(db, (body.sources ?? []).map((l) => l.sourceId))
+  const names = await checkSources(
+    db,
+    (body.sources ?? []).map((l) => l.sourceId),
+  )
   let sessionTitle: string | null = null
   if (body.sessionId !== undefined) {
-    const session = await db.selectFrom('capture_sessions').select('title').where('id', '=', body.sessionId).executeTakeFirst()
-    if (!session) throw new AppError(400, 'SESSION_NOT_FOUND', `No capture session with id ${body.sessionId}`, { sessionId: body.sessionId })
+    const session = await db
+      .selectFrom('capture_sessions')
+      .select('title')
+      .where('id', '=', body.sessionId)
+      .executeTakeFirst()
+    if (!session)
+      throw new AppError(400, 'SESSION_NOT_FOUND', `No capture session with id ${body.sessionId}`, {
+        sessionId: body.sessionId,
+      })
     sessionTitle = session.title
   }
 
@@ -187,7 +231,9 @@ export async function bulkEdit(db: Db, user: User, body: BulkEditBody): Promise<
     for (const row of rows) {
       let touched = false
       if (addTags.length || removeTags.length) {
-        const current = (await trx.selectFrom('take_tags').select('tag').where('take_id', '=', row.id).execute()).map((r) => r.tag)
+        const current = (await trx.selectFrom('take_tags').select('tag').where('take_id', '=', row.id).execute()).map(
+          (r) => r.tag,
+        )
         const next = [...current.filter((t) => !removeTags.includes(t)), ...addTags.filter((t) => !current.includes(t))]
         if (next.length > TAGS_PER_TAKE) tooMany.push(row.id)
         const { added, removed } = await replaceTags(trx, row.id, next)
@@ -201,14 +247,24 @@ export async function bulkEdit(db: Db, user: User, body: BulkEditBody): Promise<
         if (changed(change)) {
           touched = true
           const all = new Map(names)
-          for (const [k, v] of await sourceNames(trx, change.removed.map((l) => l.sourceId))) all.set(k, v)
+          for (const [k, v] of await sourceNames(
+            trx,
+            change.removed.map((l) => l.sourceId),
+          ))
+            all.set(k, v)
           await recordEvent(trx, row.id, user, 'sources', `Devices ${sourcesSummary(change, all)} (bulk edit)`)
         }
       }
       if (body.sessionId !== undefined && row.session_id !== body.sessionId) {
         touched = true
         await trx.updateTable('takes').set({ session_id: body.sessionId }).where('id', '=', row.id).execute()
-        await recordEvent(trx, row.id, user, 'moved', `Moved from capture session \u201c${row.session_title}\u201d to \u201c${sessionTitle}\u201d`)
+        await recordEvent(
+          trx,
+          row.id,
+          user,
+          'moved',
+          `Moved from capture session \u201c${row.session_title}\u201d to \u201c${sessionTitle}\u201d`,
+        )
       }
       if (touched) {
         updated++
@@ -216,9 +272,14 @@ export async function bulkEdit(db: Db, user: User, body: BulkEditBody): Promise<
       }
     }
     if (tooMany.length) {
-      throw new AppError(400, 'TOO_MANY_TAGS', `Take ${tooMany.join(', ')} would have more than ${TAGS_PER_TAKE} tags; nothing was changed`, {
-        takeIds: tooMany,
-      })
+      throw new AppError(
+        400,
+        'TOO_MANY_TAGS',
+        `Take ${tooMany.join(', ')} would have more than ${TAGS_PER_TAKE} tags; nothing was changed`,
+        {
+          takeIds: tooMany,
+        },
+      )
     }
   })
   const takes = await takeRowsToTakes(db, await findTakesByIds(db, body.ids), { withoutFileMetadata: true })
@@ -232,7 +293,10 @@ export async function tagSuggestions(db: Db, q: string | undefined, limit: numbe
 }
 
 /** GET /api/states: operating states used on earlier device links, most used first. */
-export async function stateSuggestions(db: Db, opts: { sourceId?: number; q?: string; limit: number }): Promise<StateSuggestion[]> {
+export async function stateSuggestions(
+  db: Db,
+  opts: { sourceId?: number; q?: string; limit: number },
+): Promise<StateSuggestion[]> {
   const rows = await stateCounts(db, { sourceId: opts.sourceId, prefix: opts.q, limit: opts.limit })
   return rows.map((r) => ({ state: r.state, count: Number(r.n) }))
 }

@@ -5,9 +5,21 @@ import type { AppContext } from '../core/context'
 import type { Api } from '../core/routes'
 import { body, params } from '../core/validate'
 import type { SqliteSessionStore } from '../auth/session-store'
-import { acceptInvitation, invite, listInvitations, listTeam, resendInvitation, updateMember, withdrawInvitation } from './team.service'
+import {
+  acceptInvitation,
+  invite,
+  listInvitations,
+  listTeam,
+  resendInvitation,
+  updateMember,
+  withdrawInvitation,
+} from './team.service'
 
-export function registerTeamRoutes(api: Api, ctx: AppContext, deps: { store: SqliteSessionStore; passport: PassportStatic }) {
+export function registerTeamRoutes(
+  api: Api,
+  ctx: AppContext,
+  deps: { store: SqliteSessionStore; passport: PassportStatic },
+) {
   api.route('get', '/users', 'team:manage', async (_req, res) => {
     res.json({ users: await listTeam(ctx) })
   })

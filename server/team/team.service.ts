@@ -33,14 +33,21 @@ export async function updateMember(
   id: number,
   patch: UpdateUserBody,
 ): Promise<TeamMember> {
-  if (actor.id === id && patch.active === false) throw new AppError(409, 'SELF_DEACTIVATION', 'You cannot deactivate yourself')
+  if (actor.id === id && patch.active === false)
+    throw new AppError(409, 'SELF_DEACTIVATION', 'You cannot deactivate yourself')
   // Check and change in one transaction: two admins demoting each other at once cannot leave none.
   const updated = await ctx.db.transaction().execute(async (trx) => {
     const row = await findUserById(trx, id)
     if (!row) throw notFound('team member', 'USER_NOT_FOUND')
-    const losesAdmin = row.role === 'admin' && row.active === 1 && ((patch.role && patch.role !== 'admin') || patch.active === false)
+    const losesAdmin =
+      row.role === 'admin' && row.active === 1 && ((patch.role && patch.role !== 'admin') || patch.active === false)
     if (losesAdmin) {
-      const admins = await trx.selectFrom('users').select('id').where('role', '=', 'admin').where('active', '=', 1).execute()
+      const admins = await trx
+        .selectFrom('users')
+        .select('id')
+        .where('role', '=', 'admin')
+        .where('active', '=', 1)
+        .execute()
       if (admins.length <= 1) throw new AppError(409, 'LAST_ADMIN', 'The team needs at least one active admin')
     }
     return updateUser(trx, id, {
@@ -68,7 +75,14 @@ export async function invite(ctx: AppContext, actor: User, email: string, role: 
   const { token, hash } = newToken()
   const row = await ctx.db
     .insertInto('invitations')
-    .values({ email, role, token_hash: hash, invited_by: actor.id, created_at: nowIso(), expires_at: isoIn(INVITATION_TTL_MS) })
+    .values({
+      email,
+      role,
+      token_hash: hash,
+      invited_by: actor.id,
+      created_at: nowIso(),
+      expires_at: isoIn(INVITATION_TTL_MS),
+    })
     .returningAll()
     .executeTakeFirstOrThrow()
   try {
@@ -83,9 +97,18 @@ export async function invite(ctx: AppContext, actor: User, email: string, role: 
 
 /** Withdraws an invitation not yet accepted: its link stops working at once. */
 export async function withdrawInvitation(ctx: AppContext, id: number): Promise<void> {
-  const row = await ctx.db.selectFrom('invitations').select(['id', 'accepted_at']).where('id', '=', id).executeTakeFirst()
+  const row = await ctx.db
+    .selectFrom('invitations')
+    .select(['id', 'accepted_at'])
+    .where('id', '=', id)
+    .executeTakeFirst()
   if (!row) throw notFound('invitation', 'INVITATION_NOT_FOUND')
-  if (row.accepted_at) throw new AppError(409, 'INVITATION_ACCEPTED', 'This invitation was already accepted; deactivate the member instead')
+  if (row.accepted_at)
+    throw new AppError(
+      409,
+      'INVITATION_ACCEPTED',
+      'This invitation was already accepted; deactivate the member instead',
+    )
   await ctx.db.deleteFrom('invitations').where('id', '=', id).where('accepted_at', 'is', null).execute()
 }
 
@@ -106,9 +129,17 @@ export async function resendInvitation(ctx: AppContext, actor: User, id: number)
 }
 
 export async function acceptInvitation(ctx: AppContext, token: string, name: string, password: string): Promise<User> {
-  const row = await ctx.db.selectFrom('invitations').selectAll().where('token_hash', '=', hashToken(token)).executeTakeFirst()
+  const row = await ctx.db
+    .selectFrom('invitations')
+    .selectAll()
+    .where('token_hash', '=', hashToken(token))
+    .executeTakeFirst()
   if (!row || row.accepted_at || row.expires_at < nowIso()) {
-    throw new AppError(410, 'TOKEN_INVALID', 'This invitation link is invalid, used or expired: ask your admin for a new one')
+    throw new AppError(
+      410,
+      'TOKEN_INVALID',
+      'This invitation link is invalid, used or expired: ask your admin for a new one',
+    )
   }
   const passwordHash = await hashPassword(password)
   return ctx.db.transaction().execute(async (trx) => {
@@ -118,10 +149,18 @@ export async function acceptInvitation(ctx: AppContext, token: string, name: str
       .where('id', '=', row.id)
       .where('accepted_at', 'is', null)
       .executeTakeFirst()
-    if (Number(claimed.numUpdatedRows) !== 1) throw new AppError(410, 'TOKEN_INVALID', 'This invitation was already used')
-    if (await findUserByEmail(trx, row.email)) throw new AppError(409, 'ALREADY_MEMBER', `${row.email} already has an account`)
+    if (Number(claimed.numUpdatedRows) !== 1)
+      throw new AppError(410, 'TOKEN_INVALID', 'This invitation was already used')
+    if (await findUserByEmail(trx, row.email))
+      throw new AppError(409, 'ALREADY_MEMBER', `${row.email} already has an account`)
     // Joining signs the invitee in, so it is their first sign-in.
-    const user = await insertUser(trx, { email: row.email, name, role: row.role, password_hash: passwordHash, last_login_at: nowIso() })
+    const user = await insertUser(trx, {
+      email: row.email,
+      name,
+      role: row.role,
+      password_hash: passwordHash,
+      last_login_at: nowIso(),
+    })
     return userRowToUser(user)
   })
 }

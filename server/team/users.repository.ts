@@ -18,4 +18,11 @@ export async function updateUser(db: Db, id: number, patch: UserUpdate): Promise
 }
 
 export const countUsers = async (db: Db): Promise<number> =>
-  Number((await db.selectFrom('users').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
+  Number(
+    (
+      await db
+        .selectFrom('users')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .executeTakeFirstOrThrow()
+    ).n,
+  )

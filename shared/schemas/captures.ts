@@ -47,7 +47,12 @@ export const UpdateCaptureSessionBody = z
     date: isoDate,
     location: text(200),
     rig: z
-      .object({ pickup: text(120), gainDb: z.number().min(-20).max(90).nullable(), recorder: text(120), notes: text(4000) })
+      .object({
+        pickup: text(120),
+        gainDb: z.number().min(-20).max(90).nullable(),
+        recorder: text(120),
+        notes: text(4000),
+      })
       .partial(),
     defaultSourceId: z.number().int().positive().nullable(),
     defaultState: text(80),

@@ -48,9 +48,18 @@ export const MAX_FILE_NAME = 255
  * MAX_FILE_NAME is shortened before its extension.
  */
 export function cleanFileName(name: string): string {
-  const clean = name.replace(/\p{Cc}+/gu, ' ').replace(/\s+/g, ' ').trim() || 'take.wav'
+  const clean =
+    name
+      .replace(/\p{Cc}+/gu, ' ')
+      .replace(/\s+/g, ' ')
+      .trim() || 'take.wav'
   const chars = [...clean]
   if (chars.length <= MAX_FILE_NAME) return clean
   const ext = /\.[A-Za-z0-9]{1,8}$/.exec(clean)?.[0] ?? ''
-  return chars.slice(0, MAX_FILE_NAME - ext.length).join('').trimEnd() + ext
+  return (
+    chars
+      .slice(0, MAX_FILE_NAME - ext.length)
+      .join('')
+      .trimEnd() + ext
+  )
 }

@@ -26,7 +26,9 @@ export const Tag = z
   .string()
   .max(200)
   .transform(normalizeTag)
-  .pipe(z.string().min(1, 'A tag cannot be empty').max(TAG_MAX_LENGTH, `A tag has at most ${TAG_MAX_LENGTH} characters`))
+  .pipe(
+    z.string().min(1, 'A tag cannot be empty').max(TAG_MAX_LENGTH, `A tag has at most ${TAG_MAX_LENGTH} characters`),
+  )
 
 /** Tags as typed: normalised, duplicates dropped (first spelling kept), at most 30. */
 export const TagList = z
@@ -165,7 +167,11 @@ export const CreateRegionBody = z
 export type CreateRegionBody = z.infer<typeof CreateRegionBody>
 
 /** The result must still satisfy 0 ≤ start < end ≤ duration; the server checks it against the stored region. */
-export const UpdateRegionBody = z.object({ name: regionName.optional(), startSeconds: seconds.optional(), endSeconds: seconds.optional() })
+export const UpdateRegionBody = z.object({
+  name: regionName.optional(),
+  startSeconds: seconds.optional(),
+  endSeconds: seconds.optional(),
+})
 export type UpdateRegionBody = z.infer<typeof UpdateRegionBody>
 
 /** Sorted by start time. */
@@ -222,7 +228,8 @@ const hertz = z.number().finite().min(0, 'Frequencies start at 0 Hz')
 
 /** A band needs both edges, low below high; it is checked against the take's Nyquist frequency on the server. */
 const bandRule = <T extends { lowHz?: number | null; highHz?: number | null }>(b: T) =>
-  (b.lowHz === undefined || b.lowHz === null) === (b.highHz === undefined || b.highHz === null) && (b.lowHz == null || b.lowHz < b.highHz!)
+  (b.lowHz === undefined || b.lowHz === null) === (b.highHz === undefined || b.highHz === null) &&
+  (b.lowHz == null || b.lowHz < b.highHz!)
 
 export const CreateCommentBody = z
   .object({
@@ -243,8 +250,15 @@ export type CreateCommentBody = z.infer<typeof CreateCommentBody>
 
 /** outcome: null clears it. */
 export const UpdateCommentBody = z
-  .object({ body: commentBody.optional(), resolved: z.boolean().optional(), outcome: NoteOutcome.nullable().optional() })
-  .refine((b) => b.body !== undefined || b.resolved !== undefined || b.outcome !== undefined, 'Send body, outcome or resolved')
+  .object({
+    body: commentBody.optional(),
+    resolved: z.boolean().optional(),
+    outcome: NoteOutcome.nullable().optional(),
+  })
+  .refine(
+    (b) => b.body !== undefined || b.resolved !== undefined || b.outcome !== undefined,
+    'Send body, outcome or resolved',
+  )
 export type UpdateCommentBody = z.infer<typeof UpdateCommentBody>
 
 // ---- @mentions ----
@@ -300,7 +314,9 @@ export function resolveMentions<T extends MentionCandidate>(body: string, member
     if (!key) continue
     for (const m of members) {
       const hit =
-        key === mentionKey(m.name) || key === mentionKey(m.email.split('@')[0] ?? '') || (key === firstKey(m) && firstNameCount.get(key) === 1)
+        key === mentionKey(m.name) ||
+        key === mentionKey(m.email.split('@')[0] ?? '') ||
+        (key === firstKey(m) && firstNameCount.get(key) === 1)
       if (hit && !found.includes(m)) found.push(m)
     }
   }

@@ -61,13 +61,22 @@ export const ModulationBody = z
     if (b.startSeconds !== undefined && b.endSeconds !== undefined && b.endSeconds <= b.startSeconds) {
       ctx.addIssue({ code: 'custom', path: ['endSeconds'], message: 'endSeconds must be after startSeconds' })
     }
-    if (b.range.low === b.range.high) ctx.addIssue({ code: 'custom', path: ['range'], message: 'range low and high must differ' })
+    if (b.range.low === b.range.high)
+      ctx.addIssue({ code: 'custom', path: ['range'], message: 'range low and high must differ' })
     if (b.format === 'wav' && [b.range.low, b.range.high].some((v) => v < -1 || v > 1)) {
-      ctx.addIssue({ code: 'custom', path: ['range'], message: 'a wav control signal spans at most −1…1 (full scale); use e.g. { low: 0, high: 1 }' })
+      ctx.addIssue({
+        code: 'custom',
+        path: ['range'],
+        message: 'a wav control signal spans at most −1…1 (full scale); use e.g. { low: 0, high: 1 }',
+      })
     }
     if (b.format === 'midi') {
       if ([b.range.low, b.range.high].some((v) => v < 0 || v > 127)) {
-        ctx.addIssue({ code: 'custom', path: ['range'], message: 'a MIDI controller spans 0…127; use e.g. { low: 0, high: 127 }' })
+        ctx.addIssue({
+          code: 'custom',
+          path: ['range'],
+          message: 'a MIDI controller spans 0…127; use e.g. { low: 0, high: 127 }',
+        })
       }
       if (b.rateHz > MODULATION_LIMITS.midiMaxRateHz) {
         ctx.addIssue({
@@ -77,7 +86,8 @@ export const ModulationBody = z
         })
       }
     }
-    if (b.volts && b.volts.low === b.volts.high) ctx.addIssue({ code: 'custom', path: ['volts'], message: 'volts low and high must differ' })
+    if (b.volts && b.volts.low === b.volts.high)
+      ctx.addIssue({ code: 'custom', path: ['volts'], message: 'volts low and high must differ' })
   })
 export type ModulationBody = z.infer<typeof ModulationBody>
 

@@ -49,7 +49,10 @@ export const RenderSettingsPatch = RenderSettings.partial().strict()
 export type RenderSettingsPatch = z.infer<typeof RenderSettingsPatch>
 
 /** An item's settings: the defaults, the pack's on top, the item's override on top of those. */
-export function effectiveSettings(pack: RenderSettingsPatch | null | undefined, item?: RenderSettingsPatch | null): RenderSettings {
+export function effectiveSettings(
+  pack: RenderSettingsPatch | null | undefined,
+  item?: RenderSettingsPatch | null,
+): RenderSettings {
   return RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...(pack ?? {}), ...(item ?? {}) })
 }
 
@@ -69,7 +72,7 @@ export const LICENCE_TEMPLATES = [
     key: 'team-internal',
     name: 'Team internal only',
     text:
-      'For use by members of this team on the team\'s own projects only. Do not pass these files, or ' +
+      "For use by members of this team on the team's own projects only. Do not pass these files, or " +
       'productions that contain them, to anyone outside the team without written agreement.',
   },
   {
@@ -81,7 +84,9 @@ export const LICENCE_TEMPLATES = [
   },
 ] as const
 export type LicenceTemplateKey = (typeof LICENCE_TEMPLATES)[number]['key']
-export const LicenceTemplateKey = z.enum(LICENCE_TEMPLATES.map((t) => t.key) as [LicenceTemplateKey, ...LicenceTemplateKey[]])
+export const LicenceTemplateKey = z.enum(
+  LICENCE_TEMPLATES.map((t) => t.key) as [LicenceTemplateKey, ...LicenceTemplateKey[]],
+)
 
 /**
  * Tokens of a naming template, each replaced per item:
@@ -91,7 +96,20 @@ export const LicenceTemplateKey = z.enum(LICENCE_TEMPLATES.map((t) => t.key) as 
  * (zero-padded to 2 digits or more), {take} take id, {title} take title, {file} original file name
  * without extension, {pack} pack name.
  */
-export const NAMING_TOKENS = ['device', 'state', 'kind', 'descriptor', 'region', 'session', 'date', 'index', 'take', 'title', 'file', 'pack'] as const
+export const NAMING_TOKENS = [
+  'device',
+  'state',
+  'kind',
+  'descriptor',
+  'region',
+  'session',
+  'date',
+  'index',
+  'take',
+  'title',
+  'file',
+  'pack',
+] as const
 export type NamingToken = (typeof NAMING_TOKENS)[number]
 /** One line per token, shown beside the naming template field. */
 export const NAMING_TOKEN_HELP: Record<NamingToken, string> = {
@@ -200,7 +218,9 @@ export type PublishBuildBody = z.infer<typeof PublishBuildBody>
 /** GET /api/packs/:id/naming-preview?template=…: the output names a template would give the pack's items. */
 export const NamingPreviewQuery = z.object({ template: NamingTemplate })
 export type NamingPreviewQuery = z.infer<typeof NamingPreviewQuery>
-export const NamingPreview = z.object({ names: z.array(z.object({ itemId: z.number().int(), outputName: z.string(), fileName: z.string() })) })
+export const NamingPreview = z.object({
+  names: z.array(z.object({ itemId: z.number().int(), outputName: z.string(), fileName: z.string() })),
+})
 export type NamingPreview = z.infer<typeof NamingPreview>
 
 const num = z.coerce.number().finite()
@@ -313,7 +333,9 @@ export const PackBuild = z.object({
   sha256: z.string().nullable(),
   /** e.g. "item 3 (hum_transformer_01): take 12's audio file is missing". */
   error: z.string().nullable(),
-  failedItem: z.object({ position: z.number().int(), itemId: z.number().int().nullable(), name: z.string() }).nullable(),
+  failedItem: z
+    .object({ position: z.number().int(), itemId: z.number().int().nullable(), name: z.string() })
+    .nullable(),
   /** The download's file name, `<pack-name>_v<version>.zip`. */
   fileName: z.string(),
   downloadUrl: z.string().nullable(),

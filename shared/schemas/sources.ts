@@ -40,7 +40,8 @@ export const SOURCE_KIND_LABELS: Record<SourceKind, string> = {
 
 /** A caution shown beside kinds where the pickup goes near mains voltage. */
 export const SOURCE_KIND_CAUTIONS: Partial<Record<SourceKind, string>> = {
-  'mains-wiring': 'From outside only: never open a transformer, a socket or a wiring box. Follow local electrical codes.',
+  'mains-wiring':
+    'From outside only: never open a transformer, a socket or a wiring box. Follow local electrical codes.',
   appliance: 'Mains-powered: keep it closed and listen from outside.',
 }
 

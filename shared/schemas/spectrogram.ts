@@ -42,7 +42,8 @@ export function snapToMenu(v: number, menu: readonly number[]): number {
   return best
 }
 
-const snapTime = (s: number, round: (x: number) => number) => round(Math.round(s * 1e6) / (SPECTROGRAM_TIME_STEP * 1e6)) * SPECTROGRAM_TIME_STEP
+const snapTime = (s: number, round: (x: number) => number) =>
+  round(Math.round(s * 1e6) / (SPECTROGRAM_TIME_STEP * 1e6)) * SPECTROGRAM_TIME_STEP
 export const snapStart = (s: number) => Number(snapTime(s, Math.floor).toFixed(2))
 export const snapEnd = (s: number) => Number(snapTime(s, Math.ceil).toFixed(2))
 
@@ -52,7 +53,8 @@ const sizeOn = (menu: readonly number[], dflt: number) =>
     .transform((v) => snapToMenu(v, menu))
     .default(dflt)
 
-const seconds = (name: string) => z.coerce.number({ error: `Give ${name} in seconds` }).min(0, `${name} cannot be negative`)
+const seconds = (name: string) =>
+  z.coerce.number({ error: `Give ${name} in seconds` }).min(0, `${name} cannot be negative`)
 const hertz = (name: string) =>
   z.coerce
     .number({ error: `Give ${name} in Hz` })

@@ -18,10 +18,17 @@ export type RenameTagBody = z.infer<typeof RenameTagBody>
 /** POST /api/tags/merge: every tag of `tags` becomes `into` (which may be one of them or a new name). */
 export const MergeTagsBody = z
   .object({
-    tags: z.array(Tag).min(1, 'Choose the tags to merge').max(50, 'Merge at most 50 tags at once').transform((t) => [...new Set(t)]),
+    tags: z
+      .array(Tag)
+      .min(1, 'Choose the tags to merge')
+      .max(50, 'Merge at most 50 tags at once')
+      .transform((t) => [...new Set(t)]),
     into: Tag,
   })
-  .refine((b) => b.tags.some((t) => t !== b.into), { message: 'Choose at least one tag other than the one merged into', path: ['tags'] })
+  .refine((b) => b.tags.some((t) => t !== b.into), {
+    message: 'Choose at least one tag other than the one merged into',
+    path: ['tags'],
+  })
 export type MergeTagsBody = z.infer<typeof MergeTagsBody>
 
 /** The answer to a rename or a merge. */

@@ -7,7 +7,12 @@ export const TAKE_STATUSES = ['queued', 'analyzing', 'ready', 'failed'] as const
 export const TakeStatus = z.enum(TAKE_STATUSES)
 export type TakeStatus = z.infer<typeof TakeStatus>
 
-export const TakeSource = z.object({ sourceId: z.number().int(), name: z.string(), kind: SourceKind, state: z.string() })
+export const TakeSource = z.object({
+  sourceId: z.number().int(),
+  name: z.string(),
+  kind: SourceKind,
+  state: z.string(),
+})
 export type TakeSource = z.infer<typeof TakeSource>
 
 export const Take = z.object({
@@ -68,7 +73,12 @@ export const MAX_REPEATED = 50
 const many = <T extends z.ZodTypeAny>(s: T) =>
   z.preprocess(
     (v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]),
-    z.array(s).max(MAX_REPEATED, { error: (i) => `at most ${MAX_REPEATED} values of one filter (got ${(i.input as unknown[]).length})` }).optional(),
+    z
+      .array(s)
+      .max(MAX_REPEATED, {
+        error: (i) => `at most ${MAX_REPEATED} values of one filter (got ${(i.input as unknown[]).length})`,
+      })
+      .optional(),
   )
 
 /** GET /api/takes query. Names are part of the public API. */
@@ -101,5 +111,10 @@ export const TakeQuery = z.object({
 })
 export type TakeQuery = z.infer<typeof TakeQuery>
 
-export const TakePage = z.object({ items: z.array(Take), total: z.number().int(), page: z.number().int(), pageSize: z.number().int() })
+export const TakePage = z.object({
+  items: z.array(Take),
+  total: z.number().int(),
+  page: z.number().int(),
+  pageSize: z.number().int(),
+})
 export type TakePage = z.infer<typeof TakePage>

@@ -107,7 +107,14 @@ export function upload(url: string, file: File, onProgress: (fraction: number) =
         }
         if (xhr.status >= 200 && xhr.status < 300) return resolve(body)
         const e = (body as ApiErrorBody | null)?.error
-        reject(new ApiError(xhr.status, e?.code ?? `HTTP_${xhr.status}`, e?.message ?? `Upload failed (${xhr.status})`, e?.details ?? {}))
+        reject(
+          new ApiError(
+            xhr.status,
+            e?.code ?? `HTTP_${xhr.status}`,
+            e?.message ?? `Upload failed (${xhr.status})`,
+            e?.details ?? {},
+          ),
+        )
       }
       xhr.onerror = () => reject(new ApiError(0, 'NETWORK', 'The connection to the server was lost'))
       xhr.onabort = () => reject(new ApiError(0, 'ABORTED', 'Upload cancelled'))
@@ -120,9 +127,17 @@ export function upload(url: string, file: File, onProgress: (fraction: number) =
 }
 
 /** A POST whose answer is a file: its bytes and the name from Content-Disposition (e.g. a modulation export). */
-export async function postForFile(url: string, body: unknown): Promise<{ blob: Blob; fileName: string | null; headers: Headers }> {
+export async function postForFile(
+  url: string,
+  body: unknown,
+): Promise<{ blob: Blob; fileName: string | null; headers: Headers }> {
   const send = async (token: string) =>
-    fetch(url, { method: 'POST', headers: { 'x-csrf-token': token, 'content-type': 'application/json' }, credentials: 'same-origin', body: JSON.stringify(body) })
+    fetch(url, {
+      method: 'POST',
+      headers: { 'x-csrf-token': token, 'content-type': 'application/json' },
+      credentials: 'same-origin',
+      body: JSON.stringify(body),
+    })
   let res = await send(csrfToken ?? (await fetchCsrf()))
   if (!res.ok) {
     const err = await toApiError(res)

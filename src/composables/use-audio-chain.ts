@@ -36,7 +36,10 @@ export function applyGains(el: HTMLMediaElement | null, evenDb: number, master: 
  * The chain for a page's own media element, following the audition store's
  * master volume and even-level switch. Created lazily on the first play.
  */
-export function useAudioChain(media: Ref<HTMLMediaElement | null>, levels: Ref<{ integratedLufs: number | null; truePeakDbtp: number | null } | null>) {
+export function useAudioChain(
+  media: Ref<HTMLMediaElement | null>,
+  levels: Ref<{ integratedLufs: number | null; truePeakDbtp: number | null } | null>,
+) {
   const audition = useAuditionStore()
 
   function ensure() {
@@ -47,7 +50,8 @@ export function useAudioChain(media: Ref<HTMLMediaElement | null>, levels: Ref<{
     return nodes
   }
 
-  const gainDb = () => (audition.evenLevel ? evenLevelGainDb(levels.value?.integratedLufs, levels.value?.truePeakDbtp) : 0)
+  const gainDb = () =>
+    audition.evenLevel ? evenLevelGainDb(levels.value?.integratedLufs, levels.value?.truePeakDbtp) : 0
 
   function apply() {
     // Read the reactive values first so watchEffect tracks them even before wiring.

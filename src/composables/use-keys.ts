@@ -6,7 +6,9 @@ import { onBeforeUnmount, onMounted } from 'vue'
  */
 export function onControl(e: KeyboardEvent): boolean {
   const t = e.target as HTMLElement | null
-  return !!t?.closest?.('button, a[href], summary, [role=button], [role=link], [role=option], [role=checkbox], [role=tab], [role=menuitem], [role=slider]')
+  return !!t?.closest?.(
+    'button, a[href], summary, [role=button], [role=link], [role=option], [role=checkbox], [role=tab], [role=menuitem], [role=slider]',
+  )
 }
 
 /**
@@ -16,11 +18,18 @@ export function onControl(e: KeyboardEvent): boolean {
 export function useKeys(map: Record<string, (e: KeyboardEvent) => void | boolean>) {
   const handler = (e: KeyboardEvent) => {
     const t = e.target as HTMLElement | null
-    if (t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.isContentEditable || t.tagName === 'SELECT')) return
+    if (t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.isContentEditable || t.tagName === 'SELECT'))
+      return
     if (e.ctrlKey || e.metaKey || e.altKey) return
     const key = e.key === ' ' ? 'Space' : e.key.length === 1 ? e.key.toLowerCase() : e.key
     // Enter and Space belong to a focused button or link (WCAG 2.1.1: the keyboard reaches every control).
-    if ((key === 'Enter' || key === 'Space') && t?.closest('button, a[href], [role=button], [role=link], [role=menuitem], [role=option], [role=checkbox], [role=radio], [role=switch], [role=tab], summary, label')) return
+    if (
+      (key === 'Enter' || key === 'Space') &&
+      t?.closest(
+        'button, a[href], [role=button], [role=link], [role=menuitem], [role=option], [role=checkbox], [role=radio], [role=switch], [role=tab], summary, label',
+      )
+    )
+      return
     const fn = map[key]
     if (fn && fn(e) !== false) e.preventDefault()
   }

@@ -3,9 +3,29 @@ import { useRoute, useRouter, type LocationQuery } from 'vue-router'
 
 /** Every library filter the URL can carry (the names of GET /api/takes). */
 export const QUERY_KEYS = [
-  'q', 'sourceId', 'sourceKind', 'tag', 'sessionId', 'uploaderId', 'sampleRate', 'channels',
-  'minDuration', 'maxDuration', 'minLufs', 'maxLufs', 'minTruePeak', 'maxTruePeak', 'minLra', 'maxLra', 'hum', 'noteOutcome', 'status',
-  'sort', 'order', 'page', 'pageSize',
+  'q',
+  'sourceId',
+  'sourceKind',
+  'tag',
+  'sessionId',
+  'uploaderId',
+  'sampleRate',
+  'channels',
+  'minDuration',
+  'maxDuration',
+  'minLufs',
+  'maxLufs',
+  'minTruePeak',
+  'maxTruePeak',
+  'minLra',
+  'maxLra',
+  'hum',
+  'noteOutcome',
+  'status',
+  'sort',
+  'order',
+  'page',
+  'pageSize',
 ] as const
 export type QueryKey = (typeof QUERY_KEYS)[number]
 export type LibraryQuery = Partial<Record<QueryKey, string | string[]>>

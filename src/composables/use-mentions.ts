@@ -22,7 +22,12 @@ export function activeMention(text: string, caret: number): { start: number; que
 }
 
 /** Replaces the "@query" ending at `caret` with "@Handle " and says where the caret goes. */
-export function insertMention(text: string, start: number, caret: number, handle: string): { text: string; caret: number } {
+export function insertMention(
+  text: string,
+  start: number,
+  caret: number,
+  handle: string,
+): { text: string; caret: number } {
   const inserted = `@${handle} `
   const rest = text.slice(caret).replace(/^ /u, '')
   return { text: text.slice(0, start) + inserted + rest, caret: start + inserted.length }
@@ -32,7 +37,9 @@ export function insertMention(text: string, start: number, caret: number, handle
 export function matchMembers<T extends { name: string }>(members: T[], query: string, limit = 8): T[] {
   const q = mentionKey(query)
   if (!q) return members.slice(0, limit)
-  const starts = members.filter((m) => mentionKey(m.name).startsWith(q) || m.name.split(/\s+/u).some((w) => mentionKey(w).startsWith(q)))
+  const starts = members.filter(
+    (m) => mentionKey(m.name).startsWith(q) || m.name.split(/\s+/u).some((w) => mentionKey(w).startsWith(q)),
+  )
   const inside = members.filter((m) => !starts.includes(m) && mentionKey(m.name).includes(q))
   return [...starts, ...inside].slice(0, limit)
 }
@@ -56,22 +63,28 @@ export function useMentionPreview(text: Ref<string>, pauseMs = 300) {
   const unmatched = ref<string[]>([])
   let timer: ReturnType<typeof setTimeout> | null = null
   let seq = 0
-  watch(text, (body) => {
-    if (timer) clearTimeout(timer)
-    if (!body.includes('@')) {
-      notified.value = []
-      unmatched.value = []
-      return
-    }
-    timer = setTimeout(async () => {
-      const mine = ++seq
-      const res = await api.post<MentionPreviewResponse>('/api/mentions/preview', { body: body.slice(0, 4000) }).catch(() => null)
-      if (res && mine === seq) {
-        notified.value = res.notified
-        unmatched.value = res.unmatched
+  watch(
+    text,
+    (body) => {
+      if (timer) clearTimeout(timer)
+      if (!body.includes('@')) {
+        notified.value = []
+        unmatched.value = []
+        return
       }
-    }, pauseMs)
-  }, { immediate: true })
+      timer = setTimeout(async () => {
+        const mine = ++seq
+        const res = await api
+          .post<MentionPreviewResponse>('/api/mentions/preview', { body: body.slice(0, 4000) })
+          .catch(() => null)
+        if (res && mine === seq) {
+          notified.value = res.notified
+          unmatched.value = res.unmatched
+        }
+      }, pauseMs)
+    },
+    { immediate: true },
+  )
   onBeforeUnmount(() => timer && clearTimeout(timer))
   return { notified, unmatched }
 }

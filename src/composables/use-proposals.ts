@@ -2,7 +2,12 @@
 // at onsets and seamless loops, kept until accepted or rejected.
 import { ref } from 'vue'
 import { api } from '@/api/client'
-import type { LoopSuggestion, LoopSuggestionsResponse, OnsetSlice, OnsetSuggestionsResponse } from '@shared/schemas/instrument'
+import type {
+  LoopSuggestion,
+  LoopSuggestionsResponse,
+  OnsetSlice,
+  OnsetSuggestionsResponse,
+} from '@shared/schemas/instrument'
 
 export type Proposal = ({ kind: 'one-shot' } & OnsetSlice) | ({ kind: 'loop' } & LoopSuggestion)
 

@@ -5,7 +5,13 @@
 // actually rendered (the server may snap sizes and times); without them, what
 // was asked for is taken as rendered.
 import { onBeforeUnmount, ref, watch, type Ref } from 'vue'
-import { MAX_EXCERPT_SECONDS, SPECTROGRAM_HEADERS as H, SPECTROGRAM_WIDTHS, snapEnd, snapStart } from '@shared/schemas/spectrogram'
+import {
+  MAX_EXCERPT_SECONDS,
+  SPECTROGRAM_HEADERS as H,
+  SPECTROGRAM_WIDTHS,
+  snapEnd,
+  snapStart,
+} from '@shared/schemas/spectrogram'
 import { fetchImage } from '@/api/client'
 import type { FreqAxis, TimeRange } from '@/components/bench/strip-math'
 
@@ -21,13 +27,20 @@ const DEFAULT_MIN_HZ = 20
 const DEFAULT_FLOOR_DB = -110
 const HEIGHT = 256
 /** The server's menu of widths: the smallest that covers the box's device pixels. */
-const snapWidth = (px: number) => SPECTROGRAM_WIDTHS.find((w) => w >= px) ?? SPECTROGRAM_WIDTHS[SPECTROGRAM_WIDTHS.length - 1]
+const snapWidth = (px: number) =>
+  SPECTROGRAM_WIDTHS.find((w) => w >= px) ?? SPECTROGRAM_WIDTHS[SPECTROGRAM_WIDTHS.length - 1]
 const num = (h: Headers, name: string, fallback: number) => {
   const v = Number(h.get(name))
   return h.has(name) && Number.isFinite(v) ? v : fallback
 }
 
-export function useSpectrogramView(takeId: Ref<number>, view: Ref<TimeRange>, boxWidth: Ref<number>, duration: Ref<number>, sampleRate: Ref<number>) {
+export function useSpectrogramView(
+  takeId: Ref<number>,
+  view: Ref<TimeRange>,
+  boxWidth: Ref<number>,
+  duration: Ref<number>,
+  sampleRate: Ref<number>,
+) {
   const image = ref<SpectrogramImage | null>(null)
   const failed = ref<string | null>(null)
   let timer: ReturnType<typeof setTimeout> | null = null
@@ -39,9 +52,14 @@ export function useSpectrogramView(takeId: Ref<number>, view: Ref<TimeRange>, bo
     const span = view.value.end - view.value.start
     const width = snapWidth(boxWidth.value * Math.min(2, window.devicePixelRatio || 1))
     // Times on the server's 10 ms grid, outward, so the image always covers the visible range.
-    const asked = span <= MAX_EXCERPT_SECONDS ? { start: Math.max(0, snapStart(view.value.start)), end: Math.min(duration.value, snapEnd(view.value.end)) } : null
+    const asked =
+      span <= MAX_EXCERPT_SECONDS
+        ? { start: Math.max(0, snapStart(view.value.start)), end: Math.min(duration.value, snapEnd(view.value.end)) }
+        : null
     if (asked && asked.end - asked.start > MAX_EXCERPT_SECONDS) asked.end = asked.start + MAX_EXCERPT_SECONDS
-    const q = asked ? `start=${asked.start.toFixed(2)}&end=${asked.end.toFixed(2)}&width=${width}&height=${HEIGHT}` : `width=${width}&height=${HEIGHT}`
+    const q = asked
+      ? `start=${asked.start.toFixed(2)}&end=${asked.end.toFixed(2)}&width=${width}&height=${HEIGHT}`
+      : `width=${width}&height=${HEIGHT}`
     const url = `/api/takes/${takeId.value}/spectrogram.png?${q}`
     if (url === lastKey) return
     lastKey = url

@@ -16,7 +16,10 @@ const KEY = 'strayfield.audition'
  * The gain that plays a take at the even level: target minus its integrated
  * loudness, but never so much that its true peak would pass the ceiling.
  */
-export function evenLevelGainDb(integratedLufs: number | null | undefined, truePeakDbtp: number | null | undefined): number {
+export function evenLevelGainDb(
+  integratedLufs: number | null | undefined,
+  truePeakDbtp: number | null | undefined,
+): number {
   if (integratedLufs === null || integratedLufs === undefined) return 0
   let g = EVEN_LEVEL_TARGET_LUFS - integratedLufs
   if (truePeakDbtp !== null && truePeakDbtp !== undefined) g = Math.min(g, EVEN_LEVEL_PEAK_CEILING_DBTP - truePeakDbtp)
@@ -57,7 +60,9 @@ export const useAuditionStore = defineStore('audition', () => {
   const saved = JSON.parse(localStorage.getItem(KEY) ?? '{}') as { master?: number; even?: boolean }
   const master = ref(Math.min(saved.master ?? 0.2, MASTER_START_MAX))
   const evenLevel = ref(saved.even ?? true)
-  watch([master, evenLevel], () => localStorage.setItem(KEY, JSON.stringify({ master: master.value, even: evenLevel.value })))
+  watch([master, evenLevel], () =>
+    localStorage.setItem(KEY, JSON.stringify({ master: master.value, even: evenLevel.value })),
+  )
 
   const queue = ref<AuditionItem[]>([])
   const current = ref<AuditionItem | null>(null)
@@ -70,7 +75,9 @@ export const useAuditionStore = defineStore('audition', () => {
   let own: HTMLAudioElement | null = null
   const media = shallowRef<HTMLMediaElement | null>(null)
   /** The even-level gain applied to what plays now (0 with even level off or nothing measured). */
-  const gainDb = computed(() => (evenLevel.value && current.value ? evenLevelGainDb(current.value.integratedLufs, current.value.truePeakDbtp) : 0))
+  const gainDb = computed(() =>
+    evenLevel.value && current.value ? evenLevelGainDb(current.value.integratedLufs, current.value.truePeakDbtp) : 0,
+  )
   /** Wires the element into Web Audio (inside the user's gesture) and sets its gains. */
   function ensureChain() {
     if (!media.value) return
@@ -86,7 +93,16 @@ export const useAuditionStore = defineStore('audition', () => {
     duration.value = Number.isFinite(el.duration) ? el.duration : duration.value
     playing.value = !el.paused && !el.ended
   }
-  const EVENTS = ['timeupdate', 'durationchange', 'loadedmetadata', 'play', 'pause', 'ended', 'seeked', 'emptied'] as const
+  const EVENTS = [
+    'timeupdate',
+    'durationchange',
+    'loadedmetadata',
+    'play',
+    'pause',
+    'ended',
+    'seeked',
+    'emptied',
+  ] as const
   function use(el: HTMLMediaElement) {
     if (media.value === el) return
     if (media.value) {
@@ -141,7 +157,8 @@ export const useAuditionStore = defineStore('audition', () => {
   /** Space: the cursor's row when the cursor has moved off what is playing, else play/pause. */
   function space() {
     const lent = media.value !== null && media.value !== own
-    const atCursor = cursor.value && cursor.value !== current.value?.key ? queue.value.find((i) => i.key === cursor.value) : undefined
+    const atCursor =
+      cursor.value && cursor.value !== current.value?.key ? queue.value.find((i) => i.key === cursor.value) : undefined
     if (atCursor && !lent) play(atCursor)
     else void toggle()
   }
@@ -189,7 +206,26 @@ export const useAuditionStore = defineStore('audition', () => {
     duration.value = 0
   }
 
-  return { master, evenLevel, queue, current, cursor, playing, time, duration, gainDb, setQueue, play, toggle, space, step, seek, stop, attach, detach }
+  return {
+    master,
+    evenLevel,
+    queue,
+    current,
+    cursor,
+    playing,
+    time,
+    duration,
+    gainDb,
+    setQueue,
+    play,
+    toggle,
+    space,
+    step,
+    seek,
+    stop,
+    attach,
+    detach,
+  }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useAuditionStore, import.meta.hot))

@@ -59,7 +59,21 @@ export const useAuthStore = defineStore('auth', () => {
     resetCsrf()
   }
 
-  return { user, info, checked, signedIn, can, loadInfo, check, signIn, signOut, acceptInvitation, requestReset, completeReset, forget }
+  return {
+    user,
+    info,
+    checked,
+    signedIn,
+    can,
+    loadInfo,
+    check,
+    signIn,
+    signOut,
+    acceptInvitation,
+    requestReset,
+    completeReset,
+    forget,
+  }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useAuthStore, import.meta.hot))

@@ -21,7 +21,8 @@ export const useBenchStore = defineStore('bench', () => {
     regions.value = []
     comments.value = []
     const tasks: Promise<unknown>[] = [loadRegions(), loadComments(), loadHistory()]
-    if (take.value.status === 'ready') tasks.push(api.get<Peaks>(`/api/takes/${takeId}/peaks?maxPoints=8000`).then((p) => (peaks.value = p)))
+    if (take.value.status === 'ready')
+      tasks.push(api.get<Peaks>(`/api/takes/${takeId}/peaks?maxPoints=8000`).then((p) => (peaks.value = p)))
     await Promise.all(tasks)
   }
 
@@ -38,9 +39,12 @@ export const useBenchStore = defineStore('bench', () => {
     if (id.value === takeId) peaks.value = fine
   }
 
-  const loadRegions = async () => (regions.value = (await api.get<{ regions: Region[] }>(`/api/takes/${id.value}/regions`)).regions)
-  const loadComments = async () => (comments.value = (await api.get<{ comments: Comment[] }>(`/api/takes/${id.value}/comments`)).comments)
-  const loadHistory = async () => (history.value = (await api.get<{ events: HistoryEvent[] }>(`/api/takes/${id.value}/history`)).events)
+  const loadRegions = async () =>
+    (regions.value = (await api.get<{ regions: Region[] }>(`/api/takes/${id.value}/regions`)).regions)
+  const loadComments = async () =>
+    (comments.value = (await api.get<{ comments: Comment[] }>(`/api/takes/${id.value}/comments`)).comments)
+  const loadHistory = async () =>
+    (history.value = (await api.get<{ events: HistoryEvent[] }>(`/api/takes/${id.value}/history`)).events)
 
   async function edit(patch: UpdateTakeBody) {
     take.value = (await api.patch<{ take: Take }>(`/api/takes/${id.value}`, patch)).take
@@ -48,7 +52,11 @@ export const useBenchStore = defineStore('bench', () => {
   }
 
   async function addRegion(name: string, startSeconds: number, endSeconds: number) {
-    const { region } = await api.post<{ region: Region }>(`/api/takes/${id.value}/regions`, { name, startSeconds, endSeconds })
+    const { region } = await api.post<{ region: Region }>(`/api/takes/${id.value}/regions`, {
+      name,
+      startSeconds,
+      endSeconds,
+    })
     regions.value = [...regions.value, region].sort((a, b) => a.startSeconds - b.startSeconds)
     await loadHistory()
     return region
@@ -60,7 +68,15 @@ export const useBenchStore = defineStore('bench', () => {
   }
 
   /** A listening note (or a reply): only the fields that are set are sent. */
-  async function comment(note: { body: string; atSeconds?: number | null; lowHz?: number | null; highHz?: number | null; outcome?: NoteOutcome | null; regionId?: number | null; parentId?: number | null }) {
+  async function comment(note: {
+    body: string
+    atSeconds?: number | null
+    lowHz?: number | null
+    highHz?: number | null
+    outcome?: NoteOutcome | null
+    regionId?: number | null
+    parentId?: number | null
+  }) {
     const set = Object.fromEntries(Object.entries(note).filter(([, v]) => v !== null && v !== undefined))
     await api.post(`/api/takes/${id.value}/comments`, set)
     await Promise.all([loadComments(), loadHistory()])
@@ -71,7 +87,21 @@ export const useBenchStore = defineStore('bench', () => {
     await Promise.all([loadComments(), loadHistory()])
   }
 
-  return { take, peaks, regions, comments, history, open, loadFinePeaks, edit, addRegion, removeRegion, comment, updateComment, loadHistory }
+  return {
+    take,
+    peaks,
+    regions,
+    comments,
+    history,
+    open,
+    loadFinePeaks,
+    edit,
+    addRegion,
+    removeRegion,
+    comment,
+    updateComment,
+    loadHistory,
+  }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useBenchStore, import.meta.hot))

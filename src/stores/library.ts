@@ -58,7 +58,18 @@ export const useLibraryStore = defineStore('library', () => {
     return res
   }
 
-  return { tagSuggestions, stateSuggestions, allTags, known, loadSuggestions, tagExists, markUsed, loadAllTags, renameTag, mergeTags }
+  return {
+    tagSuggestions,
+    stateSuggestions,
+    allTags,
+    known,
+    loadSuggestions,
+    tagExists,
+    markUsed,
+    loadAllTags,
+    renameTag,
+    mergeTags,
+  }
 })
 
 if (import.meta.hot) import.meta.hot.accept(acceptHMRUpdate(useLibraryStore, import.meta.hot))

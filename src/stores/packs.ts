@@ -1,6 +1,18 @@
 import { acceptHMRUpdate, defineStore } from 'pinia'
 import { ref } from 'vue'
-import type { AddItemBody, BuildChanges, CreatePackBody, NamingPreview, Pack, PackBuild, PackDetail, PackItem, ShareLink, UpdateItemBody, UpdatePackBody } from '@shared/schemas/packs'
+import type {
+  AddItemBody,
+  BuildChanges,
+  CreatePackBody,
+  NamingPreview,
+  Pack,
+  PackBuild,
+  PackDetail,
+  PackItem,
+  ShareLink,
+  UpdateItemBody,
+  UpdatePackBody,
+} from '@shared/schemas/packs'
 import { api } from '@/api/client'
 
 /** Packs: curating, building, publishing and sharing. */
@@ -20,7 +32,8 @@ export const usePacksStore = defineStore('packs', () => {
   }
   const reload = () => (current.value ? open(current.value.id) : Promise.resolve())
 
-  const create = async (body: Partial<CreatePackBody> & { name: string }) => (await api.post<{ pack: Pack }>('/api/packs', body)).pack
+  const create = async (body: Partial<CreatePackBody> & { name: string }) =>
+    (await api.post<{ pack: Pack }>('/api/packs', body)).pack
   async function update(patch: UpdatePackBody) {
     await api.patch(`/api/packs/${current.value!.id}`, patch)
     await reload()
@@ -59,10 +72,15 @@ export const usePacksStore = defineStore('packs', () => {
     await reload()
   }
   /** The computed starting text of a build's "what changed" note. */
-  const changes = async (buildId: number) => (await api.get<{ changes: BuildChanges }>(`/api/pack-builds/${buildId}/changes`)).changes
+  const changes = async (buildId: number) =>
+    (await api.get<{ changes: BuildChanges }>(`/api/pack-builds/${buildId}/changes`)).changes
   /** Output names the template would give the current pack's items. */
   const namingPreview = async (template: string) =>
-    (await api.get<NamingPreview>(`/api/packs/${current.value!.id}/naming-preview?template=${encodeURIComponent(template)}`)).names
+    (
+      await api.get<NamingPreview>(
+        `/api/packs/${current.value!.id}/naming-preview?template=${encodeURIComponent(template)}`,
+      )
+    ).names
 
   async function follow(packId: number, on: boolean) {
     if (on) await api.post(`/api/packs/${packId}/follow`)
@@ -71,14 +89,18 @@ export const usePacksStore = defineStore('packs', () => {
     if (current.value?.id === packId) current.value = { ...current.value, following: on }
   }
 
-  const shareLinks = async (buildId: number) => (await api.get<{ links: ShareLink[] }>(`/api/pack-builds/${buildId}/share-links`)).links
+  const shareLinks = async (buildId: number) =>
+    (await api.get<{ links: ShareLink[] }>(`/api/pack-builds/${buildId}/share-links`)).links
   const createShareLink = async (buildId: number, expiresAt: string, maxDownloads: number | null) =>
     (await api.post<{ link: ShareLink }>(`/api/pack-builds/${buildId}/share-links`, { expiresAt, maxDownloads })).link
   const revokeShareLink = (id: number) => api.delete(`/api/share-links/${id}`)
 
   const previewUrl = (itemId: number) => `/api/packs/${current.value!.id}/items/${itemId}/preview`
   /** One item of the published version, as a download (producers). */
-  const itemDownloadUrl = (itemId: number) => (current.value?.publishedBuild ? `/api/pack-builds/${current.value.publishedBuild.id}/items/${itemId}/download` : null)
+  const itemDownloadUrl = (itemId: number) =>
+    current.value?.publishedBuild
+      ? `/api/pack-builds/${current.value.publishedBuild.id}/items/${itemId}/download`
+      : null
 
   return {
     packs,

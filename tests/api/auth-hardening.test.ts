@@ -8,7 +8,15 @@ import { startServer } from '../../server/server'
 import { Client, DEMO_PASSWORD, signedIn, startTestServer, type TestServer } from '../helpers/server'
 
 const pause = (ms: number) => new Promise((r) => setTimeout(r, ms))
-const countSessions = async (s: TestServer) => Number((await s.ctx.db.selectFrom('sessions').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
+const countSessions = async (s: TestServer) =>
+  Number(
+    (
+      await s.ctx.db
+        .selectFrom('sessions')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .executeTakeFirstOrThrow()
+    ).n,
+  )
 
 let server: TestServer
 beforeAll(async () => {
@@ -32,30 +40,44 @@ describe('sign-in limits delay, they never lock the owner out', () => {
     await pause(350) // past the first delay (300 ms)
     expect((await wrong()).status).toBe(401)
     // The delay doubled (600 ms): the owner's right password waits it out, then signs in.
-    expect((await c.post('/api/auth/login', { email: 'recordist@example.test', password: DEMO_PASSWORD })).status).toBe(429)
+    expect((await c.post('/api/auth/login', { email: 'recordist@example.test', password: DEMO_PASSWORD })).status).toBe(
+      429,
+    )
     await pause(650)
-    expect((await c.post('/api/auth/login', { email: 'recordist@example.test', password: DEMO_PASSWORD })).status).toBe(200)
+    expect((await c.post('/api/auth/login', { email: 'recordist@example.test', password: DEMO_PASSWORD })).status).toBe(
+      200,
+    )
   })
 
   it('lets 20 simultaneous correct sign-ins from one address all through (requests in flight are not failures)', async () => {
-    const clients = await Promise.all(Array.from({ length: 20 }, async () => {
-      const c = new Client(server.url)
-      await c.refreshCsrf()
-      return c
-    }))
-    const answers = await Promise.all(clients.map((c) => c.post('/api/auth/login', { email: 'producer@example.test', password: DEMO_PASSWORD })))
+    const clients = await Promise.all(
+      Array.from({ length: 20 }, async () => {
+        const c = new Client(server.url)
+        await c.refreshCsrf()
+        return c
+      }),
+    )
+    const answers = await Promise.all(
+      clients.map((c) => c.post('/api/auth/login', { email: 'producer@example.test', password: DEMO_PASSWORD })),
+    )
     expect(answers.map((a) => a.status)).toEqual(Array(20).fill(200))
     await clients[0].refreshCsrf()
-    expect((await clients[0].post('/api/auth/login', { email: 'producer@example.test', password: DEMO_PASSWORD })).status).toBe(200)
+    expect(
+      (await clients[0].post('/api/auth/login', { email: 'producer@example.test', password: DEMO_PASSWORD })).status,
+    ).toBe(200)
   }, 60_000)
 
   it('meets a burst of wrong passwords sent at once with the delays too', async () => {
-    const clients = await Promise.all(Array.from({ length: 6 }, async () => {
-      const c = new Client(server.url)
-      await c.refreshCsrf()
-      return c
-    }))
-    const answers = await Promise.all(clients.map((c) => c.post('/api/auth/login', { email: 'designer@example.test', password: 'guess-guess-guess' })))
+    const clients = await Promise.all(
+      Array.from({ length: 6 }, async () => {
+        const c = new Client(server.url)
+        await c.refreshCsrf()
+        return c
+      }),
+    )
+    const answers = await Promise.all(
+      clients.map((c) => c.post('/api/auth/login', { email: 'designer@example.test', password: 'guess-guess-guess' })),
+    )
     const statuses = answers.map((a) => a.status)
     expect(statuses.filter((s) => s === 401)).toHaveLength(2)
     expect(statuses.filter((s) => s === 429)).toHaveLength(4)
@@ -70,15 +92,27 @@ describe('sessions', () => {
     const c = new Client(server.url)
     expect((await c.login('collaborator@example.test')).status).toBe(200)
     expect(await countSessions(server)).toBe(before + 1)
-    const row = await server.ctx.db.selectFrom('sessions').select(['user_id']).orderBy('created_at', 'desc').executeTakeFirstOrThrow()
+    const row = await server.ctx.db
+      .selectFrom('sessions')
+      .select(['user_id'])
+      .orderBy('created_at', 'desc')
+      .executeTakeFirstOrThrow()
     expect(row.user_id).toEqual(expect.any(Number))
   })
 
   it('ends a session 30 days after sign-in however active it stays', async () => {
     const c = await signedIn(server.url, 'admin')
     await c.get('/api/auth/me').expect(200)
-    const admin = await server.ctx.db.selectFrom('users').select('id').where('email', '=', 'admin@example.test').executeTakeFirstOrThrow()
-    await server.ctx.db.updateTable('sessions').set({ created_at: Date.now() - 31 * 24 * 3600 * 1000 }).where('user_id', '=', admin.id).execute()
+    const admin = await server.ctx.db
+      .selectFrom('users')
+      .select('id')
+      .where('email', '=', 'admin@example.test')
+      .executeTakeFirstOrThrow()
+    await server.ctx.db
+      .updateTable('sessions')
+      .set({ created_at: Date.now() - 31 * 24 * 3600 * 1000 })
+      .where('user_id', '=', admin.id)
+      .execute()
     expect((await c.get('/api/auth/me')).status).toBe(401)
   })
 })
@@ -114,7 +148,8 @@ describe('password reset', () => {
     const c = new Client(server.url)
     await c.refreshCsrf()
     const statuses = []
-    for (let i = 0; i < 4; i++) statuses.push((await c.post('/api/auth/password-reset', { email: 'someone-else@example.test' })).status)
+    for (let i = 0; i < 4; i++)
+      statuses.push((await c.post('/api/auth/password-reset', { email: 'someone-else@example.test' })).status)
     expect(statuses).toEqual([202, 202, 202, 429])
   })
 
@@ -154,8 +189,19 @@ describe('password reset', () => {
       expect(old.status).toBe(410)
       await c.post(`/api/auth/password-reset/${newer}`, { password: 'a-new-password-2' }).expect(200)
       // A link made before the reset cannot be used after it either.
-      const id = (await s.ctx.db.selectFrom('users').select('id').where('email', '=', 'producer@example.test').executeTakeFirstOrThrow()).id
-      const unused = await s.ctx.db.selectFrom('password_resets').select('id').where('user_id', '=', id).where('used_at', 'is', null).execute()
+      const id = (
+        await s.ctx.db
+          .selectFrom('users')
+          .select('id')
+          .where('email', '=', 'producer@example.test')
+          .executeTakeFirstOrThrow()
+      ).id
+      const unused = await s.ctx.db
+        .selectFrom('password_resets')
+        .select('id')
+        .where('user_id', '=', id)
+        .where('used_at', 'is', null)
+        .execute()
       expect(unused).toHaveLength(0)
     } finally {
       await s.stop()
@@ -165,7 +211,9 @@ describe('password reset', () => {
 
 describe('demo mode stays on this machine', () => {
   it('refuses to start in demo mode with a PUBLIC_URL that is not loopback, saying what to do', async () => {
-    await expect(startTestServer({ demo: true, publicUrl: 'https://sounds.studio.example' })).rejects.toThrow(/STRAYFIELD_DEMO=0.*user:create/s)
+    await expect(startTestServer({ demo: true, publicUrl: 'https://sounds.studio.example' })).rejects.toThrow(
+      /STRAYFIELD_DEMO=0.*user:create/s,
+    )
   })
 
   it('starts without demo mode on a real address, and then publishes no demo password', async () => {
@@ -181,7 +229,9 @@ describe('demo mode stays on this machine', () => {
   })
 
   it('reads the same rule from the environment (STRAYFIELD_DEMO default on, PUBLIC_URL)', async () => {
-    await expect(startServer({ port: 0 }, { ...process.env, STRAYFIELD_DEMO: '', PUBLIC_URL: 'http://192.0.2.10:5170' })).rejects.toThrow(/not a loopback address/)
+    await expect(
+      startServer({ port: 0 }, { ...process.env, STRAYFIELD_DEMO: '', PUBLIC_URL: 'http://192.0.2.10:5170' }),
+    ).rejects.toThrow(/not a loopback address/)
   })
 })
 

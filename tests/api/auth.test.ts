@@ -94,12 +94,16 @@ describe('rate limit', () => {
     await c.refreshCsrf()
     // Successful sign-ins do not count towards the limit (4 free failures in this server).
     for (let i = 0; i < 5; i++) {
-      expect((await c.post('/api/auth/login', { email: 'collaborator@example.test', password: 'strayfield-demo' })).status).toBe(200)
+      expect(
+        (await c.post('/api/auth/login', { email: 'collaborator@example.test', password: 'strayfield-demo' })).status,
+      ).toBe(200)
       await c.refreshCsrf()
     }
     const statuses: number[] = []
     for (let i = 0; i < 6; i++) {
-      statuses.push((await c.post('/api/auth/login', { email: 'recordist@example.test', password: 'not-the-password' })).status)
+      statuses.push(
+        (await c.post('/api/auth/login', { email: 'recordist@example.test', password: 'not-the-password' })).status,
+      )
     }
     expect(statuses.slice(0, 4)).toEqual([401, 401, 401, 401])
     expect(statuses[4]).toBe(429)
@@ -108,7 +112,9 @@ describe('rate limit', () => {
     expect(last.body.error.code).toBe('TOO_MANY_ATTEMPTS')
     // A delay, not a lock: once it has passed the owner signs in.
     await new Promise((r) => setTimeout(r, 450))
-    expect((await c.post('/api/auth/login', { email: 'recordist@example.test', password: 'strayfield-demo' })).status).toBe(200)
+    expect(
+      (await c.post('/api/auth/login', { email: 'recordist@example.test', password: 'strayfield-demo' })).status,
+    ).toBe(200)
     await limited.stop()
   })
 })

@@ -23,7 +23,10 @@ afterAll(async () => {
 })
 
 const npm = (script: string, dir: string, db: string, storage: string) =>
-  run('npm', ['run', '--silent', script, '--', dir], { env: { ...process.env, STRAYFIELD_DB: db, STRAYFIELD_STORAGE: storage }, timeout: 120_000 })
+  run('npm', ['run', '--silent', script, '--', dir], {
+    env: { ...process.env, STRAYFIELD_DB: db, STRAYFIELD_STORAGE: storage },
+    timeout: 120_000,
+  })
 
 describe('backup and restore', () => {
   it('backs up while uploads run; the restored copy is intact, every take plays and matches its SHA-256', async () => {
@@ -36,7 +39,10 @@ describe('backup and restore', () => {
     const uploader = async () => {
       while (backingUp || next < 4) {
         const i = next++
-        const file = soxWav(path.join(server.dir, 'src', `b${i}.wav`), { seconds: 1 + (i % 3), synth: ['sine', String(300 + 7 * i)] })
+        const file = soxWav(path.join(server.dir, 'src', `b${i}.wav`), {
+          seconds: 1 + (i % 3),
+          synth: ['sine', String(300 + 7 * i)],
+        })
         const res = await uploadTake(rec, s.id, file, `b${i}.wav`)
         expect(res.status).toBe(201)
         uploaded++
@@ -61,28 +67,44 @@ describe('backup and restore', () => {
     const restoredStorage = path.join(fresh, 'storage')
     await npm('restore', dir, restoredDb, restoredStorage)
     // A second restore onto the same place is refused: restore never overwrites data.
-    await expect(npm('restore', dir, restoredDb, restoredStorage)).rejects.toMatchObject({ stderr: expect.stringContaining('restore into a fresh place') })
+    await expect(npm('restore', dir, restoredDb, restoredStorage)).rejects.toMatchObject({
+      stderr: expect.stringContaining('restore into a fresh place'),
+    })
 
     const db = new SQLite(restoredDb, { readonly: true })
     expect(db.pragma('integrity_check', { simple: true })).toBe('ok')
-    const rows = db.prepare('SELECT id, audio_path, sha256 FROM takes').all() as { id: number; audio_path: string; sha256: string }[]
+    const rows = db.prepare('SELECT id, audio_path, sha256 FROM takes').all() as {
+      id: number
+      audio_path: string
+      sha256: string
+    }[]
     db.close()
     expect(rows.length).toBeGreaterThan(0)
     // No row without its file, no audio file without its row.
-    const audioFiles = fs.readdirSync(path.join(restoredStorage, 'audio'), { recursive: true }).map(String).filter((f) => f.endsWith('.wav'))
+    const audioFiles = fs
+      .readdirSync(path.join(restoredStorage, 'audio'), { recursive: true })
+      .map(String)
+      .filter((f) => f.endsWith('.wav'))
     expect(audioFiles.map((f) => path.join('audio', f)).sort()).toEqual(rows.map((r) => r.audio_path).sort())
 
     const copy = await startTestServer({ dbFile: restoredDb, storageDir: restoredStorage })
     try {
       const designer = await signedIn(copy.url, 'designer')
       for (const r of rows) {
-        const res = await designer.get(`/api/takes/${r.id}/audio`).buffer(true).parse((resp, cb) => {
-          const parts: Buffer[] = []
-          resp.on('data', (d: Buffer) => parts.push(d))
-          resp.on('end', () => cb(null, Buffer.concat(parts)))
-        })
+        const res = await designer
+          .get(`/api/takes/${r.id}/audio`)
+          .buffer(true)
+          .parse((resp, cb) => {
+            const parts: Buffer[] = []
+            resp.on('data', (d: Buffer) => parts.push(d))
+            resp.on('end', () => cb(null, Buffer.concat(parts)))
+          })
         expect(res.status, `take ${r.id}`).toBe(200)
-        expect(createHash('sha256').update(res.body as Buffer).digest('hex')).toBe(r.sha256)
+        expect(
+          createHash('sha256')
+            .update(res.body as Buffer)
+            .digest('hex'),
+        ).toBe(r.sha256)
       }
     } finally {
       await copy.stop()
@@ -92,7 +114,9 @@ describe('backup and restore', () => {
   it('refuses a folder without a finished manifest', async () => {
     const empty = path.join(server.dir, 'not-a-backup')
     fs.mkdirSync(empty)
-    await expect(npm('restore', empty, path.join(server.dir, 'x.sqlite'), path.join(server.dir, 'x-storage'))).rejects.toMatchObject({
+    await expect(
+      npm('restore', empty, path.join(server.dir, 'x.sqlite'), path.join(server.dir, 'x-storage')),
+    ).rejects.toMatchObject({
       stderr: expect.stringContaining('holds no manifest.json'),
     })
   }, 60_000)

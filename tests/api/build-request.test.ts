@@ -35,12 +35,20 @@ describe('build request', () => {
     } finally {
       jobs.enqueue = enqueue
     }
-    const rows = await server.ctx.db.selectFrom('pack_builds').select(['id', 'job_id', 'status']).where('pack_id', '=', pack.id).execute()
+    const rows = await server.ctx.db
+      .selectFrom('pack_builds')
+      .select(['id', 'job_id', 'status'])
+      .where('pack_id', '=', pack.id)
+      .execute()
     expect(rows).toEqual([])
 
     const ok = await designer.post(`/api/packs/${pack.id}/builds`).expect(202)
     expect(ok.body.build.version).toBe(1)
-    const row = await server.ctx.db.selectFrom('pack_builds').select(['job_id']).where('id', '=', ok.body.build.id).executeTakeFirstOrThrow()
+    const row = await server.ctx.db
+      .selectFrom('pack_builds')
+      .select(['job_id'])
+      .where('id', '=', ok.body.build.id)
+      .executeTakeFirstOrThrow()
     expect(row.job_id).toEqual(expect.any(Number))
     expect((await waitForBuild(designer, ok.body.build.id)).status).toBe('done')
   }, 60_000)

@@ -54,9 +54,17 @@ describe('one server per data folder', () => {
     const { dbFile, storageDir } = other.ctx.config
     await expect(startServer({ port: 0, dbFile, storageDir, demo: false })).rejects.toThrow(DataLockedError)
     // Only the storage folder shared: refused as well, naming it.
-    await expect(startServer({ port: 0, dbFile: path.join(other.dir, 'elsewhere.sqlite'), storageDir, demo: false })).rejects.toThrow(`the storage folder ${storageDir}`)
+    await expect(
+      startServer({ port: 0, dbFile: path.join(other.dir, 'elsewhere.sqlite'), storageDir, demo: false }),
+    ).rejects.toThrow(`the storage folder ${storageDir}`)
     await other.stop()
-    const next = await startServer({ port: 0, dbFile, storageDir, demo: false, clientDir: path.join(other.dir, 'none') })
+    const next = await startServer({
+      port: 0,
+      dbFile,
+      storageDir,
+      demo: false,
+      clientDir: path.join(other.dir, 'none'),
+    })
     await next.stop()
   }, 60_000)
 })

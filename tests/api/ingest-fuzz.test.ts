@@ -34,12 +34,17 @@ const base = encodeWav([sine(8000, 0.05, 440, -6), sine(8000, 0.05, 880, -12)], 
 
 /** One of: overwrite bytes in the first 128 (sizes, ids, format fields), truncate, or append junk. */
 const mutation = fc.oneof(
-  fc.record({ kind: fc.constant('poke' as const), at: fc.integer({ min: 0, max: 127 }), bytes: fc.uint8Array({ minLength: 1, maxLength: 8 }) }),
+  fc.record({
+    kind: fc.constant('poke' as const),
+    at: fc.integer({ min: 0, max: 127 }),
+    bytes: fc.uint8Array({ minLength: 1, maxLength: 8 }),
+  }),
   fc.record({ kind: fc.constant('cut' as const), at: fc.integer({ min: 0, max: base.length }) }),
   fc.record({ kind: fc.constant('tail' as const), bytes: fc.uint8Array({ minLength: 1, maxLength: 64 }) }),
 )
 
-type Mutation = { kind: 'poke'; at: number; bytes: Uint8Array } | { kind: 'cut'; at: number } | { kind: 'tail'; bytes: Uint8Array }
+type Mutation =
+  { kind: 'poke'; at: number; bytes: Uint8Array } | { kind: 'cut'; at: number } | { kind: 'tail'; bytes: Uint8Array }
 
 function apply(b: Buffer, m: Mutation): Buffer {
   if (m.kind === 'poke') {

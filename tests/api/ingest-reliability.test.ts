@@ -41,7 +41,11 @@ describe('nothing freezes', () => {
     expect(take.analysis.metadata.cues).toHaveLength(1024)
     expect(Object.keys(take.analysis.metadata.info).length).toBeLessThanOrEqual(1024)
     expect(take.analysis.metadata.dropped).toContain('cue: 200000 entries, read the first 1024')
-    const row = await server.ctx.db.selectFrom('takes').select('analysis_json').where('id', '=', take.id).executeTakeFirstOrThrow()
+    const row = await server.ctx.db
+      .selectFrom('takes')
+      .select('analysis_json')
+      .where('id', '=', take.id)
+      .executeTakeFirstOrThrow()
     expect(row.analysis_json!.length).toBeLessThan(512 * 1024)
   })
 
@@ -61,16 +65,24 @@ describe('nothing freezes', () => {
 })
 
 describe('nothing is lost', () => {
-  it('20 rounds of 3 parallel uploads of identical bytes: one 201 and two 409 each round, every take\'s audio present and intact', async () => {
+  it("20 rounds of 3 parallel uploads of identical bytes: one 201 and two 409 each round, every take's audio present and intact", async () => {
     for (let round = 0; round < 20; round++) {
-      const file = soxWav(path.join(server.dir, `par-${round}.wav`), { seconds: 0.2, synth: ['sine', String(200 + round * 37)] })
+      const file = soxWav(path.join(server.dir, `par-${round}.wav`), {
+        seconds: 0.2,
+        synth: ['sine', String(200 + round * 37)],
+      })
       const answers = await Promise.all([0, 1, 2].map((i) => uploadTake(rec, sessionId, file, `par-${round}-${i}.wav`)))
       const codes = answers.map((a) => a.status).sort()
       expect(codes, `round ${round}`).toEqual([201, 409, 409])
       const won = answers.find((a) => a.status === 201)!.body.take.id
-      for (const lost of answers.filter((a) => a.status === 409)) expect(lost.body.error).toMatchObject({ code: 'DUPLICATE', details: { takeId: won } })
+      for (const lost of answers.filter((a) => a.status === 409))
+        expect(lost.body.error).toMatchObject({ code: 'DUPLICATE', details: { takeId: won } })
     }
-    const rows = await server.ctx.db.selectFrom('takes').select(['id', 'audio_path', 'sha256', 'size_bytes']).where('filename', 'like', 'par-%').execute()
+    const rows = await server.ctx.db
+      .selectFrom('takes')
+      .select(['id', 'audio_path', 'sha256', 'size_bytes'])
+      .where('filename', 'like', 'par-%')
+      .execute()
     expect(rows).toHaveLength(20)
     for (const r of rows) {
       const p = server.ctx.storage.abs(r.audio_path)
@@ -85,22 +97,32 @@ describe('nothing is lost', () => {
     const file = soxWav(path.join(server.dir, 'cut.wav'), { seconds: 2, synth: ['sine', '1234'] })
     const boundary = 'sfcut'
     const body = Buffer.concat([
-      Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="cut.wav"\r\nContent-Type: audio/wav\r\n\r\n`),
+      Buffer.from(
+        `--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="cut.wav"\r\nContent-Type: audio/wav\r\n\r\n`,
+      ),
       fs.readFileSync(file),
       Buffer.from(`\r\n--${boundary}--\r\n`),
     ])
     const cookie = (await rec.get('/api/auth/me')).request.cookies
-    const count = async () => (await server.ctx.db.selectFrom('takes').select('id').where('filename', '=', 'cut.wav').execute()).length
+    const count = async () =>
+      (await server.ctx.db.selectFrom('takes').select('id').where('filename', '=', 'cut.wav').execute()).length
     for (const at of [40, 120, Math.floor(body.length / 2), body.length - 12, body.length - 1]) {
       await new Promise<void>((resolve) => {
         const req = http.request(`${server.url}/api/capture-sessions/${sessionId}/takes`, {
           method: 'POST',
-          headers: { 'content-type': `multipart/form-data; boundary=${boundary}`, 'content-length': String(body.length), 'x-csrf-token': rec.token, cookie },
+          headers: {
+            'content-type': `multipart/form-data; boundary=${boundary}`,
+            'content-length': String(body.length),
+            'x-csrf-token': rec.token,
+            cookie,
+          },
         })
         req.on('error', () => resolve())
         req.write(body.subarray(0, at), () => setTimeout(() => (req.destroy(), resolve()), 100))
       })
-      await expect.poll(() => fs.readdirSync(path.join(server.ctx.config.storageDir, 'incoming')), { timeout: 5000 }).toEqual([])
+      await expect
+        .poll(() => fs.readdirSync(path.join(server.ctx.config.storageDir, 'incoming')), { timeout: 5000 })
+        .toEqual([])
       expect(await count(), `cut at byte ${at} of ${body.length}`).toBe(0)
     }
     const sha256 = sha(file)
@@ -115,7 +137,10 @@ describe('nothing is lost', () => {
     expect(ready.status).toBe(409)
     expect(ready.body.error.code).toBe('NOT_FAILED')
     // As a full disk left it: failed, with the words of a passing failure.
-    const error = failureText('ENOSPC: no space left on device, write', Object.assign(new Error('x'), { code: 'ENOSPC' }))
+    const error = failureText(
+      'ENOSPC: no space left on device, write',
+      Object.assign(new Error('x'), { code: 'ENOSPC' }),
+    )
     expect(error).toMatch(/measuring again may help/)
     await server.ctx.db.updateTable('takes').set({ status: 'failed', error }).where('id', '=', id).execute()
     expect((await (await signedIn(server.url, 'producer')).post(`/api/takes/${id}/measure`)).status).toBe(403)
@@ -131,14 +156,20 @@ describe('nothing is lost', () => {
 
   it('says when measuring again will not help', () => {
     expect(failureText('not a WAVE file', new WavFormatError('not a WAVE file'))).toMatch(/will not help/)
-    expect(failureText('gone', Object.assign(new Error('gone'), { code: 'ENOENT' }))).toMatch(/only once the audio file is back/)
+    expect(failureText('gone', Object.assign(new Error('gone'), { code: 'ENOENT' }))).toMatch(
+      /only once the audio file is back/,
+    )
   })
 
   it('a missing audio file is refused with FILE_MISSING rather than queued to fail again', async () => {
     const file = soxWav(path.join(server.dir, 'gone.wav'), { seconds: 0.5, synth: ['sine', '777'] })
     const id = (await uploadTake(rec, sessionId, file, 'gone.wav')).body.take.id
     await waitForTake(rec, id)
-    const row = await server.ctx.db.selectFrom('takes').select('audio_path').where('id', '=', id).executeTakeFirstOrThrow()
+    const row = await server.ctx.db
+      .selectFrom('takes')
+      .select('audio_path')
+      .where('id', '=', id)
+      .executeTakeFirstOrThrow()
     await server.ctx.db.updateTable('takes').set({ status: 'failed', error: 'x' }).where('id', '=', id).execute()
     const moved = server.ctx.storage.abs(row.audio_path) + '.aside'
     fs.renameSync(server.ctx.storage.abs(row.audio_path), moved)

@@ -14,12 +14,22 @@ let sessionId: number
 let dir: string
 
 const incoming = () => fs.readdirSync(path.join(server.ctx.config.storageDir, 'incoming'))
-const takeCount = async () => Number((await server.ctx.db.selectFrom('takes').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
+const takeCount = async () =>
+  Number(
+    (
+      await server.ctx.db
+        .selectFrom('takes')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .executeTakeFirstOrThrow()
+    ).n,
+  )
 
 beforeAll(async () => {
   server = await startTestServer()
   rec = await signedIn(server.url, 'recordist')
-  sessionId = (await createSession(rec, { rig: { pickup: 'Induction coil', gainDb: 40, recorder: 'Two-track', notes: '' } })).id
+  sessionId = (
+    await createSession(rec, { rig: { pickup: 'Induction coil', gainDb: 40, recorder: 'Two-track', notes: '' } })
+  ).id
   dir = path.join(server.dir, 'files')
 })
 afterAll(async () => {
@@ -29,7 +39,11 @@ afterAll(async () => {
 describe('capture sessions', () => {
   it('creates, reads and edits a session with its rig', async () => {
     const s = (await rec.get(`/api/capture-sessions/${sessionId}`).expect(200)).body.session
-    expect(s).toMatchObject({ title: 'Test capture', date: '2026-11-30', rig: { pickup: 'Induction coil', gainDb: 40, recorder: 'Two-track' } })
+    expect(s).toMatchObject({
+      title: 'Test capture',
+      date: '2026-11-30',
+      rig: { pickup: 'Induction coil', gainDb: 40, recorder: 'Two-track' },
+    })
     const patched = await rec.patch(`/api/capture-sessions/${sessionId}`, { location: 'Bench 3', rig: { gainDb: 36 } })
     expect(patched.status).toBe(200)
     expect(patched.body.session).toMatchObject({ location: 'Bench 3', rig: { gainDb: 36, pickup: 'Induction coil' } })
@@ -51,7 +65,13 @@ describe('upload and measurement', () => {
     expect(take.sha256).toBe(execFileSync('sha256sum', [file]).toString().split(' ')[0])
     expect(take.sizeBytes).toBe(fs.statSync(file).size)
     // Format fields against soxi (Debian sox).
-    expect(take.format).toMatchObject({ container: 'RIFF', encoding: 'pcm', sampleRate: 44100, channels: 2, bitsPerSample: 16 })
+    expect(take.format).toMatchObject({
+      container: 'RIFF',
+      encoding: 'pcm',
+      sampleRate: 44100,
+      channels: 2,
+      bitsPerSample: 16,
+    })
     expect(take.format!.frames).toBe(Number(execFileSync('soxi', ['-s', file]).toString().trim()))
     // sox's "vol 0.5" sine: sample peak −6.02 dBFS (20·log10(0.5)).
     expect(take.analysis!.levels.samplePeakDbfs!).toBeCloseTo(-6.02, 1)
@@ -67,7 +87,20 @@ describe('upload and measurement', () => {
 
   it('keeps a UTF-8 file name and prefills the title from the INFO title ffmpeg wrote', async () => {
     const file = path.join(dir, 'labelled.wav')
-    execFileSync('ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'sine=frequency=440:duration=1', '-metadata', 'title=Charger under load', '-metadata', 'comment=coil at 2 cm', file])
+    execFileSync('ffmpeg', [
+      '-v',
+      'error',
+      '-y',
+      '-f',
+      'lavfi',
+      '-i',
+      'sine=frequency=440:duration=1',
+      '-metadata',
+      'title=Charger under load',
+      '-metadata',
+      'comment=coil at 2 cm',
+      file,
+    ])
     const res = await uploadTake(rec, sessionId, file, 'Ladegerät – Spule.wav')
     expect(res.status).toBe(201)
     const take = await waitForTake(rec, res.body.take.id)
@@ -78,7 +111,12 @@ describe('upload and measurement', () => {
 
   it('refuses a file that is not a WAV by its content, whatever its name: 415, nothing left behind', async () => {
     const before = await takeCount()
-    const res = await uploadTake(rec, sessionId, Buffer.from('ID3\u0003this is an mp3 pretending to be a wav'), 'fake.wav')
+    const res = await uploadTake(
+      rec,
+      sessionId,
+      Buffer.from('ID3\u0003this is an mp3 pretending to be a wav'),
+      'fake.wav',
+    )
     expect(res.status).toBe(415)
     expect(res.body.error.code).toBe('UNSUPPORTED_AUDIO')
     expect(res.body.error.message).toContain('fake.wav')
@@ -117,7 +155,8 @@ describe('upload and measurement', () => {
 
   it('applies the capture session default source device and state to each upload', async () => {
     const designer = await signedIn(server.url, 'designer')
-    const src = (await designer.post('/api/sources', { name: 'Test charger', kind: 'power-supply' }).expect(201)).body.source
+    const src = (await designer.post('/api/sources', { name: 'Test charger', kind: 'power-supply' }).expect(201)).body
+      .source
     const s = await createSession(rec, { title: 'With default', defaultSourceId: src.id, defaultState: 'charging' })
     const file = soxWav(path.join(dir, 'withsource.wav'), { seconds: 1, synth: ['sine', '300'] })
     const res = await uploadTake(rec, s.id, file, 'withsource.wav')
@@ -166,7 +205,9 @@ describe('limits and cut-off uploads', () => {
         },
       })
       req.on('error', () => resolve())
-      req.write(`--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="cut.wav"\r\nContent-Type: audio/wav\r\n\r\n`)
+      req.write(
+        `--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="cut.wav"\r\nContent-Type: audio/wav\r\n\r\n`,
+      )
       req.write(Buffer.alloc(300_000, 7))
       setTimeout(() => {
         req.destroy()
@@ -208,7 +249,11 @@ describe('durable analysis jobs', () => {
       const s = await createSession(c)
       const file = soxWav(path.join(s2.dir, 'vanish.wav'), { seconds: 1 })
       const id = (await uploadTake(c, s.id, file, 'vanish.wav')).body.take.id
-      const row = await s2.ctx.db.selectFrom('takes').select('audio_path').where('id', '=', id).executeTakeFirstOrThrow()
+      const row = await s2.ctx.db
+        .selectFrom('takes')
+        .select('audio_path')
+        .where('id', '=', id)
+        .executeTakeFirstOrThrow()
       fs.rmSync(s2.ctx.storage.abs(row.audio_path))
       await s2.ctx.jobs.start()
       const take = await waitForTake(c, id)

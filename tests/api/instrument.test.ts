@@ -41,7 +41,12 @@ beforeAll(async () => {
   longTake = await upload(recordist, [new Float32Array(8000 * (MAX_LOOP_SECONDS + 2))], 8000, 'long')
   adminTake = await upload(admin, [humWithHarmonics(1, 8000)], 8000, 'admin-hum')
   const r = prng(8)
-  noiseTake = await upload(recordist, [new Float32Array(48000 * MAX_LOOP_SECONDS).map(() => 0.3 * (2 * r() - 1))], 48000, 'noise')
+  noiseTake = await upload(
+    recordist,
+    [new Float32Array(48000 * MAX_LOOP_SECONDS).map(() => 0.3 * (2 * r() - 1))],
+    48000,
+    'noise',
+  )
 }, 120_000)
 afterAll(async () => {
   await server.stop()
@@ -52,10 +57,17 @@ describe('POST /api/takes/:id/onset-suggestions', () => {
     const res = await designer.post(`/api/takes/${burstTake}/onset-suggestions`, {})
     expect(res.status, JSON.stringify(res.body)).toBe(200)
     const { slices } = OnsetSuggestionsResponse.parse(res.body)
-    expect(fMeasure(bursts.onsets, slices.map((s) => s.startSeconds), 0.02).f).toBeGreaterThanOrEqual(0.9)
+    expect(
+      fMeasure(
+        bursts.onsets,
+        slices.map((s) => s.startSeconds),
+        0.02,
+      ).f,
+    ).toBeGreaterThanOrEqual(0.9)
     for (const s of slices) {
       let peak = 0
-      for (let i = Math.round(s.startSeconds * 48000); i < Math.round(s.endSeconds * 48000); i++) peak = Math.max(peak, Math.abs(bursts.samples[i]))
+      for (let i = Math.round(s.startSeconds * 48000); i < Math.round(s.endSeconds * 48000); i++)
+        peak = Math.max(peak, Math.abs(bursts.samples[i]))
       // The louder (left) channel's peak; per-millisecond peaks allow a little more, 24-bit rounding a little less.
       expect(s.peakDbfs).toBeGreaterThanOrEqual(20 * Math.log10(peak) - 0.01)
       expect(s.peakDbfs).toBeLessThan(20 * Math.log10(peak) + 1)
@@ -63,11 +75,21 @@ describe('POST /api/takes/:id/onset-suggestions', () => {
   })
 
   it('reads only the range asked for, in the take’s own seconds', async () => {
-    const res = await recordist.post(`/api/takes/${burstTake}/onset-suggestions`, { startSeconds: 2, endSeconds: 4, sensitivity: 0.5 })
+    const res = await recordist.post(`/api/takes/${burstTake}/onset-suggestions`, {
+      startSeconds: 2,
+      endSeconds: 4,
+      sensitivity: 0.5,
+    })
     expect(res.status).toBe(200)
     const { slices } = OnsetSuggestionsResponse.parse(res.body)
     const inside = bursts.onsets.filter((t) => t >= 2.02 && t < 3.98)
-    expect(fMeasure(inside, slices.map((s) => s.startSeconds), 0.02).f).toBeGreaterThanOrEqual(0.9)
+    expect(
+      fMeasure(
+        inside,
+        slices.map((s) => s.startSeconds),
+        0.02,
+      ).f,
+    ).toBeGreaterThanOrEqual(0.9)
     for (const s of slices) {
       expect(s.startSeconds).toBeGreaterThanOrEqual(2)
       expect(s.endSeconds).toBeLessThanOrEqual(4)
@@ -93,7 +115,11 @@ describe('POST /api/takes/:id/onset-suggestions', () => {
 
 describe('POST /api/takes/:id/loop-suggestions', () => {
   it('proposes whole-period loops of a hum near the length asked', async () => {
-    const res = await designer.post(`/api/takes/${humTake}/loop-suggestions`, { startSeconds: 0.5, endSeconds: 2.5, approxLengthSeconds: 1 })
+    const res = await designer.post(`/api/takes/${humTake}/loop-suggestions`, {
+      startSeconds: 0.5,
+      endSeconds: 2.5,
+      approxLengthSeconds: 1,
+    })
     expect(res.status, JSON.stringify(res.body)).toBe(200)
     const { loops } = LoopSuggestionsResponse.parse(res.body)
     expect(loops.length).toBeGreaterThan(0)
@@ -108,11 +134,17 @@ describe('POST /api/takes/:id/loop-suggestions', () => {
   })
 
   it('caps the range read with a clear 400', async () => {
-    const res = await designer.post(`/api/takes/${longTake}/loop-suggestions`, { startSeconds: 0, endSeconds: MAX_LOOP_SECONDS + 1 })
+    const res = await designer.post(`/api/takes/${longTake}/loop-suggestions`, {
+      startSeconds: 0,
+      endSeconds: MAX_LOOP_SECONDS + 1,
+    })
     expect(res.status).toBe(400)
     expect(res.body.error.code).toBe('RANGE_TOO_LONG')
     expect(res.body.error.message).toContain(`at most ${MAX_LOOP_SECONDS} s`)
-    const ok = await designer.post(`/api/takes/${longTake}/loop-suggestions`, { startSeconds: 1, endSeconds: MAX_LOOP_SECONDS + 1 })
+    const ok = await designer.post(`/api/takes/${longTake}/loop-suggestions`, {
+      startSeconds: 1,
+      endSeconds: MAX_LOOP_SECONDS + 1,
+    })
     expect(ok.status).toBe(200) // digital silence: nothing to cycle is still an answer
   })
 
@@ -137,10 +169,12 @@ describe('POST /api/takes/:id/loop-suggestions', () => {
 describe('off the API thread', () => {
   it('answers other requests while a long search runs (the search is on a worker thread)', async () => {
     const order: string[] = []
-    const search = designer.post(`/api/takes/${noiseTake}/loop-suggestions`, { startSeconds: 0, endSeconds: MAX_LOOP_SECONDS }).then((res) => {
-      order.push('search')
-      return res
-    })
+    const search = designer
+      .post(`/api/takes/${noiseTake}/loop-suggestions`, { startSeconds: 0, endSeconds: MAX_LOOP_SECONDS })
+      .then((res) => {
+        order.push('search')
+        return res
+      })
     // Wait until the search has been received (its request is parsed and on the pool), then ask for health.
     await new Promise((resolve) => setTimeout(resolve, 100))
     const health = await designer.get('/api/health')
@@ -172,11 +206,20 @@ describe('who may ask', () => {
   it('answers 409 for a take not yet measured and 404 FILE_MISSING, without a path, when its file is gone', async () => {
     const users = await userIds(server.ctx.db)
     const session = await insertSession(server.ctx.db, 'Rows only')
-    const pending = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Still analyzing' })
+    const pending = await insertTakeRow(server.ctx.db, {
+      sessionId: session,
+      uploaderId: users.recordist,
+      title: 'Still analyzing',
+    })
     await server.ctx.db.updateTable('takes').set({ status: 'analyzing' }).where('id', '=', pending).execute()
     const early = await designer.post(`/api/takes/${pending}/onset-suggestions`, {})
     expect([early.status, early.body.error.code]).toEqual([409, 'NOT_MEASURED'])
-    const gone = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'File lost', duration: 2 })
+    const gone = await insertTakeRow(server.ctx.db, {
+      sessionId: session,
+      uploaderId: users.recordist,
+      title: 'File lost',
+      duration: 2,
+    })
     const res = await designer.post(`/api/takes/${gone}/loop-suggestions`, { startSeconds: 0, endSeconds: 1 })
     expect([res.status, res.body.error.code]).toEqual([404, 'FILE_MISSING'])
     expect(JSON.stringify(res.body)).not.toContain(server.dir)
@@ -184,6 +227,8 @@ describe('who may ask', () => {
 
   it('answers 404 for an unknown take', async () => {
     expect((await designer.post('/api/takes/999999/onset-suggestions', {})).status).toBe(404)
-    expect((await designer.post('/api/takes/999999/loop-suggestions', { startSeconds: 0, endSeconds: 1 })).status).toBe(404)
+    expect((await designer.post('/api/takes/999999/loop-suggestions', { startSeconds: 0, endSeconds: 1 })).status).toBe(
+      404,
+    )
   })
 })

@@ -31,7 +31,9 @@ function audio(range?: string) {
 beforeAll(async () => {
   server = await startTestServer()
   const recordist = await signedIn(server.url, 'recordist')
-  const session = await recordist.post('/api/capture-sessions', { title: 'Range check bench', date: '2026-11-30' }).expect(201)
+  const session = await recordist
+    .post('/api/capture-sessions', { title: 'Range check bench', date: '2026-11-30' })
+    .expect(201)
   // 1.2345 s of 50 Hz hum, 16-bit mono: an odd-sized file, so off-by-one errors show.
   const wav = encodeWav(mainsHum({ hz: 50, seconds: 1.2345, sampleRate: 48000, levelDbfs: -20, seed: 3 }), {
     sampleRate: 48000,
@@ -47,7 +49,11 @@ beforeAll(async () => {
     .attach('file', file)
   expect(up.status, JSON.stringify(up.body)).toBe(201)
   takeId = up.body.take.id
-  const row = await server.ctx.db.selectFrom('takes').select(['audio_path', 'size_bytes']).where('id', '=', takeId).executeTakeFirstOrThrow()
+  const row = await server.ctx.db
+    .selectFrom('takes')
+    .select(['audio_path', 'size_bytes'])
+    .where('id', '=', takeId)
+    .executeTakeFirstOrThrow()
   onDisk = fs.readFileSync(server.ctx.storage.abs(row.audio_path))
   size = onDisk.length
   expect(row.size_bytes).toBe(size)

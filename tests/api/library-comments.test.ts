@@ -20,9 +20,20 @@ beforeAll(async () => {
   server = await startTestServer({ smtpUrl: smtp.url, mailCatcher: false, publicUrl: PUBLIC_URL })
   users = await userIds(server.ctx.db)
   const session = await insertSession(server.ctx.db, 'Comment bench')
-  take = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Charger whine, long', duration: 30 })
-  otherTake = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Another take', duration: 10 })
-  for (const role of ['admin', 'recordist', 'designer', 'producer', 'collaborator']) as[role] = await signedIn(server.url, role)
+  take = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Charger whine, long',
+    duration: 30,
+  })
+  otherTake = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Another take',
+    duration: 10,
+  })
+  for (const role of ['admin', 'recordist', 'designer', 'producer', 'collaborator'])
+    as[role] = await signedIn(server.url, role)
 })
 afterAll(async () => {
   await server.stop()
@@ -45,7 +56,9 @@ interface ApiComment {
   mentions: { id: number; name: string }[]
 }
 
-const comments = async (id = take) => CommentsResponse.parse((await as.collaborator.get(`/api/takes/${id}/comments`).expect(200)).body).comments as ApiComment[]
+const comments = async (id = take) =>
+  CommentsResponse.parse((await as.collaborator.get(`/api/takes/${id}/comments`).expect(200)).body)
+    .comments as ApiComment[]
 const post = (role: string, body: object, id = take) => as[role].post(`/api/takes/${id}/comments`, body)
 
 describe('threads', () => {
@@ -56,11 +69,24 @@ describe('threads', () => {
     const a = await post('designer', { body: 'Whine starts clean here', atSeconds: 12.5 })
     expect(a.status).toBe(201)
     first = CommentResponse.parse(a.body).comment
-    expect(first).toMatchObject({ number: 1, parentId: null, atSeconds: 12.5, regionId: null, resolved: false, author: { id: users.designer, name: 'Dana Humbucker' }, editedAt: null })
+    expect(first).toMatchObject({
+      number: 1,
+      parentId: null,
+      atSeconds: 12.5,
+      regionId: null,
+      resolved: false,
+      author: { id: users.designer, name: 'Dana Humbucker' },
+      editedAt: null,
+    })
 
     const reply = await post('recordist', { body: 'Agreed, the coil was closest then', parentId: first.id })
     expect(reply.status).toBe(201)
-    expect(reply.body.comment).toMatchObject({ number: null, parentId: first.id, atSeconds: null, author: { name: 'Rory Coilwright' } })
+    expect(reply.body.comment).toMatchObject({
+      number: null,
+      parentId: first.id,
+      atSeconds: null,
+      author: { name: 'Rory Coilwright' },
+    })
 
     const b = await post('producer', { body: 'Too hot for the intro' })
     second = b.body.comment
@@ -84,16 +110,25 @@ describe('threads', () => {
   it('lets anyone who may comment resolve and reopen a thread', async () => {
     const res = await as.collaborator.patch(`/api/takes/${take}/comments/${first.id}`, { resolved: true })
     expect(res.status).toBe(200)
-    expect(res.body.comment).toMatchObject({ id: first.id, resolved: true, resolvedBy: { id: users.collaborator, name: 'Cass Earwig' } })
+    expect(res.body.comment).toMatchObject({
+      id: first.id,
+      resolved: true,
+      resolvedBy: { id: users.collaborator, name: 'Cass Earwig' },
+    })
     expect(typeof res.body.comment.resolvedAt).toBe('string')
     const reopened = await as.producer.patch(`/api/takes/${take}/comments/${first.id}`, { resolved: false })
     expect(reopened.body.comment).toMatchObject({ resolved: false, resolvedAt: null, resolvedBy: null })
     await as.producer.patch(`/api/takes/${take}/comments/${first.id}`, { resolved: true }).expect(200)
-    expect((await comments()).find((x) => x.id === first.id)).toMatchObject({ resolved: true, resolvedBy: { name: 'Pim Loopington' } })
+    expect((await comments()).find((x) => x.id === first.id)).toMatchObject({
+      resolved: true,
+      resolvedBy: { name: 'Pim Loopington' },
+    })
   })
 
   it('lets only the author change the text, and marks it edited', async () => {
-    const mine = await as.producer.patch(`/api/takes/${take}/comments/${second.id}`, { body: 'Too hot for the intro; fine for the outro' })
+    const mine = await as.producer.patch(`/api/takes/${take}/comments/${second.id}`, {
+      body: 'Too hot for the intro; fine for the outro',
+    })
     expect(mine.status).toBe(200)
     expect(mine.body.comment.body).toBe('Too hot for the intro; fine for the outro')
     expect(typeof mine.body.comment.editedAt).toBe('string')
@@ -108,10 +143,26 @@ describe('threads', () => {
   })
 
   it('writes comments, replies, resolving and reopening into the history', async () => {
-    const events = (await as.producer.get(`/api/takes/${take}/history`)).body.events as { kind: string; summary: string; user: { name: string } | null }[]
+    const events = (await as.producer.get(`/api/takes/${take}/history`)).body.events as {
+      kind: string
+      summary: string
+      user: { name: string } | null
+    }[]
     const oldestFirst = [...events].reverse()
-    expect(oldestFirst.map((e) => e.kind)).toEqual(['commented', 'replied', 'commented', 'replied', 'commented', 'resolved', 'reopened', 'resolved'])
-    expect(oldestFirst[0]).toMatchObject({ summary: 'Note #1 at 0:12.5: \u201cWhine starts clean here\u201d', user: { name: 'Dana Humbucker' } })
+    expect(oldestFirst.map((e) => e.kind)).toEqual([
+      'commented',
+      'replied',
+      'commented',
+      'replied',
+      'commented',
+      'resolved',
+      'reopened',
+      'resolved',
+    ])
+    expect(oldestFirst[0]).toMatchObject({
+      summary: 'Note #1 at 0:12.5: \u201cWhine starts clean here\u201d',
+      user: { name: 'Dana Humbucker' },
+    })
     expect(oldestFirst[1].summary).toBe('Reply to note #1: \u201cAgreed, the coil was closest then\u201d')
     expect(oldestFirst[3].summary).toBe('Reply to note #1: \u201cReply to the reply\u201d')
     expect(oldestFirst[5]).toMatchObject({ summary: 'Resolved note #1', user: { name: 'Cass Earwig' } })
@@ -120,7 +171,8 @@ describe('threads', () => {
 
 describe('what a comment may hold', () => {
   it('stores and returns the body as plain text, byte for byte', async () => {
-    const body = '  <script>alert("hum")</script> & <b>bold</b> &amp; \u{1F50C}\r\n\tindented line\n\'quotes\' "double" `tick` \\ %s %% ${x}  '
+    const body =
+      '  <script>alert("hum")</script> & <b>bold</b> &amp; \u{1F50C}\r\n\tindented line\n\'quotes\' "double" `tick` \\ %s %% ${x}  '
     const res = await post('collaborator', { body })
     expect(res.status).toBe(201)
     expect(res.body.comment.body).toBe(body)
@@ -150,7 +202,9 @@ describe('what a comment may hold', () => {
   })
 
   it('ties a comment to a region or a parent of the same take only', async () => {
-    const region = await as.designer.post(`/api/takes/${otherTake}/regions`, { name: 'Elsewhere', startSeconds: 1, endSeconds: 2 }).expect(201)
+    const region = await as.designer
+      .post(`/api/takes/${otherTake}/regions`, { name: 'Elsewhere', startSeconds: 1, endSeconds: 2 })
+      .expect(201)
     const wrongRegion = await post('producer', { body: 'On a region of another take', regionId: region.body.region.id })
     expect(wrongRegion.status).toBe(400)
     expect(wrongRegion.body.error.code).toBe('REGION_NOT_FOUND')
@@ -171,14 +225,19 @@ describe('what a comment may hold', () => {
     expect(res.status).toBe(404)
     expect(res.body.error.code).toBe('COMMENT_NOT_FOUND')
     const [elsewhere] = await comments(otherTake)
-    expect((await as.producer.patch(`/api/takes/${take}/comments/${elsewhere.id}`, { resolved: true })).status).toBe(404)
+    expect((await as.producer.patch(`/api/takes/${take}/comments/${elsewhere.id}`, { resolved: true })).status).toBe(
+      404,
+    )
   })
 })
 
 describe('@mentions', () => {
   it('mails each mentioned member (not the author) a link to the take at the comment time', async () => {
     const before = smtp.received.length
-    const res = await post('designer', { body: '@rory can you re-take this? cc @Pim.Loopington, @producer and me (@dana).', atSeconds: 12.5 })
+    const res = await post('designer', {
+      body: '@rory can you re-take this? cc @Pim.Loopington, @producer and me (@dana).',
+      atSeconds: 12.5,
+    })
     expect(res.status).toBe(201)
     expect(res.body.comment.mentions).toEqual([
       { id: users.recordist, name: 'Rory Coilwright' },
@@ -210,7 +269,9 @@ describe('@mentions', () => {
     expect(mail.text).toContain(`${PUBLIC_URL}/takes/${take}?t=7.25`)
     expect(mail.subject).toBe('Pim Loopington mentioned you on \u201cCharger whine, long\u201d')
 
-    const region = await as.designer.post(`/api/takes/${take}/regions`, { name: 'Burst', startSeconds: 21.125, endSeconds: 23 }).expect(201)
+    const region = await as.designer
+      .post(`/api/takes/${take}/regions`, { name: 'Burst', startSeconds: 21.125, endSeconds: 23 })
+      .expect(201)
     await post('producer', { body: 'Thoughts, @ADA?', regionId: region.body.region.id }).expect(201)
     const toAda = await smtp.waitFor('admin@example.test')
     expect(toAda.text).toContain(`${PUBLIC_URL}/takes/${take}?t=21.125`)
@@ -223,9 +284,14 @@ describe('@mentions', () => {
     const c = await post('admin', { body: 'Checking with @rory' })
     await expect.poll(() => mailsTo('recordist@example.test')).toBe(roryBefore + 1)
 
-    const edited = await as.admin.patch(`/api/takes/${take}/comments/${c.body.comment.id}`, { body: 'Checking with @rory and @cass' })
+    const edited = await as.admin.patch(`/api/takes/${take}/comments/${c.body.comment.id}`, {
+      body: 'Checking with @rory and @cass',
+    })
     expect(edited.status).toBe(200)
-    expect(edited.body.comment.mentions.map((m: { name: string }) => m.name)).toEqual(['Rory Coilwright', 'Cass Earwig'])
+    expect(edited.body.comment.mentions.map((m: { name: string }) => m.name)).toEqual([
+      'Rory Coilwright',
+      'Cass Earwig',
+    ])
     // Rory comes first in the text: a second mail to Rory would have arrived before Cass's.
     await smtp.waitFor('collaborator@example.test')
     expect(mailsTo('recordist@example.test')).toBe(roryBefore + 1)
@@ -237,8 +303,15 @@ describe('@mentions', () => {
 
     // Two active members called Sam: "@sam" is ambiguous, full names are not.
     const hash = 'not-a-real-hash'
-    const a = await server.ctx.db.insertInto('users').values({ email: 'sam.w@example.test', name: 'Sam Wirewound', role: 'producer', password_hash: hash }).returning('id').executeTakeFirstOrThrow()
-    await server.ctx.db.insertInto('users').values({ email: 's.ferrite@example.test', name: 'Sam Ferrite', role: 'producer', password_hash: hash }).execute()
+    const a = await server.ctx.db
+      .insertInto('users')
+      .values({ email: 'sam.w@example.test', name: 'Sam Wirewound', role: 'producer', password_hash: hash })
+      .returning('id')
+      .executeTakeFirstOrThrow()
+    await server.ctx.db
+      .insertInto('users')
+      .values({ email: 's.ferrite@example.test', name: 'Sam Ferrite', role: 'producer', password_hash: hash })
+      .execute()
     const sam = await post('producer', { body: '@sam? @SamFerrite! @sam.w' })
     expect(sam.body.comment.mentions.map((m: { name: string }) => m.name)).toEqual(['Sam Ferrite', 'Sam Wirewound'])
 
@@ -286,12 +359,19 @@ describe('a mail server that does not answer', () => {
     try {
       const u = await userIds(down.ctx.db)
       const session = await insertSession(down.ctx.db, 'No mail bench')
-      const id = await insertTakeRow(down.ctx.db, { sessionId: session, uploaderId: u.recordist, title: 'Quiet take', duration: 5 })
+      const id = await insertTakeRow(down.ctx.db, {
+        sessionId: session,
+        uploaderId: u.recordist,
+        title: 'Quiet take',
+        duration: 5,
+      })
       const designer = await signedIn(down.url, 'designer')
       const res = await designer.post(`/api/takes/${id}/comments`, { body: '@rory this one', atSeconds: 1 })
       expect(res.status).toBe(201)
       expect(res.body.comment.mentions).toEqual([{ id: u.recordist, name: 'Rory Coilwright' }])
-      await expect.poll(() => errors.mock.calls.some((c) => String(c[0]).includes('was not delivered')), { timeout: 20_000 }).toBe(true)
+      await expect
+        .poll(() => errors.mock.calls.some((c) => String(c[0]).includes('was not delivered')), { timeout: 20_000 })
+        .toBe(true)
       const list = (await designer.get(`/api/takes/${id}/comments`)).body.comments
       expect(list.map((c: { body: string }) => c.body)).toEqual(['@rory this one'])
     } finally {

@@ -34,7 +34,13 @@ describe('demo library', () => {
   it('has regions and threads with a reply, a resolved one, a timed one and a mention', async () => {
     const list = (await designer.get('/api/takes?pageSize=200')).body.items as ListedTake[]
     let regions = 0
-    const comments: { parentId: number | null; resolved: boolean; atSeconds: number | null; mentions: unknown[]; author: { name: string } }[] = []
+    const comments: {
+      parentId: number | null
+      resolved: boolean
+      atSeconds: number | null
+      mentions: unknown[]
+      author: { name: string }
+    }[] = []
     for (const t of list) {
       regions += (await designer.get(`/api/takes/${t.id}/regions`)).body.regions.length
       comments.push(...(await designer.get(`/api/takes/${t.id}/comments`)).body.comments)
@@ -49,7 +55,9 @@ describe('demo library', () => {
 
   it('shows the work in each take\u2019s history', async () => {
     const hum = (await designer.get('/api/takes?q=transformer')).body.items[0] as ListedTake
-    const kinds = ((await designer.get(`/api/takes/${hum.id}/history`)).body.events as { kind: string }[]).map((e) => e.kind)
+    const kinds = ((await designer.get(`/api/takes/${hum.id}/history`)).body.events as { kind: string }[]).map(
+      (e) => e.kind,
+    )
     for (const k of ['uploaded', 'tagged', 'region-added', 'commented', 'replied']) expect(kinds, k).toContain(k)
   })
 })

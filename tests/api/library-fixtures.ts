@@ -42,50 +42,147 @@ export const FIXTURE_SOURCES = {
   workstation: { name: 'Tower workstation', kind: 'computer', makeModel: 'Self-built tower' },
 } as const
 
-const m = (lufs: number, truePeak: number, lra: number, samplePeak: number, noiseFloor: number) => ({ lufs, truePeak, lra, samplePeak, noiseFloor })
+const m = (lufs: number, truePeak: number, lra: number, samplePeak: number, noiseFloor: number) => ({
+  lufs,
+  truePeak,
+  lra,
+  samplePeak,
+  noiseFloor,
+})
 const none = { lufs: null, truePeak: null, lra: null, samplePeak: null, noiseFloor: null }
 
 export const FIXTURE_TAKES: FixtureTake[] = [
   {
-    key: 'A', title: 'Charger whine under load', filename: 'A_charger_load.wav', session: 'bench', uploader: 'recordist',
-    sampleRate: 48000, channels: 1, duration: 10, ...m(-24, -6, 3, -7, -70), hum: null, status: 'ready',
-    tags: ['whine', 'power supply'], links: [{ source: 'charger', state: 'charging' }], bext: 'Coil flat on the housing', createdAt: '2026-11-01T10:00:00.000Z',
+    key: 'A',
+    title: 'Charger whine under load',
+    filename: 'A_charger_load.wav',
+    session: 'bench',
+    uploader: 'recordist',
+    sampleRate: 48000,
+    channels: 1,
+    duration: 10,
+    ...m(-24, -6, 3, -7, -70),
+    hum: null,
+    status: 'ready',
+    tags: ['whine', 'power supply'],
+    links: [{ source: 'charger', state: 'charging' }],
+    bext: 'Coil flat on the housing',
+    createdAt: '2026-11-01T10:00:00.000Z',
   },
   {
-    key: 'B', title: 'Transformer hum', filename: 'B_transformer.wav', session: 'bench', uploader: 'recordist',
-    sampleRate: 48000, channels: 2, duration: 30, ...m(-18, -3, 2, -4, -60), hum: 50, status: 'ready',
-    tags: ['hum', 'drone'], links: [], createdAt: '2026-11-02T10:00:00.000Z',
+    key: 'B',
+    title: 'Transformer hum',
+    filename: 'B_transformer.wav',
+    session: 'bench',
+    uploader: 'recordist',
+    sampleRate: 48000,
+    channels: 2,
+    duration: 30,
+    ...m(-18, -3, 2, -4, -60),
+    hum: 50,
+    status: 'ready',
+    tags: ['hum', 'drone'],
+    links: [],
+    createdAt: '2026-11-02T10:00:00.000Z',
   },
   {
-    key: 'C', title: 'Fan hum sixty', filename: 'C_fan.wav', session: 'roof', uploader: 'designer',
-    sampleRate: 44100, channels: 2, duration: 20, ...m(-30, -12, 5, -13, -65), hum: 60, status: 'ready',
-    tags: ['hum'], links: [{ source: 'fan', state: 'speed 2' }], createdAt: '2026-11-03T10:00:00.000Z',
+    key: 'C',
+    title: 'Fan hum sixty',
+    filename: 'C_fan.wav',
+    session: 'roof',
+    uploader: 'designer',
+    sampleRate: 44100,
+    channels: 2,
+    duration: 20,
+    ...m(-30, -12, 5, -13, -65),
+    hum: 60,
+    status: 'ready',
+    tags: ['hum'],
+    links: [{ source: 'fan', state: 'speed 2' }],
+    createdAt: '2026-11-03T10:00:00.000Z',
   },
   {
-    key: 'D', title: 'Monitor whine bright', filename: 'D_monitor.wav', session: 'roof', uploader: 'designer',
-    sampleRate: 96000, channels: 1, duration: 15, ...m(-36, -15, 1, -16, -80), hum: null, status: 'ready',
-    tags: ['whine'], links: [{ source: 'monitor', state: 'brightness 30 %' }], createdAt: '2026-11-04T10:00:00.000Z',
+    key: 'D',
+    title: 'Monitor whine bright',
+    filename: 'D_monitor.wav',
+    session: 'roof',
+    uploader: 'designer',
+    sampleRate: 96000,
+    channels: 1,
+    duration: 15,
+    ...m(-36, -15, 1, -16, -80),
+    hum: null,
+    status: 'ready',
+    tags: ['whine'],
+    links: [{ source: 'monitor', state: 'brightness 30 %' }],
+    createdAt: '2026-11-04T10:00:00.000Z',
   },
   {
-    key: 'E', title: 'Radio bursts', filename: 'E_radio.wav', session: 'basement', uploader: 'recordist',
-    sampleRate: 48000, channels: 1, duration: 12, ...m(-14, -1, 8, -1.5, -50), hum: null, status: 'ready',
-    tags: ['data burst', 'chirp'], links: [{ source: 'radio', state: 'transmitting' }], createdAt: '2026-11-05T10:00:00.000Z',
+    key: 'E',
+    title: 'Radio bursts',
+    filename: 'E_radio.wav',
+    session: 'basement',
+    uploader: 'recordist',
+    sampleRate: 48000,
+    channels: 1,
+    duration: 12,
+    ...m(-14, -1, 8, -1.5, -50),
+    hum: null,
+    status: 'ready',
+    tags: ['data burst', 'chirp'],
+    links: [{ source: 'radio', state: 'transmitting' }],
+    createdAt: '2026-11-05T10:00:00.000Z',
   },
   {
-    key: 'F', title: 'Workstation seek chirps', filename: 'F_seek_0193.wav', session: 'basement', uploader: null,
-    sampleRate: 48000, channels: 2, duration: 60, ...m(-42, -20, 12, -21, -90), hum: 50, status: 'ready',
-    tags: ['chirp', 'crackle'], links: [{ source: 'workstation', state: 'disk seeking' }, { source: 'charger', state: 'idle' }],
+    key: 'F',
+    title: 'Workstation seek chirps',
+    filename: 'F_seek_0193.wav',
+    session: 'basement',
+    uploader: null,
+    sampleRate: 48000,
+    channels: 2,
+    duration: 60,
+    ...m(-42, -20, 12, -21, -90),
+    hum: 50,
+    status: 'ready',
+    tags: ['chirp', 'crackle'],
+    links: [
+      { source: 'workstation', state: 'disk seeking' },
+      { source: 'charger', state: 'idle' },
+    ],
     createdAt: '2026-11-06T10:00:00.000Z',
   },
   {
-    key: 'G', title: 'Queued take', filename: 'G_queued.wav', session: 'bench', uploader: 'recordist',
-    sampleRate: 44100, channels: 1, duration: 5, ...none, hum: null, status: 'queued',
-    tags: [], links: [], createdAt: '2026-11-07T10:00:00.000Z',
+    key: 'G',
+    title: 'Queued take',
+    filename: 'G_queued.wav',
+    session: 'bench',
+    uploader: 'recordist',
+    sampleRate: 44100,
+    channels: 1,
+    duration: 5,
+    ...none,
+    hum: null,
+    status: 'queued',
+    tags: [],
+    links: [],
+    createdAt: '2026-11-07T10:00:00.000Z',
   },
   {
-    key: 'H', title: 'Failed take', filename: 'H_failed.wav', session: 'roof', uploader: 'designer',
-    sampleRate: 48000, channels: 1, duration: 8, ...none, hum: null, status: 'failed',
-    tags: ['crackle'], links: [{ source: 'fan', state: 'speed 3' }], description: 'crackle crackle crackle on the lead',
+    key: 'H',
+    title: 'Failed take',
+    filename: 'H_failed.wav',
+    session: 'roof',
+    uploader: 'designer',
+    sampleRate: 48000,
+    channels: 1,
+    duration: 8,
+    ...none,
+    hum: null,
+    status: 'failed',
+    tags: ['crackle'],
+    links: [{ source: 'fan', state: 'speed 3' }],
+    description: 'crackle crackle crackle on the lead',
     createdAt: '2026-11-08T10:00:00.000Z',
   },
 ]
@@ -103,13 +200,26 @@ export interface SeededLibrary {
 export async function userIds(db: Db): Promise<SeededLibrary['user']> {
   const rows = await db.selectFrom('users').select(['id', 'email']).execute()
   const id = (role: string) => rows.find((r) => r.email === `${role}@example.test`)!.id
-  return { admin: id('admin'), recordist: id('recordist'), designer: id('designer'), producer: id('producer'), collaborator: id('collaborator') }
+  return {
+    admin: id('admin'),
+    recordist: id('recordist'),
+    designer: id('designer'),
+    producer: id('producer'),
+    collaborator: id('collaborator'),
+  }
 }
 
 /** Inserts one take row (with its file never written: only /audio needs one). */
 export async function insertTakeRow(
   db: Db,
-  t: { sessionId: number; uploaderId: number | null; title: string; filename?: string; duration?: number | null; createdAt?: string },
+  t: {
+    sessionId: number
+    uploaderId: number | null
+    title: string
+    filename?: string
+    duration?: number | null
+    createdAt?: string
+  },
 ): Promise<number> {
   const filename = t.filename ?? `${t.title.replace(/\W+/g, '_')}.wav`
   const sha = createHash('sha256').update(`${filename}:${Math.random()}:${process.hrtime.bigint()}`).digest('hex')
@@ -135,7 +245,12 @@ export async function insertTakeRow(
   return row.id
 }
 
-export async function insertSession(db: Db, title: string, location = '', createdBy: number | null = null): Promise<number> {
+export async function insertSession(
+  db: Db,
+  title: string,
+  location = '',
+  createdBy: number | null = null,
+): Promise<number> {
   const row = await db
     .insertInto('capture_sessions')
     .values({ title, date: '2026-11-20', location, created_by: createdBy })
@@ -195,8 +310,16 @@ export async function seedLibrary(db: Db): Promise<SeededLibrary> {
         .returning('id')
         .executeTakeFirstOrThrow()
       take[t.key] = row.id
-      if (t.tags.length) await trx.insertInto('take_tags').values(t.tags.map((tag) => ({ take_id: row.id, tag }))).execute()
-      for (const l of t.links) await trx.insertInto('take_sources').values({ take_id: row.id, source_id: source[l.source], state: l.state }).execute()
+      if (t.tags.length)
+        await trx
+          .insertInto('take_tags')
+          .values(t.tags.map((tag) => ({ take_id: row.id, tag })))
+          .execute()
+      for (const l of t.links)
+        await trx
+          .insertInto('take_sources')
+          .values({ take_id: row.id, source_id: source[l.source], state: l.state })
+          .execute()
     }
     const byId = new Map(Object.entries(take).map(([k, v]) => [v, k]))
     return { take, session, source, user, keyOf: (id: number) => byId.get(id) ?? `#${id}` }

@@ -21,7 +21,13 @@ beforeAll(async () => {
   server = await startTestServer()
   users = await userIds(server.ctx.db)
   const session = await insertSession(server.ctx.db, 'Permission bench')
-  for (const role of ROLES) uploaded[role] = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users[role], title: `Upload by ${role}`, duration: 60 })
+  for (const role of ROLES)
+    uploaded[role] = await insertTakeRow(server.ctx.db, {
+      sessionId: session,
+      uploaderId: users[role],
+      title: `Upload by ${role}`,
+      duration: 60,
+    })
   recordistTake = uploaded.recordist
   designerTake = uploaded.designer
   for (const role of ROLES) as[role] = await signedIn(server.url, role)
@@ -33,10 +39,13 @@ afterAll(async () => {
 const EDIT_ANY: Role[] = ['admin', 'designer']
 /** A take somebody else uploaded. */
 const othersTake = (role: Role) => (role === 'recordist' ? designerTake : recordistTake)
-const mayEdit = (role: Role, take: number) => EDIT_ANY.includes(role) || (role === 'recordist' && take === uploaded.recordist)
+const mayEdit = (role: Role, take: number) =>
+  EDIT_ANY.includes(role) || (role === 'recordist' && take === uploaded.recordist)
 
 async function newRegion(take: number) {
-  const res = await as.admin.post(`/api/takes/${take}/regions`, { name: 'Fixture region', startSeconds: 1, endSeconds: 2 }).expect(201)
+  const res = await as.admin
+    .post(`/api/takes/${take}/regions`, { name: 'Fixture region', startSeconds: 1, endSeconds: 2 })
+    .expect(201)
   return res.body.region.id as number
 }
 
@@ -55,10 +64,11 @@ function expectAllowed(status: number, ok: number, allowed: boolean, what: strin
 
 for (const role of ROLES) {
   describe(`as ${role}`, () => {
-    const takes = () => [
-      ['a take they uploaded', uploaded[role]],
-      ["somebody else's take", othersTake(role)],
-    ] as const
+    const takes = () =>
+      [
+        ['a take they uploaded', uploaded[role]],
+        ["somebody else's take", othersTake(role)],
+      ] as const
 
     it('PATCH /api/takes/:id', async () => {
       for (const [what, take] of takes()) {
@@ -70,7 +80,10 @@ for (const role of ROLES) {
     })
 
     it('POST /api/takes/bulk', async () => {
-      const res = await as[role].post('/api/takes/bulk', { ids: [recordistTake, designerTake], addTags: [`bulk ${role}`] })
+      const res = await as[role].post('/api/takes/bulk', {
+        ids: [recordistTake, designerTake],
+        addTags: [`bulk ${role}`],
+      })
       expectAllowed(res.status, 200, EDIT_ANY.includes(role), `${role} bulk`, res.body)
       const tags = (await as.admin.get(`/api/takes/${recordistTake}`)).body.take.tags as string[]
       expect(tags.includes(`bulk ${role}`)).toBe(EDIT_ANY.includes(role))
@@ -79,7 +92,11 @@ for (const role of ROLES) {
     it('POST, PATCH and DELETE /api/takes/:id/regions', async () => {
       for (const [what, take] of takes()) {
         const allowed = mayEdit(role, take)
-        const created = await as[role].post(`/api/takes/${take}/regions`, { name: `${role} region`, startSeconds: 3, endSeconds: 4 })
+        const created = await as[role].post(`/api/takes/${take}/regions`, {
+          name: `${role} region`,
+          startSeconds: 3,
+          endSeconds: 4,
+        })
         expectAllowed(created.status, 201, allowed, `${role} creates on ${what}`, created.body)
 
         const region = await newRegion(take)
@@ -89,12 +106,21 @@ for (const role of ROLES) {
         const removed = await as[role].delete(`/api/takes/${take}/regions/${region}`)
         expectAllowed(removed.status, 200, allowed, `${role} deletes on ${what}`, removed.body)
         const left = (await as.admin.get(`/api/takes/${take}/regions`)).body.regions as { id: number; name: string }[]
-        expect(left.some((r) => r.id === region), `${role} deletes on ${what}: still there`).toBe(!allowed)
+        expect(
+          left.some((r) => r.id === region),
+          `${role} deletes on ${what}: still there`,
+        ).toBe(!allowed)
       }
     })
 
     it('reads regions, comments, history and suggestions', async () => {
-      for (const path of [`/api/takes/${designerTake}/regions`, `/api/takes/${designerTake}/comments`, `/api/takes/${designerTake}/history`, '/api/tags', '/api/states']) {
+      for (const path of [
+        `/api/takes/${designerTake}/regions`,
+        `/api/takes/${designerTake}/comments`,
+        `/api/takes/${designerTake}/history`,
+        '/api/tags',
+        '/api/states',
+      ]) {
         expect((await as[role].get(path)).status, path).toBe(200)
       }
     })
@@ -103,7 +129,10 @@ for (const role of ROLES) {
       for (const [what, take] of takes()) {
         const res = await as[role].post(`/api/takes/${take}/comments`, { body: `${role} was here`, atSeconds: 5 })
         expect(res.status, `${role} on ${what}`).toBe(201)
-        const reply = await as[role].post(`/api/takes/${take}/comments`, { body: 'and again', parentId: res.body.comment.id })
+        const reply = await as[role].post(`/api/takes/${take}/comments`, {
+          body: 'and again',
+          parentId: res.body.comment.id,
+        })
         expect(reply.status).toBe(201)
       }
     })
@@ -120,11 +149,18 @@ for (const role of ROLES) {
       expectAllowed(edit.status, 200, false, `${role} edits ${author}'s text`, edit.body)
       const resolve = await as[role].patch(`/api/takes/${designerTake}/comments/${theirs}`, { resolved: true })
       expect(resolve.status).toBe(200)
-      expect(resolve.body.comment).toMatchObject({ body: `Written by ${author}`, resolved: true, resolvedBy: { id: users[role] } })
+      expect(resolve.body.comment).toMatchObject({
+        body: `Written by ${author}`,
+        resolved: true,
+        resolvedBy: { id: users[role] },
+      })
       const reopen = await as[role].patch(`/api/takes/${designerTake}/comments/${theirs}`, { resolved: false })
       expect(reopen.body.comment.resolved).toBe(false)
       // Sending the unchanged text along with a resolve is not an edit.
-      const same = await as[role].patch(`/api/takes/${designerTake}/comments/${theirs}`, { body: `Written by ${author}`, resolved: true })
+      const same = await as[role].patch(`/api/takes/${designerTake}/comments/${theirs}`, {
+        body: `Written by ${author}`,
+        resolved: true,
+      })
       expect(same.status).toBe(200)
       expect(same.body.comment.editedAt).toBeNull()
     })

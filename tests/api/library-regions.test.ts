@@ -14,8 +14,18 @@ beforeAll(async () => {
   server = await startTestServer()
   const users = await userIds(server.ctx.db)
   const session = await insertSession(server.ctx.db, 'Region bench')
-  take = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Dimmer buzz', duration: 30 })
-  unknownLength = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Header only', duration: null })
+  take = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Dimmer buzz',
+    duration: 30,
+  })
+  unknownLength = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Header only',
+    duration: null,
+  })
   designer = await signedIn(server.url, 'designer')
   producer = await signedIn(server.url, 'producer')
 })
@@ -23,18 +33,42 @@ afterAll(async () => {
   await server.stop()
 })
 
-const regions = async (id = take) => RegionsResponse.parse((await producer.get(`/api/takes/${id}/regions`).expect(200)).body).regions as { id: number; name: string; startSeconds: number; endSeconds: number }[]
+const regions = async (id = take) =>
+  RegionsResponse.parse((await producer.get(`/api/takes/${id}/regions`).expect(200)).body).regions as {
+    id: number
+    name: string
+    startSeconds: number
+    endSeconds: number
+  }[]
 
 describe('regions', () => {
   it('creates regions and lists them by start time for everyone', async () => {
-    const late = await designer.post(`/api/takes/${take}/regions`, { name: '  Clean loop ', startSeconds: 12.5, endSeconds: 20 })
+    const late = await designer.post(`/api/takes/${take}/regions`, {
+      name: '  Clean loop ',
+      startSeconds: 12.5,
+      endSeconds: 20,
+    })
     expect(late.status).toBe(201)
     RegionResponse.parse(late.body)
-    expect(late.body.region).toMatchObject({ takeId: take, name: 'Clean loop', startSeconds: 12.5, endSeconds: 20, createdBy: { name: 'Dana Humbucker' } })
+    expect(late.body.region).toMatchObject({
+      takeId: take,
+      name: 'Clean loop',
+      startSeconds: 12.5,
+      endSeconds: 20,
+      createdBy: { name: 'Dana Humbucker' },
+    })
     expect(typeof late.body.region.createdAt).toBe('string')
-    const early = await designer.post(`/api/takes/${take}/regions`, { name: 'Switch-on click', startSeconds: 0, endSeconds: 0.25 })
+    const early = await designer.post(`/api/takes/${take}/regions`, {
+      name: 'Switch-on click',
+      startSeconds: 0,
+      endSeconds: 0.25,
+    })
     expect(early.status).toBe(201)
-    const whole = await designer.post(`/api/takes/${take}/regions`, { name: 'Everything', startSeconds: 0, endSeconds: 30 })
+    const whole = await designer.post(`/api/takes/${take}/regions`, {
+      name: 'Everything',
+      startSeconds: 0,
+      endSeconds: 30,
+    })
     expect(whole.status).toBe(201)
     expect((await regions()).map((r) => r.name)).toEqual(['Switch-on click', 'Everything', 'Clean loop'])
   })
@@ -56,12 +90,19 @@ describe('regions', () => {
       expect(res.status, JSON.stringify(body)).toBe(400)
       expect(res.body.error.code, JSON.stringify(body)).toBe(code)
     }
-    expect((await designer.post(`/api/takes/${take}/regions`, { name: 'n'.repeat(120), startSeconds: 1, endSeconds: 2 })).status).toBe(201)
+    expect(
+      (await designer.post(`/api/takes/${take}/regions`, { name: 'n'.repeat(120), startSeconds: 1, endSeconds: 2 }))
+        .status,
+    ).toBe(201)
     expect(await regions()).toHaveLength(4)
   })
 
   it('accepts any end on a take whose duration is not known', async () => {
-    const res = await designer.post(`/api/takes/${unknownLength}/regions`, { name: 'Somewhere', startSeconds: 100, endSeconds: 200 })
+    const res = await designer.post(`/api/takes/${unknownLength}/regions`, {
+      name: 'Somewhere',
+      startSeconds: 100,
+      endSeconds: 200,
+    })
     expect(res.status).toBe(201)
   })
 
@@ -78,12 +119,19 @@ describe('regions', () => {
     expect(crossed.body.error.code).toBe('OUT_OF_RANGE')
     const past = await designer.patch(`/api/takes/${take}/regions/${first.id}`, { endSeconds: 31 })
     expect(past.status).toBe(400)
-    expect((await regions()).find((r) => r.id === first.id)).toMatchObject({ name: 'Click', startSeconds: 0, endSeconds: 0.5 })
+    expect((await regions()).find((r) => r.id === first.id)).toMatchObject({
+      name: 'Click',
+      startSeconds: 0,
+      endSeconds: 0.5,
+    })
   })
 
   it('deletes a region; comments on it stay, no longer tied to it', async () => {
     const region = (await regions()).find((r) => r.name === 'Clean loop')!
-    const comment = await producer.post(`/api/takes/${take}/comments`, { body: 'Loop point clicks here', regionId: region.id })
+    const comment = await producer.post(`/api/takes/${take}/comments`, {
+      body: 'Loop point clicks here',
+      regionId: region.id,
+    })
     expect(comment.status).toBe(201)
     expect(comment.body.comment.regionId).toBe(region.id)
     const res = await designer.delete(`/api/takes/${take}/regions/${region.id}`)
@@ -101,17 +149,30 @@ describe('regions', () => {
     expect(res.status).toBe(404)
     expect(res.body.error.code).toBe('REGION_NOT_FOUND')
     expect((await designer.get('/api/takes/999999/regions')).status).toBe(404)
-    expect((await designer.post('/api/takes/999999/regions', { name: 'x', startSeconds: 0, endSeconds: 1 })).status).toBe(404)
+    expect(
+      (await designer.post('/api/takes/999999/regions', { name: 'x', startSeconds: 0, endSeconds: 1 })).status,
+    ).toBe(404)
   })
 
   it('writes each change into the history', async () => {
-    const events = (await producer.get(`/api/takes/${take}/history`)).body.events as { kind: string; summary: string; user: { name: string } }[]
+    const events = (await producer.get(`/api/takes/${take}/history`)).body.events as {
+      kind: string
+      summary: string
+      user: { name: string }
+    }[]
     const kinds = events.map((e) => e.kind)
     expect(kinds.filter((k) => k === 'region-added')).toHaveLength(4)
     expect(kinds.filter((k) => k === 'region-changed')).toHaveLength(2)
     expect(kinds.filter((k) => k === 'region-removed')).toHaveLength(1)
-    expect(events.find((e) => e.kind === 'region-removed')).toMatchObject({ summary: 'Region \u201cClean loop\u201d 0:12.5\u20130:20.0 removed', user: { name: 'Dana Humbucker' } })
-    expect(events.find((e) => e.kind === 'region-changed')!.summary).toBe('Region \u201cClick\u201d: renamed \u201cSwitch-on click\u201d \u2192 \u201cClick\u201d')
-    expect(events.filter((e) => e.kind === 'region-added').map((e) => e.summary)).toContain('Region \u201cSwitch-on click\u201d 0:00.0\u20130:00.3')
+    expect(events.find((e) => e.kind === 'region-removed')).toMatchObject({
+      summary: 'Region \u201cClean loop\u201d 0:12.5\u20130:20.0 removed',
+      user: { name: 'Dana Humbucker' },
+    })
+    expect(events.find((e) => e.kind === 'region-changed')!.summary).toBe(
+      'Region \u201cClick\u201d: renamed \u201cSwitch-on click\u201d \u2192 \u201cClick\u201d',
+    )
+    expect(events.filter((e) => e.kind === 'region-added').map((e) => e.summary)).toContain(
+      'Region \u201cSwitch-on click\u201d 0:00.0\u20130:00.3',
+    )
   })
 })

@@ -80,7 +80,11 @@ describe('filters of GET /api/takes, each against its known answer', () => {
     ['analysing (none)', () => 'status=analyzing', ''],
     ['filters combine with AND', () => `sessionId=${lib.session.roof}&tag=whine&maxLufs=-30`, 'D'],
     ['text and filters combine', () => 'q=hum&hum=60', 'C'],
-    ['kind, loudness range and duration', () => 'sourceKind=computer&sourceKind=power-supply&minLufs=-45&maxLufs=-20&minDuration=10', 'AF'],
+    [
+      'kind, loudness range and duration',
+      () => 'sourceKind=computer&sourceKind=power-supply&minLufs=-45&maxLufs=-20&minDuration=10',
+      'AF',
+    ],
   ]
   for (const [name, qs, expected] of cases) {
     it(`${name}: ${expected || 'nothing'}`, async () => {
@@ -89,7 +93,18 @@ describe('filters of GET /api/takes, each against its known answer', () => {
   }
 
   it('refuses malformed filter values with 400 VALIDATION_FAILED', async () => {
-    for (const qs of ['hum=40', 'status=done', 'sort=loudest', 'order=up', 'pageSize=0', 'pageSize=201', 'page=0', 'minLufs=abc', 'sourceKind=toaster', 'sampleRate=-1']) {
+    for (const qs of [
+      'hum=40',
+      'status=done',
+      'sort=loudest',
+      'order=up',
+      'pageSize=0',
+      'pageSize=201',
+      'page=0',
+      'minLufs=abc',
+      'sourceKind=toaster',
+      'sampleRate=-1',
+    ]) {
       const res = await reader.get(`/api/takes?${qs}`)
       expect(res.status, qs).toBe(400)
       expect(res.body.error.code).toBe('VALIDATION_FAILED')
@@ -123,7 +138,8 @@ describe('sorting', () => {
       .sort((a, b) => {
         const va = value(a, sort)
         const vb = value(b, sort)
-        if (va === null || vb === null) return va === vb ? dir * (lib.take[a.key] - lib.take[b.key]) : va === null ? 1 : -1
+        if (va === null || vb === null)
+          return va === vb ? dir * (lib.take[a.key] - lib.take[b.key]) : va === null ? 1 : -1
         if (va !== vb) return va < vb ? -dir : dir
         return dir * (lib.take[a.key] - lib.take[b.key])
       })

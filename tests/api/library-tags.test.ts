@@ -27,8 +27,12 @@ afterAll(async () => {
 })
 
 const tagsOf = async (id: number) => (await designer.get(`/api/takes/${id}`).expect(200)).body.take.tags as string[]
-const latestEvent = async (id: number) => HistoryResponse.parse((await designer.get(`/api/takes/${id}/history`).expect(200)).body).events[0]
-const counts = async () => Object.fromEntries(AllTagsResponse.parse((await designer.get('/api/tags/all').expect(200)).body).tags.map((t) => [t.tag, t.count]))
+const latestEvent = async (id: number) =>
+  HistoryResponse.parse((await designer.get(`/api/takes/${id}/history`).expect(200)).body).events[0]
+const counts = async () =>
+  Object.fromEntries(
+    AllTagsResponse.parse((await designer.get('/api/tags/all').expect(200)).body).tags.map((t) => [t.tag, t.count]),
+  )
 
 describe('tag manager', () => {
   it('lists every tag A to Z with its count of takes', async () => {
@@ -46,12 +50,18 @@ describe('tag manager', () => {
     const body = TagChangeResponse.parse(res.body)
     expect(body).toMatchObject({ into: 'radio burst', takes: 1 })
     expect(await tagsOf(lib.take.E)).toEqual(['chirp', 'radio burst'])
-    expect(await latestEvent(lib.take.E)).toMatchObject({ kind: 'tagged', summary: 'Tag \u201cdata burst\u201d renamed to \u201cradio burst\u201d (tag manager)', user: { id: lib.user.designer } })
+    expect(await latestEvent(lib.take.E)).toMatchObject({
+      kind: 'tagged',
+      summary: 'Tag \u201cdata burst\u201d renamed to \u201cradio burst\u201d (tag manager)',
+      user: { id: lib.user.designer },
+    })
     const c = await counts()
     expect(c['data burst']).toBeUndefined()
     expect(c['radio burst']).toBe(1)
     // The full-text index follows (its triggers are on take_tags).
-    const found = (await designer.get('/api/takes?q=radio%20burst').expect(200)).body.items.map((t: { id: number }) => t.id)
+    const found = (await designer.get('/api/takes?q=radio%20burst').expect(200)).body.items.map(
+      (t: { id: number }) => t.id,
+    )
     expect(found).toEqual([lib.take.E])
   })
 
@@ -64,8 +74,12 @@ describe('tag manager', () => {
     expect(await tagsOf(lib.take.F)).toEqual(['clicks'])
     expect(await tagsOf(lib.take.E)).toEqual(['clicks', 'radio burst'])
     expect(await tagsOf(lib.take.H)).toEqual(['clicks'])
-    expect((await latestEvent(lib.take.F)).summary).toBe('Tags \u201cchirp\u201d, \u201ccrackle\u201d merged into \u201cclicks\u201d (tag manager)')
-    expect((await latestEvent(lib.take.H)).summary).toBe('Tag \u201ccrackle\u201d merged into \u201cclicks\u201d (tag manager)')
+    expect((await latestEvent(lib.take.F)).summary).toBe(
+      'Tags \u201cchirp\u201d, \u201ccrackle\u201d merged into \u201cclicks\u201d (tag manager)',
+    )
+    expect((await latestEvent(lib.take.H)).summary).toBe(
+      'Tag \u201ccrackle\u201d merged into \u201cclicks\u201d (tag manager)',
+    )
     const after = await counts()
     expect(after.clicks).toBe(3)
     expect(before.chirp + before.crackle - 1).toBe(after.clicks)
@@ -97,14 +111,25 @@ describe('GET /api/takes.csv', () => {
   it('exports every take the query matches, in its sort order, with the key numbers', async () => {
     const res = await designer.get('/api/takes.csv?minLufs=-30&maxLufs=-10&sort=integratedLufs&order=asc').expect(200)
     expect(res.headers['content-type']).toMatch(/^text\/csv/)
-    expect(res.headers['content-disposition']).toMatch(/attachment; filename="?strayfield-library-\d{4}-\d{2}-\d{2}\.csv"?$/)
-    const lines = res.text.replace(/^\uFEFF/, '').trimEnd().split('\r\n')
-    expect(lines[0]).toBe('id,file,title,capture,device,state,duration (s),format,integrated loudness (LUFS),true peak (dBTP),loudness range (LU),hum (Hz),tags,status')
-    const page = (await designer.get('/api/takes?minLufs=-30&maxLufs=-10&sort=integratedLufs&order=asc&pageSize=200').expect(200)).body
+    expect(res.headers['content-disposition']).toMatch(
+      /attachment; filename="?strayfield-library-\d{4}-\d{2}-\d{2}\.csv"?$/,
+    )
+    const lines = res.text
+      .replace(/^\uFEFF/, '')
+      .trimEnd()
+      .split('\r\n')
+    expect(lines[0]).toBe(
+      'id,file,title,capture,device,state,duration (s),format,integrated loudness (LUFS),true peak (dBTP),loudness range (LU),hum (Hz),tags,status',
+    )
+    const page = (
+      await designer.get('/api/takes?minLufs=-30&maxLufs=-10&sort=integratedLufs&order=asc&pageSize=200').expect(200)
+    ).body
     expect(lines.length - 1).toBe(page.total)
     expect(lines.slice(1).map((l) => Number(l.split(',')[0]))).toEqual(page.items.map((t: { id: number }) => t.id))
     const a = lines.find((l) => l.startsWith(`${lib.take.A},`))!
-    expect(a).toBe(`${lib.take.A},A_charger_load.wav,Charger whine under load,Workshop bench sweep,Bench laptop charger,charging,10,48 kHz 24-bit mono,-24,-6,3,,whine,ready`)
+    expect(a).toBe(
+      `${lib.take.A},A_charger_load.wav,Charger whine under load,Workshop bench sweep,Bench laptop charger,charging,10,48 kHz 24-bit mono,-24,-6,3,,whine,ready`,
+    )
   })
 
   it('keeps text that a spreadsheet would run as a formula as text (OWASP CSV injection), and quotes by RFC 4180', async () => {
@@ -119,8 +144,14 @@ describe('GET /api/takes.csv', () => {
   })
 
   it('filters by loudness range (minLra/maxLra, LU) like the other ranges', async () => {
-    const ids = ((await designer.get('/api/takes?minLra=2.5&maxLra=3.5&pageSize=200').expect(200)).body.items as { id: number }[]).map((t) => t.id).sort((x, y) => x - y)
-    const expected = FIXTURE_TAKES.filter((t) => t.lra !== null && t.lra >= 2.5 && t.lra <= 3.5).map((t) => lib.take[t.key]).sort((x, y) => x - y)
+    const ids = (
+      (await designer.get('/api/takes?minLra=2.5&maxLra=3.5&pageSize=200').expect(200)).body.items as { id: number }[]
+    )
+      .map((t) => t.id)
+      .sort((x, y) => x - y)
+    const expected = FIXTURE_TAKES.filter((t) => t.lra !== null && t.lra >= 2.5 && t.lra <= 3.5)
+      .map((t) => lib.take[t.key])
+      .sort((x, y) => x - y)
     expect(expected.length).toBeGreaterThan(0)
     expect(expected.length).toBeLessThan(FIXTURE_TAKES.length)
     expect(ids).toEqual(expected)
@@ -136,12 +167,20 @@ describe('mentions', () => {
   it('lists active members with a handle the mention rule reads as their full name, without e-mail addresses', async () => {
     const res = await producer.get('/api/mentions/members').expect(200)
     const members = MentionMembersResponse.parse(res.body).members
-    expect(members.find((m) => m.id === lib.user.designer)).toEqual({ id: lib.user.designer, name: 'Dana Humbucker', handle: 'Dana.Humbucker' })
+    expect(members.find((m) => m.id === lib.user.designer)).toEqual({
+      id: lib.user.designer,
+      name: 'Dana Humbucker',
+      handle: 'Dana.Humbucker',
+    })
     expect(JSON.stringify(res.body)).not.toContain('@example.test')
   })
 
   it('previews who a draft notifies (never its author) and which handles name nobody', async () => {
-    const res = await recordist.post('/api/mentions/preview', { body: '@Dana.Humbucker and @cass, listen at 0:12. Also @nobody-here and @Rory.Coilwright. mail me at x@example.test' }).expect(200)
+    const res = await recordist
+      .post('/api/mentions/preview', {
+        body: '@Dana.Humbucker and @cass, listen at 0:12. Also @nobody-here and @Rory.Coilwright. mail me at x@example.test',
+      })
+      .expect(200)
     const p = MentionPreviewResponse.parse(res.body)
     expect(p.notified).toEqual([
       { id: lib.user.designer, name: 'Dana Humbucker' },

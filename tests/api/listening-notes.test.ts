@@ -21,27 +21,62 @@ beforeAll(async () => {
   server = await startTestServer()
   const users = await userIds(server.ctx.db)
   const session = await insertSession(server.ctx.db, 'Notes bench')
-  keepTake = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Router whine, lid closed', duration: 20 })
-  rejectTake = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Router whine, handling noise', duration: 20 })
-  quietTake = await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'Router whine, unheard', duration: 20 })
+  keepTake = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Router whine, lid closed',
+    duration: 20,
+  })
+  rejectTake = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Router whine, handling noise',
+    duration: 20,
+  })
+  quietTake = await insertTakeRow(server.ctx.db, {
+    sessionId: session,
+    uploaderId: users.recordist,
+    title: 'Router whine, unheard',
+    duration: 20,
+  })
   for (const role of ['designer', 'collaborator', 'producer']) as[role] = await signedIn(server.url, role)
 })
 afterAll(() => server.stop())
 
-const notes = async (take: number): Promise<Comment[]> => CommentsResponse.parse((await as.designer.get(`/api/takes/${take}/comments`).expect(200)).body).comments
+const notes = async (take: number): Promise<Comment[]> =>
+  CommentsResponse.parse((await as.designer.get(`/api/takes/${take}/comments`).expect(200)).body).comments
 const post = (role: string, take: number, body: object) => as[role].post(`/api/takes/${take}/comments`, body)
 const titlesWith = async (outcome: string) =>
-  TakePage.parse((await as.producer.get(`/api/takes?noteOutcome=${outcome}`).expect(200)).body).items.map((t) => t.title)
+  TakePage.parse((await as.producer.get(`/api/takes?noteOutcome=${outcome}`).expect(200)).body).items.map(
+    (t) => t.title,
+  )
 
 describe('a note pinned to a time and a band, with an outcome', () => {
   let note: Comment
 
   it('keeps lowHz, highHz and outcome beside body and atSeconds', async () => {
-    const res = await post('designer', keepTake, { body: 'The 9 kHz whine starts here', atSeconds: 4.2, lowHz: 8800, highHz: 9300, outcome: 'keep' })
+    const res = await post('designer', keepTake, {
+      body: 'The 9 kHz whine starts here',
+      atSeconds: 4.2,
+      lowHz: 8800,
+      highHz: 9300,
+      outcome: 'keep',
+    })
     expect(res.status).toBe(201)
     note = CommentResponse.parse(res.body).comment
-    expect(note).toMatchObject({ body: 'The 9 kHz whine starts here', atSeconds: 4.2, lowHz: 8800, highHz: 9300, outcome: 'keep', parentId: null })
-    expect((await notes(keepTake)).find((c) => c.id === note.id)).toMatchObject({ lowHz: 8800, highHz: 9300, outcome: 'keep' })
+    expect(note).toMatchObject({
+      body: 'The 9 kHz whine starts here',
+      atSeconds: 4.2,
+      lowHz: 8800,
+      highHz: 9300,
+      outcome: 'keep',
+      parentId: null,
+    })
+    expect((await notes(keepTake)).find((c) => c.id === note.id)).toMatchObject({
+      lowHz: 8800,
+      highHz: 9300,
+      outcome: 'keep',
+    })
   })
 
   it('a note at a time alone has no band and no outcome', async () => {
@@ -57,7 +92,9 @@ describe('a note pinned to a time and a band, with an outcome', () => {
     const withOutcome = await post('collaborator', keepTake, { body: 'Reject', parentId: note.id, outcome: 'reject' })
     expect(withOutcome.status).toBe(400)
     expect(withOutcome.body.error.code).toBe('VALIDATION_FAILED')
-    const patchReply = await as.collaborator.patch(`/api/takes/${keepTake}/comments/${ok.body.comment.id}`, { outcome: 'trim' })
+    const patchReply = await as.collaborator.patch(`/api/takes/${keepTake}/comments/${ok.body.comment.id}`, {
+      outcome: 'trim',
+    })
     expect(patchReply.status).toBe(400)
     expect(patchReply.body.error.code).toBe('NOT_A_NOTE')
   })
@@ -87,9 +124,19 @@ describe('a note pinned to a time and a band, with an outcome', () => {
     const cleared = await as.collaborator.patch(`/api/takes/${keepTake}/comments/${note.id}`, { outcome: null })
     expect(cleared.body.comment.outcome).toBeNull()
     await as.designer.patch(`/api/takes/${keepTake}/comments/${note.id}`, { outcome: 'keep' }).expect(200)
-    const events = (await as.designer.get(`/api/takes/${keepTake}/history`)).body.events as { kind: string; summary: string }[]
-    const summaries = events.filter((e) => e.kind === 'outcome').map((e) => e.summary).reverse()
-    expect(summaries).toEqual(['Marked note #1 \u201ctrim\u201d', 'Cleared the outcome of note #1', 'Marked note #1 \u201ckeep\u201d'])
+    const events = (await as.designer.get(`/api/takes/${keepTake}/history`)).body.events as {
+      kind: string
+      summary: string
+    }[]
+    const summaries = events
+      .filter((e) => e.kind === 'outcome')
+      .map((e) => e.summary)
+      .reverse()
+    expect(summaries).toEqual([
+      'Marked note #1 \u201ctrim\u201d',
+      'Cleared the outcome of note #1',
+      'Marked note #1 \u201ckeep\u201d',
+    ])
     const created = events.find((e) => e.kind === 'commented' && e.summary.startsWith('Note #1'))
     expect(created?.summary).toBe('Note #1 at 0:04.2, 8.8\u20139.3 kHz (keep): \u201cThe 9 kHz whine starts here\u201d')
   })
@@ -97,7 +144,9 @@ describe('a note pinned to a time and a band, with an outcome', () => {
 
 describe('the outcome as a library filter', () => {
   it('lists the takes with a note of that outcome, and only those', async () => {
-    await post('designer', rejectTake, { body: 'Handling noise all through', atSeconds: 2, outcome: 'reject' }).expect(201)
+    await post('designer', rejectTake, { body: 'Handling noise all through', atSeconds: 2, outcome: 'reject' }).expect(
+      201,
+    )
     await post('designer', quietTake, { body: 'Nothing to hear', atSeconds: 2 }).expect(201)
     // A reply saying "keep" in words does not make the take a kept one.
     expect(await titlesWith('keep')).toEqual(['Router whine, lid closed'])
@@ -119,8 +168,12 @@ describe('older comments after the migration', () => {
     const migrator = new Migrator({ db, provider: { getMigrations: async () => migrations } })
     expect((await migrator.migrateTo('20261201160000_packs')).error).toBeUndefined()
     await sql`INSERT INTO capture_sessions (title, date) VALUES ('Old', '2026-11-01')`.execute(db)
-    await sql`INSERT INTO takes (session_id, filename, title, audio_path, size_bytes, sha256, status) VALUES (1, 'a.wav', 'Old take', 'audio/a.wav', 1, 'ab', 'ready')`.execute(db)
-    await sql`INSERT INTO comments (take_id, body, at_seconds, resolved_at) VALUES (1, 'Old remark', 3.5, '2026-11-02T00:00:00.000Z')`.execute(db)
+    await sql`INSERT INTO takes (session_id, filename, title, audio_path, size_bytes, sha256, status) VALUES (1, 'a.wav', 'Old take', 'audio/a.wav', 1, 'ab', 'ready')`.execute(
+      db,
+    )
+    await sql`INSERT INTO comments (take_id, body, at_seconds, resolved_at) VALUES (1, 'Old remark', 3.5, '2026-11-02T00:00:00.000Z')`.execute(
+      db,
+    )
     expect((await migrator.migrateToLatest()).error).toBeUndefined()
     const row = await db.selectFrom('comments').selectAll().executeTakeFirstOrThrow()
     expect(row).toMatchObject({ body: 'Old remark', at_seconds: 3.5, low_hz: null, high_hz: null, outcome: null })

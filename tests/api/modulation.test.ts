@@ -42,7 +42,12 @@ function binary(res: Response, done: (err: Error | null, body: Buffer) => void) 
 }
 
 const modulation = (c: Client, id: number, body: object) =>
-  c.agent.post(`/api/takes/${id}/modulation`).set('x-csrf-token', c.token).send(body).buffer(true).parse(binary as never)
+  c.agent
+    .post(`/api/takes/${id}/modulation`)
+    .set('x-csrf-token', c.token)
+    .send(body)
+    .buffer(true)
+    .parse(binary as never)
 
 function correlation(a: ArrayLike<number>, b: ArrayLike<number>): number {
   const n = a.length
@@ -99,30 +104,50 @@ describe('envelope', () => {
     const rows = csvRows(res.body.toString('utf8'))
     expect(rows).toHaveLength(SECONDS * 1000)
     expect(rows[1500][0]).toBeCloseTo(1.5, 9)
-    expect(correlation(rows.map((r) => r[1]), rows.map((r) => envelope(r[0])))).toBeGreaterThanOrEqual(0.99)
+    expect(
+      correlation(
+        rows.map((r) => r[1]),
+        rows.map((r) => envelope(r[0])),
+      ),
+    ).toBeGreaterThanOrEqual(0.99)
     expect(Math.max(...rows.map((r) => r[1]))).toBeCloseTo(0.9, 1)
   })
 
   it('as wav: a 1 kHz mono 32-bit float control signal (soxi, ffprobe) with the scale in its bext description, correlating ≥ 0.99', async () => {
-    const res = await modulation(producer, amId, { ...envelopeBody, format: 'wav', volts: { low: 0, high: 5 } }).expect(200)
+    const res = await modulation(producer, amId, { ...envelopeBody, format: 'wav', volts: { low: 0, high: 5 } }).expect(
+      200,
+    )
     expect(res.headers['content-type']).toBe('audio/wav')
     expect(res.headers['x-modulation-scale']).toBe('0..1 = envelope 0..1 of full scale; 0..1 = 0..5 V')
     const file = tmp.file('envelope.wav')
     fs.writeFileSync(file, res.body)
     // Debian's soxi: the rate and the float encoding.
-    expect(soxi(file)).toMatchObject({ rate: 1000, channels: 1, bits: 32, encoding: 'Floating Point PCM', samples: SECONDS * 1000 })
+    expect(soxi(file)).toMatchObject({
+      rate: 1000,
+      channels: 1,
+      bits: 32,
+      encoding: 'Floating Point PCM',
+      samples: SECONDS * 1000,
+    })
     // Debian's ffprobe: float samples; the bext description (ffmpeg's wav demuxer shows it as the comment tag).
     const probe = ffprobe(file)
     expect(probe.streams[0]).toMatchObject({ codec_name: 'pcm_f32le', sample_rate: '1000', channels: 1 })
     expect(probe.format.tags?.comment).toContain('Scale: 0..1 = envelope 0..1 of full scale; 0..1 = 0..5 V')
     const values = ffmpegF32(file)
     expect(values).toHaveLength(SECONDS * 1000)
-    expect(correlation(values, Array.from(values, (_, k) => envelope(k / 1000)))).toBeGreaterThanOrEqual(0.99)
+    expect(
+      correlation(
+        values,
+        Array.from(values, (_, k) => envelope(k / 1000)),
+      ),
+    ).toBeGreaterThanOrEqual(0.99)
   })
 
   it('maps onto the range: −1…1 turns the csv 0…1 of full scale into −1…1, point for point', async () => {
     const body = { ...envelopeBody, rateHz: 50, range: { low: -1, high: 1 } }
-    const rows = csvRows((await modulation(producer, amId, { ...body, format: 'csv' }).expect(200)).body.toString('utf8'))
+    const rows = csvRows(
+      (await modulation(producer, amId, { ...body, format: 'csv' }).expect(200)).body.toString('utf8'),
+    )
     const file = tmp.file('bipolar.wav')
     fs.writeFileSync(file, (await modulation(producer, amId, { ...body, format: 'wav' }).expect(200)).body)
     const values = ffmpegF32(file)
@@ -142,7 +167,16 @@ describe('tone', () => {
   })
 
   it('of an excerpt as MIDI: parsed by python3-mido with the chosen controller and channel, one message per point at 1/rateHz, values in octaves', async () => {
-    const body = { ...toneBody, startSeconds: 1, endSeconds: 3, rateHz: 50, range: { low: 0, high: 127 }, format: 'midi', controller: 74, channel: 2 }
+    const body = {
+      ...toneBody,
+      startSeconds: 1,
+      endSeconds: 3,
+      rateHz: 50,
+      range: { low: 0, high: 127 },
+      format: 'midi',
+      controller: 74,
+      channel: 2,
+    }
     const res = await modulation(producer, glideId, body).expect(200)
     expect(res.headers['content-type']).toBe('audio/midi')
     expect(res.headers['content-disposition']).toMatch(/^attachment; filename="?motor-glide_tone_1-3s\.mid"?$/)
@@ -180,19 +214,31 @@ print(json.dumps({"type": f.type, "tracks": len(f.tracks), "length": f.length, "
   })
 
   it('as wav with a chosen reference and octave span: log2(f / referenceHz) / octaves', async () => {
-    const res = await modulation(producer, glideId, { ...toneBody, format: 'wav', referenceHz: 100, octaves: 5 }).expect(200)
+    const res = await modulation(producer, glideId, {
+      ...toneBody,
+      format: 'wav',
+      referenceHz: 100,
+      octaves: 5,
+    }).expect(200)
     expect(res.headers['x-modulation-scale']).toBe('0..1 = tone 100..3200 Hz, log2(f/100 Hz)/5')
     const file = tmp.file('tone.wav')
     fs.writeFileSync(file, res.body)
     const values = ffmpegF32(file)
     // 100 Hz · 32^(t/4) is exactly t/4 of the 5 octaves above 100 Hz.
-    for (let k = 0; k < values.length; k += 10) expect(Math.abs(values[k] - k / 100 / SECONDS)).toBeLessThan(Math.log2(1.01) / 5)
+    for (let k = 0; k < values.length; k += 10)
+      expect(Math.abs(values[k] - k / 100 / SECONDS)).toBeLessThan(Math.log2(1.01) / 5)
   })
 })
 
 describe('centroid', () => {
   it('of a single tone is the tone', async () => {
-    const res = await modulation(producer, glideId, { ...toneBody, source: 'centroid', format: 'csv', startSeconds: 2, endSeconds: 2.5 }).expect(200)
+    const res = await modulation(producer, glideId, {
+      ...toneBody,
+      source: 'centroid',
+      format: 'csv',
+      startSeconds: 2,
+      endSeconds: 2.5,
+    }).expect(200)
     const rows = csvRows(res.body.toString('utf8'))
     expect(rows).toHaveLength(50)
     for (const [t, hz] of rows) expect(Math.abs(hz / glideHz(2 + t) - 1)).toBeLessThan(0.01)
@@ -200,10 +246,13 @@ describe('centroid', () => {
 })
 
 describe('refusals', () => {
-  const code = (res: Response) => (JSON.parse(res.body.toString('utf8')) as { error: { code: string; message: string } }).error
+  const code = (res: Response) =>
+    (JSON.parse(res.body.toString('utf8')) as { error: { code: string; message: string } }).error
 
   it('answers 404 for an unknown take and 400 for an empty or inconsistent body', async () => {
-    expect(code(await modulation(producer, 999999, { ...envelopeBody, format: 'csv' }).expect(404)).code).toBe('TAKE_NOT_FOUND')
+    expect(code(await modulation(producer, 999999, { ...envelopeBody, format: 'csv' }).expect(404)).code).toBe(
+      'TAKE_NOT_FOUND',
+    )
     expect(code(await modulation(producer, amId, {}).expect(400)).code).toBe('VALIDATION_FAILED')
     const bad = [
       { ...envelopeBody, format: 'csv', range: { low: 0.5, high: 0.5 } },
@@ -215,19 +264,27 @@ describe('refusals', () => {
       { ...envelopeBody, format: 'csv', rateHz: 0 },
     ]
     for (const b of bad) expect(code(await modulation(producer, amId, b).expect(400)).code).toBe('VALIDATION_FAILED')
-    const past = code(await modulation(producer, amId, { ...envelopeBody, format: 'csv', startSeconds: 3, endSeconds: 5 }).expect(400))
+    const past = code(
+      await modulation(producer, amId, { ...envelopeBody, format: 'csv', startSeconds: 3, endSeconds: 5 }).expect(400),
+    )
     expect(past.code).toBe('EXCERPT_OUT_OF_RANGE')
   })
 
   it('caps the excerpt length and the number of points with clear 400s, and waits for the take to be measured (409)', async () => {
     await updateTake(server.ctx.db, fakeId, { duration_seconds: 700 })
-    const long = code(await modulation(producer, fakeId, { ...envelopeBody, format: 'csv', endSeconds: 650 }).expect(400))
+    const long = code(
+      await modulation(producer, fakeId, { ...envelopeBody, format: 'csv', endSeconds: 650 }).expect(400),
+    )
     expect(long.code).toBe('EXCERPT_TOO_LONG')
     expect(long.message).toContain(`${MODULATION_LIMITS.maxSeconds} s`)
-    const dense = code(await modulation(producer, fakeId, { ...envelopeBody, format: 'wav', rateHz: 48000, endSeconds: 50 }).expect(400))
+    const dense = code(
+      await modulation(producer, fakeId, { ...envelopeBody, format: 'wav', rateHz: 48000, endSeconds: 50 }).expect(400),
+    )
     expect(dense.code).toBe('TOO_MANY_POINTS')
     expect(dense.message).toContain('Lower rateHz or shorten the excerpt')
     await updateTake(server.ctx.db, fakeId, { status: 'analyzing' })
-    expect(code(await modulation(producer, fakeId, { ...envelopeBody, format: 'csv' }).expect(409)).code).toBe('NOT_MEASURED')
+    expect(code(await modulation(producer, fakeId, { ...envelopeBody, format: 'csv' }).expect(409)).code).toBe(
+      'NOT_MEASURED',
+    )
   })
 })

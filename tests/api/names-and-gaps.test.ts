@@ -38,7 +38,10 @@ describe('names', () => {
       expect(res.status).toBe(400)
       expect(res.body.error.message).toMatch(/control characters/)
     }
-    expect((await invitee.post(`/api/invitations/${token}/accept`, { name: 'Eve Coil', password: 'a-long-enough-password' })).status).toBe(201)
+    expect(
+      (await invitee.post(`/api/invitations/${token}/accept`, { name: 'Eve Coil', password: 'a-long-enough-password' }))
+        .status,
+    ).toBe(201)
   })
 
   it('refuses a device name with a control character', async () => {
@@ -63,7 +66,11 @@ describe('names', () => {
 describe('mention mails', () => {
   it('go once per comment and person, even when an edit removes the mention and adds it again', async () => {
     const users = await userIds(server.ctx.db)
-    const take = await insertTakeRow(server.ctx.db, { sessionId: await insertSession(server.ctx.db, 'Mentions'), uploaderId: users.recordist, title: 'Mention take' })
+    const take = await insertTakeRow(server.ctx.db, {
+      sessionId: await insertSession(server.ctx.db, 'Mentions'),
+      uploaderId: users.recordist,
+      title: 'Mention take',
+    })
     const toRory = () => smtp.received.filter((m) => JSON.stringify(m.to).includes('recordist@example.test')).length
     const before = toRory()
     const c = await designer.post(`/api/takes/${take}/comments`, { body: 'Listen @rory' })
@@ -78,14 +85,26 @@ describe('mention mails', () => {
 })
 
 describe('smaller gaps', () => {
-  it("refuses a pack item whose region belongs to another take, even with the range given", async () => {
+  it('refuses a pack item whose region belongs to another take, even with the range given', async () => {
     const users = await userIds(server.ctx.db)
     const session = await insertSession(server.ctx.db, 'Regions')
-    const [a, b] = [await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'A' }), await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'B' })]
-    const region = await designer.post(`/api/takes/${b}/regions`, { name: 'other take', startSeconds: 1, endSeconds: 2 })
+    const [a, b] = [
+      await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'A' }),
+      await insertTakeRow(server.ctx.db, { sessionId: session, uploaderId: users.recordist, title: 'B' }),
+    ]
+    const region = await designer.post(`/api/takes/${b}/regions`, {
+      name: 'other take',
+      startSeconds: 1,
+      endSeconds: 2,
+    })
     expect(region.status).toBe(201)
     const pack = await designer.post('/api/packs', { name: 'Region check' }).expect(201)
-    const res = await designer.post(`/api/packs/${pack.body.pack.id}/items`, { takeId: a, regionId: region.body.region.id, startSeconds: 0, endSeconds: 1 })
+    const res = await designer.post(`/api/packs/${pack.body.pack.id}/items`, {
+      takeId: a,
+      regionId: region.body.region.id,
+      startSeconds: 0,
+      endSeconds: 1,
+    })
     expect(res.status).toBe(400)
     expect(res.body.error.code).toBe('REGION_NOT_FOUND')
   })
@@ -95,10 +114,15 @@ describe('smaller gaps', () => {
     const token = linkToken((await smtp.waitFor('withdrawn@example.test')).text ?? '', 'join')
     expect((await designer.delete(`/api/invitations/${inv.body.invitation.id}`)).status).toBe(403)
     expect((await admin.delete(`/api/invitations/${inv.body.invitation.id}`)).status).toBe(204)
-    expect((await admin.get('/api/invitations')).body.invitations.map((i: { id: number }) => i.id)).not.toContain(inv.body.invitation.id)
+    expect((await admin.get('/api/invitations')).body.invitations.map((i: { id: number }) => i.id)).not.toContain(
+      inv.body.invitation.id,
+    )
     const invitee = new Client(server.url)
     await invitee.refreshCsrf()
-    expect((await invitee.post(`/api/invitations/${token}/accept`, { name: 'Too Late', password: 'a-long-enough-password' })).status).toBe(410)
+    expect(
+      (await invitee.post(`/api/invitations/${token}/accept`, { name: 'Too Late', password: 'a-long-enough-password' }))
+        .status,
+    ).toBe(410)
     expect((await admin.delete('/api/invitations/999999')).status).toBe(404)
   })
 
@@ -109,14 +133,27 @@ describe('smaller gaps', () => {
       const ids = await userIds(s.ctx.db)
       for (let round = 0; round < 5; round++) {
         // Two admins (the designer promoted), each demoting the other at the same moment.
-        await s.ctx.db.updateTable('users').set({ role: 'admin' }).where('id', 'in', [ids.admin, ids.designer]).execute()
+        await s.ctx.db
+          .updateTable('users')
+          .set({ role: 'admin' })
+          .where('id', 'in', [ids.admin, ids.designer])
+          .execute()
         const second = await signedIn(s.url, 'designer')
-        const [a, b] = await Promise.all([first.patch(`/api/users/${ids.designer}`, { role: 'designer' }), second.patch(`/api/users/${ids.admin}`, { role: 'designer' })])
+        const [a, b] = await Promise.all([
+          first.patch(`/api/users/${ids.designer}`, { role: 'designer' }),
+          second.patch(`/api/users/${ids.admin}`, { role: 'designer' }),
+        ])
         // One wins; the other is refused: 409 LAST_ADMIN, or 403 when its sender was already demoted.
         expect([a.status, b.status].filter((x) => x === 200)).toHaveLength(1)
-        const admins = await s.ctx.db.selectFrom('users').select('id').where('role', '=', 'admin').where('active', '=', 1).execute()
+        const admins = await s.ctx.db
+          .selectFrom('users')
+          .select('id')
+          .where('role', '=', 'admin')
+          .where('active', '=', 1)
+          .execute()
         expect(admins).toHaveLength(1)
-        if (admins[0].id !== ids.admin) await s.ctx.db.updateTable('users').set({ role: 'admin' }).where('id', '=', ids.admin).execute()
+        if (admins[0].id !== ids.admin)
+          await s.ctx.db.updateTable('users').set({ role: 'admin' }).where('id', '=', ids.admin).execute()
       }
     } finally {
       await s.stop()

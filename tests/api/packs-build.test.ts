@@ -12,7 +12,16 @@ import { PackBuild, PackDetail } from '@shared/schemas/packs'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { startTestSmtp } from '../helpers/smtp'
 import { ffmpegEbur128 } from '../helpers/reference-tools'
-import { binary, describeTake, filesUnder, newSession, SIGNALS, uploadMeasured, waitForBuild, type FixtureTake } from './packs-fixtures'
+import {
+  binary,
+  describeTake,
+  filesUnder,
+  newSession,
+  SIGNALS,
+  uploadMeasured,
+  waitForBuild,
+  type FixtureTake,
+} from './packs-fixtures'
 
 let smtp: Awaited<ReturnType<typeof startTestSmtp>>
 let server: TestServer
@@ -38,15 +47,41 @@ beforeAll(async () => {
     hum: await uploadMeasured(admin, session, SIGNALS.hum(path.join(dir, 'hum.wav'))),
     tone: await uploadMeasured(admin, session, SIGNALS.tone(path.join(dir, 'tone.wav'))),
   }
-  await describeTake(server, takes.noise.id, { device: 'Bench charger', kind: 'power-supply', state: 'charging', tags: ['hiss', 'noise'], title: 'Charger hiss close' })
-  await describeTake(server, takes.hum.id, { device: 'Doorbell transformer', kind: 'mains-wiring', state: 'idle', tags: ['hum'], title: 'Transformer hum' })
-  await describeTake(server, takes.tone.id, { device: 'Desk monitor', kind: 'display', state: 'bright', tags: ['whine', 'tonal'], title: 'Monitor whine' })
+  await describeTake(server, takes.noise.id, {
+    device: 'Bench charger',
+    kind: 'power-supply',
+    state: 'charging',
+    tags: ['hiss', 'noise'],
+    title: 'Charger hiss close',
+  })
+  await describeTake(server, takes.hum.id, {
+    device: 'Doorbell transformer',
+    kind: 'mains-wiring',
+    state: 'idle',
+    tags: ['hum'],
+    title: 'Transformer hum',
+  })
+  await describeTake(server, takes.tone.id, {
+    device: 'Desk monitor',
+    kind: 'display',
+    state: 'bright',
+    tags: ['whine', 'tonal'],
+    title: 'Monitor whine',
+  })
 
-  const created = await designer.post('/api/packs', { name: 'Bench Hums & Hiss', description: 'Field sounds of the bench', settings: { bitDepth: 24 } })
+  const created = await designer.post('/api/packs', {
+    name: 'Bench Hums & Hiss',
+    description: 'Field sounds of the bench',
+    settings: { bitDepth: 24 },
+  })
   expect(created.status).toBe(201)
   packId = created.body.pack.id
   const batch = await designer.post(`/api/packs/${packId}/items/batch`, {
-    items: [{ takeId: takes.noise.id }, { takeId: takes.hum.id, startSeconds: 0.5, endSeconds: 3.5, kind: 'loop' }, { takeId: takes.tone.id, settings: { bitDepth: 32 } }],
+    items: [
+      { takeId: takes.noise.id },
+      { takeId: takes.hum.id, startSeconds: 0.5, endSeconds: 3.5, kind: 'loop' },
+      { takeId: takes.tone.id, settings: { bitDepth: 32 } },
+    ],
   })
   expect(batch.status).toBe(201)
 }, 120_000)
@@ -62,7 +97,11 @@ describe('a build', () => {
   it('answers 202 with a queued build, runs as a job and ends done with version 1, size and SHA-256', async () => {
     const res = await designer.post(`/api/packs/${packId}/builds`)
     expect(res.status).toBe(202)
-    expect(res.body.build).toMatchObject({ id: expect.any(Number), status: expect.stringMatching(/queued|running/), version: 1 })
+    expect(res.body.build).toMatchObject({
+      id: expect.any(Number),
+      status: expect.stringMatching(/queued|running/),
+      version: 1,
+    })
     const done = PackBuild.parse(await waitForBuild(designer, res.body.build.id))
     expect(done.status).toBe('done')
     expect(done.progress).toBe(1)
@@ -77,7 +116,9 @@ describe('a build', () => {
     // SHA-256 of the bytes received, recomputed here (Node's OpenSSL binding).
     expect(createHash('sha256').update(zipBytes).digest('hex')).toBe(done.sha256)
     // No temp renders or partial zips are left in storage.
-    expect(filesUnder(path.join(server.ctx.config.storageDir, 'builds')).filter((f) => /\.part$|tmp\//.test(f))).toEqual([])
+    expect(
+      filesUnder(path.join(server.ctx.config.storageDir, 'builds')).filter((f) => /\.part$|tmp\//.test(f)),
+    ).toEqual([])
   })
 
   it('is a valid zip for Info-ZIP unzip -t and Python zipfile.testzip()', () => {
@@ -85,9 +126,17 @@ describe('a build', () => {
     fs.writeFileSync(file, zipBytes)
     const out = execFileSync('unzip', ['-t', file], { encoding: 'utf8' })
     expect(out).toMatch(/No errors detected/)
-    const py = execFileSync('python3', ['-c', 'import sys, zipfile; z = zipfile.ZipFile(sys.argv[1]); print(repr(z.testzip())); print("\\n".join(i.filename + " " + str(i.compress_type) for i in z.infolist()))', file], {
-      encoding: 'utf8',
-    })
+    const py = execFileSync(
+      'python3',
+      [
+        '-c',
+        'import sys, zipfile; z = zipfile.ZipFile(sys.argv[1]); print(repr(z.testzip())); print("\\n".join(i.filename + " " + str(i.compress_type) for i in z.infolist()))',
+        file,
+      ],
+      {
+        encoding: 'utf8',
+      },
+    )
     const [bad, ...entries] = py.trim().split('\n')
     expect(bad).toBe('None')
     // Every entry stored (compression method 0, PKWARE APPNOTE 4.4.5).
@@ -101,20 +150,35 @@ describe('a build', () => {
     const manifest = JSON.parse(fs.readFileSync(path.join(out, 'manifest.json'), 'utf8'))
     expect(manifest.pack).toMatchObject({ id: packId, name: 'Bench Hums & Hiss' })
     expect(manifest.build).toMatchObject({ id: build.id, version: 1 })
-    const wavs = fs.readdirSync(out).filter((f) => f.endsWith('.wav')).sort()
+    const wavs = fs
+      .readdirSync(out)
+      .filter((f) => f.endsWith('.wav'))
+      .sort()
     expect(manifest.items.map((i: { file: string }) => i.file).sort()).toEqual(wavs)
     for (const item of manifest.items) {
       const bytes = fs.readFileSync(path.join(out, item.file))
       expect(createHash('sha256').update(bytes).digest('hex')).toBe(item.sha256)
       // Format fields against ffprobe (Debian ffmpeg).
-      const probe = JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', path.join(out, item.file)], { encoding: 'utf8' })).streams[0]
+      const probe = JSON.parse(
+        execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', path.join(out, item.file)], {
+          encoding: 'utf8',
+        }),
+      ).streams[0]
       expect(Number(probe.sample_rate)).toBe(item.sampleRate)
       expect(probe.channels).toBe(item.channels)
       expect(Number(probe.duration)).toBeCloseTo(item.durationSeconds, 3)
     }
     // manifest.csv: the same rows, parsed by Python's csv module (RFC 4180 dialect).
     const csv = JSON.parse(
-      execFileSync('python3', ['-c', 'import csv, json, sys; print(json.dumps(list(csv.DictReader(open(sys.argv[1], newline="")))))', path.join(out, 'manifest.csv')], { encoding: 'utf8' }),
+      execFileSync(
+        'python3',
+        [
+          '-c',
+          'import csv, json, sys; print(json.dumps(list(csv.DictReader(open(sys.argv[1], newline="")))))',
+          path.join(out, 'manifest.csv'),
+        ],
+        { encoding: 'utf8' },
+      ),
     )
     expect(csv.map((r: { file: string }) => r.file)).toEqual(manifest.items.map((i: { file: string }) => i.file))
     for (const [i, row] of csv.entries()) {
@@ -225,7 +289,9 @@ describe('publishing, following and producers', () => {
     expect(res.headers['content-type']).toBe('audio/wav')
     const file = path.join(server.dir, 'preview.wav')
     fs.writeFileSync(file, res.body)
-    const probe = JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', file], { encoding: 'utf8' })).streams[0]
+    const probe = JSON.parse(
+      execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', file], { encoding: 'utf8' }),
+    ).streams[0]
     expect(Number(probe.sample_rate)).toBe(44100)
     // The same item renders the same samples in a preview and in the build (the dither is seeded).
     const inZip = fs.readFileSync(path.join(server.dir, 'v1', item.fileName))

@@ -33,8 +33,18 @@ beforeAll(async () => {
   noise = await uploadMeasured(recordist, sessionId, SIGNALS.noise(path.join(dir, 'noise.wav')))
   hum = await uploadMeasured(recordist, sessionId, SIGNALS.hum(path.join(dir, 'hum.wav')))
   tone = await uploadMeasured(recordist, sessionId, SIGNALS.tone(path.join(dir, 'tone.wav')))
-  await describeTake(server, noise.id, { device: 'Bench charger', state: 'charging', tags: ['hiss'], title: 'Charger hiss' })
-  await describeTake(server, hum.id, { device: 'Doorbell transformer', state: 'idle', tags: ['hum'], title: 'Transformer hum' })
+  await describeTake(server, noise.id, {
+    device: 'Bench charger',
+    state: 'charging',
+    tags: ['hiss'],
+    title: 'Charger hiss',
+  })
+  await describeTake(server, hum.id, {
+    device: 'Doorbell transformer',
+    state: 'idle',
+    tags: ['hum'],
+    title: 'Transformer hum',
+  })
   await describeTake(server, tone.id, { device: 'Desk monitor', state: 'bright', tags: [], title: 'Monitor whine' })
 }, 120_000)
 afterAll(async () => {
@@ -64,7 +74,9 @@ describe('packs', () => {
     })
     expect(pack.createdBy?.name).toEqual(expect.any(String))
     expect((await designer.get(`/api/packs/${pack.id}`).expect(200)).body.pack.id).toBe(pack.id)
-    expect((await designer.get('/api/packs').expect(200)).body.packs.map((p: { id: number }) => p.id)).toContain(pack.id)
+    expect((await designer.get('/api/packs').expect(200)).body.packs.map((p: { id: number }) => p.id)).toContain(
+      pack.id,
+    )
   })
 
   it('takes a licence template by key, or any edited text', async () => {
@@ -111,7 +123,10 @@ describe('packs', () => {
     expect(gone.status).toBe(404)
     expect(gone.body.error.code).toBe('PACK_NOT_FOUND')
     const busy = await newPack()
-    await server.ctx.db.insertInto('pack_builds').values({ pack_id: busy.id, version: 1, status: 'running', snapshot_json: '{}', item_count: 0 }).execute()
+    await server.ctx.db
+      .insertInto('pack_builds')
+      .values({ pack_id: busy.id, version: 1, status: 'running', snapshot_json: '{}', item_count: 0 })
+      .execute()
     const refused = await designer.delete(`/api/packs/${busy.id}`)
     expect(refused.status).toBe(409)
     expect(refused.body.error.code).toBe('BUILD_RUNNING')
@@ -155,7 +170,12 @@ describe('items', () => {
 
   it('adds a range measured over the range itself (close to ffmpeg ebur128 of the same cut)', async () => {
     const pack = await newPack()
-    const res = await designer.post(`/api/packs/${pack.id}/items`, { takeId: noise.id, startSeconds: 1, endSeconds: 3, kind: 'loop' })
+    const res = await designer.post(`/api/packs/${pack.id}/items`, {
+      takeId: noise.id,
+      startSeconds: 1,
+      endSeconds: 3,
+      kind: 'loop',
+    })
     expect(res.status).toBe(201)
     const item = PackItem.parse(res.body.item)
     expect(item).toMatchObject({ startSeconds: 1, endSeconds: 3, kind: 'loop', durationSeconds: 2 })
@@ -167,12 +187,22 @@ describe('items', () => {
 
   it('copies the range of a region given by id', async () => {
     const pack = await newPack()
-    const region = await designer.post(`/api/takes/${noise.id}/regions`, { name: 'clean part', startSeconds: 0.5, endSeconds: 1.75 })
+    const region = await designer.post(`/api/takes/${noise.id}/regions`, {
+      name: 'clean part',
+      startSeconds: 0.5,
+      endSeconds: 1.75,
+    })
     expect(region.status).toBe(201)
-    const res = await designer.post(`/api/packs/${pack.id}/items`, { takeId: noise.id, regionId: region.body.region.id })
+    const res = await designer.post(`/api/packs/${pack.id}/items`, {
+      takeId: noise.id,
+      regionId: region.body.region.id,
+    })
     expect(res.status).toBe(201)
     expect(res.body.item).toMatchObject({ regionId: region.body.region.id, startSeconds: 0.5, endSeconds: 1.75 })
-    const wrong = await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, regionId: region.body.region.id })
+    const wrong = await designer.post(`/api/packs/${pack.id}/items`, {
+      takeId: hum.id,
+      regionId: region.body.region.id,
+    })
     expect(wrong.status).toBe(400)
     expect(wrong.body.error.code).toBe('REGION_NOT_FOUND')
   })
@@ -182,14 +212,26 @@ describe('items', () => {
     const past = await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, startSeconds: 1, endSeconds: 99 })
     expect(past.status).toBe(400)
     expect(past.body.error.code).toBe('RANGE_INVALID')
-    expect((await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, startSeconds: 2, endSeconds: 1 })).body.error.code).toBe('RANGE_INVALID')
-    expect((await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, startSeconds: 50 })).body.error.code).toBe('RANGE_INVALID')
+    expect(
+      (await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, startSeconds: 2, endSeconds: 1 })).body
+        .error.code,
+    ).toBe('RANGE_INVALID')
+    expect(
+      (await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, startSeconds: 50 })).body.error.code,
+    ).toBe('RANGE_INVALID')
     const unknown = await designer.post(`/api/packs/${pack.id}/items`, { takeId: 999999 })
     expect(unknown.status).toBe(404)
     expect(unknown.body.error.code).toBe('TAKE_NOT_FOUND')
     const queued = await server.ctx.db
       .insertInto('takes')
-      .values({ session_id: sessionId, filename: 'late.wav', audio_path: 'audio/zz/late.wav', size_bytes: 1, sha256: 'f'.repeat(64), status: 'queued' })
+      .values({
+        session_id: sessionId,
+        filename: 'late.wav',
+        audio_path: 'audio/zz/late.wav',
+        size_bytes: 1,
+        sha256: 'f'.repeat(64),
+        status: 'queued',
+      })
       .returning('id')
       .executeTakeFirstOrThrow()
     const notReady = await designer.post(`/api/packs/${pack.id}/items`, { takeId: queued.id })
@@ -201,7 +243,11 @@ describe('items', () => {
   it('adds many at once in order, all or none', async () => {
     const pack = await newPack()
     const res = await designer.post(`/api/packs/${pack.id}/items/batch`, {
-      items: [{ takeId: noise.id }, { takeId: hum.id, startSeconds: 0.25, endSeconds: 2 }, { takeId: tone.id, kind: 'loop' }],
+      items: [
+        { takeId: noise.id },
+        { takeId: hum.id, startSeconds: 0.25, endSeconds: 2 },
+        { takeId: tone.id, kind: 'loop' },
+      ],
     })
     expect(res.status).toBe(201)
     expect(res.body.items.map((i: PackItem) => [i.position, i.takeId])).toEqual([
@@ -210,8 +256,14 @@ describe('items', () => {
       [3, tone.id],
     ])
     // {descriptor} falls back to the first title word when a take has no tags.
-    expect(res.body.items.map((i: PackItem) => i.outputName)).toEqual(['Bench_charger_hiss_01', 'Doorbell_transformer_hum_02', 'Desk_monitor_Monitor_03'])
-    const bad = await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: noise.id }, { takeId: hum.id, startSeconds: 0, endSeconds: 60 }] })
+    expect(res.body.items.map((i: PackItem) => i.outputName)).toEqual([
+      'Bench_charger_hiss_01',
+      'Doorbell_transformer_hum_02',
+      'Desk_monitor_Monitor_03',
+    ])
+    const bad = await designer.post(`/api/packs/${pack.id}/items/batch`, {
+      items: [{ takeId: noise.id }, { takeId: hum.id, startSeconds: 0, endSeconds: 60 }],
+    })
     expect(bad.status).toBe(400)
     expect(bad.body.error.message).toMatch(/^items\.1: /)
     const after = PackDetail.parse((await designer.get(`/api/packs/${pack.id}`)).body.pack)
@@ -221,19 +273,36 @@ describe('items', () => {
 
   it('edits an item: explicit names are sanitised and made unique, kind and settings override, range re-measured', async () => {
     const pack = await newPack()
-    const { items } = (await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: noise.id }, { takeId: hum.id }] })).body
+    const { items } = (
+      await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: noise.id }, { takeId: hum.id }] })
+    ).body
     const a = await designer.patch(`/api/packs/${pack.id}/items/${items[0].id}`, { name: 'Crème brûlée / hiss' })
     expect(a.status).toBe(200)
     expect(a.body.item.outputName).toBe('Creme_brulee_hiss')
-    const b = await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, { name: 'creme BRULEE hiss', kind: 'loop', settings: { bitDepth: 32, loudnessTargetLufs: -20 } })
+    const b = await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, {
+      name: 'creme BRULEE hiss',
+      kind: 'loop',
+      settings: { bitDepth: 32, loudnessTargetLufs: -20 },
+    })
     expect(b.body.item).toMatchObject({
       outputName: 'creme_BRULEE_hiss_2',
       kind: 'loop',
       settings: { bitDepth: 32, loudnessTargetLufs: -20 },
       effectiveSettings: { ...DEFAULT_RENDER_SETTINGS, bitDepth: 32, loudnessTargetLufs: -20 },
     })
-    const c = await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, { startSeconds: 1, endSeconds: 2, name: null, settings: null })
-    expect(c.body.item).toMatchObject({ startSeconds: 1, endSeconds: 2, name: null, outputName: 'Doorbell_transformer_hum_02', settings: null })
+    const c = await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, {
+      startSeconds: 1,
+      endSeconds: 2,
+      name: null,
+      settings: null,
+    })
+    expect(c.body.item).toMatchObject({
+      startSeconds: 1,
+      endSeconds: 2,
+      name: null,
+      outputName: 'Doorbell_transformer_hum_02',
+      settings: null,
+    })
     expect(c.body.item.source.measuredFrom).toBe('range')
     expect((await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, { endSeconds: 500 })).status).toBe(400)
     expect((await designer.patch(`/api/packs/${pack.id}/items/999999`, { name: 'x' })).status).toBe(404)
@@ -241,7 +310,11 @@ describe('items', () => {
 
   it('reorders with PUT …/items/order (every id once) and renumbers {index}', async () => {
     const pack = await newPack()
-    const { items } = (await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: noise.id }, { takeId: hum.id }, { takeId: tone.id }] })).body
+    const { items } = (
+      await designer.post(`/api/packs/${pack.id}/items/batch`, {
+        items: [{ takeId: noise.id }, { takeId: hum.id }, { takeId: tone.id }],
+      })
+    ).body
     const ids = items.map((i: PackItem) => i.id)
     const res = await designer.put(`/api/packs/${pack.id}/items/order`, { itemIds: [ids[2], ids[0], ids[1]] })
     expect(res.status).toBe(200)
@@ -253,12 +326,18 @@ describe('items', () => {
     const missing = await designer.put(`/api/packs/${pack.id}/items/order`, { itemIds: [ids[0], ids[1]] })
     expect(missing.status).toBe(400)
     expect(missing.body.error).toMatchObject({ code: 'ORDER_INVALID', details: { missing: [ids[2]], unknown: [] } })
-    expect((await designer.put(`/api/packs/${pack.id}/items/order`, { itemIds: [ids[0], ids[0], ids[1], ids[2]] })).status).toBe(400)
+    expect(
+      (await designer.put(`/api/packs/${pack.id}/items/order`, { itemIds: [ids[0], ids[0], ids[1], ids[2]] })).status,
+    ).toBe(400)
   })
 
   it('removes an item (204) and closes the gap in the order', async () => {
     const pack = await newPack()
-    const { items } = (await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: noise.id }, { takeId: hum.id }, { takeId: tone.id }] })).body
+    const { items } = (
+      await designer.post(`/api/packs/${pack.id}/items/batch`, {
+        items: [{ takeId: noise.id }, { takeId: hum.id }, { takeId: tone.id }],
+      })
+    ).body
     expect((await designer.delete(`/api/packs/${pack.id}/items/${items[1].id}`)).status).toBe(204)
     const after = (await designer.get(`/api/packs/${pack.id}`)).body.pack.items
     expect(after.map((i: PackItem) => [i.id, i.position])).toEqual([
@@ -272,41 +351,60 @@ describe('items', () => {
 describe('audition and quick export', () => {
   it('streams an item rendered as it will be built, with Range support for the player', async () => {
     const pack = await newPack({ settings: { bitDepth: 16 } })
-    const item = (await designer.post(`/api/packs/${pack.id}/items`, { takeId: noise.id, startSeconds: 0.5, endSeconds: 2.5 })).body.item
+    const item = (
+      await designer.post(`/api/packs/${pack.id}/items`, { takeId: noise.id, startSeconds: 0.5, endSeconds: 2.5 })
+    ).body.item
     const res = await designer.get(`/api/packs/${pack.id}/items/${item.id}/preview`).buffer(true).parse(binary)
     expect(res.status).toBe(200)
     expect(res.headers['content-type']).toBe('audio/wav')
     expect(res.headers['accept-ranges']).toBe('bytes')
     const file = path.join(dir, 'preview.wav')
     fs.writeFileSync(file, res.body)
-    const probe = JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', file], { encoding: 'utf8' })).streams[0]
+    const probe = JSON.parse(
+      execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', file], { encoding: 'utf8' }),
+    ).streams[0]
     expect(probe.codec_name).toBe('pcm_s16le')
     expect(Number(probe.duration)).toBeCloseTo(2, 6)
     expect(Math.abs(ffmpegEbur128(file).integratedLufs - -18)).toBeLessThanOrEqual(0.2)
-    const head = await designer.get(`/api/packs/${pack.id}/items/${item.id}/preview`).set('Range', 'bytes=0-11').buffer(true).parse(binary)
+    const head = await designer
+      .get(`/api/packs/${pack.id}/items/${item.id}/preview`)
+      .set('Range', 'bytes=0-11')
+      .buffer(true)
+      .parse(binary)
     expect(head.status).toBe(206)
     expect(head.body.toString('latin1')).toBe(res.body.subarray(0, 12).toString('latin1'))
   })
 
   it('exports a range of a take as one WAV attachment with the default settings, or a pack’s, any field overridden', async () => {
-    const res = await designer.get(`/api/takes/${hum.id}/export?start=0.5&end=1.5&bitDepth=16`).buffer(true).parse(binary)
+    const res = await designer
+      .get(`/api/takes/${hum.id}/export?start=0.5&end=1.5&bitDepth=16`)
+      .buffer(true)
+      .parse(binary)
     expect(res.status).toBe(200)
     expect(res.headers['content-disposition']).toMatch(/^attachment; filename="?Doorbell_transformer_hum_01\.wav"?$/)
     const file = path.join(dir, 'export.wav')
     fs.writeFileSync(file, res.body)
-    const probe = JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', file], { encoding: 'utf8' })).streams[0]
+    const probe = JSON.parse(
+      execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', file], { encoding: 'utf8' }),
+    ).streams[0]
     expect(probe.codec_name).toBe('pcm_s16le')
     expect(Number(probe.sample_rate)).toBe(44100)
     expect(Number(probe.duration)).toBeCloseTo(1, 6)
     expect(Math.abs(ffmpegEbur128(file).integratedLufs - -18)).toBeLessThanOrEqual(0.2)
 
     const pack = await newPack({ namingTemplate: '{title}', settings: { loudnessTargetLufs: -24, bitDepth: 32 } })
-    const withPack = await designer.get(`/api/takes/${tone.id}/export?packId=${pack.id}&name=Whine%20sample`).buffer(true).parse(binary)
+    const withPack = await designer
+      .get(`/api/takes/${tone.id}/export?packId=${pack.id}&name=Whine%20sample`)
+      .buffer(true)
+      .parse(binary)
     expect(withPack.status).toBe(200)
     expect(withPack.headers['content-disposition']).toMatch(/filename="?Whine_sample\.wav"?/)
     const f2 = path.join(dir, 'export2.wav')
     fs.writeFileSync(f2, withPack.body)
-    expect(JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', f2], { encoding: 'utf8' })).streams[0].codec_name).toBe('pcm_f32le')
+    expect(
+      JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-of', 'json', f2], { encoding: 'utf8' }))
+        .streams[0].codec_name,
+    ).toBe('pcm_f32le')
     expect(Math.abs(ffmpegEbur128(f2).integratedLufs - -24)).toBeLessThanOrEqual(0.2)
 
     expect((await designer.get(`/api/takes/${hum.id}/export?start=3&end=1`)).status).toBe(400)
@@ -318,7 +416,9 @@ describe('what a producer sees', () => {
   it('lists no unpublished pack and gets 404 for one, its items’ previews and its builds', async () => {
     const pack = await newPack()
     const item = (await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id })).body.item
-    expect((await producer.get('/api/packs').expect(200)).body.packs.map((p: { id: number }) => p.id)).not.toContain(pack.id)
+    expect((await producer.get('/api/packs').expect(200)).body.packs.map((p: { id: number }) => p.id)).not.toContain(
+      pack.id,
+    )
     expect((await producer.get(`/api/packs/${pack.id}`)).status).toBe(404)
     expect((await producer.get(`/api/packs/${pack.id}/builds`)).status).toBe(404)
     expect((await producer.get(`/api/packs/${pack.id}/items/${item.id}/preview`)).status).toBe(404)

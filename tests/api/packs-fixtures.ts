@@ -17,23 +17,67 @@ export interface FixtureTake {
 }
 
 /** sox synthesis into a WAV of the given format (Debian sox). */
-export function soxMake(file: string, o: { rate: number; bits: number; channels: number; encoding?: 'signed-integer' | 'floating-point' }, effects: string[]): string {
+export function soxMake(
+  file: string,
+  o: { rate: number; bits: number; channels: number; encoding?: 'signed-integer' | 'floating-point' },
+  effects: string[],
+): string {
   fs.mkdirSync(path.dirname(file), { recursive: true })
-  execFileSync('sox', ['-n', '-r', String(o.rate), '-b', String(o.bits), ...(o.encoding ? ['-e', o.encoding] : []), '-c', String(o.channels), file, ...effects])
+  execFileSync('sox', [
+    '-n',
+    '-r',
+    String(o.rate),
+    '-b',
+    String(o.bits),
+    ...(o.encoding ? ['-e', o.encoding] : []),
+    '-c',
+    String(o.channels),
+    file,
+    ...effects,
+  ])
   return file
 }
 
 export const SIGNALS = {
   /** Pink noise at about −30 LUFS, 48 kHz 24-bit stereo. */
-  noise: (f: string, seconds = 4) => soxMake(f, { rate: 48000, bits: 24, channels: 2 }, ['synth', String(seconds), 'pinknoise', 'vol', '-24dB']),
+  noise: (f: string, seconds = 4) =>
+    soxMake(f, { rate: 48000, bits: 24, channels: 2 }, ['synth', String(seconds), 'pinknoise', 'vol', '-24dB']),
   /** 50 Hz hum with harmonics at 44.1 kHz 16-bit mono. */
   hum: (f: string, seconds = 4) =>
-    soxMake(f, { rate: 44100, bits: 16, channels: 1 }, ['synth', String(seconds), 'sine', '50', 'synth', 'sine', 'mix', '150', 'synth', 'sine', 'mix', '250', 'vol', '-20dB']),
+    soxMake(f, { rate: 44100, bits: 16, channels: 1 }, [
+      'synth',
+      String(seconds),
+      'sine',
+      '50',
+      'synth',
+      'sine',
+      'mix',
+      '150',
+      'synth',
+      'sine',
+      'mix',
+      '250',
+      'vol',
+      '-20dB',
+    ]),
   /** A 1 kHz tone, 96 kHz 32-bit float mono. */
-  tone: (f: string, seconds = 3) => soxMake(f, { rate: 96000, bits: 32, channels: 1, encoding: 'floating-point' }, ['synth', String(seconds), 'sine', '1000', 'vol', '-26dB']),
+  tone: (f: string, seconds = 3) =>
+    soxMake(f, { rate: 96000, bits: 32, channels: 1, encoding: 'floating-point' }, [
+      'synth',
+      String(seconds),
+      'sine',
+      '1000',
+      'vol',
+      '-26dB',
+    ]),
 }
 
-export async function uploadMeasured(client: Client, sessionId: number, file: string, name = path.basename(file)): Promise<FixtureTake> {
+export async function uploadMeasured(
+  client: Client,
+  sessionId: number,
+  file: string,
+  name = path.basename(file),
+): Promise<FixtureTake> {
   const res = await uploadTake(client, sessionId, file, name)
   if (res.status !== 201) throw new Error(`upload ${name}: ${res.status} ${JSON.stringify(res.body)}`)
   const take = await waitForTake(client, res.body.take.id)
@@ -42,11 +86,22 @@ export async function uploadMeasured(client: Client, sessionId: number, file: st
 }
 
 /** Links a take to a new source device with a state and sets its tags. */
-export async function describeTake(server: RunningServer, takeId: number, o: { device?: string; kind?: string; state?: string; tags?: string[]; title?: string }) {
+export async function describeTake(
+  server: RunningServer,
+  takeId: number,
+  o: { device?: string; kind?: string; state?: string; tags?: string[]; title?: string },
+) {
   const db = server.ctx.db
   if (o.device) {
-    const src = await db.insertInto('sources').values({ name: o.device, kind: o.kind ?? 'other' }).returning('id').executeTakeFirstOrThrow()
-    await db.insertInto('take_sources').values({ take_id: takeId, source_id: src.id, state: o.state ?? '' }).execute()
+    const src = await db
+      .insertInto('sources')
+      .values({ name: o.device, kind: o.kind ?? 'other' })
+      .returning('id')
+      .executeTakeFirstOrThrow()
+    await db
+      .insertInto('take_sources')
+      .values({ take_id: takeId, source_id: src.id, state: o.state ?? '' })
+      .execute()
   }
   for (const tag of o.tags ?? []) await db.insertInto('take_tags').values({ take_id: takeId, tag }).execute()
   if (o.title !== undefined) await db.updateTable('takes').set({ title: o.title }).where('id', '=', takeId).execute()

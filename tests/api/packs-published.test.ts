@@ -12,7 +12,15 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { BuildChanges, PackBuild, PackDetail, ShareInfo } from '@shared/schemas/packs'
 import { Client, signedIn, startTestServer, type TestServer } from '../helpers/server'
 import { startTestSmtp } from '../helpers/smtp'
-import { binary, describeTake, newSession, SIGNALS, uploadMeasured, waitForBuild, type FixtureTake } from './packs-fixtures'
+import {
+  binary,
+  describeTake,
+  newSession,
+  SIGNALS,
+  uploadMeasured,
+  waitForBuild,
+  type FixtureTake,
+} from './packs-fixtures'
 
 let smtp: Awaited<ReturnType<typeof startTestSmtp>>
 let server: TestServer
@@ -53,12 +61,28 @@ beforeAll(async () => {
   noise = await uploadMeasured(admin, session, SIGNALS.noise(path.join(server.dir, 'noise.wav'), 3))
   await describeTake(server, hum.id, { device: 'Doorbell transformer', state: 'idle', tags: ['hum'] })
   await describeTake(server, noise.id, { device: 'Bench charger', state: 'charging', tags: ['hiss'] })
-  regionId = (await designer.post(`/api/takes/${noise.id}/regions`, { name: 'Switch burst', startSeconds: 0.5, endSeconds: 1.5 }).expect(201)).body.region.id
+  regionId = (
+    await designer
+      .post(`/api/takes/${noise.id}/regions`, { name: 'Switch burst', startSeconds: 0.5, endSeconds: 1.5 })
+      .expect(201)
+  ).body.region.id
 
-  const pack = (await designer.post('/api/packs', { name: 'Published hums', description: 'The published words', licenceText: 'Published licence words.' }).expect(201)).body.pack
+  const pack = (
+    await designer
+      .post('/api/packs', {
+        name: 'Published hums',
+        description: 'The published words',
+        licenceText: 'Published licence words.',
+      })
+      .expect(201)
+  ).body.pack
   packId = pack.id
-  await designer.post(`/api/packs/${packId}/items/batch`, { items: [{ takeId: hum.id }, { takeId: noise.id, regionId }] }).expect(201)
-  v1 = PackBuild.parse(await waitForBuild(designer, (await designer.post(`/api/packs/${packId}/builds`).expect(202)).body.build.id))
+  await designer
+    .post(`/api/packs/${packId}/items/batch`, { items: [{ takeId: hum.id }, { takeId: noise.id, regionId }] })
+    .expect(201)
+  v1 = PackBuild.parse(
+    await waitForBuild(designer, (await designer.post(`/api/packs/${packId}/builds`).expect(202)).body.build.id),
+  )
   // Nobody without packs:manage can follow a pack before its first version; the admin can.
   await admin.post(`/api/packs/${packId}/follow`).expect(200)
   v1Dir = unzipTo((await getBinary(designer, `/api/pack-builds/${v1.id}/download`).expect(200)).body, 'v1')
@@ -80,17 +104,37 @@ describe('region names', () => {
     expect(manifest.items.map((i: { regionName: string | null }) => i.regionName)).toEqual([null, 'Switch burst'])
     // manifest.csv read by Python's csv module (RFC 4180 dialect).
     const csv = JSON.parse(
-      execFileSync('python3', ['-c', 'import csv, json, sys; print(json.dumps(list(csv.DictReader(open(sys.argv[1], newline="")))))', path.join(v1Dir, 'manifest.csv')], { encoding: 'utf8' }),
+      execFileSync(
+        'python3',
+        [
+          '-c',
+          'import csv, json, sys; print(json.dumps(list(csv.DictReader(open(sys.argv[1], newline="")))))',
+          path.join(v1Dir, 'manifest.csv'),
+        ],
+        { encoding: 'utf8' },
+      ),
     )
     expect(csv.map((r: { regionName: string }) => r.regionName)).toEqual(['', 'Switch burst'])
     // bext description as ffprobe reports it (ffmpeg's WAV demuxer shows it as the "comment" tag).
-    const probe = JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_format', '-of', 'json', path.join(v1Dir, 'Bench_charger_Switch_burst_02.wav')], { encoding: 'utf8' }))
+    const probe = JSON.parse(
+      execFileSync(
+        'ffprobe',
+        ['-v', 'error', '-show_format', '-of', 'json', path.join(v1Dir, 'Bench_charger_Switch_burst_02.wav')],
+        { encoding: 'utf8' },
+      ),
+    )
     expect(probe.format.tags.comment).toContain('Region: Switch burst')
   })
 
   it('previews the output names of a typed template, and refuses an unknown token', async () => {
-    const res = await designer.get(`/api/packs/${packId}/naming-preview`).query({ template: '{region}-{take}' }).expect(200)
-    expect(res.body.names.map((n: { fileName: string }) => n.fileName)).toEqual([`${hum.id}.wav`, `Switch_burst-${noise.id}.wav`])
+    const res = await designer
+      .get(`/api/packs/${packId}/naming-preview`)
+      .query({ template: '{region}-{take}' })
+      .expect(200)
+    expect(res.body.names.map((n: { fileName: string }) => n.fileName)).toEqual([
+      `${hum.id}.wav`,
+      `Switch_burst-${noise.id}.wav`,
+    ])
     const bad = await designer.get(`/api/packs/${packId}/naming-preview`).query({ template: '{colour}' })
     expect(bad.status).toBe(400)
     expect(bad.body.error.code).toBe('VALIDATION_FAILED')
@@ -98,7 +142,12 @@ describe('region names', () => {
   })
 
   it('refuses a region of another take, even with the range given', async () => {
-    const res = await designer.post(`/api/packs/${packId}/items`, { takeId: hum.id, regionId, startSeconds: 0, endSeconds: 1 })
+    const res = await designer.post(`/api/packs/${packId}/items`, {
+      takeId: hum.id,
+      regionId,
+      startSeconds: 0,
+      endSeconds: 1,
+    })
     expect(res.status).toBe(400)
     expect(res.body.error.code).toBe('REGION_NOT_FOUND')
   })
@@ -106,10 +155,17 @@ describe('region names', () => {
 
 describe('publishing with a "what changed" note', () => {
   it('computes the first version, publishes with the typed note and mails it to followers', async () => {
-    const changes = BuildChanges.parse((await designer.get(`/api/pack-builds/${v1.id}/changes`).expect(200)).body.changes)
-    expect(changes).toMatchObject({ sinceVersion: null, added: ['Doorbell_transformer_hum_01.wav', 'Bench_charger_Switch_burst_02.wav'] })
+    const changes = BuildChanges.parse(
+      (await designer.get(`/api/pack-builds/${v1.id}/changes`).expect(200)).body.changes,
+    )
+    expect(changes).toMatchObject({
+      sinceVersion: null,
+      added: ['Doorbell_transformer_hum_01.wav', 'Bench_charger_Switch_burst_02.wav'],
+    })
     expect(changes.text).toBe('First published version: 2 items.')
-    const pub = await designer.post(`/api/pack-builds/${v1.id}/publish`, { note: 'Two first sounds: a doorbell hum and a charger burst.' }).expect(200)
+    const pub = await designer
+      .post(`/api/pack-builds/${v1.id}/publish`, { note: 'Two first sounds: a doorbell hum and a charger burst.' })
+      .expect(200)
     expect(pub.body.build.changeNote).toBe('Two first sounds: a doorbell hum and a charger burst.')
     const mail = await smtp.waitFor('admin@example.test')
     expect(mail.text).toContain('What changed in version 1:\nTwo first sounds: a doorbell hum and a charger burst.')
@@ -119,10 +175,19 @@ describe('publishing with a "what changed" note', () => {
     const items = PackDetail.parse((await designer.get(`/api/packs/${packId}`).expect(200)).body.pack).items
     await designer.patch(`/api/packs/${packId}/items/${items[0].id}`, { name: 'Doorbell low hum' }).expect(200)
     await designer.patch(`/api/packs/${packId}/items/${items[1].id}`, { kind: 'loop' }).expect(200)
-    const added = (await designer.post(`/api/packs/${packId}/items`, { takeId: noise.id, startSeconds: 2, endSeconds: 2.8 }).expect(201)).body.item
+    const added = (
+      await designer
+        .post(`/api/packs/${packId}/items`, { takeId: noise.id, startSeconds: 2, endSeconds: 2.8 })
+        .expect(201)
+    ).body.item
     hiddenItemId = added.id
-    const v2 = await waitForBuild(designer, (await designer.post(`/api/packs/${packId}/builds`).expect(202)).body.build.id)
-    const changes = BuildChanges.parse((await designer.get(`/api/pack-builds/${v2.id}/changes`).expect(200)).body.changes)
+    const v2 = await waitForBuild(
+      designer,
+      (await designer.post(`/api/packs/${packId}/builds`).expect(202)).body.build.id,
+    )
+    const changes = BuildChanges.parse(
+      (await designer.get(`/api/pack-builds/${v2.id}/changes`).expect(200)).body.changes,
+    )
     expect(changes.sinceVersion).toBe(1)
     expect(changes.added).toEqual([added.fileName])
     expect(changes.removed).toEqual([])
@@ -139,15 +204,32 @@ describe('publishing with a "what changed" note', () => {
 
 describe('producers see only what was published', () => {
   it('get the published name, description, licence and items after the draft is edited (v2 built, not published)', async () => {
-    await designer.patch(`/api/packs/${packId}`, { name: 'Draft name', description: 'Draft words', licenceText: 'Draft licence.' }).expect(200)
+    await designer
+      .patch(`/api/packs/${packId}`, { name: 'Draft name', description: 'Draft words', licenceText: 'Draft licence.' })
+      .expect(200)
     const seen = PackDetail.parse((await producer.get(`/api/packs/${packId}`).expect(200)).body.pack)
-    expect(seen).toMatchObject({ name: 'Published hums', description: 'The published words', licenceText: 'Published licence words.', itemCount: 2 })
-    expect(seen.items.map((i) => i.fileName)).toEqual(['Doorbell_transformer_hum_01.wav', 'Bench_charger_Switch_burst_02.wav'])
+    expect(seen).toMatchObject({
+      name: 'Published hums',
+      description: 'The published words',
+      licenceText: 'Published licence words.',
+      itemCount: 2,
+    })
+    expect(seen.items.map((i) => i.fileName)).toEqual([
+      'Doorbell_transformer_hum_01.wav',
+      'Bench_charger_Switch_burst_02.wav',
+    ])
     expect(seen.items.map((i) => i.kind)).toEqual(['one-shot', 'one-shot'])
     expect(seen.items.every((i) => i.rendered?.version === 1)).toBe(true)
     expect(seen.publishedBuild?.changeNote).toBe('Two first sounds: a doorbell hum and a charger burst.')
-    const listed = (await producer.get('/api/packs').expect(200)).body.packs.find((p: { id: number }) => p.id === packId)
-    expect(listed).toMatchObject({ name: 'Published hums', description: 'The published words', licenceText: 'Published licence words.', itemCount: 2 })
+    const listed = (await producer.get('/api/packs').expect(200)).body.packs.find(
+      (p: { id: number }) => p.id === packId,
+    )
+    expect(listed).toMatchObject({
+      name: 'Published hums',
+      description: 'The published words',
+      licenceText: 'Published licence words.',
+      itemCount: 2,
+    })
     const builds = (await producer.get(`/api/packs/${packId}/builds`).expect(200)).body.builds
     expect(builds.map((b: PackBuild) => [b.version, b.packName])).toEqual([[1, 'Published hums']])
     // The designer sees the draft.
@@ -194,9 +276,16 @@ describe('producers see only what was published', () => {
 
 describe('share links', () => {
   it('show the published items, and the licence that is in the zip’s LICENSE.txt', async () => {
-    const link = (await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay(), maxDownloads: 1 }).expect(201)).body.link
+    const link = (
+      await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay(), maxDownloads: 1 }).expect(201)
+    ).body.link
     const info = ShareInfo.parse((await anon.get(`/api/share/${link.token}`).expect(200)).body.share)
-    expect(info).toMatchObject({ packName: 'Published hums', description: 'The published words', licenceText: 'Published licence words.', itemCount: 2 })
+    expect(info).toMatchObject({
+      packName: 'Published hums',
+      description: 'The published words',
+      licenceText: 'Published licence words.',
+      itemCount: 2,
+    })
     expect(fs.readFileSync(path.join(v1Dir, 'LICENSE.txt'), 'utf8')).toContain(info.licenceText)
     expect(info.changeNote).toBe('Two first sounds: a doorbell hum and a charger burst.')
     expect(info.items.map((i) => [i.position, i.fileName, i.regionName])).toEqual([
@@ -222,15 +311,21 @@ describe('share links', () => {
   })
 
   it('answer 404 for an item the build does not hold, and for a made-up token', async () => {
-    const link = (await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay() }).expect(201)).body.link
+    const link = (await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay() }).expect(201))
+      .body.link
     expect((await anon.get(`/api/share/${link.token}/items/${hiddenItemId}/download`)).status).toBe(404)
     expect((await anon.get(`/api/share/${link.token}/items/999999/audio`)).status).toBe(404)
     expect((await anon.get(`/api/share/${'x'.repeat(43)}/items/1/download`)).status).toBe(404)
   })
 
   it('answer FILE_MISSING without a server path when the zip is gone', async () => {
-    const link = (await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay() }).expect(201)).body.link
-    const row = await server.ctx.db.selectFrom('pack_builds').select('zip_path').where('id', '=', v1.id).executeTakeFirstOrThrow()
+    const link = (await designer.post(`/api/pack-builds/${v1.id}/share-links`, { expiresAt: inADay() }).expect(201))
+      .body.link
+    const row = await server.ctx.db
+      .selectFrom('pack_builds')
+      .select('zip_path')
+      .where('id', '=', v1.id)
+      .executeTakeFirstOrThrow()
     const zip = server.ctx.storage.abs(row.zip_path!)
     fs.renameSync(zip, `${zip}.away`)
     try {

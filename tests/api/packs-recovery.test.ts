@@ -31,16 +31,26 @@ const buildsDir = (s: RunningServer) => path.join(s.ctx.config.storageDir, 'buil
 
 describe('a failing build', () => {
   it('whose build process is killed ends failed, says so, and leaves no zip and no temp files', async () => {
-    const file = soxMake(path.join(server.dir, 'killed.wav'), { rate: 48000, bits: 24, channels: 2 }, ['synth', '120', 'pinknoise', 'vol', '-20dB'])
+    const file = soxMake(path.join(server.dir, 'killed.wav'), { rate: 48000, bits: 24, channels: 2 }, [
+      'synth',
+      '120',
+      'pinknoise',
+      'vol',
+      '-20dB',
+    ])
     const take = await uploadMeasured(admin, sessionId, file)
     const pack = (await designer.post('/api/packs', { name: 'Killed' })).body.pack
-    await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: take.id }, { takeId: take.id, kind: 'loop' }] }).expect(201)
+    await designer
+      .post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: take.id }, { takeId: take.id, kind: 'loop' }] })
+      .expect(201)
     const buildId = (await designer.post(`/api/packs/${pack.id}/builds`).expect(202)).body.build.id
     // The process names its zip on its command line (a path under this server's storage only).
     const zipPart = path.join(buildsDir(server), `pack-${pack.id}`, `.build-${buildId}.zip.part`)
     let pid: number | null = null
     for (let i = 0; i < 1000 && pid === null; i++) {
-      const found = execFileSync('ps', ['-eo', 'pid=,args='], { encoding: 'utf8' }).split('\n').find((l) => l.includes(zipPart))
+      const found = execFileSync('ps', ['-eo', 'pid=,args='], { encoding: 'utf8' })
+        .split('\n')
+        .find((l) => l.includes(zipPart))
       if (found) pid = Number(found.trim().split(/\s+/)[0])
       else await new Promise((r) => setTimeout(r, 10))
     }
@@ -50,15 +60,26 @@ describe('a failing build', () => {
     expect(b.status).toBe('failed')
     expect(b.error).toBe('the build process stopped before it finished (SIGKILL)')
     expect(b.failedItem).toBeNull()
-    expect(filesUnder(buildsDir(server)).filter((f) => f.startsWith(`pack-${pack.id}`) || f.startsWith('tmp'))).toEqual([])
+    expect(filesUnder(buildsDir(server)).filter((f) => f.startsWith(`pack-${pack.id}`) || f.startsWith('tmp'))).toEqual(
+      [],
+    )
   }, 60_000)
 
   it('ends failed, names the item and the reason, and leaves no zip and no temp files', async () => {
     const ok = await uploadMeasured(admin, sessionId, SIGNALS.noise(path.join(server.dir, 'ok.wav'), 2))
     const lost = await uploadMeasured(admin, sessionId, SIGNALS.hum(path.join(server.dir, 'lost.wav'), 2))
-    const pack = (await designer.post('/api/packs', { name: 'Doomed', namingTemplate: 'hum_transformer_{index}' })).body.pack
-    await designer.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: ok.id }, { takeId: lost.id }, { takeId: ok.id, startSeconds: 0.5, endSeconds: 1 }] }).expect(201)
-    const row = await server.ctx.db.selectFrom('takes').select('audio_path').where('id', '=', lost.id).executeTakeFirstOrThrow()
+    const pack = (await designer.post('/api/packs', { name: 'Doomed', namingTemplate: 'hum_transformer_{index}' })).body
+      .pack
+    await designer
+      .post(`/api/packs/${pack.id}/items/batch`, {
+        items: [{ takeId: ok.id }, { takeId: lost.id }, { takeId: ok.id, startSeconds: 0.5, endSeconds: 1 }],
+      })
+      .expect(201)
+    const row = await server.ctx.db
+      .selectFrom('takes')
+      .select('audio_path')
+      .where('id', '=', lost.id)
+      .executeTakeFirstOrThrow()
     fs.rmSync(server.ctx.storage.abs(row.audio_path))
 
     const started = await designer.post(`/api/packs/${pack.id}/builds`).expect(202)
@@ -73,7 +94,12 @@ describe('a failing build', () => {
     const dl = await designer.get(`/api/pack-builds/${b.id}/download`)
     expect(dl.status).toBe(409)
     expect(dl.body.error.code).toBe('BUILD_NOT_DONE')
-    const job = await server.ctx.db.selectFrom('jobs').selectAll().where('kind', '=', 'build-pack').where('ref_id', '=', b.id).executeTakeFirstOrThrow()
+    const job = await server.ctx.db
+      .selectFrom('jobs')
+      .selectAll()
+      .where('kind', '=', 'build-pack')
+      .where('ref_id', '=', b.id)
+      .executeTakeFirstOrThrow()
     expect(job).toMatchObject({ status: 'failed', error: b.error })
   })
 })
@@ -96,10 +122,18 @@ describe('a build interrupted by a restart', () => {
       const a = await signedIn(first.url, 'admin')
       const d = await signedIn(first.url, 'designer')
       // 90 s of 48 kHz 24-bit stereo: long enough that the build is caught running.
-      const file = soxMake(path.join(dir, 'long.wav'), { rate: 48000, bits: 24, channels: 2 }, ['synth', '90', 'pinknoise', 'vol', '-20dB'])
+      const file = soxMake(path.join(dir, 'long.wav'), { rate: 48000, bits: 24, channels: 2 }, [
+        'synth',
+        '90',
+        'pinknoise',
+        'vol',
+        '-20dB',
+      ])
       const take = await uploadMeasured(a, await newSession(a), file)
       const pack = (await d.post('/api/packs', { name: 'Long one' })).body.pack
-      await d.post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: take.id }, { takeId: take.id, kind: 'loop' }] }).expect(201)
+      await d
+        .post(`/api/packs/${pack.id}/items/batch`, { items: [{ takeId: take.id }, { takeId: take.id, kind: 'loop' }] })
+        .expect(201)
       const buildId = (await d.post(`/api/packs/${pack.id}/builds`).expect(202)).body.build.id
       for (;;) {
         const b = (await d.get(`/api/pack-builds/${buildId}`)).body.build
@@ -115,8 +149,17 @@ describe('a build interrupted by a restart', () => {
         const db = openDatabase(overrides.dbFile)
         try {
           return {
-            build: await db.selectFrom('pack_builds').select(['status', 'zip_path']).where('id', '=', buildId).executeTakeFirstOrThrow(),
-            job: await db.selectFrom('jobs').select(['status', 'attempts']).where('kind', '=', 'build-pack').where('ref_id', '=', buildId).executeTakeFirstOrThrow(),
+            build: await db
+              .selectFrom('pack_builds')
+              .select(['status', 'zip_path'])
+              .where('id', '=', buildId)
+              .executeTakeFirstOrThrow(),
+            job: await db
+              .selectFrom('jobs')
+              .select(['status', 'attempts'])
+              .where('kind', '=', 'build-pack')
+              .where('ref_id', '=', buildId)
+              .executeTakeFirstOrThrow(),
           }
         } finally {
           await db.destroy()
@@ -130,10 +173,19 @@ describe('a build interrupted by a restart', () => {
       const done = await waitForBuild(d2, buildId, 120_000)
       expect(done.status).toBe('done')
       // Started twice: interrupted once, then run from scratch to the end.
-      const job = () => second!.ctx.db.selectFrom('jobs').select(['status', 'attempts']).where('kind', '=', 'build-pack').where('ref_id', '=', buildId).executeTakeFirstOrThrow()
+      const job = () =>
+        second!.ctx.db
+          .selectFrom('jobs')
+          .select(['status', 'attempts'])
+          .where('kind', '=', 'build-pack')
+          .where('ref_id', '=', buildId)
+          .executeTakeFirstOrThrow()
       await expect.poll(job, { timeout: 10_000 }).toEqual({ status: 'done', attempts: 2 })
       const zip = path.join(dir, 'resumed.zip')
-      fs.writeFileSync(zip, (await d2.get(`/api/pack-builds/${buildId}/download`).buffer(true).parse(binary).expect(200)).body)
+      fs.writeFileSync(
+        zip,
+        (await d2.get(`/api/pack-builds/${buildId}/download`).buffer(true).parse(binary).expect(200)).body,
+      )
       expect(execFileSync('unzip', ['-t', zip], { encoding: 'utf8' })).toMatch(/No errors detected/)
       // Only the finished zip is left: no partial zip, no temp renders.
       expect(filesUnder(buildsDir(second))).toEqual([path.join(`pack-${pack.id}`, `build-${buildId}-v1.zip`)])

@@ -25,7 +25,9 @@ beforeAll(async () => {
   const take = await uploadMeasured(admin, await newSession(admin), SIGNALS.hum(path.join(server.dir, 'hum.wav'), 2))
   const pack = (await designer.post('/api/packs', { name: 'Shared hums', description: 'For the mix team' })).body.pack
   await designer.post(`/api/packs/${pack.id}/items`, { takeId: take.id }).expect(201)
-  buildId = (await waitForBuild(designer, (await designer.post(`/api/packs/${pack.id}/builds`).expect(202)).body.build.id)).id
+  buildId = (
+    await waitForBuild(designer, (await designer.post(`/api/packs/${pack.id}/builds`).expect(202)).body.build.id)
+  ).id
   zip = (await designer.get(`/api/pack-builds/${buildId}/download`).buffer(true).parse(binary).expect(200)).body
 }, 120_000)
 afterAll(async () => {
@@ -42,7 +44,12 @@ const fetchShare = (token: string, range?: string) => {
   if (range) req.set('Range', range)
   return req.buffer(true).parse(binary)
 }
-const listed = async (id: number) => ShareLink.parse((await designer.get(`/api/pack-builds/${buildId}/share-links`).expect(200)).body.links.find((l: ShareLink) => l.id === id))
+const listed = async (id: number) =>
+  ShareLink.parse(
+    (await designer.get(`/api/pack-builds/${buildId}/share-links`).expect(200)).body.links.find(
+      (l: ShareLink) => l.id === id,
+    ),
+  )
 
 describe('share links', () => {
   it('creates a link whose page and file work without an account', async () => {
@@ -100,7 +107,11 @@ describe('share links', () => {
 
   it('answers 410 once the link has expired (expiry moved into the past in the database)', async () => {
     const link = await createLink({ expiresAt: inADay() })
-    await server.ctx.db.updateTable('pack_share_links').set({ expires_at: new Date(Date.now() - 1000).toISOString() }).where('id', '=', link.id).execute()
+    await server.ctx.db
+      .updateTable('pack_share_links')
+      .set({ expires_at: new Date(Date.now() - 1000).toISOString() })
+      .where('id', '=', link.id)
+      .execute()
     const res = await fetchShare(link.token)
     expect(res.status).toBe(410)
     expect(JSON.parse(res.body.toString()).error.code).toBe('SHARE_EXPIRED')
@@ -134,7 +145,9 @@ describe('share links', () => {
   })
 
   it('refuses an expiry in the past (400) and a build that is not done (409)', async () => {
-    const past = await designer.post(`/api/pack-builds/${buildId}/share-links`, { expiresAt: new Date(Date.now() - 60_000).toISOString() })
+    const past = await designer.post(`/api/pack-builds/${buildId}/share-links`, {
+      expiresAt: new Date(Date.now() - 60_000).toISOString(),
+    })
     expect(past.status).toBe(400)
     expect(past.body.error.code).toBe('EXPIRY_IN_PAST')
     const packId = (await designer.get(`/api/pack-builds/${buildId}`)).body.build.packId
@@ -203,7 +216,12 @@ describe('a used-up link hands out nothing more, whatever the request shape', ()
 
   it('a stale If-Range does not turn a range into the whole zip: the range is served and counted', async () => {
     const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
-    const res = await anon.get(`/api/share/${link.token}/download`).set('Range', 'bytes=0-99').set('If-Range', '"not-this-one"').buffer(true).parse(binary)
+    const res = await anon
+      .get(`/api/share/${link.token}/download`)
+      .set('Range', 'bytes=0-99')
+      .set('If-Range', '"not-this-one"')
+      .buffer(true)
+      .parse(binary)
     expect(res.status).toBe(206)
     expect(res.body.equals(zip.subarray(0, 100))).toBe(true)
     expect((await listed(link.id)).downloads).toBe(1)
@@ -235,7 +253,15 @@ describe('a used-up link hands out nothing more, whatever the request shape', ()
 
   it('a missing zip is 404 FILE_MISSING without a server path, and is not counted', async () => {
     const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
-    const zipPath = server.ctx.storage.abs((await server.ctx.db.selectFrom('pack_builds').select('zip_path').where('id', '=', buildId).executeTakeFirstOrThrow()).zip_path!)
+    const zipPath = server.ctx.storage.abs(
+      (
+        await server.ctx.db
+          .selectFrom('pack_builds')
+          .select('zip_path')
+          .where('id', '=', buildId)
+          .executeTakeFirstOrThrow()
+      ).zip_path!,
+    )
     const fs = await import('node:fs')
     fs.renameSync(zipPath, `${zipPath}.away`)
     try {

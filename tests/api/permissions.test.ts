@@ -51,7 +51,8 @@ describe('permission matrix', () => {
     const wrong: string[] = []
     for (const r of routes.filter((x) => x.access !== 'public')) {
       const res = await anon.send(r.method, fill(r.path), {})
-      if (res.status !== 401 || res.body?.error?.code !== 'UNAUTHENTICATED') wrong.push(`${r.method} ${r.path} → ${res.status}`)
+      if (res.status !== 401 || res.body?.error?.code !== 'UNAUTHENTICATED')
+        wrong.push(`${r.method} ${r.path} → ${res.status}`)
     }
     expect(wrong).toEqual([])
   })

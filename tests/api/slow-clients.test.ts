@@ -15,7 +15,11 @@ let rec: Client
 let sessionId: number
 
 beforeAll(async () => {
-  server = await startTestServer({ requestBodyTimeoutMs: 1500, uploadMinBytesPerSecond: 8192, uploadRateWindowMs: 1000 })
+  server = await startTestServer({
+    requestBodyTimeoutMs: 1500,
+    uploadMinBytesPerSecond: 8192,
+    uploadRateWindowMs: 1000,
+  })
   rec = await signedIn(server.url, 'recordist')
   sessionId = (await createSession(rec)).id
 }, 60_000)
@@ -24,7 +28,15 @@ afterAll(async () => {
 })
 
 const incoming = () => fs.readdirSync(path.join(server.ctx.config.storageDir, 'incoming'))
-const takeCount = async () => Number((await server.ctx.db.selectFrom('takes').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
+const takeCount = async () =>
+  Number(
+    (
+      await server.ctx.db
+        .selectFrom('takes')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .executeTakeFirstOrThrow()
+    ).n,
+  )
 
 /** Sends `head`, then `chunk` every `everyMs` until the server answers or closes; resolves with the status (0: closed without one). */
 function trickle(p: string, headers: Record<string, string>, head: string, chunk: Buffer, everyMs: number) {
@@ -60,7 +72,12 @@ describe('slow clients', () => {
     const boundary = 'sfslow'
     const res = await trickle(
       `/api/capture-sessions/${sessionId}/takes`,
-      { 'content-type': `multipart/form-data; boundary=${boundary}`, 'content-length': String(10_000_000), 'x-csrf-token': rec.token, cookie },
+      {
+        'content-type': `multipart/form-data; boundary=${boundary}`,
+        'content-length': String(10_000_000),
+        'x-csrf-token': rec.token,
+        cookie,
+      },
       `--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="slow.wav"\r\nContent-Type: audio/wav\r\n\r\n`,
       Buffer.alloc(200, 1),
       100,
@@ -74,7 +91,13 @@ describe('slow clients', () => {
 
   it('an anonymous body trickled to any route, the upload route included, is cut off at the deadline with 408', async () => {
     for (const p of ['/api/auth/login', `/api/capture-sessions/${sessionId}/takes`]) {
-      const res = await trickle(p, { 'content-type': 'application/json', 'content-length': '100000' }, '{"email":"', Buffer.from('aaaa'), 200)
+      const res = await trickle(
+        p,
+        { 'content-type': 'application/json', 'content-length': '100000' },
+        '{"email":"',
+        Buffer.from('aaaa'),
+        200,
+      )
       expect([0, 408], p).toContain(res.status)
       expect(res.bytesSent, p).toBeLessThan(100_000)
     }

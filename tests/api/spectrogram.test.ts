@@ -29,7 +29,11 @@ function binary(res: Response, done: (err: Error | null, body: Buffer) => void) 
   res.on('end', () => done(null, Buffer.concat(parts)))
 }
 
-const png = (c: Client, url: string) => c.get(url).buffer(true).parse(binary as never)
+const png = (c: Client, url: string) =>
+  c
+    .get(url)
+    .buffer(true)
+    .parse(binary as never)
 
 async function waitUntilReady(c: Client, id: number): Promise<string> {
   let status = ''
@@ -53,15 +57,33 @@ function brightestRow(img: PNG, x: number): number {
 }
 
 /** Row of hz on the documented default axis: log-spaced from 20 Hz (bottom) to Nyquist (top). */
-const logRow = (hz: number, height: number, nyquist: number) => height - 1 - Math.floor((height * Math.log(hz / 20)) / Math.log(nyquist / 20))
+const logRow = (hz: number, height: number, nyquist: number) =>
+  height - 1 - Math.floor((height * Math.log(hz / 20)) / Math.log(nyquist / 20))
 
 beforeAll(async () => {
   server = await startTestServer()
   recordist = await signedIn(server.url, 'recordist')
   producer = await signedIn(server.url, 'producer')
-  const session = await recordist.post('/api/capture-sessions', { title: 'Spectrogram bench', date: '2026-11-30' }).expect(201)
+  const session = await recordist
+    .post('/api/capture-sessions', { title: 'Spectrogram bench', date: '2026-11-30' })
+    .expect(201)
   const wav = tmp.file('tone.wav')
-  sox(['-n', '-r', String(RATE), '-b', '16', '-c', '1', wav, 'synth', String(SECONDS), 'sine', String(TONE_HZ), 'vol', '-6dB'])
+  sox([
+    '-n',
+    '-r',
+    String(RATE),
+    '-b',
+    '16',
+    '-c',
+    '1',
+    wav,
+    'synth',
+    String(SECONDS),
+    'sine',
+    String(TONE_HZ),
+    'vol',
+    '-6dB',
+  ])
   const up = await recordist.agent
     .post(`/api/capture-sessions/${session.body.session.id}/takes`)
     .set('x-csrf-token', recordist.token)
@@ -112,20 +134,30 @@ describe('GET /api/takes/:id/spectrogram.png (whole take)', () => {
     const tiny = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=10&height=5000`).expect(200)
     expect([PNG.sync.read(tiny.body).width, PNG.sync.read(tiny.body).height]).toEqual([256, 512])
     expect([tiny.headers['x-spectrogram-width'], tiny.headers['x-spectrogram-height']]).toEqual(['256', '512'])
-    const near = PNG.sync.read((await png(producer, `/api/takes/${takeId}/spectrogram.png?width=1590.7&height=250`).expect(200)).body)
+    const near = PNG.sync.read(
+      (await png(producer, `/api/takes/${takeId}/spectrogram.png?width=1590.7&height=250`).expect(200)).body,
+    )
     expect([near.width, near.height]).toEqual([1600, 256])
   })
 
   it('snaps the floor to whole dB and the band to whole Hz, and says so in its headers', async () => {
-    const res = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=256&height=64&floorDb=-90.6&minHz=30.4&maxHz=7000.7&scale=linear`).expect(200)
+    const res = await png(
+      producer,
+      `/api/takes/${takeId}/spectrogram.png?width=256&height=64&floorDb=-90.6&minHz=30.4&maxHz=7000.7&scale=linear`,
+    ).expect(200)
     expect(res.headers['x-spectrogram-floor-db']).toBe('-91')
     expect(res.headers['x-spectrogram-min-hz']).toBe('30')
     expect(res.headers['x-spectrogram-max-hz']).toBe('7001')
     expect(res.headers['x-spectrogram-scale']).toBe('linear')
     // A nearby request lands on the same variant: the same cached file, byte for byte.
-    const again = await png(producer, `/api/takes/${takeId}/spectrogram.png?width=260&height=60&floorDb=-91.4&minHz=29.6&maxHz=7001.2&scale=linear`).expect(200)
+    const again = await png(
+      producer,
+      `/api/takes/${takeId}/spectrogram.png?width=260&height=60&floorDb=-91.4&minHz=29.6&maxHz=7001.2&scale=linear`,
+    ).expect(200)
     expect(again.body.equals(res.body)).toBe(true)
-    expect(fs.existsSync(path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-256x64-linear-30-7001-f-91.png'))).toBe(true)
+    expect(
+      fs.existsSync(path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-256x64-linear-30-7001-f-91.png')),
+    ).toBe(true)
   })
 
   it('refuses a size that is not a number', async () => {
@@ -151,7 +183,10 @@ describe('GET /api/takes/:id/spectrogram.png (whole take)', () => {
 
 describe('GET /api/takes/:id/spectrogram.png?start&end (excerpt)', () => {
   it('draws a detailed excerpt at the nearest menu size', async () => {
-    const res = await png(producer, `/api/takes/${takeId}/spectrogram.png?start=12.5&end=14.5&width=1200&height=320`).expect(200)
+    const res = await png(
+      producer,
+      `/api/takes/${takeId}/spectrogram.png?start=12.5&end=14.5&width=1200&height=320`,
+    ).expect(200)
     expect(res.headers['content-type']).toMatch(/^image\/png/)
     const img = PNG.sync.read(res.body)
     expect([img.width, img.height]).toEqual([1024, 256])
@@ -163,9 +198,15 @@ describe('GET /api/takes/:id/spectrogram.png?start&end (excerpt)', () => {
     const res = await png(producer, url).expect(200)
     expect(res.headers['x-spectrogram-start']).toBe('12.34')
     expect(res.headers['x-spectrogram-end']).toBe('14.01')
-    const cached = path.join(server.ctx.storage.derivedDir(takeId), 'spectrogram-512x64-log-20-8000-f-110-t1234-1401.png')
+    const cached = path.join(
+      server.ctx.storage.derivedDir(takeId),
+      'spectrogram-512x64-log-20-8000-f-110-t1234-1401.png',
+    )
     expect(fs.readFileSync(cached).equals(res.body)).toBe(true)
-    const same = await png(producer, `/api/takes/${takeId}/spectrogram.png?start=12.341&end=14.009&width=512&height=64`).expect(200)
+    const same = await png(
+      producer,
+      `/api/takes/${takeId}/spectrogram.png?start=12.341&end=14.009&width=512&height=64`,
+    ).expect(200)
     expect(same.body.equals(res.body)).toBe(true)
   })
 

@@ -26,7 +26,9 @@ beforeAll(async () => {
     execFileSync('mount', ['-t', 'tmpfs', '-o', 'size=6m', 'tmpfs', disk], { stdio: 'pipe' })
     mount = disk
   } catch (err) {
-    console.warn(`[storage-full] no tmpfs (${String((err as Error).message).split('\n')[0]}); injecting ENOSPC at the upload's write instead`)
+    console.warn(
+      `[storage-full] no tmpfs (${String((err as Error).message).split('\n')[0]}); injecting ENOSPC at the upload's write instead`,
+    )
   }
   server = await startTestServer({ storageDir: path.join(disk, 'storage') })
   rec = await signedIn(server.url, 'recordist')
@@ -44,12 +46,17 @@ async function consistent() {
   const { db, storage } = server.ctx
   const rows = await db.selectFrom('takes').select(['audio_path']).execute()
   for (const r of rows) expect(fs.existsSync(storage.abs(r.audio_path)), r.audio_path).toBe(true)
-  const files = fs.readdirSync(path.join(storage.root, 'audio'), { recursive: true }).map(String).filter((f) => f.endsWith('.wav'))
+  const files = fs
+    .readdirSync(path.join(storage.root, 'audio'), { recursive: true })
+    .map(String)
+    .filter((f) => f.endsWith('.wav'))
   expect(files.map((f) => path.join('audio', f)).sort()).toEqual(rows.map((r) => r.audio_path).sort())
   expect(fs.readdirSync(path.join(storage.root, 'incoming'))).toEqual([])
   const check = await server.ctx.db.selectNoFrom((eb) => eb.val(1).as('x')).execute() // the connection is alive
   expect(check).toHaveLength(1)
-  const { rows: integrity } = await (await import('kysely')).sql<{ integrity_check: string }>`PRAGMA integrity_check`.execute(server.ctx.db)
+  const { rows: integrity } = await (
+    await import('kysely')
+  ).sql<{ integrity_check: string }>`PRAGMA integrity_check`.execute(server.ctx.db)
   expect(integrity).toEqual([{ integrity_check: 'ok' }])
 }
 

@@ -20,7 +20,11 @@ describe('invitations over real SMTP', () => {
   it('delivers the invitation, the link works once, then is refused', async () => {
     const res = await admin.post('/api/invitations', { email: 'new.listener@example.test', role: 'collaborator' })
     expect(res.status).toBe(201)
-    expect(res.body.invitation).toMatchObject({ email: 'new.listener@example.test', role: 'collaborator', acceptedAt: null })
+    expect(res.body.invitation).toMatchObject({
+      email: 'new.listener@example.test',
+      role: 'collaborator',
+      acceptedAt: null,
+    })
 
     const mail = await smtp.waitFor('new.listener@example.test')
     expect(mail.subject).toMatch(/invited/i)
@@ -28,18 +32,30 @@ describe('invitations over real SMTP', () => {
 
     const invitee = new Client(server.url)
     await invitee.refreshCsrf()
-    const accepted = await invitee.post(`/api/invitations/${token}/accept`, { name: 'Nova Listener', password: 'a-long-enough-password' })
+    const accepted = await invitee.post(`/api/invitations/${token}/accept`, {
+      name: 'Nova Listener',
+      password: 'a-long-enough-password',
+    })
     expect(accepted.status).toBe(201)
-    expect(accepted.body.user).toMatchObject({ email: 'new.listener@example.test', role: 'collaborator', name: 'Nova Listener' })
+    expect(accepted.body.user).toMatchObject({
+      email: 'new.listener@example.test',
+      role: 'collaborator',
+      name: 'Nova Listener',
+    })
     // Signed in at once.
     expect((await invitee.get('/api/auth/me')).body.user.email).toBe('new.listener@example.test')
     // Joining is the first sign-in: the team table shows it, not "never".
-    const joined = (await admin.get('/api/users')).body.users.find((u: { email: string }) => u.email === 'new.listener@example.test')
+    const joined = (await admin.get('/api/users')).body.users.find(
+      (u: { email: string }) => u.email === 'new.listener@example.test',
+    )
     expect(Date.parse(joined.lastLoginAt)).toBeGreaterThan(Date.now() - 60_000)
 
     const again = new Client(server.url)
     await again.refreshCsrf()
-    const reuse = await again.post(`/api/invitations/${token}/accept`, { name: 'Someone Else', password: 'another-long-password' })
+    const reuse = await again.post(`/api/invitations/${token}/accept`, {
+      name: 'Someone Else',
+      password: 'another-long-password',
+    })
     expect(reuse.status).toBe(410)
     expect(reuse.body.error.code).toBe('TOKEN_INVALID')
   })
@@ -55,7 +71,9 @@ describe('invitations over real SMTP', () => {
   })
 
   it('resending gives a new link and retires the old one', async () => {
-    const created = await admin.post('/api/invitations', { email: 'resend.me@example.test', role: 'designer' }).expect(201)
+    const created = await admin
+      .post('/api/invitations', { email: 'resend.me@example.test', role: 'designer' })
+      .expect(201)
     const first = linkToken((await smtp.waitFor('resend.me@example.test')).text ?? '', 'join')
     const before = smtp.received.length
     await admin.post(`/api/invitations/${created.body.invitation.id}/resend`).expect(200)
@@ -64,8 +82,12 @@ describe('invitations over real SMTP', () => {
     expect(second).not.toBe(first)
     const c = new Client(server.url)
     await c.refreshCsrf()
-    expect((await c.post(`/api/invitations/${first}/accept`, { name: 'Old Link', password: 'long-enough-pass' })).status).toBe(410)
-    expect((await c.post(`/api/invitations/${second}/accept`, { name: 'New Link', password: 'long-enough-pass' })).status).toBe(201)
+    expect(
+      (await c.post(`/api/invitations/${first}/accept`, { name: 'Old Link', password: 'long-enough-pass' })).status,
+    ).toBe(410)
+    expect(
+      (await c.post(`/api/invitations/${second}/accept`, { name: 'New Link', password: 'long-enough-pass' })).status,
+    ).toBe(201)
   })
 })
 
@@ -80,8 +102,12 @@ describe('password reset over real SMTP', () => {
     expect(smtp.received.length).toBe(before + 1)
     const token = linkToken(mail.text ?? '', 'reset')
 
-    expect((await anon.post(`/api/auth/password-reset/${token}`, { password: 'brand-new-password-1' })).status).toBe(200)
-    expect((await anon.post(`/api/auth/password-reset/${token}`, { password: 'brand-new-password-2' })).status).toBe(410)
+    expect((await anon.post(`/api/auth/password-reset/${token}`, { password: 'brand-new-password-1' })).status).toBe(
+      200,
+    )
+    expect((await anon.post(`/api/auth/password-reset/${token}`, { password: 'brand-new-password-2' })).status).toBe(
+      410,
+    )
 
     const c = new Client(server.url)
     expect((await c.login('producer@example.test', 'strayfield-demo')).status).toBe(401)

@@ -13,7 +13,20 @@ describe('npm run user:create', () => {
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'sf-cli-'))
     const dbFile = path.join(dir, 'cli.sqlite')
     const env = { ...process.env, STRAYFIELD_DB: dbFile, STRAYFIELD_PASSWORD: 'first-admin-password' }
-    const ok = await run('npx', ['tsx', 'server/cli/user-create.ts', '--email', 'First.Admin@example.test', '--name', 'First Admin', '--role', 'admin'], { env })
+    const ok = await run(
+      'npx',
+      [
+        'tsx',
+        'server/cli/user-create.ts',
+        '--email',
+        'First.Admin@example.test',
+        '--name',
+        'First Admin',
+        '--role',
+        'admin',
+      ],
+      { env },
+    )
     expect(ok.stdout).toMatch(/Created admin First Admin <first.admin@example.test>/)
 
     const short = await run('npx', ['tsx', 'server/cli/user-create.ts', '--email', 'x@example.test', '--name', 'X'], {

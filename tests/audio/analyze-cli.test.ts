@@ -24,7 +24,23 @@ function cli(...args: string[]) {
 
 beforeAll(() => {
   sox(['-n', '-r', '44100', '-b', '16', '-c', '2', tone, 'synth', '6', 'sine', '1000', 'vol', '-23dB'])
-  sox(['-n', '-r', '96000', '-e', 'floating-point', '-b', '32', '-c', '1', noise, 'synth', '5', 'pinknoise', 'vol', '-20dB'])
+  sox([
+    '-n',
+    '-r',
+    '96000',
+    '-e',
+    'floating-point',
+    '-b',
+    '32',
+    '-c',
+    '1',
+    noise,
+    'synth',
+    '5',
+    'pinknoise',
+    'vol',
+    '-20dB',
+  ])
   writeFileSync(text, 'not a take\n')
 })
 afterAll(() => rmSync(dir, { recursive: true, force: true }))
@@ -43,7 +59,9 @@ describe('analyze CLI', () => {
       [a, tone],
       [b, noise],
     ] as const) {
-      expect(Math.abs(res.analysis.loudness.integratedLufs! - ffmpegEbur128(file).integratedLufs)).toBeLessThanOrEqual(0.1)
+      expect(Math.abs(res.analysis.loudness.integratedLufs! - ffmpegEbur128(file).integratedLufs)).toBeLessThanOrEqual(
+        0.1,
+      )
     }
     expect(c.error.code).toBe('UNSUPPORTED_AUDIO')
     expect(c.error.message).toMatch(/not a WAVE file/)
@@ -62,9 +80,13 @@ describe('analyze CLI', () => {
     expect(r.status).toBe(1)
     const lines = r.stdout.trimEnd().split('\n')
     expect(lines).toHaveLength(4)
-    expect(lines[0]).toMatch(/^file\s+format\s+duration\s+integrated\s+LRA\s+true peak\s+sample peak\s+RMS\s+noise floor\s+hum$/)
+    expect(lines[0]).toMatch(
+      /^file\s+format\s+duration\s+integrated\s+LRA\s+true peak\s+sample peak\s+RMS\s+noise floor\s+hum$/,
+    )
     expect(lines[1].startsWith(basename(tone))).toBe(true)
-    expect(lines[1]).toMatch(/44\.1 kHz 16-bit 2 ch\s+0:06\.0\s+-2[23]\.\d LUFS\s+\d+\.\d LU\s+-?\d+\.\d dBTP\s+-?\d+\.\d dBFS/)
+    expect(lines[1]).toMatch(
+      /44\.1 kHz 16-bit 2 ch\s+0:06\.0\s+-2[23]\.\d LUFS\s+\d+\.\d LU\s+-?\d+\.\d dBTP\s+-?\d+\.\d dBFS/,
+    )
     expect(lines[2]).toMatch(/^noise-96k\.wav\s+96 kHz 32-bit float 1 ch\s+0:05\.0\s+-\d+\.\d LUFS/)
     expect(lines[3]).toMatch(/^notes\.wav\s+error UNSUPPORTED_AUDIO: not a WAVE file/)
   })

@@ -57,7 +57,10 @@ describe('float samples above full scale are "over full scale", not clipped', ()
 describe('noise floor: DC removed, per channel, dead channels flagged, none on a take that never falls quiet', () => {
   it('a −80 dBFS floor with a DC offset of 1 % reads −80 dBFS, not the offset', () => {
     const x = noise(6, -80, 1, 0.01)
-    x.set(sine(FS, 2, 440, -10).map((v) => v + 0.01), 2 * FS) // something loud, so the floor is a quiet passage
+    x.set(
+      sine(FS, 2, 440, -10).map((v) => v + 0.01),
+      2 * FS,
+    ) // something loud, so the floor is a quiet passage
     const r = measure([x], { sampleRate: FS, channelMask: 0, encoding: 'float' })
     expect(Math.abs(r.noiseFloorDbfs! - -80)).toBeLessThan(0.5)
     expect(r.noiseFloor!.continuous).toBe(false)
@@ -86,7 +89,13 @@ describe('float-64 files beyond the float-32 range are measured, not voided', ()
     const file = join(dir, 'f64-1e40.wav')
     const n = 48000 * 2
     const x = Float64Array.from({ length: n }, (_, i) => 1e40 * Math.sin((2 * Math.PI * 1000 * i) / 48000))
-    const w = await WavWriter.open(file, { sampleRate: 48000, channels: 1, encoding: 'float', bitsPerSample: 64, channelMask: 0 })
+    const w = await WavWriter.open(file, {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'float',
+      bitsPerSample: 64,
+      channelMask: 0,
+    })
     await w.write([x])
     await w.close()
     const { analysis } = await analyzeFile(file)

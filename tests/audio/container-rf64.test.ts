@@ -23,7 +23,13 @@ async function pwrite(path: string, at: number, buf: Buffer): Promise<void> {
 }
 
 describe('writer layout promoted from RIFF to RF64 past 4 GiB', () => {
-  const opts: WavWriteOptions = { sampleRate: 48000, channels: 2, encoding: 'pcm', bitsPerSample: 16, info: { INAM: 'long coil take' } }
+  const opts: WavWriteOptions = {
+    sampleRate: 48000,
+    channels: 2,
+    encoding: 'pcm',
+    bitsPerSample: 16,
+    info: { INAM: 'long coil take' },
+  }
   const frames = Math.floor((5 * GiB) / 4) + 3 // > 4 GiB of 16-bit stereo
 
   it('renames JUNK to ds64, sets 32-bit sizes to 0xFFFFFFFF, and the reader finds data and trailing chunks beyond 4 GiB', async () => {
@@ -35,13 +41,19 @@ describe('writer layout promoted from RIFF to RF64 past 4 GiB', () => {
     await truncate(path, dataEnd) // sparse: zeros in the hole
     // Last two frames carry known values so the read position past 4 GiB is checked.
     const last = Buffer.alloc(8)
-    last.writeInt16LE(1234, 0); last.writeInt16LE(-4321, 2); last.writeInt16LE(32767, 4); last.writeInt16LE(-32768, 6)
+    last.writeInt16LE(1234, 0)
+    last.writeInt16LE(-4321, 2)
+    last.writeInt16LE(32767, 4)
+    last.writeInt16LE(-32768, 6)
     await pwrite(path, dataEnd - 8, last)
     await pwrite(path, dataEnd, tail) // frames*4 is even: no pad byte
     const fileSize = dataEnd + tail.length
     const patches = finalPatches(plan, opts, frames, fileSize)
     const head = Buffer.from(plan.header)
-    applyPatches(head, patches.filter((p) => p.at + p.bytes.length <= head.length))
+    applyPatches(
+      head,
+      patches.filter((p) => p.at + p.bytes.length <= head.length),
+    )
     await pwrite(path, 0, head)
 
     expect(head.toString('latin1', 0, 4)).toBe('RF64')
@@ -95,36 +107,63 @@ describe('reader on hand-built 64-bit headers (independent of our writer)', () =
     return b
   }
 
-  it.each(['RF64', 'BW64'])('%s: data size from ds64, a >4 GiB non-data chunk sized from the ds64 table, then LIST/INFO', async (magic) => {
-    const dataSize = 4 * GiB + 8 // 16-bit mono: 2^31 + 4 frames
-    const freeSize = 4 * GiB + 2
-    const head = buildWav([
-      { id: 'ds64', payload: ds64(0, dataSize, dataSize / 2, [['free', freeSize]]) },
-      { id: 'fmt ', payload: fmtPayload({ channels: 1, rate: 8000, bits: 16 }) },
-      { id: 'data', payload: Buffer.alloc(0), size: 0xffffffff },
-    ], magic)
-    const path = tmp.file(`hand-${magic}.wav`)
-    const freeAt = head.length + dataSize
-    const info = Buffer.concat([Buffer.from('INFO'), Buffer.from('INAM'), Buffer.from([4, 0, 0, 0]), Buffer.from('abc\0')])
-    const listChunk = Buffer.concat([Buffer.from('LIST'), Buffer.from([info.length, 0, 0, 0]), info])
-    await writeFile(path, head)
-    const freeHeader = Buffer.concat([Buffer.from('free'), Buffer.from([0xff, 0xff, 0xff, 0xff])])
-    await pwrite(path, freeAt, freeHeader)
-    await pwrite(path, freeAt + 8 + freeSize, listChunk)
+  it.each(['RF64', 'BW64'])(
+    '%s: data size from ds64, a >4 GiB non-data chunk sized from the ds64 table, then LIST/INFO',
+    async (magic) => {
+      const dataSize = 4 * GiB + 8 // 16-bit mono: 2^31 + 4 frames
+      const freeSize = 4 * GiB + 2
+      const head = buildWav(
+        [
+          { id: 'ds64', payload: ds64(0, dataSize, dataSize / 2, [['free', freeSize]]) },
+          { id: 'fmt ', payload: fmtPayload({ channels: 1, rate: 8000, bits: 16 }) },
+          { id: 'data', payload: Buffer.alloc(0), size: 0xffffffff },
+        ],
+        magic,
+      )
+      const path = tmp.file(`hand-${magic}.wav`)
+      const freeAt = head.length + dataSize
+      const info = Buffer.concat([
+        Buffer.from('INFO'),
+        Buffer.from('INAM'),
+        Buffer.from([4, 0, 0, 0]),
+        Buffer.from('abc\0'),
+      ])
+      const listChunk = Buffer.concat([Buffer.from('LIST'), Buffer.from([info.length, 0, 0, 0]), info])
+      await writeFile(path, head)
+      const freeHeader = Buffer.concat([Buffer.from('free'), Buffer.from([0xff, 0xff, 0xff, 0xff])])
+      await pwrite(path, freeAt, freeHeader)
+      await pwrite(path, freeAt + 8 + freeSize, listChunk)
 
-    const probe = await probeWav(path)
-    expect(probe.format).toMatchObject({ container: magic, frames: dataSize / 2, recovered: false })
-    expect(probe.chunks.map((c) => [c.id, c.size])).toEqual([['ds64', 40], ['fmt ', 16], ['data', dataSize], ['free', freeSize], ['LIST', info.length]])
-    expect((await readMetadata(path, probe)).info).toEqual({ INAM: 'abc' })
-    expect(ffprobe(path).streams[0].duration_ts).toBe(dataSize / 2)
-  })
+      const probe = await probeWav(path)
+      expect(probe.format).toMatchObject({ container: magic, frames: dataSize / 2, recovered: false })
+      expect(probe.chunks.map((c) => [c.id, c.size])).toEqual([
+        ['ds64', 40],
+        ['fmt ', 16],
+        ['data', dataSize],
+        ['free', freeSize],
+        ['LIST', info.length],
+      ])
+      expect((await readMetadata(path, probe)).info).toEqual({ INAM: 'abc' })
+      expect(ffprobe(path).streams[0].duration_ts).toBe(dataSize / 2)
+    },
+  )
 
   it('RF64 whose ds64 data size is 0 (recorder stopped before patching) is recovered from the file length', async () => {
     const path = tmp.file('rf64-zero.wav')
-    await writeFile(path, Buffer.concat([
-      buildWav([{ id: 'ds64', payload: ds64(0, 0, 0) }, { id: 'fmt ', payload: fmtPayload({ channels: 2, rate: 48000, bits: 24 }) }, { id: 'data', payload: Buffer.alloc(0), size: 0xffffffff }], 'RF64'),
-      Buffer.alloc(6 * 100 + 5), // 100 frames and a torn partial frame
-    ]))
+    await writeFile(
+      path,
+      Buffer.concat([
+        buildWav(
+          [
+            { id: 'ds64', payload: ds64(0, 0, 0) },
+            { id: 'fmt ', payload: fmtPayload({ channels: 2, rate: 48000, bits: 24 }) },
+            { id: 'data', payload: Buffer.alloc(0), size: 0xffffffff },
+          ],
+          'RF64',
+        ),
+        Buffer.alloc(6 * 100 + 5), // 100 frames and a torn partial frame
+      ]),
+    )
     const probe = await probeWav(path)
     expect(probe.format).toMatchObject({ container: 'RF64', frames: 100, recovered: true })
     expect(probe.dataBytes).toBe(600)

@@ -52,7 +52,9 @@ describe('temp file and rename', () => {
     await expect(w.write([new Float32Array(3), new Float32Array(4)])).rejects.toThrow(RangeError)
     await w.abort()
     expect(() => encodeWav([new Float32Array(1)], { ...mono16, sampleRate: 4000 })).toThrow(RangeError)
-    expect(() => encodeWav([new Float32Array(1)], { ...mono16, encoding: 'float', bitsPerSample: 24 })).toThrow(/24-bit float/)
+    expect(() => encodeWav([new Float32Array(1)], { ...mono16, encoding: 'float', bitsPerSample: 24 })).toThrow(
+      /24-bit float/,
+    )
     expect(() => encodeWav([new Float32Array(1)], { ...mono16, bitsPerSample: 64 })).toThrow(RangeError)
     expect(() => encodeWav([new Float32Array(1)], { ...mono16, validBitsPerSample: 20 })).toThrow(RangeError)
   })
@@ -61,15 +63,34 @@ describe('temp file and rename', () => {
 describe('bext reserved before data and patched on close', () => {
   it('loudness measured during the render is written by updateBext; ffprobe sees the final description', async () => {
     const path = tmp.file('bext-late.wav')
-    const w = await WavWriter.open(path, { ...mono16, bext: { description: 'rendering', codingHistory: 'A=PCM,F=48000,W=16,M=mono\r\n' } })
+    const w = await WavWriter.open(path, {
+      ...mono16,
+      bext: { description: 'rendering', codingHistory: 'A=PCM,F=48000,W=16,M=mono\r\n' },
+    })
     await w.write(whiteNoise({ seconds: 0.5, sampleRate: 48000 }))
-    w.updateBext({ description: 'coil hum, rendered', loudnessValue: -23.05, loudnessRange: 4.2, maxTruePeakLevel: -1, maxMomentaryLoudness: null, codingHistory: 'A=PCM,F=48000,W=16,M=mono,T=render\r\n' })
+    w.updateBext({
+      description: 'coil hum, rendered',
+      loudnessValue: -23.05,
+      loudnessRange: 4.2,
+      maxTruePeakLevel: -1,
+      maxMomentaryLoudness: null,
+      codingHistory: 'A=PCM,F=48000,W=16,M=mono,T=render\r\n',
+    })
     await w.close()
     const info = await probeWav(path)
     const bextChunk = info.chunks.find((c) => c.id === 'bext')
     expect(bextChunk!.offset).toBeLessThan(info.dataOffset)
     const { bext } = await readMetadata(path, info)
-    expect(bext).toMatchObject({ description: 'coil hum, rendered', version: 2, loudnessValue: -23.05, loudnessRange: 4.2, maxTruePeakLevel: -1, maxMomentaryLoudness: null, maxShortTermLoudness: null, codingHistory: 'A=PCM,F=48000,W=16,M=mono,T=render\r\n' })
+    expect(bext).toMatchObject({
+      description: 'coil hum, rendered',
+      version: 2,
+      loudnessValue: -23.05,
+      loudnessRange: 4.2,
+      maxTruePeakLevel: -1,
+      maxMomentaryLoudness: null,
+      maxShortTermLoudness: null,
+      codingHistory: 'A=PCM,F=48000,W=16,M=mono,T=render\r\n',
+    })
     // ffmpeg maps bext Description to the "comment" tag (libavformat wav demuxer).
     expect(ffprobe(path).format.tags?.comment).toBe('coil hum, rendered')
   })
@@ -101,7 +122,9 @@ describe('TPDF dither', () => {
     const [p] = await readAll(plain, await probeWav(plain))
     expect(p.every((v) => v === 0)).toBe(true)
     const [d] = await readAll(dith, await probeWav(dith))
-    let sum = 0, err2 = 0, maxErr = 0
+    let sum = 0,
+      err2 = 0,
+      maxErr = 0
     for (const v of d) {
       sum += v
       err2 += ((v - input) / lsb) ** 2
@@ -133,7 +156,8 @@ describe('readFrames ranges and speed', () => {
     const mid = await readAll(path, info, { startFrame: 1234, endFrame: 4321, blockFrames: 1000 })
     expect(Array.from(mid[0])).toEqual(Array.from(ramp.subarray(1234, 4321)))
     const sizes: number[] = []
-    for await (const b of readFrames(path, info, { startFrame: -5, endFrame: 1e9, blockFrames: 4096 })) sizes.push(b[0].length)
+    for await (const b of readFrames(path, info, { startFrame: -5, endFrame: 1e9, blockFrames: 4096 }))
+      sizes.push(b[0].length)
     expect(sizes).toEqual([4096, 4096, 1808])
     const none: unknown[] = []
     for await (const b of readFrames(path, info, { startFrame: 9000, endFrame: 100 })) none.push(b)
@@ -160,7 +184,13 @@ describe('readFrames ranges and speed', () => {
 describe('writeInts (integers already on the grid)', () => {
   // The render path hands the writer integers; the bytes must equal those of the float path
   // given the same samples k / 2^(bits−1), and the reader must give the samples back.
-  for (const [bits, channels, frames] of [[24, 2, 70001], [24, 1, 999], [24, 3, 4097], [16, 2, 70001], [16, 1, 5]] as const) {
+  for (const [bits, channels, frames] of [
+    [24, 2, 70001],
+    [24, 1, 999],
+    [24, 3, 4097],
+    [16, 2, 70001],
+    [16, 1, 5],
+  ] as const) {
     it(`${bits}-bit, ${channels} channel(s), ${frames} frames: the same file as write()`, async () => {
       const scale = 2 ** (bits - 1)
       let s = 12345
@@ -184,12 +214,18 @@ describe('writeInts (integers already on the grid)', () => {
       await writeWav(b, floats, opts)
       expect(readFileSync(a).equals(readFileSync(b))).toBe(true)
       const back = await readAll(a, await probeWav(a))
-      for (let c = 0; c < channels; c++) expect(Array.from(back[c].subarray(0, 50))).toEqual(Array.from(floats[c].subarray(0, 50)))
+      for (let c = 0; c < channels; c++)
+        expect(Array.from(back[c].subarray(0, 50))).toEqual(Array.from(floats[c].subarray(0, 50)))
     })
   }
 
-  it('refuses float output and the writer\'s own dither', async () => {
-    const f = await WavWriter.open(tmp.file('f.wav'), { sampleRate: 48000, channels: 1, encoding: 'float', bitsPerSample: 32 })
+  it("refuses float output and the writer's own dither", async () => {
+    const f = await WavWriter.open(tmp.file('f.wav'), {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'float',
+      bitsPerSample: 32,
+    })
     await expect(f.writeInts([new Int32Array(4)], 4)).rejects.toThrow(/16- or 24-bit PCM/)
     await f.abort()
     const d = await WavWriter.open(tmp.file('d.wav'), { ...mono16, dither: 'tpdf' })

@@ -48,7 +48,23 @@ describe('sample peak, RMS and DC offset against sox stats', () => {
     const right = join(dir, 'right.wav')
     const both = join(dir, 'both.wav')
     sox(['-n', '-r', '48000', '-b', '24', '-c', '1', left, 'synth', '5', 'sine', '1000', 'vol', '-6dB'])
-    sox(['-n', '-r', '48000', '-b', '24', '-c', '1', right, 'synth', '5', 'whitenoise', 'vol', '-30dB', 'dcshift', '-0.01'])
+    sox([
+      '-n',
+      '-r',
+      '48000',
+      '-b',
+      '24',
+      '-c',
+      '1',
+      right,
+      'synth',
+      '5',
+      'whitenoise',
+      'vol',
+      '-30dB',
+      'dcshift',
+      '-0.01',
+    ])
     sox(['-M', left, right, both])
     const stats = soxStats(both)
     const { levels } = (await analyzeFile(both)).analysis

@@ -9,7 +9,15 @@ import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
 import { LoudnessMeter } from '../../server/audio/loudness'
 import { TRUE_PEAK_PHASES, TruePeakMeter } from '../../server/audio/true-peak'
-import { alternatingSine, measure, random, sine, steppedSine, truePeakBruteForce, type ToneSegment } from '../helpers/signals'
+import {
+  alternatingSine,
+  measure,
+  random,
+  sine,
+  steppedSine,
+  truePeakBruteForce,
+  type ToneSegment,
+} from '../helpers/signals'
 
 const FS = 48000
 
@@ -124,7 +132,12 @@ describe('EBU Tech 3341 short-term and momentary (cases 9 and 12)', () => {
   it('case 12: every momentary value is −23.0 ± 0.1 LUFS, and so is the maximum', () => {
     const s = case12()
     const values: (number | null)[] = []
-    const meter = new LoudnessMeter({ sampleRate: FS, channels: 2, weights: [1, 1], onMomentary: (_t, l) => values.push(l) })
+    const meter = new LoudnessMeter({
+      sampleRate: FS,
+      channels: 2,
+      weights: [1, 1],
+      onMomentary: (_t, l) => values.push(l),
+    })
     for (let i = 0; i < s.length; i += 777) meter.push([s.subarray(i, i + 777), s.subarray(i, i + 777)])
     expect(values.length).toBe(97) // 0.4 s .. 10.0 s at 10 Hz
     for (const v of values) expect(Math.abs(v! + 23)).toBeLessThanOrEqual(0.1)
@@ -140,10 +153,22 @@ describe('EBU Tech 3341 true peak (cases 15–19, +0.2/−0.4 dB)', () => {
   const crestOfZeroDbfsSamples = 20 * Math.log10(Math.SQRT2)
   const cases = [
     { name: 'case 15: fs/4 (12 kHz), 0° phase, crest −6 dBFS', hz: 12000, phase: 0, dbfs: -6, expected: -6 },
-    { name: 'case 16: fs/4, 45° phase (samples at −9 dBFS), crest −6 dBFS', hz: 12000, phase: 45, dbfs: -6, expected: -6 },
+    {
+      name: 'case 16: fs/4, 45° phase (samples at −9 dBFS), crest −6 dBFS',
+      hz: 12000,
+      phase: 45,
+      dbfs: -6,
+      expected: -6,
+    },
     { name: 'case 17: fs/6 (8 kHz), 60° phase, crest −6 dBFS', hz: 8000, phase: 60, dbfs: -6, expected: -6 },
     { name: 'case 18: fs/8 (6 kHz), 67.5° phase, crest −6 dBFS', hz: 6000, phase: 67.5, dbfs: -6, expected: -6 },
-    { name: 'case 19: fs/4, 45° phase, samples at 0 dBFS (crest +3.01 dBFS)', hz: 12000, phase: 45, dbfs: crestOfZeroDbfsSamples, expected: 3 },
+    {
+      name: 'case 19: fs/4, 45° phase, samples at 0 dBFS (crest +3.01 dBFS)',
+      hz: 12000,
+      phase: 45,
+      dbfs: crestOfZeroDbfsSamples,
+      expected: 3,
+    },
   ]
   for (const c of cases) {
     it(`${c.name} → ${c.expected.toFixed(1)} dBTP`, () => {
@@ -167,7 +192,7 @@ describe('EBU Tech 3341 true peak (cases 15–19, +0.2/−0.4 dB)', () => {
     }
   })
 
-  it('the kernel\'s unrolled interpolator computes exactly the BS.1770-4 Annex 2 four-phase filter', () => {
+  it("the kernel's unrolled interpolator computes exactly the BS.1770-4 Annex 2 four-phase filter", () => {
     // 12 samples hold exactly one output of each phase: the meter's answer is the largest of
     // the samples and those four outputs, computed here from the table.
     const rnd = random(1770)
@@ -190,8 +215,15 @@ describe('EBU Tech 3341 true peak (cases 15–19, +0.2/−0.4 dB)', () => {
     // Reference: the four phases evaluated at every output whose 12 taps lie on samples, plus the samples.
     const reference = truePeakBruteForce
     // Sparse bursts on silence defeat the bound most often; odd block sizes misalign chunks and blocks.
-    const burst = fc.record({ at: fc.nat(), values: fc.array(fc.float({ min: -1, max: 1, noNaN: true }), { minLength: 1, maxLength: 12 }) })
-    const take = fc.record({ frames: fc.integer({ min: 1, max: 3000 }), bursts: fc.array(burst, { minLength: 1, maxLength: 4 }), block: fc.integer({ min: 1, max: 700 }) })
+    const burst = fc.record({
+      at: fc.nat(),
+      values: fc.array(fc.float({ min: -1, max: 1, noNaN: true }), { minLength: 1, maxLength: 12 }),
+    })
+    const take = fc.record({
+      frames: fc.integer({ min: 1, max: 3000 }),
+      bursts: fc.array(burst, { minLength: 1, maxLength: 4 }),
+      block: fc.integer({ min: 1, max: 700 }),
+    })
     fc.assert(
       fc.property(take, ({ frames, bursts, block }) => {
         const x = new Float32Array(frames)
@@ -217,7 +249,13 @@ describe('no value where the standards define none (BS.1770-4 §2.8 block length
   it('a take shorter than one 400 ms block has no integrated, momentary or short-term loudness, only the short-sound loudness', () => {
     const s = sine(FS, 0.39, 1000, -20)
     const l = measure([s, s], { sampleRate: FS, channelMask: 0 }).loudness
-    expect({ ...l, shortSoundLufs: undefined }).toEqual({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null, shortSoundLufs: undefined })
+    expect({ ...l, shortSoundLufs: undefined }).toEqual({
+      integratedLufs: null,
+      loudnessRangeLu: null,
+      maxMomentaryLufs: null,
+      maxShortTermLufs: null,
+      shortSoundLufs: undefined,
+    })
     // Short-sound loudness is the BS.1770-4 formula over the sound's own length: a stereo 1 kHz sine at
     // −20 dBFS reads −20 LUFS as in EBU Tech 3341 case 1 (K-weighting gain at 1 kHz ≈ +0.69 dB).
     expectLu(l.shortSoundLufs ?? null, -20)
@@ -235,7 +273,13 @@ describe('no value where the standards define none (BS.1770-4 §2.8 block length
   it('digital silence gives null levels, never −Infinity or NaN (common practice; the result contract)', () => {
     const s = new Float32Array(FS * 5)
     const r = measure([s, s], { sampleRate: FS, channelMask: 0 })
-    expect(r.loudness).toEqual({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null, shortSoundLufs: null })
+    expect(r.loudness).toEqual({
+      integratedLufs: null,
+      loudnessRangeLu: null,
+      maxMomentaryLufs: null,
+      maxShortTermLufs: null,
+      shortSoundLufs: null,
+    })
     expect(r.levels.samplePeakDbfs).toBeNull()
     expect(r.levels.truePeakDbtp).toBeNull()
     expect(r.levels.rmsDbfs).toBeNull()

@@ -36,7 +36,17 @@ describe('EBU Tech 3342 §2 definition on a level ramp (percentile positions)', 
     const dir = mkdtempSync(join(tmpdir(), 'strayfield-lra-'))
     try {
       const file = join(dir, 'ramp.wav')
-      ffmpeg(['-f', 'lavfi', '-i', 'aevalsrc=sin(2*PI*1000*t)*pow(10\\,(-40+20*t/100)/20):s=48000:d=100', '-ac', '2', '-c:a', 'pcm_s24le', file])
+      ffmpeg([
+        '-f',
+        'lavfi',
+        '-i',
+        'aevalsrc=sin(2*PI*1000*t)*pow(10\\,(-40+20*t/100)/20):s=48000:d=100',
+        '-ac',
+        '2',
+        '-c:a',
+        'pcm_s24le',
+        file,
+      ])
       const lra = (await analyzeFile(file)).analysis.loudness.loudnessRangeLu
       expect(lra).not.toBeNull()
       expect(Math.abs(lra! - 0.85 * 19.4)).toBeLessThanOrEqual(0.1)

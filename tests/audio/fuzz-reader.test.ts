@@ -23,20 +23,72 @@ const meta: Partial<WavWriteOptions> = {
   bext: { description: 'fuzz', loudnessValue: -20, codingHistory: 'A=PCM\r\n' },
   ixml: '<BWFXML><PROJECT>p</PROJECT><NOTE>n &amp; m</NOTE></BWFXML>',
   info: { INAM: 'fuzz', ICMT: 'é' },
-  cues: [{ id: 1, frame: 3, label: 'c' }, { id: 2, frame: 9 }],
+  cues: [
+    { id: 1, frame: 3, label: 'c' },
+    { id: 2, frame: 9 },
+  ],
   loops: [{ start: 1, end: 20 }],
 }
 /** Valid seeds covering RIFF, RF64, BW64, PCM widths, float, extensible, odd data and every metadata chunk. */
 const SEEDS: Buffer[] = [
   encodeWav(sig(2, 40), { sampleRate: 8000, channels: 2, encoding: 'pcm', bitsPerSample: 16, ...meta }),
-  encodeWav(sig(1, 33), { sampleRate: 8000, channels: 1, encoding: 'pcm', bitsPerSample: 8, info: meta.info, cues: meta.cues }),
-  encodeWav(sig(3, 21), { sampleRate: 8000, channels: 3, encoding: 'pcm', bitsPerSample: 24, container: 'RF64', ixml: meta.ixml, loops: meta.loops }),
-  encodeWav(sig(2, 16), { sampleRate: 8000, channels: 2, encoding: 'float', bitsPerSample: 32, container: 'BW64', bext: meta.bext }),
-  encodeWav(sig(2, 16), { sampleRate: 8000, channels: 2, encoding: 'pcm', bitsPerSample: 32, validBitsPerSample: 24, channelMask: 3 }),
+  encodeWav(sig(1, 33), {
+    sampleRate: 8000,
+    channels: 1,
+    encoding: 'pcm',
+    bitsPerSample: 8,
+    info: meta.info,
+    cues: meta.cues,
+  }),
+  encodeWav(sig(3, 21), {
+    sampleRate: 8000,
+    channels: 3,
+    encoding: 'pcm',
+    bitsPerSample: 24,
+    container: 'RF64',
+    ixml: meta.ixml,
+    loops: meta.loops,
+  }),
+  encodeWav(sig(2, 16), {
+    sampleRate: 8000,
+    channels: 2,
+    encoding: 'float',
+    bitsPerSample: 32,
+    container: 'BW64',
+    bext: meta.bext,
+  }),
+  encodeWav(sig(2, 16), {
+    sampleRate: 8000,
+    channels: 2,
+    encoding: 'pcm',
+    bitsPerSample: 32,
+    validBitsPerSample: 24,
+    channelMask: 3,
+  }),
   encodeWav(sig(1, 10), { sampleRate: 8000, channels: 1, encoding: 'float', bitsPerSample: 64, info: meta.info }),
 ]
 
-const IDS = ['RIFF', 'RF64', 'BW64', 'WAVE', 'fmt ', 'data', 'ds64', 'JUNK', 'LIST', 'INFO', 'adtl', 'labl', 'note', 'bext', 'iXML', 'cue ', 'smpl', 'fact', '\0\0\0\0']
+const IDS = [
+  'RIFF',
+  'RF64',
+  'BW64',
+  'WAVE',
+  'fmt ',
+  'data',
+  'ds64',
+  'JUNK',
+  'LIST',
+  'INFO',
+  'adtl',
+  'labl',
+  'note',
+  'bext',
+  'iXML',
+  'cue ',
+  'smpl',
+  'fact',
+  '\0\0\0\0',
+]
 const U32 = [0, 1, 2, 3, 4, 15, 16, 17, 18, 40, 0x7fff, 0xffff, 0x7fffffff, 0x80000000, 0xfffffffe, 0xffffffff]
 const U16 = [0, 1, 2, 3, 8, 9, 12, 16, 20, 24, 32, 64, 0x55, 0xfffe, 0xffff]
 
@@ -48,21 +100,40 @@ type Mutation =
   | { kind: 'truncate'; at: number }
 
 /** Positions as fractions so one arbitrary serves every seed; even offsets are favoured (chunk fields are aligned). */
-const pos = fc.oneof(fc.double({ min: 0, max: 1, noNaN: true }), fc.integer({ min: 0, max: 96 }).map((i) => -(i * 2 + 1)))
-const mutation: fc.Arbitrary<{ kind: Mutation['kind']; p: number; v?: number; id?: string; bytes?: number[] }> = fc.oneof(
-  fc.record({ kind: fc.constant('u32' as const), p: pos, v: fc.oneof(fc.constantFrom(...U32), fc.nat()) }),
-  fc.record({ kind: fc.constant('u16' as const), p: pos, v: fc.oneof(fc.constantFrom(...U16), fc.integer({ min: 0, max: 0xffff })) }),
-  fc.record({ kind: fc.constant('id' as const), p: pos, id: fc.oneof(fc.constantFrom(...IDS), fc.string({ minLength: 4, maxLength: 4 })) }),
-  fc.record({ kind: fc.constant('bytes' as const), p: pos, bytes: fc.array(fc.integer({ min: 0, max: 255 }), { minLength: 1, maxLength: 16 }) }),
-  fc.record({ kind: fc.constant('truncate' as const), p: pos }),
+const pos = fc.oneof(
+  fc.double({ min: 0, max: 1, noNaN: true }),
+  fc.integer({ min: 0, max: 96 }).map((i) => -(i * 2 + 1)),
 )
+const mutation: fc.Arbitrary<{ kind: Mutation['kind']; p: number; v?: number; id?: string; bytes?: number[] }> =
+  fc.oneof(
+    fc.record({ kind: fc.constant('u32' as const), p: pos, v: fc.oneof(fc.constantFrom(...U32), fc.nat()) }),
+    fc.record({
+      kind: fc.constant('u16' as const),
+      p: pos,
+      v: fc.oneof(fc.constantFrom(...U16), fc.integer({ min: 0, max: 0xffff })),
+    }),
+    fc.record({
+      kind: fc.constant('id' as const),
+      p: pos,
+      id: fc.oneof(fc.constantFrom(...IDS), fc.string({ minLength: 4, maxLength: 4 })),
+    }),
+    fc.record({
+      kind: fc.constant('bytes' as const),
+      p: pos,
+      bytes: fc.array(fc.integer({ min: 0, max: 255 }), { minLength: 1, maxLength: 16 }),
+    }),
+    fc.record({ kind: fc.constant('truncate' as const), p: pos }),
+  )
 
 function place(p: number, len: number): number {
   // negative p: an early header offset (2|p|-ish), else a fraction of the file
   return p < 0 ? Math.min(len - 1, -p - 1) : Math.min(len - 1, Math.floor(p * len))
 }
 
-function mutate(seed: Buffer, ms: { kind: Mutation['kind']; p: number; v?: number; id?: string; bytes?: number[] }[]): Buffer {
+function mutate(
+  seed: Buffer,
+  ms: { kind: Mutation['kind']; p: number; v?: number; id?: string; bytes?: number[] }[],
+): Buffer {
   let b = Buffer.from(seed)
   for (const m of ms) {
     if (b.length === 0) break
@@ -71,7 +142,10 @@ function mutate(seed: Buffer, ms: { kind: Mutation['kind']; p: number; v?: numbe
     else if (m.kind === 'u32' && at + 4 <= b.length) b.writeUInt32LE(m.v! >>> 0, at)
     else if (m.kind === 'u16' && at + 2 <= b.length) b.writeUInt16LE(m.v! & 0xffff, at)
     else if (m.kind === 'id') b.write(m.id!, at, 4, 'latin1')
-    else if (m.kind === 'bytes') m.bytes!.forEach((x, i) => { if (at + i < b.length) b[at + i] = x })
+    else if (m.kind === 'bytes')
+      m.bytes!.forEach((x, i) => {
+        if (at + i < b.length) b[at + i] = x
+      })
   }
   return b
 }
@@ -93,7 +167,9 @@ async function checkFile(path: string, size: number): Promise<void> {
   for await (const block of readFrames(path, info, { blockFrames: 7 })) {
     expect(block).toHaveLength(f.channels)
     frames += block[0].length
-    if (f.encoding === 'pcm') for (const ch of block) for (const v of ch) if (!(v >= -1 && v < 1)) throw new Error(`PCM value ${v} outside -1..1`)
+    if (f.encoding === 'pcm')
+      for (const ch of block)
+        for (const v of ch) if (!(v >= -1 && v < 1)) throw new Error(`PCM value ${v} outside -1..1`)
   }
   expect(frames).toBe(f.frames)
   FileMetadata.parse(await readMetadata(path, info))
@@ -104,11 +180,15 @@ describe('fuzzed headers', () => {
 
   it('random mutations (sizes, ids, tags, bits, channels, bytes, truncation) give WavFormatError or a consistent result', async () => {
     await fc.assert(
-      fc.asyncProperty(fc.integer({ min: 0, max: SEEDS.length - 1 }), fc.array(mutation, { minLength: 1, maxLength: 4 }), async (si, ms) => {
-        const bytes = mutate(SEEDS[si], ms)
-        writeFileSync(path, bytes)
-        await checkFile(path, bytes.length)
-      }),
+      fc.asyncProperty(
+        fc.integer({ min: 0, max: SEEDS.length - 1 }),
+        fc.array(mutation, { minLength: 1, maxLength: 4 }),
+        async (si, ms) => {
+          const bytes = mutate(SEEDS[si], ms)
+          writeFileSync(path, bytes)
+          await checkFile(path, bytes.length)
+        },
+      ),
       { numRuns: 500, timeout: 5000, seed: 20240506 },
     )
   })
@@ -140,7 +220,16 @@ describe('writer options', () => {
     const opts = fc.record({
       sampleRate: fc.oneof(fc.constantFrom(8000, 44100, 48000, 96000, 384000), fc.integer({ min: 1000, max: 500000 })),
       channels: fc.integer({ min: 0, max: 10 }),
-      enc: fc.constantFrom(['pcm', 8], ['pcm', 16], ['pcm', 24], ['pcm', 32], ['float', 32], ['float', 64], ['float', 24], ['pcm', 64]),
+      enc: fc.constantFrom(
+        ['pcm', 8],
+        ['pcm', 16],
+        ['pcm', 24],
+        ['pcm', 32],
+        ['float', 32],
+        ['float', 64],
+        ['float', 24],
+        ['pcm', 64],
+      ),
       container: fc.constantFrom('RIFF', 'RF64', 'BW64'),
       frames: fc.integer({ min: 0, max: 50 }),
     })
@@ -148,8 +237,19 @@ describe('writer options', () => {
     await fc.assert(
       fc.asyncProperty(opts, async (o) => {
         const [encoding, bits] = o.enc as ['pcm' | 'float', 8 | 16 | 24 | 32 | 64]
-        const wo: WavWriteOptions = { sampleRate: o.sampleRate, channels: o.channels, encoding, bitsPerSample: bits, container: o.container as WavWriteOptions['container'] }
-        const valid = o.sampleRate >= 8000 && o.sampleRate <= 384000 && o.channels >= 1 && o.channels <= 8 && (encoding === 'float' ? bits === 32 || bits === 64 : bits <= 32)
+        const wo: WavWriteOptions = {
+          sampleRate: o.sampleRate,
+          channels: o.channels,
+          encoding,
+          bitsPerSample: bits,
+          container: o.container as WavWriteOptions['container'],
+        }
+        const valid =
+          o.sampleRate >= 8000 &&
+          o.sampleRate <= 384000 &&
+          o.channels >= 1 &&
+          o.channels <= 8 &&
+          (encoding === 'float' ? bits === 32 || bits === 64 : bits <= 32)
         const p = tmp.file(`w${i++}.wav`)
         const planar = Array.from({ length: Math.max(0, o.channels) }, () => new Float32Array(o.frames))
         if (!valid) {
@@ -158,7 +258,14 @@ describe('writer options', () => {
         }
         await writeWav(p, planar, wo)
         const info = await probeWav(p)
-        expect(info.format).toMatchObject({ container: o.container, encoding, bitsPerSample: bits, sampleRate: o.sampleRate, channels: o.channels, frames: o.frames })
+        expect(info.format).toMatchObject({
+          container: o.container,
+          encoding,
+          bitsPerSample: bits,
+          sampleRate: o.sampleRate,
+          channels: o.channels,
+          frames: o.frames,
+        })
       }),
       { numRuns: 80, seed: 11 },
     )

@@ -25,7 +25,11 @@ function addTones(x: Float32Array, tones: [number, number][], from = 0, to = x.l
   return x
 }
 
-const hum50: [number, number][] = [[50, -30], [150, -38], [250, -44]]
+const hum50: [number, number][] = [
+  [50, -30],
+  [150, -38],
+  [250, -44],
+]
 
 describe('mains hum: a mains pattern, not any tone at a multiple of 50 or 60 Hz', () => {
   for (const hz of [100, 150, 300, 400]) {
@@ -38,7 +42,11 @@ describe('mains hum: a mains pattern, not any tone at a multiple of 50 or 60 Hz'
   }
 
   it('50 Hz with odd harmonics is 50 Hz mains hum, its fundamental measured and its ladder reported', () => {
-    const x = addTones(noise(8, -60, 1), [[49.9, -30], [149.7, -38], [249.5, -44]])
+    const x = addTones(noise(8, -60, 1), [
+      [49.9, -30],
+      [149.7, -38],
+      [249.5, -44],
+    ])
     const h = measure([x], { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum
     expect(h.hz).toBe(50)
     expect(Math.abs(h.measuredHz! - 49.9)).toBeLessThan(0.1)
@@ -50,7 +58,10 @@ describe('mains hum: a mains pattern, not any tone at a multiple of 50 or 60 Hz'
   })
 
   it('60 Hz hum is 60 Hz, not 50', () => {
-    const x = addTones(noise(8, -60, 2), [[60, -32], [180, -40]])
+    const x = addTones(noise(8, -60, 2), [
+      [60, -32],
+      [180, -40],
+    ])
     expect(measure([x], { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum.hz).toBe(60)
   })
 })

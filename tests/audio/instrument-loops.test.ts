@@ -21,7 +21,11 @@ const PERIOD_TOLERANCE_SECONDS = 0.00005
 const hums: { name: string; sampleRate: number; hz: number }[] = [
   { name: '50 Hz at 48 kHz', sampleRate: 48000, hz: 50 },
   { name: '50 Hz at 44.1 kHz', sampleRate: 44100, hz: 50 },
-  { name: '50.02 Hz at 48 kHz (a grid running fast: the period is not a whole number of frames)', sampleRate: 48000, hz: 50.02 },
+  {
+    name: '50.02 Hz at 48 kHz (a grid running fast: the period is not a whole number of frames)',
+    sampleRate: 48000,
+    hz: 50.02,
+  },
   { name: '60 Hz at 96 kHz', sampleRate: 96000, hz: 60 },
   { name: 'a motor-like drone at 23.7 Hz, 44.1 kHz (same harmonics)', sampleRate: 44100, hz: 23.7 },
 ]
@@ -57,39 +61,54 @@ describe('loop finding on mains hum with harmonics and noise', () => {
     expect(Math.abs(period! / sampleRate - 1 / hz)).toBeLessThan(PERIOD_TOLERANCE_SECONDS / 10)
   })
 
-  it.each(hums)('$name: whole periods within 0.05 ms, a join step within the 99th-percentile step', ({ sampleRate, hz }) => {
-    const x = humWithHarmonics(4, sampleRate, 3, hz as 50)
-    const loops = findLoops(x, { sampleRate, approxLength: Math.round(1.5 * sampleRate), minLength: Math.round(0.05 * sampleRate) })
-    expect(loops.length).toBeGreaterThan(0)
-    const p99 = stepQuantile(x, 0.99)
-    for (const l of loops) {
-      const seconds = (l.end - l.start) / sampleRate
-      expect(offWholePeriods(seconds, hz)).toBeLessThanOrEqual(PERIOD_TOLERANCE_SECONDS)
-      expect(Math.abs(seconds - 1.5)).toBeLessThan(2.5 / hz) // near the length asked for
-      expect(Math.abs(x[l.end - 1] - x[l.start])).toBeLessThanOrEqual(p99)
-      expect(l.crossfadeMs).toBe(0)
-      expect(l.score).toBeGreaterThan(0.5)
-    }
-  })
+  it.each(hums)(
+    '$name: whole periods within 0.05 ms, a join step within the 99th-percentile step',
+    ({ sampleRate, hz }) => {
+      const x = humWithHarmonics(4, sampleRate, 3, hz as 50)
+      const loops = findLoops(x, {
+        sampleRate,
+        approxLength: Math.round(1.5 * sampleRate),
+        minLength: Math.round(0.05 * sampleRate),
+      })
+      expect(loops.length).toBeGreaterThan(0)
+      const p99 = stepQuantile(x, 0.99)
+      for (const l of loops) {
+        const seconds = (l.end - l.start) / sampleRate
+        expect(offWholePeriods(seconds, hz)).toBeLessThanOrEqual(PERIOD_TOLERANCE_SECONDS)
+        expect(Math.abs(seconds - 1.5)).toBeLessThan(2.5 / hz) // near the length asked for
+        expect(Math.abs(x[l.end - 1] - x[l.start])).toBeLessThanOrEqual(p99)
+        expect(l.crossfadeMs).toBe(0)
+        expect(l.score).toBeGreaterThan(0.5)
+      }
+    },
+  )
 
-  it.each(hums)('$name: the pack render of the best loop, cycled 8 times, shows no click at the joins', async ({ name, sampleRate, hz }) => {
-    const x = humWithHarmonics(4, sampleRate, 5, hz as 50)
-    const [best] = findLoops(x, { sampleRate, approxLength: sampleRate, minLength: Math.round(0.05 * sampleRate) })
-    const source = path.join(dir, `${name.replace(/\W+/g, '-')}.wav`)
-    writeFileSync(source, encodeWav([x], { sampleRate, channels: 1, encoding: 'pcm', bitsPerSample: 24 }))
-    const out = path.join(dir, `loop-${path.basename(source)}`)
-    const r = await render(source, out, { kind: 'loop', start: best.start / sampleRate, end: best.end / sampleRate, settings: { bitDepth: 24 } })
-    // Proposed on rising crossings: the render keeps the points exactly.
-    expect([r.sourceStartFrame, r.sourceEndFrame]).toEqual([best.start, best.end])
-    const rendered = mono(decode(out, 1))
-    const { atJoins, material } = joinSpike(rendered, 8)
-    expect(atJoins).toBeLessThanOrEqual(material)
+  it.each(hums)(
+    '$name: the pack render of the best loop, cycled 8 times, shows no click at the joins',
+    async ({ name, sampleRate, hz }) => {
+      const x = humWithHarmonics(4, sampleRate, 5, hz as 50)
+      const [best] = findLoops(x, { sampleRate, approxLength: sampleRate, minLength: Math.round(0.05 * sampleRate) })
+      const source = path.join(dir, `${name.replace(/\W+/g, '-')}.wav`)
+      writeFileSync(source, encodeWav([x], { sampleRate, channels: 1, encoding: 'pcm', bitsPerSample: 24 }))
+      const out = path.join(dir, `loop-${path.basename(source)}`)
+      const r = await render(source, out, {
+        kind: 'loop',
+        start: best.start / sampleRate,
+        end: best.end / sampleRate,
+        settings: { bitDepth: 24 },
+      })
+      // Proposed on rising crossings: the render keeps the points exactly.
+      expect([r.sourceStartFrame, r.sourceEndFrame]).toEqual([best.start, best.end])
+      const rendered = mono(decode(out, 1))
+      const { atJoins, material } = joinSpike(rendered, 8)
+      expect(atJoins).toBeLessThanOrEqual(material)
 
-    // The detector does see a click: the same render cut a quarter period longer.
-    const quarter = Math.round(sampleRate / hz / 4)
-    const off = joinSpike(rendered.subarray(0, rendered.length - quarter), 8)
-    expect(off.atJoins).toBeGreaterThan(2 * off.material)
-  })
+      // The detector does see a click: the same render cut a quarter period longer.
+      const quarter = Math.round(sampleRate / hz / 4)
+      const off = joinSpike(rendered.subarray(0, rendered.length - quarter), 8)
+      expect(off.atJoins).toBeGreaterThan(2 * off.material)
+    },
+  )
 })
 
 describe('loop finding on material without a period', () => {

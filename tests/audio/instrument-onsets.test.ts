@@ -19,9 +19,15 @@ const TOLERANCE = 0.02
 /** aubioonset (Debian aubio-tools) on a 24-bit WAV of the signal: onset times in seconds. */
 function aubioOnsets(sig: KnownEvents, name: string): number[] {
   const file = tmp.file(`${name}.wav`)
-  writeFileSync(file, encodeWav([sig.samples], { sampleRate: sig.sampleRate, channels: 1, encoding: 'pcm', bitsPerSample: 24 }))
+  writeFileSync(
+    file,
+    encodeWav([sig.samples], { sampleRate: sig.sampleRate, channels: 1, encoding: 'pcm', bitsPerSample: 24 }),
+  )
   const out = execFileSync('aubioonset', ['-i', file], { encoding: 'utf8' })
-  return out.split('\n').filter((l) => l.trim() !== '').map(Number)
+  return out
+    .split('\n')
+    .filter((l) => l.trim() !== '')
+    .map(Number)
 }
 
 const cases: [string, KnownEvents][] = [
@@ -39,14 +45,17 @@ describe('onset slicing', () => {
     expect(score.f, `${name}: ${found.length} found, ${sig.onsets.length} known`).toBeGreaterThanOrEqual(0.9)
   })
 
-  it.each(cases)('%s: every onset found is one aubioonset also finds, and aubioonset finds the known ones', (name, sig) => {
-    const reference = aubioOnsets(sig, name.replace(/\W+/g, '-'))
-    // The reference tool sees the known onsets in these signals (its own recall), so they are real onsets.
-    expect(fMeasure(sig.onsets, reference, TOLERANCE).recall).toBeGreaterThanOrEqual(0.9)
-    const found = detectOnsets(sig.samples, { sampleRate: sig.sampleRate }).map((s) => s.start / sig.sampleRate)
-    // Our onsets against aubio's: what we report, aubio reports too (aubio also splits some bursts, so no recall asked).
-    expect(fMeasure(reference, found, TOLERANCE).precision).toBeGreaterThanOrEqual(0.9)
-  })
+  it.each(cases)(
+    '%s: every onset found is one aubioonset also finds, and aubioonset finds the known ones',
+    (name, sig) => {
+      const reference = aubioOnsets(sig, name.replace(/\W+/g, '-'))
+      // The reference tool sees the known onsets in these signals (its own recall), so they are real onsets.
+      expect(fMeasure(sig.onsets, reference, TOLERANCE).recall).toBeGreaterThanOrEqual(0.9)
+      const found = detectOnsets(sig.samples, { sampleRate: sig.sampleRate }).map((s) => s.start / sig.sampleRate)
+      // Our onsets against aubio's: what we report, aubio reports too (aubio also splits some bursts, so no recall asked).
+      expect(fMeasure(reference, found, TOLERANCE).precision).toBeGreaterThanOrEqual(0.9)
+    },
+  )
 
   it('starts each slice on a zero crossing at or before the onset, ends it before the next, and reports its peak', () => {
     const sig = burstTrain(6, 48000, 5)
@@ -94,7 +103,13 @@ describe('onset slicing', () => {
     const mean = new Float32Array(left.length) // (left + right) / 2: nothing
     const peaks = hopPeaks([left, right], hopFrames(48000))
     const slices = detectOnsets(mean, { sampleRate: 48000, peaks })
-    expect(fMeasure(sig.onsets, slices.map((s) => s.start / 48000), TOLERANCE).f).toBeGreaterThanOrEqual(0.9)
+    expect(
+      fMeasure(
+        sig.onsets,
+        slices.map((s) => s.start / 48000),
+        TOLERANCE,
+      ).f,
+    ).toBeGreaterThanOrEqual(0.9)
   })
 
   it('moves back to the preceding crossing, a near rising one first', () => {

@@ -56,10 +56,17 @@ const click =
   (x, at, sr, r) => {
     const a = amp(dbfs)
     x[at] += a
-    for (let i = 1; i < 0.002 * sr && at + i < x.length; i++) x[at + i] += a * (2 * r() - 1) * Math.exp(-i / (0.0004 * sr))
+    for (let i = 1; i < 0.002 * sr && at + i < x.length; i++)
+      x[at + i] += a * (2 * r() - 1) * Math.exp(-i / (0.0004 * sr))
   }
 
-function train(seconds: number, sampleRate: number, seed: number, gaps: [number, number], pick: (k: number, r: () => number) => Event): KnownEvents {
+function train(
+  seconds: number,
+  sampleRate: number,
+  seed: number,
+  gaps: [number, number],
+  pick: (k: number, r: () => number) => Event,
+): KnownEvents {
   const n = Math.round(seconds * sampleRate)
   const samples = background(n, sampleRate, seed)
   const r = prng(seed + 100)

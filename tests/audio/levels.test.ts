@@ -22,9 +22,13 @@ function soxRmsTrough(path: string): number {
 describe('clipped samples', () => {
   it('equal the count sox reports for a sine driven 6 dB past full scale (24-bit, sox gain effect)', async () => {
     const file = join(dir, 'clipped.wav')
-    const log = execFileSync('sh', ['-c', 'sox -D -n -r 48000 -b 24 -c 1 "$1" synth 0.5 sine 1000 gain 6 2>&1', 'sox', file], {
-      encoding: 'utf8',
-    })
+    const log = execFileSync(
+      'sh',
+      ['-c', 'sox -D -n -r 48000 -b 24 -c 1 "$1" synth 0.5 sine 1000 gain 6 2>&1', 'sox', file],
+      {
+        encoding: 'utf8',
+      },
+    )
     const soxCount = Number(/gain clipped (\d+) samples/.exec(log)![1])
     const { levels } = (await analyzeFile(file)).analysis
     expect(soxCount).toBeGreaterThan(1000)

@@ -91,22 +91,45 @@ describe('parseBext of hand-built v0, v1 and v2 chunks', () => {
   it('v0: UMID and loudness areas are reserved, so they read as "" and null even when not zero', () => {
     const r = parseBext(handBext(0, { umid, loud, history: 'A=PCM\r\n' }))
     expect(r).toEqual({
-      description: 'desc', originator: 'orig', originatorReference: 'ref', originationDate: '1999-12-31', originationTime: '23:59:59',
-      timeReference: 2 ** 32 + 48000, version: 0, umid: '', loudnessValue: null, loudnessRange: null, maxTruePeakLevel: null,
-      maxMomentaryLoudness: null, maxShortTermLoudness: null, codingHistory: 'A=PCM\r\n',
+      description: 'desc',
+      originator: 'orig',
+      originatorReference: 'ref',
+      originationDate: '1999-12-31',
+      originationTime: '23:59:59',
+      timeReference: 2 ** 32 + 48000,
+      version: 0,
+      umid: '',
+      loudnessValue: null,
+      loudnessRange: null,
+      maxTruePeakLevel: null,
+      maxMomentaryLoudness: null,
+      maxShortTermLoudness: null,
+      codingHistory: 'A=PCM\r\n',
     })
   })
 
   it('v1: UMID in hex with trailing zero bytes removed (zeros inside kept); loudness still null', () => {
     const r = parseBext(handBext(1, { umid, loud }))
     expect(r.umid).toBe('0102' + '00'.repeat(10) + 'ff')
-    expect([r.loudnessValue, r.loudnessRange, r.maxTruePeakLevel, r.maxMomentaryLoudness, r.maxShortTermLoudness]).toEqual([null, null, null, null, null])
+    expect([
+      r.loudnessValue,
+      r.loudnessRange,
+      r.maxTruePeakLevel,
+      r.maxMomentaryLoudness,
+      r.maxShortTermLoudness,
+    ]).toEqual([null, null, null, null, null])
     expect(parseBext(handBext(1)).umid).toBe('')
   })
 
   it('v2: loudness int16 / 100, 0x7FFF -> null', () => {
     const r = parseBext(handBext(2, { loud }))
-    expect([r.loudnessValue, r.loudnessRange, r.maxTruePeakLevel, r.maxMomentaryLoudness, r.maxShortTermLoudness]).toEqual([-23, 7, -1, -15, null])
+    expect([
+      r.loudnessValue,
+      r.loudnessRange,
+      r.maxTruePeakLevel,
+      r.maxMomentaryLoudness,
+      r.maxShortTermLoudness,
+    ]).toEqual([-23, 7, -1, -15, null])
   })
 
   it('strings stop at their NUL and lose trailing spaces; a field filling its width has no NUL at all', () => {
@@ -120,7 +143,13 @@ describe('parseBext of hand-built v0, v1 and v2 chunks', () => {
 
   it('a chunk shorter than 602 bytes (old writers) reads as if zero filled', () => {
     const r = parseBext(handBext(0).subarray(0, 338))
-    expect(r).toMatchObject({ description: 'desc', originationTime: '23:59:59', timeReference: 0, version: 0, codingHistory: '' })
+    expect(r).toMatchObject({
+      description: 'desc',
+      originationTime: '23:59:59',
+      timeReference: 0,
+      version: 0,
+      codingHistory: '',
+    })
   })
 })
 
@@ -128,7 +157,13 @@ describe('bext in a file: our reader, ffprobe and music-metadata', () => {
   const path = tmp.file('bext.wav')
 
   it('round trip through the writer and readMetadata', async () => {
-    await writeWav(path, [new Float32Array(480)], { sampleRate: 48000, channels: 1, encoding: 'pcm', bitsPerSample: 24, bext: full })
+    await writeWav(path, [new Float32Array(480)], {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'pcm',
+      bitsPerSample: 24,
+      bext: full,
+    })
     const { bext } = await readMetadata(path, await probeWav(path))
     expect(bext).toEqual({ ...full, version: 2 })
   })
@@ -143,7 +178,12 @@ describe('bext in a file: our reader, ffprobe and music-metadata', () => {
     expect(tags.time_reference).toBe(String(full.timeReference))
     expect(tags.coding_history).toBe(full.codingHistory)
     // ffmpeg prints "0x" + 32 or 64 UMID bytes in upper case; ours drops trailing zero bytes.
-    expect(tags.umid.slice(2).toLowerCase().replace(/(00)+$/, '')).toBe(UMID)
+    expect(
+      tags.umid
+        .slice(2)
+        .toLowerCase()
+        .replace(/(00)+$/, ''),
+    ).toBe(UMID)
   })
 
   it('music-metadata 11 reads the text fields like we do but not the v2 loudness fields', async () => {
@@ -155,7 +195,9 @@ describe('bext in a file: our reader, ffprobe and music-metadata', () => {
     const ex = Object.fromEntries((mm.native.exif ?? []).map((t) => [t.id, t.value])) as Record<string, number | string>
     expect(ex['bext.description']).toBe(full.description)
     expect(ex['bext.originator']).toBe(full.originator)
-    expect(Number(ex['bext.timeReferenceLow']) + Number(ex['bext.timeReferenceHigh']) * 2 ** 32).toBe(full.timeReference)
+    expect(Number(ex['bext.timeReferenceLow']) + Number(ex['bext.timeReferenceHigh']) * 2 ** 32).toBe(
+      full.timeReference,
+    )
     const u16 = (v: number) => (Math.round(v * 100) + 65536) % 65536
     expect(ex['bext.loudnessValue']).toBe(u16(full.loudnessValue)) // unsigned: -2345 comes back as 63191
     expect(ex['bext.maxTruePeakLevel']).toBe(u16(full.loudnessRange))
@@ -166,11 +208,28 @@ describe('bext in a file: our reader, ffprobe and music-metadata', () => {
   it('a hand-built v1 file: ffprobe shows the UMID, our reader agrees, loudness null', async () => {
     const umid = Buffer.from('060a2b3401010105010101' + '2013'.repeat(10), 'hex')
     const p = tmp.file('bext-v1.wav')
-    writeFileSync(p, buildWav([{ id: 'bext', payload: handBext(1, { umid, history: 'A=PCM,F=8000\r\n' }) }, { id: 'fmt ', payload: fmtPayload({ channels: 1, rate: 8000, bits: 16 }) }, { id: 'data', payload: pcm16([1, 2]) }]))
+    writeFileSync(
+      p,
+      buildWav([
+        { id: 'bext', payload: handBext(1, { umid, history: 'A=PCM,F=8000\r\n' }) },
+        { id: 'fmt ', payload: fmtPayload({ channels: 1, rate: 8000, bits: 16 }) },
+        { id: 'data', payload: pcm16([1, 2]) },
+      ]),
+    )
     const { bext } = await readMetadata(p, await probeWav(p))
     const tags = ffprobe(p).format.tags ?? {}
-    expect(bext).toMatchObject({ version: 1, umid: umid.toString('hex'), loudnessValue: null, codingHistory: 'A=PCM,F=8000\r\n' })
-    expect(tags.umid.slice(2).toLowerCase().replace(/(00)+$/, '')).toBe(bext!.umid)
+    expect(bext).toMatchObject({
+      version: 1,
+      umid: umid.toString('hex'),
+      loudnessValue: null,
+      codingHistory: 'A=PCM,F=8000\r\n',
+    })
+    expect(
+      tags.umid
+        .slice(2)
+        .toLowerCase()
+        .replace(/(00)+$/, ''),
+    ).toBe(bext!.umid)
     expect(tags.time_reference).toBe(String(bext!.timeReference))
   })
 })

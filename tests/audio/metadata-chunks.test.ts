@@ -23,8 +23,15 @@ function file(chunks: Parameters<typeof buildWav>[0]): string {
   writeFileSync(p, buildWav(chunks))
   return p
 }
-const list = (type: string, entries: Buffer[]) => ({ id: 'LIST', payload: Buffer.concat([Buffer.from(type, 'latin1'), ...entries]) })
-const u32 = (v: number) => { const b = Buffer.alloc(4); b.writeUInt32LE(v); return b }
+const list = (type: string, entries: Buffer[]) => ({
+  id: 'LIST',
+  payload: Buffer.concat([Buffer.from(type, 'latin1'), ...entries]),
+})
+const u32 = (v: number) => {
+  const b = Buffer.alloc(4)
+  b.writeUInt32LE(v)
+  return b
+}
 
 describe('iXML', () => {
   const doc = `<?xml version="1.0" encoding="UTF-8"?>
@@ -43,12 +50,34 @@ describe('iXML', () => {
 </BWFXML>`
 
   it('top-level fields with entities and CDATA decoded, nested and commented elements ignored, raw kept whole', () => {
-    expect(parseIxml(doc)).toEqual({ project: 'Coil & Mains été', scene: 'bench<2>', take: '7', tape: '', note: 'hum <loud> near "panel"', raw: doc })
+    expect(parseIxml(doc)).toEqual({
+      project: 'Coil & Mains été',
+      scene: 'bench<2>',
+      take: '7',
+      tape: '',
+      note: 'hum <loud> near "panel"',
+      raw: doc,
+    })
   })
 
   it('absent fields are null; broken documents do not throw', () => {
-    expect(parseIxml('<BWFXML><SCENE>a</SCENE></BWFXML>')).toMatchObject({ project: null, scene: 'a', take: null, tape: null, note: null })
-    for (const bad of ['', '<', '<BWFXML><TAKE>1', '</BWFXML></BWFXML><TAKE>2</TAKE>', '<![CDATA[', '<!--', '&#xFFFFFFFF;', '<BWFXML><NOTE>&#xD800;</NOTE></BWFXML>']) {
+    expect(parseIxml('<BWFXML><SCENE>a</SCENE></BWFXML>')).toMatchObject({
+      project: null,
+      scene: 'a',
+      take: null,
+      tape: null,
+      note: null,
+    })
+    for (const bad of [
+      '',
+      '<',
+      '<BWFXML><TAKE>1',
+      '</BWFXML></BWFXML><TAKE>2</TAKE>',
+      '<![CDATA[',
+      '<!--',
+      '&#xFFFFFFFF;',
+      '<BWFXML><NOTE>&#xD800;</NOTE></BWFXML>',
+    ]) {
       expect(() => parseIxml(bad)).not.toThrow()
     }
     expect(parseIxml('<BWFXML><NOTE>&#xD800;&bogus;</NOTE></BWFXML>').note).toBe('&#xD800;&bogus;')
@@ -56,38 +85,94 @@ describe('iXML', () => {
 
   it('written by the writer before data, read back by readMetadata (trailing NUL padding dropped)', async () => {
     const p = tmp.file('ixml.wav')
-    await writeWav(p, [new Float32Array(10)], { sampleRate: 48000, channels: 1, encoding: 'pcm', bitsPerSample: 16, ixml: doc })
+    await writeWav(p, [new Float32Array(10)], {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'pcm',
+      bitsPerSample: 16,
+      ixml: doc,
+    })
     const info = await probeWav(p)
     expect(info.chunks.findIndex((c) => c.id === 'iXML')).toBeLessThan(info.chunks.findIndex((c) => c.id === 'data'))
     expect((await readMetadata(p, info)).ixml).toEqual(parseIxml(doc))
-    const padded = file([fmt, { id: 'iXML', payload: Buffer.concat([Buffer.from('<BWFXML><TAPE>T1</TAPE></BWFXML>'), Buffer.alloc(9)]) }, data])
-    expect((await readMetadata(padded, await probeWav(padded))).ixml).toMatchObject({ tape: 'T1', raw: '<BWFXML><TAPE>T1</TAPE></BWFXML>' })
+    const padded = file([
+      fmt,
+      { id: 'iXML', payload: Buffer.concat([Buffer.from('<BWFXML><TAPE>T1</TAPE></BWFXML>'), Buffer.alloc(9)]) },
+      data,
+    ])
+    expect((await readMetadata(padded, await probeWav(padded))).ixml).toMatchObject({
+      tape: 'T1',
+      raw: '<BWFXML><TAPE>T1</TAPE></BWFXML>',
+    })
   })
 })
 
 describe('LIST/INFO', () => {
-  const info = { INAM: 'Mains hum, 50 Hz', IART: 'field team', ICMT: 'coil at 5 cm', ICRD: '2024-05-06', IGNR: 'field recording', ISFT: 'strayfield' }
+  const info = {
+    INAM: 'Mains hum, 50 Hz',
+    IART: 'field team',
+    ICMT: 'coil at 5 cm',
+    ICRD: '2024-05-06',
+    IGNR: 'field recording',
+    ISFT: 'strayfield',
+  }
 
   it('written after data; ffprobe reads the same INFO tags (INAM->title, IART->artist, ICMT->comment, ICRD->date, IGNR->genre, ISFT->encoder)', async () => {
     const p = tmp.file('info.wav')
-    await writeWav(p, [new Float32Array(10)], { sampleRate: 48000, channels: 1, encoding: 'pcm', bitsPerSample: 16, info })
+    await writeWav(p, [new Float32Array(10)], {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'pcm',
+      bitsPerSample: 16,
+      info,
+    })
     const probe = await probeWav(p)
     expect(probe.chunks.map((c) => c.id)).toEqual(['JUNK', 'fmt ', 'data', 'LIST'])
     const meta = await readMetadata(p, probe)
     expect(meta.info).toEqual(info)
     const tags = ffprobe(p).format.tags ?? {}
-    expect({ title: tags.title, artist: tags.artist, comment: tags.comment, date: tags.date, genre: tags.genre, encoder: tags.encoder })
-      .toEqual({ title: info.INAM, artist: info.IART, comment: info.ICMT, date: info.ICRD, genre: info.IGNR, encoder: info.ISFT })
+    expect({
+      title: tags.title,
+      artist: tags.artist,
+      comment: tags.comment,
+      date: tags.date,
+      genre: tags.genre,
+      encoder: tags.encoder,
+    }).toEqual({
+      title: info.INAM,
+      artist: info.IART,
+      comment: info.ICMT,
+      date: info.ICRD,
+      genre: info.IGNR,
+      encoder: info.ISFT,
+    })
     // music-metadata maps the same ids to its common tags (its RIFF INFO map); ASCII text agrees.
     const mm = (await parseFile(p, { skipCovers: true, duration: false })).common
-    expect({ title: mm.title, artist: mm.artist, comment: mm.comment?.[0]?.text, date: mm.date, genre: mm.genre?.[0] })
-      .toEqual({ title: info.INAM, artist: info.IART, comment: info.ICMT, date: info.ICRD, genre: info.IGNR })
-    expect(meta.tags).toMatchObject({ title: info.INAM, artist: info.IART, comment: info.ICMT, date: info.ICRD, genre: info.IGNR })
+    expect({
+      title: mm.title,
+      artist: mm.artist,
+      comment: mm.comment?.[0]?.text,
+      date: mm.date,
+      genre: mm.genre?.[0],
+    }).toEqual({ title: info.INAM, artist: info.IART, comment: info.ICMT, date: info.ICRD, genre: info.IGNR })
+    expect(meta.tags).toMatchObject({
+      title: info.INAM,
+      artist: info.IART,
+      comment: info.ICMT,
+      date: info.ICRD,
+      genre: info.IGNR,
+    })
   })
 
   it('UTF-8 text: we and ffprobe read it as UTF-8; music-metadata reads Latin-1 (mojibake), so our INFO value replaces its tag', async () => {
     const p = tmp.file('info-utf8.wav')
-    await writeWav(p, [new Float32Array(10)], { sampleRate: 48000, channels: 1, encoding: 'pcm', bitsPerSample: 16, info: { INAM: 'Brumm über Netz → 50 Hz' } })
+    await writeWav(p, [new Float32Array(10)], {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'pcm',
+      bitsPerSample: 16,
+      info: { INAM: 'Brumm über Netz → 50 Hz' },
+    })
     const meta = await readMetadata(p, await probeWav(p))
     expect(meta.info.INAM).toBe('Brumm über Netz → 50 Hz')
     expect(ffprobe(p).format.tags?.title).toBe('Brumm über Netz → 50 Hz')
@@ -97,7 +182,11 @@ describe('LIST/INFO', () => {
   })
 
   it('Latin-1 bytes that are not valid UTF-8 are read as Latin-1 (the RIFF default code page)', async () => {
-    const p = file([fmt, data, list('INFO', [rawChunk({ id: 'ICMT', payload: Buffer.from([0x63, 0x61, 0x66, 0xe9, 0]) })])])
+    const p = file([
+      fmt,
+      data,
+      list('INFO', [rawChunk({ id: 'ICMT', payload: Buffer.from([0x63, 0x61, 0x66, 0xe9, 0]) })]),
+    ])
     expect((await readMetadata(p, await probeWav(p))).info).toEqual({ ICMT: 'café' })
   })
 })
@@ -105,22 +194,53 @@ describe('LIST/INFO', () => {
 describe('cue points with LIST/adtl labels', () => {
   it('written cues come back with labl text; a cue without a label has label null', async () => {
     const p = tmp.file('cues.wav')
-    const cues = [{ id: 1, frame: 0, label: 'start' }, { id: 2, frame: 4800, label: 'hum rises' }, { id: 3, frame: 9000 }]
-    await writeWav(p, [new Float32Array(10000)], { sampleRate: 48000, channels: 1, encoding: 'pcm', bitsPerSample: 16, cues })
+    const cues = [
+      { id: 1, frame: 0, label: 'start' },
+      { id: 2, frame: 4800, label: 'hum rises' },
+      { id: 3, frame: 9000 },
+    ]
+    await writeWav(p, [new Float32Array(10000)], {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'pcm',
+      bitsPerSample: 16,
+      cues,
+    })
     const probe = await probeWav(p)
     const meta = await readMetadata(p, probe)
-    expect(meta.cues).toEqual([{ id: 1, frame: 0, label: 'start' }, { id: 2, frame: 4800, label: 'hum rises' }, { id: 3, frame: 9000, label: null }])
+    expect(meta.cues).toEqual([
+      { id: 1, frame: 0, label: 'start' },
+      { id: 2, frame: 4800, label: 'hum rises' },
+      { id: 3, frame: 9000, label: null },
+    ])
     // cue point layout per RIFF/MCI: 24 bytes each after the count.
     const c = probe.chunks.find((x) => x.id === 'cue ')!
     const b = readFileSync(p).subarray(c.offset, c.offset + c.size)
     expect(b.readUInt32LE(0)).toBe(3)
-    expect([b.readUInt32LE(4 + 24), b.readUInt32LE(8 + 24), b.toString('latin1', 12 + 24, 16 + 24), b.readUInt32LE(24 + 24)]).toEqual([2, 4800, 'data', 4800])
+    expect([
+      b.readUInt32LE(4 + 24),
+      b.readUInt32LE(8 + 24),
+      b.toString('latin1', 12 + 24, 16 + 24),
+      b.readUInt32LE(24 + 24),
+    ]).toEqual([2, 4800, 'data', 4800])
   })
 
   it('hand-built: the frame is dwSampleOffset, note is used when there is no labl, labl wins over note', async () => {
-    const cue = Buffer.concat([u32(2),
-      u32(10), u32(999), Buffer.from('data'), u32(0), u32(0), u32(480),
-      u32(11), u32(999), Buffer.from('data'), u32(0), u32(0), u32(960)])
+    const cue = Buffer.concat([
+      u32(2),
+      u32(10),
+      u32(999),
+      Buffer.from('data'),
+      u32(0),
+      u32(0),
+      u32(480),
+      u32(11),
+      u32(999),
+      Buffer.from('data'),
+      u32(0),
+      u32(0),
+      u32(960),
+    ])
     const adtl = list('adtl', [
       rawChunk({ id: 'note', payload: Buffer.concat([u32(10), Buffer.from('note ten\0')]) }),
       rawChunk({ id: 'labl', payload: Buffer.concat([u32(11), Buffer.from('label eleven\0')]) }),
@@ -128,18 +248,33 @@ describe('cue points with LIST/adtl labels', () => {
       rawChunk({ id: 'ltxt', payload: Buffer.alloc(20) }),
     ])
     const p = file([fmt, data, { id: 'cue ', payload: cue }, adtl])
-    expect((await readMetadata(p, await probeWav(p))).cues).toEqual([{ id: 10, frame: 480, label: 'note ten' }, { id: 11, frame: 960, label: 'label eleven' }])
+    expect((await readMetadata(p, await probeWav(p))).cues).toEqual([
+      { id: 10, frame: 480, label: 'note ten' },
+      { id: 11, frame: 960, label: 'label eleven' },
+    ])
   })
 })
 
 describe('smpl loops', () => {
   it('writer: sample period from the rate, MIDI unity note 60, loops as given (end inclusive)', async () => {
     const p = tmp.file('smpl.wav')
-    const loops = [{ start: 0, end: 47999 }, { start: 100, end: 200, type: 1 }]
-    await writeWav(p, [new Float32Array(48000)], { sampleRate: 48000, channels: 1, encoding: 'pcm', bitsPerSample: 16, loops })
+    const loops = [
+      { start: 0, end: 47999 },
+      { start: 100, end: 200, type: 1 },
+    ]
+    await writeWav(p, [new Float32Array(48000)], {
+      sampleRate: 48000,
+      channels: 1,
+      encoding: 'pcm',
+      bitsPerSample: 16,
+      loops,
+    })
     const probe = await probeWav(p)
     const meta = await readMetadata(p, probe)
-    expect(meta.loops).toEqual([{ start: 0, end: 47999, type: 0 }, { start: 100, end: 200, type: 1 }])
+    expect(meta.loops).toEqual([
+      { start: 0, end: 47999, type: 0 },
+      { start: 100, end: 200, type: 1 },
+    ])
     const c = probe.chunks.find((x) => x.id === 'smpl')!
     const b = readFileSync(p).subarray(c.offset, c.offset + c.size)
     expect([b.readUInt32LE(8), b.readUInt32LE(12), b.readUInt32LE(28), c.size]).toEqual([20833, 60, 2, 36 + 2 * 24])

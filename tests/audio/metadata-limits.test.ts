@@ -6,7 +6,14 @@ import { writeFileSync } from 'node:fs'
 import { afterAll, describe, expect, it } from 'vitest'
 import { FileMetadata } from '@shared/schemas/analysis'
 import { parseInfo, parseIxml } from '../../server/audio/wav-chunks'
-import { ENTRY_CAP, FIELD_CAP, headBytes, MetaBudget, TOTAL_TEXT_CAP, trimEndCodes } from '../../server/audio/wav-limits'
+import {
+  ENTRY_CAP,
+  FIELD_CAP,
+  headBytes,
+  MetaBudget,
+  TOTAL_TEXT_CAP,
+  trimEndCodes,
+} from '../../server/audio/wav-limits'
 import { probeWav, readMetadata } from '../../server/audio/wav-reader'
 import { hugeTextWav, manyEntriesWav } from '../helpers/hostile-wav'
 import { makeTmpDir } from '../helpers/audio-files'
@@ -42,7 +49,9 @@ describe('linear readers', () => {
   })
 
   it('INFO: at most ENTRY_CAP entries of a list; a long value cut with a note; the take total bounded', () => {
-    const entries = Array.from({ length: ENTRY_CAP + 500 }, (_, i) => sub(`I${String(i).padStart(3, '0').slice(-3)}`, Buffer.from(`${'v'.repeat(300)}${i}\0`)))
+    const entries = Array.from({ length: ENTRY_CAP + 500 }, (_, i) =>
+      sub(`I${String(i).padStart(3, '0').slice(-3)}`, Buffer.from(`${'v'.repeat(300)}${i}\0`)),
+    )
     const budget = new MetaBudget()
     const info = parseInfo(Buffer.concat([Buffer.from('INFO'), ...entries]), budget)
     expect(Object.keys(info).length).toBeLessThanOrEqual(ENTRY_CAP)

@@ -3,7 +3,14 @@
 // is built from): an amplitude-modulated tone's envelope, a glide's instantaneous
 // frequency f(t) = dφ/dt / 2π.
 import { describe, expect, it } from 'vitest'
-import { EnvelopeFollower, SpectralTracker, controlFraction, curvePoints, spectralContext, type CurveTracker } from '../../server/modulation/curves'
+import {
+  EnvelopeFollower,
+  SpectralTracker,
+  controlFraction,
+  curvePoints,
+  spectralContext,
+  type CurveTracker,
+} from '../../server/modulation/curves'
 
 const RATE = 48000
 
@@ -64,7 +71,11 @@ describe('envelope', () => {
   const cases = [
     { name: '3 Hz sine AM on 1 kHz', carrier: 1000, env: (t: number) => 0.5 + 0.4 * Math.sin(2 * Math.PI * 3 * t) },
     { name: 'a swell and decay on 440 Hz', carrier: 440, env: (t: number) => 0.9 * Math.sin((Math.PI * t) / 4) ** 2 },
-    { name: '1.5 Hz triangle AM on 3 kHz', carrier: 3000, env: (t: number) => 0.1 + 0.8 * Math.abs(((t * 1.5) % 1) * 2 - 1) },
+    {
+      name: '1.5 Hz triangle AM on 3 kHz',
+      carrier: 3000,
+      env: (t: number) => 0.1 + 0.8 * Math.abs(((t * 1.5) % 1) * 2 - 1),
+    },
   ]
   for (const c of cases) {
     it(`of ${c.name} correlates ≥ 0.99 with the known envelope`, () => {
@@ -95,7 +106,9 @@ describe('envelope', () => {
 
   it('makes round(seconds × rateHz) points, also above the audio rate and from blocks of any size', () => {
     const x = amTone(0.5, 1000, () => 0.5)
-    expect(feed(new EnvelopeFollower(RATE, x.length, { attackMs: 0, releaseMs: 10, rateHz: 7 }), [x], 1000).length).toBe(curvePoints(x.length, RATE, 7))
+    expect(
+      feed(new EnvelopeFollower(RATE, x.length, { attackMs: 0, releaseMs: 10, rateHz: 7 }), [x], 1000).length,
+    ).toBe(curvePoints(x.length, RATE, 7))
     expect(curvePoints(x.length, RATE, 7)).toBe(4)
     const dense = feed(new EnvelopeFollower(RATE, x.length, { attackMs: 0, releaseMs: 10, rateHz: 96000 }), [x], 333)
     expect(dense.length).toBe(48000)
@@ -105,14 +118,21 @@ describe('envelope', () => {
 describe('tone', () => {
   it('follows an exponential glide 100 Hz → 3.2 kHz within 1 % of the true frequency at every point', () => {
     const g = expGlide(4, 100, 3200)
-    const curve = feed(new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 200 }), [g.x])
+    const curve = feed(
+      new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 200 }),
+      [g.x],
+    )
     expect(curve.length).toBe(800)
     expect(worstError(curve, 200, g.f)).toBeLessThan(0.01)
   })
 
   it('at 2 points a second (one frame per point, the samples between skipped) still reads each point within 1 %', () => {
     const g = expGlide(4, 100, 3200)
-    const curve = feed(new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 2 }), [g.x], 4096)
+    const curve = feed(
+      new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 2 }),
+      [g.x],
+      4096,
+    )
     expect(curve.length).toBe(8)
     expect(worstError(curve, 2, g.f)).toBeLessThan(0.01)
   })
@@ -124,7 +144,10 @@ describe('tone', () => {
       seed = (seed * 1103515245 + 12345) % 2 ** 31
       g.x[i] += 0.02 * (seed / 2 ** 30 - 1) // white noise about 30 dB below the tone
     }
-    const curve = feed(new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 1000 }), [g.x])
+    const curve = feed(
+      new SpectralTracker(RATE, g.x.length, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 1000 }),
+      [g.x],
+    )
     const half = Math.ceil((spectralContext(RATE) / RATE) * 1000)
     const inner = curve.subarray(half, curve.length - half)
     expect(worstError(inner, 1000, (t) => g.f(t + half / 1000))).toBeLessThan(0.01)
@@ -134,7 +157,12 @@ describe('tone', () => {
     const g = linGlide(3, 2000, 400)
     const [from, to] = [RATE, 2 * RATE] // the excerpt 1–2 s
     const lead = spectralContext(RATE)
-    const tracker = new SpectralTracker(RATE, to - from, { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 1000 }, lead)
+    const tracker = new SpectralTracker(
+      RATE,
+      to - from,
+      { kind: 'tone', attackMs: 0, releaseMs: 0, rateHz: 1000 },
+      lead,
+    )
     const curve = feed(tracker, [g.x.subarray(from - lead, to + lead)])
     expect(curve.length).toBe(1000)
     expect(worstError(curve, 1000, (t) => g.f(t + 1))).toBeLessThan(0.01)
@@ -150,7 +178,10 @@ describe('tone', () => {
     // A 110 → 880 Hz step with a 100 ms attack: one time constant after the step, 63 % of the 3 octaves.
     const step = new Float32Array(RATE * 2)
     for (let i = 0; i < step.length; i++) step[i] = 0.5 * Math.sin((2 * Math.PI * (i < RATE ? 110 : 880) * i) / RATE)
-    const slewed = feed(new SpectralTracker(RATE, step.length, { kind: 'tone', attackMs: 100, releaseMs: 0, rateHz: 1000 }), [step])
+    const slewed = feed(
+      new SpectralTracker(RATE, step.length, { kind: 'tone', attackMs: 100, releaseMs: 0, rateHz: 1000 }),
+      [step],
+    )
     const octavesUp = Math.log2(slewed[1100] / 110)
     expect(octavesUp).toBeGreaterThan(3 * 0.55)
     expect(octavesUp).toBeLessThan(3 * 0.72)
@@ -160,11 +191,17 @@ describe('tone', () => {
 describe('centroid', () => {
   it('of two tones of equal power lies at their mean frequency, and follows a glide within 1 %', () => {
     const x = new Float32Array(RATE)
-    for (let i = 0; i < x.length; i++) x[i] = 0.3 * Math.sin((2 * Math.PI * 500 * i) / RATE) + 0.3 * Math.sin((2 * Math.PI * 1500 * i) / RATE)
-    const two = feed(new SpectralTracker(RATE, x.length, { kind: 'centroid', attackMs: 0, releaseMs: 0, rateHz: 20 }), [x])
+    for (let i = 0; i < x.length; i++)
+      x[i] = 0.3 * Math.sin((2 * Math.PI * 500 * i) / RATE) + 0.3 * Math.sin((2 * Math.PI * 1500 * i) / RATE)
+    const two = feed(new SpectralTracker(RATE, x.length, { kind: 'centroid', attackMs: 0, releaseMs: 0, rateHz: 20 }), [
+      x,
+    ])
     expect(Math.abs(two[10] / 1000 - 1)).toBeLessThan(0.01)
     const g = expGlide(4, 200, 1600)
-    const glide = feed(new SpectralTracker(RATE, g.x.length, { kind: 'centroid', attackMs: 0, releaseMs: 0, rateHz: 100 }), [g.x])
+    const glide = feed(
+      new SpectralTracker(RATE, g.x.length, { kind: 'centroid', attackMs: 0, releaseMs: 0, rateHz: 100 }),
+      [g.x],
+    )
     expect(worstError(glide, 100, g.f)).toBeLessThan(0.01)
   })
 })

@@ -20,10 +20,14 @@ let planar: Float32Array[] = []
 
 /** ffmpeg's decode as planar Float32 channels. */
 function ffmpegPlanar(path: string, channels: number): Float32Array[] {
-  const raw = execFileSync('ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-acodec', 'pcm_f32le', '-'], { maxBuffer: 1 << 30 })
+  const raw = execFileSync('ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-acodec', 'pcm_f32le', '-'], {
+    maxBuffer: 1 << 30,
+  })
   const all = new Float32Array(raw.buffer.slice(raw.byteOffset, raw.byteOffset + raw.byteLength))
   const frames = all.length / channels
-  return Array.from({ length: channels }, (_, c) => Float32Array.from({ length: frames }, (_, i) => all[i * channels + c]))
+  return Array.from({ length: channels }, (_, c) =>
+    Float32Array.from({ length: frames }, (_, i) => all[i * channels + c]),
+  )
 }
 
 beforeAll(async () => {
@@ -110,7 +114,17 @@ describe('peaks pyramid', () => {
 
   it('clamps float samples beyond full scale to −1..1 (wavesurfer.js expects that range)', async () => {
     const loud = join(dir, 'loud.wav')
-    ffmpeg(['-f', 'lavfi', '-i', 'sine=frequency=100:sample_rate=48000:duration=2', '-af', 'volume=24', '-c:a', 'pcm_f32le', loud])
+    ffmpeg([
+      '-f',
+      'lavfi',
+      '-i',
+      'sine=frequency=100:sample_rate=48000:duration=2',
+      '-af',
+      'volume=24',
+      '-c:a',
+      'pcm_f32le',
+      loud,
+    ])
     const file = join(dir, 'loud.peaks')
     await analyzeFile(loud, { peaksPath: file })
     const p = await readPeaks(file)

@@ -36,7 +36,9 @@ describe('analysis pool', () => {
     const pool = createAnalysisPool(2)
     try {
       const progress = files.map(() => [] as number[])
-      const results = await Promise.all(files.map((f, i) => pool.run(f, join(dir, `p${i}.peaks`), (x) => progress[i].push(x))))
+      const results = await Promise.all(
+        files.map((f, i) => pool.run(f, join(dir, `p${i}.peaks`), (x) => progress[i].push(x))),
+      )
       results.forEach((r, i) => expectLufs(r.analysis.loudness.integratedLufs, expected[i]))
       for (const p of progress) {
         expect(p.length).toBeGreaterThan(5)
@@ -88,7 +90,11 @@ describe('analysis pool', () => {
         expect(crashed.status).toBe('rejected')
         expect(String((crashed as PromiseRejectedResult).reason.message)).toMatch(/analysis worker crashed/)
         expect(after.status).toBe('fulfilled')
-        expectLufs((after as PromiseFulfilledResult<Awaited<ReturnType<typeof pool.run>>>).value.analysis.loudness.integratedLufs, expected[0])
+        expectLufs(
+          (after as PromiseFulfilledResult<Awaited<ReturnType<typeof pool.run>>>).value.analysis.loudness
+            .integratedLufs,
+          expected[0],
+        )
       } finally {
         await pool.close()
       }
@@ -100,7 +106,9 @@ describe('analysis pool', () => {
     try {
       const [stuck, after] = await Promise.allSettled([pool.run(join(dir, 'hang.wav')), pool.run(files[0])])
       expect(stuck.status).toBe('rejected')
-      expect(String((stuck as PromiseRejectedResult).reason.message)).toBe('measuring stopped answering: it sent nothing for 5 s and was stopped')
+      expect(String((stuck as PromiseRejectedResult).reason.message)).toBe(
+        'measuring stopped answering: it sent nothing for 5 s and was stopped',
+      )
       expect(after.status).toBe('fulfilled')
     } finally {
       await pool.close()

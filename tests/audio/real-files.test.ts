@@ -10,7 +10,9 @@ import { probeWav, readMetadata } from '../../server/audio/wav-reader'
 import { ffmpegF32, ffprobe, makeTmpDir, readAll, soxi } from '../helpers/audio-files'
 
 const ALSA = '/usr/share/sounds/alsa'
-const alsaFiles = readdirSync(ALSA).filter((f) => f.endsWith('.wav')).sort()
+const alsaFiles = readdirSync(ALSA)
+  .filter((f) => f.endsWith('.wav'))
+  .sort()
 const tmp = makeTmpDir()
 afterAll(() => tmp.cleanup())
 
@@ -31,7 +33,12 @@ async function compareWithTools(path: string, opts: { sox: boolean }) {
   expect(info.format.durationSeconds).toBeCloseTo(Number(st.duration), 5)
   if (opts.sox) {
     const s = soxi(path)
-    expect([info.format.sampleRate, info.format.channels, info.format.frames, info.format.bitsPerSample]).toEqual([s.rate, s.channels, s.samples, s.bits])
+    expect([info.format.sampleRate, info.format.channels, info.format.frames, info.format.bitsPerSample]).toEqual([
+      s.rate,
+      s.channels,
+      s.samples,
+      s.bits,
+    ])
   }
   expect(interleave(await readAll(path, info))).toEqual(ffmpegF32(path))
   const meta = await readMetadata(path, info)
@@ -60,7 +67,21 @@ describe('files written by ffmpeg and sox', () => {
     ['ffmpeg f64 mono', ['-c:a', 'pcm_f64le']],
     ['ffmpeg u8 mono', ['-c:a', 'pcm_u8']],
     ['ffmpeg RF64 (-rf64 always) s16 stereo', ['-ac', '2', '-c:a', 'pcm_s16le', '-rf64', 'always']],
-    ['ffmpeg with bext (-write_bext 1)', ['-c:a', 'pcm_s16le', '-write_bext', '1', '-metadata', 'description=coil take', '-metadata', 'originator=unit 3', '-metadata', 'time_reference=96000']],
+    [
+      'ffmpeg with bext (-write_bext 1)',
+      [
+        '-c:a',
+        'pcm_s16le',
+        '-write_bext',
+        '1',
+        '-metadata',
+        'description=coil take',
+        '-metadata',
+        'originator=unit 3',
+        '-metadata',
+        'time_reference=96000',
+      ],
+    ],
   ]
   it.each(ffmpegCases)('%s', async (name, args) => {
     const path = tmp.file(`${name.replace(/\W+/g, '_')}.wav`)

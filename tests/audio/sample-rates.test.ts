@@ -27,7 +27,8 @@ describe('K-weighting coefficients (ITU-R BS.1770-4 Tables 1 and 2)', () => {
       [preFilter(48000), TABLE_1],
       [rlbHighPass(48000), TABLE_2],
     ] as const) {
-      for (const k of ['b0', 'b1', 'b2', 'a1', 'a2'] as const) expect(Math.abs(derived[k] - table[k])).toBeLessThan(1e-6)
+      for (const k of ['b0', 'b1', 'b2', 'a1', 'a2'] as const)
+        expect(Math.abs(derived[k] - table[k])).toBeLessThan(1e-6)
     }
   })
 

@@ -14,7 +14,22 @@ afterAll(() => tmp.cleanup())
 /** `sox -n … synth SECONDS sine HZ vol DB`: a mono sine at 48 kHz, 24-bit. */
 function sine(name: string, hz: number, seconds: number, db = 0, rate = 48000, channels = 1): string {
   const file = tmp.file(`${name}.wav`)
-  sox(['-n', '-r', String(rate), '-b', '24', '-c', String(channels), file, 'synth', String(seconds), 'sine', String(hz), 'vol', `${db}dB`])
+  sox([
+    '-n',
+    '-r',
+    String(rate),
+    '-b',
+    '24',
+    '-c',
+    String(channels),
+    file,
+    'synth',
+    String(seconds),
+    'sine',
+    String(hz),
+    'vol',
+    `${db}dB`,
+  ])
   return file
 }
 
@@ -92,7 +107,9 @@ describe('frequency axis', () => {
 
   it('puts sox sines of 60 Hz and 12 kHz at their rows, at a 44.1 kHz rate (log axis to 22.05 kHz)', async () => {
     for (const hz of [60, 12000]) {
-      const img = decode(await renderSpectrogram(sine(`sine-441-${hz}`, hz, 3, -12, 44100), { width: 100, height: 300 }))
+      const img = decode(
+        await renderSpectrogram(sine(`sine-441-${hz}`, hz, 3, -12, 44100), { width: 100, height: 300 }),
+      )
       expect(Math.abs(brightestRow(img, 50) - logRow(hz, 300, 20, 22050))).toBeLessThanOrEqual(1)
     }
   })
@@ -101,7 +118,9 @@ describe('frequency axis', () => {
     const file = sine('sine-3k', 3000, 3, -6)
     const lin = decode(await renderSpectrogram(file, { width: 80, height: 200, scale: 'linear' }))
     expect(Math.abs(brightestRow(lin, 40) - linearRow(3000, 200, 0, 24000))).toBeLessThanOrEqual(1)
-    const band = decode(await renderSpectrogram(file, { width: 80, height: 200, scale: 'log', minHz: 1000, maxHz: 8000 }))
+    const band = decode(
+      await renderSpectrogram(file, { width: 80, height: 200, scale: 'log', minHz: 1000, maxHz: 8000 }),
+    )
     expect(Math.abs(brightestRow(band, 40) - logRow(3000, 200, 1000, 8000))).toBeLessThanOrEqual(1)
   })
 })
@@ -131,19 +150,27 @@ describe('levels and colours', () => {
 
 describe('time axis', () => {
   // 4 s is drawn at the detailed resolution, 64 s at the overview resolution.
-  it.each([2, 32])('moves the energy from 200 Hz to 5 kHz at the middle column (two %d s sox parts)', async (secondsEach) => {
-    const width = 200
-    const img = decode(await renderSpectrogram(twoPart(`two-${secondsEach}`, 200, 5000, secondsEach), { width, height: 256 }))
-    const low = logRow(200, 256, 20, 24000)
-    const high = logRow(5000, 256, 20, 24000)
-    const highWins = Array.from({ length: width }, (_, x) => brightness(img.rgb(x, high)) > brightness(img.rgb(x, low)))
-    const flip = highWins.indexOf(true)
-    expect(Math.abs(flip - width / 2)).toBeLessThanOrEqual(1)
-    expect(highWins.slice(0, flip).every((v) => !v)).toBe(true)
-    expect(highWins.slice(flip).every((v) => v)).toBe(true)
-    expect(Math.abs(brightestRow(img, 10) - low)).toBeLessThanOrEqual(1)
-    expect(Math.abs(brightestRow(img, width - 10) - high)).toBeLessThanOrEqual(1)
-  })
+  it.each([2, 32])(
+    'moves the energy from 200 Hz to 5 kHz at the middle column (two %d s sox parts)',
+    async (secondsEach) => {
+      const width = 200
+      const img = decode(
+        await renderSpectrogram(twoPart(`two-${secondsEach}`, 200, 5000, secondsEach), { width, height: 256 }),
+      )
+      const low = logRow(200, 256, 20, 24000)
+      const high = logRow(5000, 256, 20, 24000)
+      const highWins = Array.from(
+        { length: width },
+        (_, x) => brightness(img.rgb(x, high)) > brightness(img.rgb(x, low)),
+      )
+      const flip = highWins.indexOf(true)
+      expect(Math.abs(flip - width / 2)).toBeLessThanOrEqual(1)
+      expect(highWins.slice(0, flip).every((v) => !v)).toBe(true)
+      expect(highWins.slice(flip).every((v) => v)).toBe(true)
+      expect(Math.abs(brightestRow(img, 10) - low)).toBeLessThanOrEqual(1)
+      expect(Math.abs(brightestRow(img, width - 10) - high)).toBeLessThanOrEqual(1)
+    },
+  )
 
   it('maps an excerpt onto the whole width: 4..8 s of a 5 s + 5 s file changes at a quarter of the width', async () => {
     const width = 240
@@ -151,7 +178,10 @@ describe('time axis', () => {
     const img = decode(await renderSpectrogram(file, { width, height: 128, startSeconds: 4, endSeconds: 8 }))
     const low = logRow(200, 128, 20, 24000)
     const high = logRow(5000, 128, 20, 24000)
-    const flip = Array.from({ length: width }, (_, x) => brightness(img.rgb(x, high)) > brightness(img.rgb(x, low))).indexOf(true)
+    const flip = Array.from(
+      { length: width },
+      (_, x) => brightness(img.rgb(x, high)) > brightness(img.rgb(x, low)),
+    ).indexOf(true)
     // The change at 5 s lies (5 − 4) / (8 − 4) of the way across.
     expect(Math.abs(flip - width / 4)).toBeLessThanOrEqual(1)
   })
@@ -166,6 +196,8 @@ describe('PNG output', () => {
   })
 
   it('refuses a band above the Nyquist frequency', async () => {
-    await expect(renderSpectrogram(sine('nyq', 440, 1), { width: 64, height: 32, minHz: 30000 })).rejects.toThrow(RangeError)
+    await expect(renderSpectrogram(sine('nyq', 440, 1), { width: 64, height: 32, minHz: 30000 })).rejects.toThrow(
+      RangeError,
+    )
   })
 })

@@ -16,11 +16,40 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }))
 function take(name: string, rate: number, tones: [number, number][], noiseDb: number, seconds = 20): string {
   const parts = tones.map(([hz, db], i) => {
     const p = join(dir, `${name}-t${i}.wav`)
-    sox(['-n', '-r', String(rate), '-b', '24', '-c', '1', p, 'synth', String(seconds), 'sine', String(hz), 'vol', `${db}dB`])
+    sox([
+      '-n',
+      '-r',
+      String(rate),
+      '-b',
+      '24',
+      '-c',
+      '1',
+      p,
+      'synth',
+      String(seconds),
+      'sine',
+      String(hz),
+      'vol',
+      `${db}dB`,
+    ])
     return p
   })
   const noise = join(dir, `${name}-n.wav`)
-  sox(['-n', '-r', String(rate), '-b', '24', '-c', '1', noise, 'synth', String(seconds), 'whitenoise', 'vol', `${noiseDb}dB`])
+  sox([
+    '-n',
+    '-r',
+    String(rate),
+    '-b',
+    '24',
+    '-c',
+    '1',
+    noise,
+    'synth',
+    String(seconds),
+    'whitenoise',
+    'vol',
+    `${noiseDb}dB`,
+  ])
   if (parts.length === 0) return noise
   const out = join(dir, `${name}.wav`)
   // -m mixes; -v 1 before each input keeps its level (sox would otherwise scale by 1/inputs).
@@ -61,14 +90,32 @@ describe('tonal peaks', () => {
 
 describe('mains hum', () => {
   it('is 50 Hz for a 50 Hz fundamental with odd harmonics in noise', async () => {
-    const file = take('hum50', 48000, [[50, -30], [150, -40], [250, -46]], -50)
+    const file = take(
+      'hum50',
+      48000,
+      [
+        [50, -30],
+        [150, -40],
+        [250, -46],
+      ],
+      -50,
+    )
     const { mainsHum } = (await analyzeFile(file)).analysis.spectrum
     expect(mainsHum.hz).toBe(50)
     expect(mainsHum.ratioDb!).toBeGreaterThan(6)
   })
 
   it('is 60 Hz for 60 Hz and 120 Hz components at 96 kHz', async () => {
-    const file = take('hum60', 96000, [[60, -36], [120, -42]], -55, 12)
+    const file = take(
+      'hum60',
+      96000,
+      [
+        [60, -36],
+        [120, -42],
+      ],
+      -55,
+      12,
+    )
     const { mainsHum } = (await analyzeFile(file)).analysis.spectrum
     expect(mainsHum.hz).toBe(60)
     expect(mainsHum.ratioDb!).toBeGreaterThan(6)

@@ -3,7 +3,16 @@
 // (Debian sox: "Maximum amplitude", "RMS amplitude", "Rough frequency").
 import { afterAll, describe, expect, it } from 'vitest'
 import { spawnSync } from 'node:child_process'
-import { dataBursts, mainsHum, motorSweep, pinkNoise, roomTone, sine, switchingWhine, whiteNoise } from '../../server/audio/synth'
+import {
+  dataBursts,
+  mainsHum,
+  motorSweep,
+  pinkNoise,
+  roomTone,
+  sine,
+  switchingWhine,
+  whiteNoise,
+} from '../../server/audio/synth'
 import { writeWav } from '../../server/audio/wav-writer'
 import { makeTmpDir } from '../helpers/audio-files'
 
@@ -26,7 +35,8 @@ async function soxStat(x: Float32Array): Promise<{ max: number; rms: number; fre
 function power(x: Float32Array, hz: number): number {
   const w = (2 * Math.PI * hz) / SR
   const k = 2 * Math.cos(w)
-  let s1 = 0, s2 = 0
+  let s1 = 0,
+    s2 = 0
   for (const v of x) {
     const s = v + k * s1 - s2
     s2 = s1
@@ -39,14 +49,22 @@ const rms = (x: Float32Array) => Math.sqrt(x.reduce((s, v) => s + v * v, 0) / x.
 
 describe('synth', () => {
   it('is deterministic: the same options give the same samples, another seed another noise', () => {
-    expect(mainsHum({ hz: 60, seconds: 0.5, sampleRate: SR })).toEqual(mainsHum({ hz: 60, seconds: 0.5, sampleRate: SR }))
-    expect(pinkNoise({ seconds: 0.1, sampleRate: SR, seed: 1 })[0]).not.toEqual(pinkNoise({ seconds: 0.1, sampleRate: SR, seed: 2 })[0])
+    expect(mainsHum({ hz: 60, seconds: 0.5, sampleRate: SR })).toEqual(
+      mainsHum({ hz: 60, seconds: 0.5, sampleRate: SR }),
+    )
+    expect(pinkNoise({ seconds: 0.1, sampleRate: SR, seed: 1 })[0]).not.toEqual(
+      pinkNoise({ seconds: 0.1, sampleRate: SR, seed: 2 })[0],
+    )
     const st = whiteNoise({ seconds: 0.1, sampleRate: SR, channels: 2 })
     expect(st[0]).not.toEqual(st[1]) // independent noise per channel
   })
 
   it('lengths and channel counts follow seconds x rate', () => {
-    for (const g of [sine({ hz: 1000, seconds: 0.25, sampleRate: 44100, channels: 3 }), dataBursts({ seconds: 0.25, sampleRate: 44100, channels: 3 }), roomTone({ seconds: 0.25, sampleRate: 44100, channels: 3 })]) {
+    for (const g of [
+      sine({ hz: 1000, seconds: 0.25, sampleRate: 44100, channels: 3 }),
+      dataBursts({ seconds: 0.25, sampleRate: 44100, channels: 3 }),
+      roomTone({ seconds: 0.25, sampleRate: 44100, channels: 3 }),
+    ]) {
       expect(g.map((c) => c.length)).toEqual([11025, 11025, 11025])
     }
   })

@@ -19,7 +19,6 @@ import { truePeakBruteForce } from '../helpers/signals'
 
 const root = path.join(path.dirname(new URL(import.meta.url).pathname), '..', '..')
 
-
 function meter(x: Float32Array, sizes: number[]): number {
   const m = new TruePeakMeter(1)
   let at = 0
@@ -42,12 +41,24 @@ const q24 = (v: number) => Math.round(v * 8388608) / 8388608
 
 const signals: [string, Float32Array][] = [
   ['white noise', make(50_000, () => q24((rnd() * 2 - 1) * 0.7))],
-  ['sine at fs/4 + 1 Hz, near full scale (inter-sample peaks)', make(48_000, (i) => q24(0.999 * Math.sin((2 * Math.PI * 12001 * i) / 48000 + 0.7)))],
+  [
+    'sine at fs/4 + 1 Hz, near full scale (inter-sample peaks)',
+    make(48_000, (i) => q24(0.999 * Math.sin((2 * Math.PI * 12001 * i) / 48000 + 0.7))),
+  ],
   ['sine at 19 kHz', make(20_000, (i) => q24(0.9 * Math.sin((2 * Math.PI * 19000 * i) / 48000)))],
-  ['50 Hz hum with a little noise', make(96_000, (i) => q24(0.5 * Math.sin((2 * Math.PI * 50 * i) / 48000) + 0.01 * (rnd() - 0.5)))],
+  [
+    '50 Hz hum with a little noise',
+    make(96_000, (i) => q24(0.5 * Math.sin((2 * Math.PI * 50 * i) / 48000) + 0.01 * (rnd() - 0.5))),
+  ],
   ['one-signed: DC offset and noise', make(30_000, () => q24(0.6 + 0.05 * (rnd() - 0.5)))],
-  ['silence with one full-scale alternating burst', make(40_000, (i) => (i >= 20_000 && i < 20_008 ? (i % 2 ? -1 : 1) : 0))],
-  ['impulses at the edges of 4096-frame blocks', make(16_384, (i) => (i % 4096 === 0 || i % 4096 === 4095 ? 0.8 : 0.001 * Math.sin(i)))],
+  [
+    'silence with one full-scale alternating burst',
+    make(40_000, (i) => (i >= 20_000 && i < 20_008 ? (i % 2 ? -1 : 1) : 0)),
+  ],
+  [
+    'impulses at the edges of 4096-frame blocks',
+    make(16_384, (i) => (i % 4096 === 0 || i % 4096 === 4095 ? 0.8 : 0.001 * Math.sin(i))),
+  ],
   ['rising level (the running maximum keeps moving)', make(60_000, (i) => q24((i / 60_000) * Math.sin(i * 0.37)))],
   ['shorter than the filter', make(7, (i) => 0.1 * i)],
   ['digital silence', new Float32Array(5000)],
@@ -61,11 +72,18 @@ describe('true peak in WebAssembly', () => {
     })
   }
 
-  for (const [channels, mask] of [[1, 0], [2, 0], [3, 0], [6, 0x3f]] as const) {
+  for (const [channels, mask] of [
+    [1, 0],
+    [2, 0],
+    [3, 0],
+    [6, 0x3f],
+  ] as const) {
     it(`K-weighting, ${channels} channel(s)${mask ? ' (5.1: LFE weight 0, surrounds 1.41)' : ''}: the momentary levels of a plain JavaScript filter`, () => {
       const fs = 48000
       const frames = fs * 2 + 1234
-      const planar = Array.from({ length: channels }, (_, c) => make(frames, (i) => q24(0.3 * Math.sin(i * (0.01 + 0.003 * c)) + 0.2 * (rnd() - 0.5))))
+      const planar = Array.from({ length: channels }, (_, c) =>
+        make(frames, (i) => q24(0.3 * Math.sin(i * (0.01 + 0.003 * c)) + 0.2 * (rnd() - 0.5))),
+      )
       const weights = channelWeights(channels, mask)
       const got: (number | null)[] = []
       const m = new LoudnessMeter({ sampleRate: fs, channels, weights, onMomentary: (_t, l) => got.push(l) })
@@ -80,7 +98,12 @@ describe('true peak in WebAssembly', () => {
       const sub: number[] = []
       const energy = new Float64Array(Math.floor(frames / (fs / 10)))
       for (let c = 0; c < channels; c++) {
-        let x1 = 0, x2 = 0, y1 = 0, y2 = 0, u1 = 0, u2 = 0
+        let x1 = 0,
+          x2 = 0,
+          y1 = 0,
+          y2 = 0,
+          u1 = 0,
+          u2 = 0
         for (let i = 0; i < energy.length * (fs / 10); i++) {
           const x = planar[c][i]
           const y = s1.b0 * x + s1.b1 * x1 + s1.b2 * x2 - s1.a1 * y1 - s1.a2 * y2
@@ -94,16 +117,23 @@ describe('true peak in WebAssembly', () => {
           energy[Math.floor(i / (fs / 10))] += weights[c] * u * u
         }
       }
-      for (let k = 3; k < energy.length; k++) sub.push(-0.691 + 10 * Math.log10((energy[k] + energy[k - 1] + energy[k - 2] + energy[k - 3]) / (0.4 * fs)))
+      for (let k = 3; k < energy.length; k++)
+        sub.push(-0.691 + 10 * Math.log10((energy[k] + energy[k - 1] + energy[k - 2] + energy[k - 3]) / (0.4 * fs)))
       expect(got.length).toBe(sub.length)
       for (let k = 0; k < sub.length; k++) expect(got[k]).toBeCloseTo(sub[k], 9)
     })
   }
 
   // Compiling every kernel with AssemblyScript takes seconds on a quiet machine, minutes on a loaded one.
-  it('the committed modules are what `npm run build:wasm` makes of the sources (AssemblyScript)', { timeout: 300_000 }, () => {
-    const r = spawnSync(process.execPath, [path.join(root, 'scripts', 'build-wasm.mjs'), '--check'], { encoding: 'utf8' })
-    expect(r.stderr).toBe('')
-    expect(r.status).toBe(0)
-  })
+  it(
+    'the committed modules are what `npm run build:wasm` makes of the sources (AssemblyScript)',
+    { timeout: 300_000 },
+    () => {
+      const r = spawnSync(process.execPath, [path.join(root, 'scripts', 'build-wasm.mjs'), '--check'], {
+        encoding: 'utf8',
+      })
+      expect(r.stderr).toBe('')
+      expect(r.status).toBe(0)
+    },
+  )
 })

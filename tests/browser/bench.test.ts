@@ -82,7 +82,10 @@ describe('field strip', () => {
     await page.keyboard.press('ArrowLeft')
     await page.keyboard.press('ArrowRight')
     await page.keyboard.press('ArrowRight')
-    expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(endBefore + DURATION / 50, 1)
+    expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(
+      endBefore + DURATION / 50,
+      1,
+    )
     await page.keyboard.press('ArrowLeft')
 
     await page.keyboard.press('r')
@@ -109,23 +112,44 @@ describe('field strip', () => {
     })
     const w = await box('[data-test=waveform]')
     await page.mouse.click(w.x + w.width * 0.4, w.y + w.height / 2)
-    await expect.poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText())).toBeCloseTo(DURATION * 0.4, 0)
+    await expect
+      .poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText()))
+      .toBeCloseTo(DURATION * 0.4, 0)
 
     await page.keyboard.press('+')
     await page.keyboard.press('+')
     const ruler = page.locator('[data-test=ruler]')
-    const range = async () => ({ start: Number(await ruler.getAttribute('data-start')), end: Number(await ruler.getAttribute('data-end')) })
-    await expect.poll(async () => { const r = await range(); return r.end - r.start }).toBeCloseTo(DURATION / 4, 1)
+    const range = async () => ({
+      start: Number(await ruler.getAttribute('data-start')),
+      end: Number(await ruler.getAttribute('data-end')),
+    })
+    await expect
+      .poll(async () => {
+        const r = await range()
+        return r.end - r.start
+      })
+      .toBeCloseTo(DURATION / 4, 1)
     const view = await range()
     // The playhead (8 s) stays where it was on the screen: the zoom is anchored on it.
     expect(view.start).toBeLessThan(8)
     expect(view.end).toBeGreaterThan(8)
 
     // The spectrogram was requested for the visible range (to 10 ms, outward).
-    await expect.poll(() => asked.some((a) => Math.abs(a.start - view.start) <= 0.011 && Math.abs(a.end - view.end) <= 0.011), { timeout: 15_000 }).toBe(true)
+    await expect
+      .poll(() => asked.some((a) => Math.abs(a.start - view.start) <= 0.011 && Math.abs(a.end - view.end) <= 0.011), {
+        timeout: 15_000,
+      })
+      .toBe(true)
     const img = page.locator('img[data-test=spectrogram]')
-    await expect.poll(async () => Number(await img.getAttribute('data-end')) - Number(await img.getAttribute('data-start')), { timeout: 15_000 }).toBeLessThan(DURATION / 4 + 0.05)
-    const rendered = { start: Number(await img.getAttribute('data-start')), end: Number(await img.getAttribute('data-end')) }
+    await expect
+      .poll(async () => Number(await img.getAttribute('data-end')) - Number(await img.getAttribute('data-start')), {
+        timeout: 15_000,
+      })
+      .toBeLessThan(DURATION / 4 + 0.05)
+    const rendered = {
+      start: Number(await img.getAttribute('data-start')),
+      end: Number(await img.getAttribute('data-end')),
+    }
     const labels = await page.locator('[data-test=ruler-label]').allInnerTexts()
     expect(labels.length).toBeGreaterThan(2)
     for (const l of labels) {
@@ -146,17 +170,24 @@ describe('field strip', () => {
 
     const before = secondsOf(await page.locator('[data-test=playhead]').innerText())
     await page.keyboard.press('ArrowRight')
-    await expect.poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText())).toBeCloseTo(before + (view.end - view.start) / 10, 1)
+    await expect
+      .poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText()))
+      .toBeCloseTo(before + (view.end - view.start) / 10, 1)
 
     // [ and ] set the selection's ends at the playhead.
     const at = secondsOf(await page.locator('[data-test=playhead]').innerText())
     await page.keyboard.press('[')
     for (let i = 0; i < 3; i++) await page.keyboard.press('ArrowRight')
     // A seek lands when the media element says so: wait for the playhead to get there, as a person would look.
-    await expect.poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText())).toBeCloseTo(at + (3 * (view.end - view.start)) / 10, 1)
+    await expect
+      .poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText()))
+      .toBeCloseTo(at + (3 * (view.end - view.start)) / 10, 1)
     await page.keyboard.press(']')
     expect(secondsOf(await page.locator('[data-test=selection-start]').innerText())).toBeCloseTo(at, 1)
-    expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(at + (3 * (view.end - view.start)) / 10, 1)
+    expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(
+      at + (3 * (view.end - view.start)) / 10,
+      1,
+    )
 
     await page.getByRole('button', { name: 'Taller waveform (vertical zoom in)' }).click()
     await expect.poll(() => page.locator('.amp-top').innerText()).toBe('\u22126 dBFS')
@@ -194,7 +225,10 @@ describe('listening notes', () => {
     expect(await page.getByText(/Resolve|Reopen/).count()).toBe(0)
 
     await page.goto(`${server.url}/library`)
-    const rows = () => page.locator('[data-test=library-table] [data-take]').evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))))
+    const rows = () =>
+      page
+        .locator('[data-test=library-table] [data-take]')
+        .evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))))
     await expect.poll(async () => (await rows()).sort()).toEqual([whineId, humId].sort())
     await page.getByLabel('Listening note outcome').selectOption('keep')
     await expect.poll(rows).toEqual([whineId])
@@ -215,12 +249,18 @@ describe('details', () => {
     }
     await expect.poll(() => page.locator('[data-test=take-details] [data-test=tag-chip]').count()).toBe(2)
     await page.getByRole('button', { name: 'Save', exact: true }).click()
-    await expect.poll(() => page.locator('[data-test=take-details] .chip.tag').allInnerTexts()).toEqual(['router', 'whine'])
+    await expect
+      .poll(() => page.locator('[data-test=take-details] .chip.tag').allInnerTexts())
+      .toEqual(['router', 'whine'])
   })
 })
 
 describe('sizes', () => {
-  for (const [w, h] of [[390, 844], [768, 1024], [1440, 900]] as const) {
+  for (const [w, h] of [
+    [390, 844],
+    [768, 1024],
+    [1440, 900],
+  ] as const) {
     it(`at ${w} × ${h} the strip fits, sits above the measurement card when narrow, and touch targets are at least 40 px`, async () => {
       const touch = w < 1000
       const ctx = await browser.newContext({ viewport: { width: w, height: h }, hasTouch: touch })
@@ -232,7 +272,14 @@ describe('sizes', () => {
       await screenshot(p, `bench-${w}x${h}`)
       // Whatever of the bench reaches past the right edge, named, so a failure says where.
       // (The navigation bar's own layout is checked by the look harness.)
-      const wide = await p.evaluate((vw) => [...document.querySelectorAll('.bench *')].filter((e) => e.getBoundingClientRect().right > vw + 0.5).slice(0, 5).map((e) => `${e.tagName.toLowerCase()}.${[...e.classList].join('.')}`), w)
+      const wide = await p.evaluate(
+        (vw) =>
+          [...document.querySelectorAll('.bench *')]
+            .filter((e) => e.getBoundingClientRect().right > vw + 0.5)
+            .slice(0, 5)
+            .map((e) => `${e.tagName.toLowerCase()}.${[...e.classList].join('.')}`),
+        w,
+      )
       expect(wide).toEqual([])
       const strip = (await p.locator('[data-test=field-strip]').boundingBox())!
       const card = (await p.locator('[data-test=measurement-card]').boundingBox())!

@@ -17,10 +17,15 @@ async function watchViolations(page: Page): Promise<() => Promise<string[]>> {
   await page.addInitScript(() => {
     const seen: string[] = []
     ;(window as unknown as { __csp: string[] }).__csp = seen
-    document.addEventListener('securitypolicyviolation', (e) => seen.push(`${e.violatedDirective} ${e.blockedURI} ${e.sample}`))
+    document.addEventListener('securitypolicyviolation', (e) =>
+      seen.push(`${e.violatedDirective} ${e.blockedURI} ${e.sample}`),
+    )
   })
   // zod probes once whether eval is allowed (`Function('')` in a try, then runs without it): expected, harmless.
-  return async () => (await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp)).filter((v) => !v.startsWith('script-src eval'))
+  return async () =>
+    (await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp)).filter(
+      (v) => !v.startsWith('script-src eval'),
+    )
 }
 
 async function signIn(page: Page, email: string) {

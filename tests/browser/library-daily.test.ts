@@ -49,7 +49,11 @@ beforeAll(async () => {
   const a = await createSession(admin, { title: 'Admin bench' })
   const af = soxWav(path.join(dir, 'admin_hum.wav'), { seconds: 6, synth: ['sine', '50', 'vol', '0.3'] })
   const adminId = (await uploadTake(admin, a.id, af, 'admin_hum.wav')).body.take.id
-  const toMeasured = (t: { id: number; title: string; analysis: { loudness: { integratedLufs: number }; levels: { truePeakDbtp: number } } }) => ({
+  const toMeasured = (t: {
+    id: number
+    title: string
+    analysis: { loudness: { integratedLufs: number }; levels: { truePeakDbtp: number } }
+  }) => ({
     id: t.id,
     title: t.title,
     lufs: t.analysis.loudness.integratedLufs,
@@ -70,8 +74,13 @@ afterAll(async () => {
 })
 
 const shownIds = () =>
-  page.locator('[data-test=library-table] [data-take]').evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))).sort((a, b) => a - b))
-const rowOrder = () => page.locator('[data-test=library-table] [data-take]').evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))))
+  page
+    .locator('[data-test=library-table] [data-take]')
+    .evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))).sort((a, b) => a - b))
+const rowOrder = () =>
+  page
+    .locator('[data-test=library-table] [data-take]')
+    .evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))))
 const strip = () => page.locator('[data-test=now-playing]')
 const elapsed = () => strip().locator('[data-test=now-playing-elapsed]').innerText()
 // formatTakeTime's "m:ss.s" back to seconds.
@@ -116,7 +125,9 @@ describe('range filters', () => {
     // Every take is 6 s long: nothing lasts at most 5.9 s.
     await expect.poll(shownIds, { timeout: 10_000 }).toEqual([])
     await page.reload()
-    await expect.poll(() => page.locator('[data-test=filter-max-duration]').inputValue(), { timeout: 10_000 }).toBe('5.9')
+    await expect
+      .poll(() => page.locator('[data-test=filter-max-duration]').inputValue(), { timeout: 10_000 })
+      .toBe('5.9')
     expect(await page.locator('[data-test=filter-min-lufs]').inputValue()).toBe('-20')
     await page.locator('[data-test=filter-max-duration]').click()
     await page.keyboard.press('Control+a')
@@ -130,7 +141,9 @@ describe('range filters', () => {
     await page.locator('[data-test=filter-min-true-peak]').click()
     await page.keyboard.type('loud')
     await page.keyboard.press('Enter')
-    await expect.poll(() => page.locator('[data-test=filter-min-true-peak]').getAttribute('aria-invalid'), { timeout: 10_000 }).toBe('true')
+    await expect
+      .poll(() => page.locator('[data-test=filter-min-true-peak]').getAttribute('aria-invalid'), { timeout: 10_000 })
+      .toBe('true')
     expect(new URL(page.url()).searchParams.get('minTruePeak')).toBeNull()
     await page.keyboard.press('Control+a')
     await page.keyboard.type('-30')
@@ -143,8 +156,16 @@ describe('range filters', () => {
     expect(href).toContain('minLufs=-20')
     const res = await page.request.get(`${server.url}${href}`)
     expect(res.status()).toBe(200)
-    const lines = (await res.text()).replace(/^\uFEFF/, '').trimEnd().split('\r\n')
-    expect(lines.slice(1).map((l) => Number(l.split(',')[0])).sort((a, b) => a - b)).toEqual(await shownIds())
+    const lines = (await res.text())
+      .replace(/^\uFEFF/, '')
+      .trimEnd()
+      .split('\r\n')
+    expect(
+      lines
+        .slice(1)
+        .map((l) => Number(l.split(',')[0]))
+        .sort((a, b) => a - b),
+    ).toEqual(await shownIds())
   })
 })
 
@@ -154,7 +175,9 @@ describe('auditioning with the keyboard', () => {
     await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
     const order = await rowOrder()
     const byId = new Map([...takes, adminTake].map((t) => [t.id, t]))
-    await expect(strip().locator('[data-test=now-playing-caution]').innerText()).resolves.toBe('⚠ Start quiet: pickups can burst loud.')
+    await expect(strip().locator('[data-test=now-playing-caution]').innerText()).resolves.toBe(
+      '⚠ Start quiet: pickups can burst loud.',
+    )
     // The master volume starts low.
     expect(Number(await strip().locator('[data-test=now-playing-master]').inputValue())).toBeLessThanOrEqual(0.5)
 
@@ -163,7 +186,9 @@ describe('auditioning with the keyboard', () => {
     await page.keyboard.press('n')
     await page.keyboard.press('p')
     const first = byId.get(order[0])!
-    await expect.poll(() => strip().locator('[data-test=now-playing-name]').innerText(), { timeout: 10_000 }).toBe(first.title)
+    await expect
+      .poll(() => strip().locator('[data-test=now-playing-name]').innerText(), { timeout: 10_000 })
+      .toBe(first.title)
     await expect.poll(async () => toSeconds(await elapsed()), { timeout: 20_000 }).toBeGreaterThan(0.5)
     const t1 = toSeconds(await elapsed())
     await expect.poll(async () => toSeconds(await elapsed()), { timeout: 10_000 }).toBeGreaterThan(t1)
@@ -171,12 +196,18 @@ describe('auditioning with the keyboard', () => {
     // The gain the strip names is the one the store applies: target minus loudness, held under the −1 dBTP ceiling.
     const g = evenLevelGainDb(first.lufs, first.tp)
     const sign = g >= 0 ? '+' : '\u2212'
-    expect(await strip().locator('[data-test=now-playing-gain]').innerText()).toBe(`even level: ${sign}${Math.abs(g).toFixed(1)} dB → \u221223 LUFS`)
+    expect(await strip().locator('[data-test=now-playing-gain]').innerText()).toBe(
+      `even level: ${sign}${Math.abs(g).toFixed(1)} dB → \u221223 LUFS`,
+    )
     // The row says it is playing in words too.
-    await expect.poll(() => page.locator(`[data-take="${first.id}"]`).innerText(), { timeout: 10_000 }).toContain('playing')
+    await expect
+      .poll(() => page.locator(`[data-take="${first.id}"]`).innerText(), { timeout: 10_000 })
+      .toContain('playing')
 
     await page.keyboard.press('n')
-    await expect.poll(() => strip().locator('[data-test=now-playing-name]').innerText(), { timeout: 10_000 }).toBe(byId.get(order[1])!.title)
+    await expect
+      .poll(() => strip().locator('[data-test=now-playing-name]').innerText(), { timeout: 10_000 })
+      .toBe(byId.get(order[1])!.title)
     await screenshot(page, 'library-now-playing')
     // The scrubber moves the position from the keyboard too (a range input: arrows step it).
     const scrub = strip().getByRole('slider', { name: 'Position' })
@@ -189,7 +220,9 @@ describe('auditioning with the keyboard', () => {
     await page.locator('body').click({ position: { x: 5, y: 5 } })
     // Space pauses: the time stops.
     await page.keyboard.press(' ')
-    await expect.poll(() => strip().locator('[data-test=now-playing-toggle]').getAttribute('aria-label'), { timeout: 10_000 }).toBe('Play (Space)')
+    await expect
+      .poll(() => strip().locator('[data-test=now-playing-toggle]').getAttribute('aria-label'), { timeout: 10_000 })
+      .toBe('Play (Space)')
     const paused = await elapsed()
     await page.waitForTimeout(600)
     expect(await elapsed()).toBe(paused)
@@ -201,7 +234,9 @@ describe('auditioning with the keyboard', () => {
     await page.keyboard.press('ArrowDown')
     await page.keyboard.press('ArrowUp')
     // N/P left the cursor on the second row; down, down, up ends on the third.
-    await expect.poll(() => page.locator('[data-take][aria-current=true]').getAttribute('data-take'), { timeout: 10_000 }).toBe(String(order[2]))
+    await expect
+      .poll(() => page.locator('[data-take][aria-current=true]').getAttribute('data-take'), { timeout: 10_000 })
+      .toBe(String(order[2]))
     await page.keyboard.press('Enter')
     await page.waitForURL(`**/takes/${order[2]}`)
   })
@@ -215,7 +250,10 @@ describe('Enter on a focused control', () => {
     await page.keyboard.press('Enter')
     await expect.poll(() => new URL(page.url()).searchParams.get('sort'), { timeout: 10_000 }).toBe('integratedLufs')
     expect(new URL(page.url()).pathname).toBe('/library')
-    const lufs = takes.concat(adminTake).sort((a, b) => a.lufs - b.lufs).map((t) => t.id)
+    const lufs = takes
+      .concat(adminTake)
+      .sort((a, b) => a.lufs - b.lufs)
+      .map((t) => t.id)
     await expect.poll(rowOrder, { timeout: 10_000 }).toEqual(lufs)
   })
 })
@@ -235,9 +273,13 @@ describe('tags', () => {
     }
     expect(await box.inputValue()).toBe('')
     const chips = page.locator('[data-test=bulk-bar] [data-test=tag-chip]')
-    await expect.poll(() => chips.locator('.t').allInnerTexts(), { timeout: 10_000 }).toEqual(['hum', 'mains', 'bright whine'])
+    await expect
+      .poll(() => chips.locator('.t').allInnerTexts(), { timeout: 10_000 })
+      .toEqual(['hum', 'mains', 'bright whine'])
     // "hum" is on a take already; the other two are new.
-    await expect.poll(() => page.locator('[data-test=bulk-bar] [data-test=tag-new]').count(), { timeout: 10_000 }).toBe(2)
+    await expect
+      .poll(() => page.locator('[data-test=bulk-bar] [data-test=tag-new]').count(), { timeout: 10_000 })
+      .toBe(2)
     expect(await chips.filter({ hasText: 'hum' }).locator('[data-test=tag-new]').count()).toBe(0)
     await screenshot(page, 'library-tag-chips')
     // Enter in the empty box applies.
@@ -246,11 +288,13 @@ describe('tags', () => {
     for (const t of [a, b]) {
       const res = await designer.get(`/api/takes/${t.id}`).expect(200)
       expect(res.body.take.tags).toEqual(['bright whine', 'hum', 'mains'])
-      await expect.poll(() => page.locator(`[data-take="${t.id}"] .c-tags .tag`).allInnerTexts(), { timeout: 10_000 }).toEqual(['bright whine', 'hum', 'mains'])
+      await expect
+        .poll(() => page.locator(`[data-take="${t.id}"] .c-tags .tag`).allInnerTexts(), { timeout: 10_000 })
+        .toEqual(['bright whine', 'hum', 'mains'])
     }
   })
 
-  it('the tag manager renames a tag on every take, shows the new counts, and each take\'s history says so', async () => {
+  it("the tag manager renames a tag on every take, shows the new counts, and each take's history says so", async () => {
     await page.goto(`${server.url}/library`)
     await page.locator('[data-test=tag-manager-link]').click()
     await page.waitForURL('**/library/tags')
@@ -260,7 +304,9 @@ describe('tags', () => {
     await page.keyboard.press('Control+a')
     await page.keyboard.type('mains hum')
     await page.keyboard.press('Enter')
-    await expect.poll(() => page.locator('[data-test=tag-done]').innerText(), { timeout: 10_000 }).toBe('“mains” is now “mains hum” on 2 takes.')
+    await expect
+      .poll(() => page.locator('[data-test=tag-done]').innerText(), { timeout: 10_000 })
+      .toBe('“mains” is now “mains hum” on 2 takes.')
     await expect.poll(() => page.locator('[data-tag="mains hum"] td.num').innerText(), { timeout: 10_000 }).toBe('2')
     expect(await page.locator('[data-tag="mains"]').count()).toBe(0)
     const history = (await designer.get(`/api/takes/${takes[0].id}/history`).expect(200)).body.events
@@ -276,7 +322,9 @@ describe('tags', () => {
     await page.keyboard.press('Control+a')
     await page.keyboard.type('whine')
     await page.keyboard.press('Enter')
-    await expect.poll(() => page.locator('[data-test=tag-done]').innerText(), { timeout: 10_000 }).toBe('“bright whine”, “mains hum” merged into “whine” on 2 takes.')
+    await expect
+      .poll(() => page.locator('[data-test=tag-done]').innerText(), { timeout: 10_000 })
+      .toBe('“bright whine”, “mains hum” merged into “whine” on 2 takes.')
     await expect.poll(() => page.locator('[data-tag="whine"] td.num').innerText(), { timeout: 10_000 }).toBe('2')
     expect(await page.locator('[data-tag="bright whine"], [data-tag="mains hum"]').count()).toBe(0)
     const res = await designer.get(`/api/takes/${takes[1].id}`).expect(200)
@@ -319,7 +367,11 @@ describe('on a phone', () => {
     const label = await card.locator('td.c-lufs').evaluate((td) => getComputedStyle(td, '::before').content)
     expect(label).toBe('"Integrated"')
     // Nothing of the library page reaches past the screen's edge (the top navigation is the look's own).
-    const overflowing = await p.evaluate(() => [...document.querySelectorAll('.library *')].filter((e) => e.getBoundingClientRect().right > 391).map((e) => e.className))
+    const overflowing = await p.evaluate(() =>
+      [...document.querySelectorAll('.library *')]
+        .filter((e) => e.getBoundingClientRect().right > 391)
+        .map((e) => e.className),
+    )
     expect(overflowing).toEqual([])
     // The filters fold away under one button on a phone.
     expect(await p.locator('[data-test=filter-min-lufs]').isVisible()).toBe(false)
@@ -328,7 +380,9 @@ describe('on a phone', () => {
     await p.keyboard.type('-20')
     await p.keyboard.press('Enter')
     await expect.poll(() => new URL(p.url()).searchParams.get('minLufs'), { timeout: 10_000 }).toBe('-20')
-    await expect.poll(() => p.locator('[data-test=library-table] [data-take]').count(), { timeout: 10_000 }).toBe(takes.filter((t) => t.lufs >= -20).length + (adminTake.lufs >= -20 ? 1 : 0))
+    await expect
+      .poll(() => p.locator('[data-test=library-table] [data-take]').count(), { timeout: 10_000 })
+      .toBe(takes.filter((t) => t.lufs >= -20).length + (adminTake.lufs >= -20 ? 1 : 0))
     await screenshot(p, 'library-phone')
     await ctx.close()
   })

@@ -25,7 +25,11 @@ beforeAll(async () => {
   const long = soxWav(path.join(dir, 'long.wav'), { rate: 48000, bits: 16, seconds: 600, synth: ['pinknoise'] })
   longBytes = fs.statSync(long).size
   longId = (await uploadTake(rec, s.id, long, 'long_room_tone.wav')).body.take.id
-  for (const [name, synth] of [['hum_fifty', ['sine', '50']], ['whine_high', ['sine', '12000']], ['hum_sixty', ['sine', '60']]] as const) {
+  for (const [name, synth] of [
+    ['hum_fifty', ['sine', '50']],
+    ['whine_high', ['sine', '12000']],
+    ['hum_sixty', ['sine', '60']],
+  ] as const) {
     const f = soxWav(path.join(dir, `${name}.wav`), { seconds: 3, synth: [...synth] })
     ids[name] = (await uploadTake(rec, s.id, f, `${name}.wav`)).body.take.id
   }
@@ -67,7 +71,9 @@ describe('listening bench', () => {
     const before = await page.locator('[data-test=playhead]').innerText()
     expect(before.startsWith('0:00.0')).toBe(true)
     await page.locator('[data-test=play]').click()
-    await expect.poll(() => page.locator('[data-test=playhead]').innerText(), { timeout: 15_000 }).not.toMatch(/^0:00\.0/)
+    await expect
+      .poll(() => page.locator('[data-test=playhead]').innerText(), { timeout: 15_000 })
+      .not.toMatch(/^0:00\.0/)
     await page.locator('[data-test=play]').click()
     await expect(page.locator('[data-test=now-playing-caution]').innerText()).resolves.toMatch(/Start quiet/)
   })
@@ -76,7 +82,9 @@ describe('listening bench', () => {
     await page.getByLabel('Listening note', { exact: true }).click()
     await page.keyboard.type('Hiss rises here <b>not bold</b>')
     await page.keyboard.press('Control+Enter')
-    await expect.poll(() => page.locator('[data-test=discussion]').innerText()).toContain('Hiss rises here <b>not bold</b>')
+    await expect
+      .poll(() => page.locator('[data-test=discussion]').innerText())
+      .toContain('Hiss rises here <b>not bold</b>')
     await expect.poll(() => page.locator('[data-test=note-mark]').count()).toBe(1)
     await expect(page.locator('[data-test=note-mark]').first().innerText()).resolves.toBe('DH')
     await screenshot(page, 'listening-bench')
@@ -86,7 +94,10 @@ describe('listening bench', () => {
 describe('library', () => {
   it('searches and filters, and the URL brings the same results back after a reload', async () => {
     await page.goto(`${server.url}/library`)
-    const rows = () => page.locator('[data-test=library-table] [data-take]').evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))).sort((a, b) => a - b))
+    const rows = () =>
+      page
+        .locator('[data-test=library-table] [data-take]')
+        .evaluateAll((els) => els.map((e) => Number(e.getAttribute('data-take'))).sort((a, b) => a - b))
     await expect.poll(rows).toHaveLength(4)
 
     await page.locator('input[name=q]').fill('hum')

@@ -43,7 +43,9 @@ describe('Enter submits the forms people expect it to', () => {
 
     // The address typed above is kept; Enter in it asks for the link.
     await page.getByRole('button', { name: 'Forgot your password?' }).click()
-    await expect.poll(() => page.locator('[data-test=forgot-form] input[name=email]').inputValue()).toBe('designer@example.test')
+    await expect
+      .poll(() => page.locator('[data-test=forgot-form] input[name=email]').inputValue())
+      .toBe('designer@example.test')
     await page.locator('[data-test=forgot-form] input[name=email]').click()
     await page.keyboard.press('Enter')
     await expect.poll(() => page.locator('[data-test=forgot-form]').innerText()).toContain('reset link is on its way')
@@ -68,7 +70,9 @@ describe('Enter on the join and new-password pages', () => {
     await page.keyboard.press('Enter')
     await page.waitForURL((u) => !u.pathname.startsWith('/join'), { timeout: 10_000 })
     // Signed in as the new member (on a phone the name sits behind the Menu button, so ask the page's own session).
-    await expect.poll(() => page.evaluate(async () => (await (await fetch('/api/auth/me')).json()).user?.name)).toBe('Wren Tallis')
+    await expect
+      .poll(() => page.evaluate(async () => (await (await fetch('/api/auth/me')).json()).user?.name))
+      .toBe('Wren Tallis')
 
     // A reset link (asked for on the sign-in page, as tested above), and Enter in its one field.
     const anon = new Client(env.server.url)
@@ -81,7 +85,9 @@ describe('Enter on the join and new-password pages', () => {
     await resetPage.goto(`${env.server.url}/reset/${linkToken(await mailTo('new.recordist@example.test'), 'reset')}`)
     await typeInto(resetPage, 'input[name=password]', 'another-long-password')
     await resetPage.keyboard.press('Enter')
-    await expect.poll(() => resetPage.locator('body').innerText(), { timeout: 10_000 }).toContain('Your password is changed')
+    await expect
+      .poll(() => resetPage.locator('body').innerText(), { timeout: 10_000 })
+      .toContain('Your password is changed')
     await resetPage.close()
   })
 })
@@ -90,11 +96,21 @@ describe('the logging sheet', () => {
   it('logs a 12-take session with a new device, fill down and multi-select in under 30 interactions', async () => {
     const dir = path.join(env.server.dir, 'card')
     const files = Array.from({ length: 12 }, (_, i) =>
-      soxWav(path.join(dir, `T${String(i + 1).padStart(3, '0')}.WAV`), { rate: 48000, bits: 16, channels: 1, seconds: 1, synth: ['sine', String(200 + i * 50)] }),
+      soxWav(path.join(dir, `T${String(i + 1).padStart(3, '0')}.WAV`), {
+        rate: 48000,
+        bits: 16,
+        channels: 1,
+        seconds: 1,
+        synth: ['sine', String(200 + i * 50)],
+      }),
     )
     // The catalogue a designer keeps (the demo library is off in tests).
     const designer = await signedIn(env.server.url, 'designer')
-    for (const [name, kind] of [['Bench laptop charger', 'power-supply'], ['Desk fan motor', 'motor'], ['Desk monitor', 'display']]) {
+    for (const [name, kind] of [
+      ['Bench laptop charger', 'power-supply'],
+      ['Desk fan motor', 'motor'],
+      ['Desk monitor', 'display'],
+    ]) {
       await designer.post('/api/sources', { name, kind }).expect(201)
     }
     const page = await env.browser.newPage({ viewport: { width: 1440, height: 900 } })
@@ -121,7 +137,9 @@ describe('the logging sheet', () => {
     await page.locator('[data-test=file-input]').setInputFiles(files)
     const rows = page.locator('[data-test=log-sheet] [data-test=log-row]')
     await expect.poll(() => rows.count(), { timeout: 60_000 }).toBe(12)
-    await expect.poll(() => page.locator('[data-test=batch-summary]').innerText(), { timeout: 90_000 }).toMatch(/^12 of 12 measured/)
+    await expect
+      .poll(() => page.locator('[data-test=batch-summary]').innerText(), { timeout: 90_000 })
+      .toMatch(/^12 of 12 measured/)
     // Sorted by file name, as the recorder wrote them.
     expect(await page.locator('[data-test=log-file]').allInnerTexts()).toEqual(files.map((f) => path.basename(f)))
     const device = (i: number) => rows.nth(i).locator('input[data-test=log-device]')
@@ -132,7 +150,9 @@ describe('the logging sheet', () => {
     await act(() => device(0).click())
     await act(() => page.keyboard.type('Bench fridge'))
     await act(() => page.keyboard.press('Enter'))
-    await expect.poll(() => page.locator('[data-test=add-device]').innerText()).toContain('No device called “Bench fridge”')
+    await expect
+      .poll(() => page.locator('[data-test=add-device]').innerText())
+      .toContain('No device called “Bench fridge”')
     await act(() => page.locator('[data-test=add-device-kind]').selectOption({ label: 'Household appliances' }))
     await act(() => page.keyboard.press('Enter'))
     await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute('data-test'))).toBe('log-state')
@@ -142,7 +162,12 @@ describe('the logging sheet', () => {
 
     // Rows 1–5 selected (click, Shift+click) and filled down from the first.
     await act(() => rows.nth(0).locator('[data-test=log-select]').click())
-    await act(() => rows.nth(4).locator('[data-test=log-select]').click({ modifiers: ['Shift'] }))
+    await act(() =>
+      rows
+        .nth(4)
+        .locator('[data-test=log-select]')
+        .click({ modifiers: ['Shift'] }),
+    )
     await expect.poll(() => page.locator('[data-test=log-bulk]').innerText()).toContain('5 selected')
     await act(() => page.locator('[data-test=log-fill-down]').click())
     await expect.poll(() => device(4).inputValue()).toBe('Bench fridge')
@@ -155,14 +180,21 @@ describe('the logging sheet', () => {
     await act(() => page.keyboard.type('charging'))
     await act(() => page.keyboard.press('Enter'))
     await expect.poll(() => state(5).inputValue()).toBe('charging')
-    await expect.poll(() => page.evaluate(() => document.activeElement?.closest('tr')?.getAttribute('data-take'))).toBe(await rows.nth(6).getAttribute('data-take'))
+    await expect
+      .poll(() => page.evaluate(() => document.activeElement?.closest('tr')?.getAttribute('data-take')))
+      .toBe(await rows.nth(6).getAttribute('data-take'))
     await act(() => page.keyboard.press('Control+d'))
     await expect.poll(() => device(6).inputValue()).toBe('Bench laptop charger')
 
     // Rows 8–12 at once (the filled rows were let go): select, then type device and state into the bulk bar and press Enter.
     await expect.poll(() => page.locator('[data-test=log-bulk]').count()).toBe(0)
     await act(() => rows.nth(7).locator('[data-test=log-select]').click())
-    await act(() => rows.nth(11).locator('[data-test=log-select]').click({ modifiers: ['Shift'] }))
+    await act(() =>
+      rows
+        .nth(11)
+        .locator('[data-test=log-select]')
+        .click({ modifiers: ['Shift'] }),
+    )
     await act(() => page.locator('[data-test=log-bulk-device]').click())
     await act(() => page.keyboard.type('Desk fan motor'))
     await act(() => page.keyboard.press('Tab'))
@@ -178,11 +210,14 @@ describe('the logging sheet', () => {
     await page.locator('[data-test=filter-no-device]').uncheck()
     const client = await signedIn(env.server.url, 'recordist')
     const sessionId = Number(new URL(page.url()).pathname.split('/').pop())
-    const takes = (await client.get(`/api/takes?sessionId=${sessionId}&sort=filename&order=asc`).expect(200)).body.items as {
+    const takes = (await client.get(`/api/takes?sessionId=${sessionId}&sort=filename&order=asc`).expect(200)).body
+      .items as {
       filename: string
       sources: { name: string; kind: string; state: string }[]
     }[]
-    expect(takes.map((t) => `${t.filename}: ${t.sources.map((s) => `${s.name} (${s.kind}) ${s.state}`).join('; ')}`)).toEqual([
+    expect(
+      takes.map((t) => `${t.filename}: ${t.sources.map((s) => `${s.name} (${s.kind}) ${s.state}`).join('; ')}`),
+    ).toEqual([
       ...[1, 2, 3, 4, 5].map((i) => `T00${i}.WAV: Bench fridge (appliance) compressor running`),
       'T006.WAV: Bench laptop charger (power-supply) charging',
       'T007.WAV: Bench laptop charger (power-supply) charging',
@@ -204,7 +239,12 @@ describe('the logging sheet', () => {
     await page.keyboard.press('Control+a')
     await page.keyboard.type('Desk monitor')
     await page.keyboard.press('Enter')
-    await expect.poll(async () => (await client.get(`/api/takes?sessionId=${sessionId}&sort=filename&order=asc`)).body.items[0].sources[0].name).toBe('Desk monitor')
+    await expect
+      .poll(
+        async () =>
+          (await client.get(`/api/takes?sessionId=${sessionId}&sort=filename&order=asc`)).body.items[0].sources[0].name,
+      )
+      .toBe('Desk monitor')
     await screenshot(page, 'logsheet-phone')
     // The cell spans the card (390 px less the page's and the card's padding), and the sheet fits the screen's width.
     const box = await device(0).boundingBox()
@@ -217,15 +257,33 @@ describe('the logging sheet', () => {
 
   it('flags clipped, over-the-ceiling and too-quiet takes in words; removes a take with a confirmation, offers Undo, and lists it under Removed takes', async () => {
     const client = await signedIn(env.server.url, 'recordist')
-    const session = (await client.post('/api/capture-sessions', { title: 'Removal test', date: '2026-11-30' }).expect(201)).body.session
+    const session = (
+      await client.post('/api/capture-sessions', { title: 'Removal test', date: '2026-11-30' }).expect(201)
+    ).body.session
     const file = soxWav(path.join(env.server.dir, 'rm', 'WRONG.WAV'), { seconds: 1, synth: ['sine', '300'] })
-    await client.agent.post(`/api/capture-sessions/${session.id}/takes`).set('x-csrf-token', client.token).attach('file', file, 'WRONG.WAV').expect(201)
+    await client.agent
+      .post(`/api/capture-sessions/${session.id}/takes`)
+      .set('x-csrf-token', client.token)
+      .attach('file', file, 'WRONG.WAV')
+      .expect(201)
     // Two takes with something wrong, made by sox: one far below the −70 LUFS gate, one driven past full scale (sox clips it).
-    const quiet = soxWav(path.join(env.server.dir, 'rm', 'QUIET.WAV'), { seconds: 1, synth: ['sine', '300', 'vol', '0.0001'] })
+    const quiet = soxWav(path.join(env.server.dir, 'rm', 'QUIET.WAV'), {
+      seconds: 1,
+      synth: ['sine', '300', 'vol', '0.0001'],
+    })
     const loud = path.join(env.server.dir, 'rm', 'LOUD.WAV')
-    execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '1', loud, 'synth', '1', 'sine', '300', 'vol', '2'], { stdio: 'ignore' })
-    for (const [f, name] of [[quiet, 'QUIET.WAV'], [loud, 'LOUD.WAV']]) {
-      await client.agent.post(`/api/capture-sessions/${session.id}/takes`).set('x-csrf-token', client.token).attach('file', f, name).expect(201)
+    execFileSync('sox', ['-n', '-r', '48000', '-b', '24', '-c', '1', loud, 'synth', '1', 'sine', '300', 'vol', '2'], {
+      stdio: 'ignore',
+    })
+    for (const [f, name] of [
+      [quiet, 'QUIET.WAV'],
+      [loud, 'LOUD.WAV'],
+    ]) {
+      await client.agent
+        .post(`/api/capture-sessions/${session.id}/takes`)
+        .set('x-csrf-token', client.token)
+        .attach('file', f, name)
+        .expect(201)
     }
 
     const page = await env.browser.newPage({ viewport: { width: 1440, height: 900 } })
@@ -239,8 +297,16 @@ describe('the logging sheet', () => {
     await expect.poll(() => rows.count()).toBe(3)
     // Flags in words (never colour alone), once measured.
     const row = (name: string) => page.locator('[data-test=log-row]', { hasText: name })
-    const flags = async (name: string) => ((await row(name).locator('[data-test=take-flags]').count()) ? ((await row(name).locator('[data-test=take-flags]').textContent()) ?? '') : '').replace(/\s+/g, ' ').replace(/ :/g, ':')
-    await expect.poll(() => flags('QUIET.WAV'), { timeout: 60_000 }).toContain('Too quiet to measure: below the −70 LUFS gate')
+    const flags = async (name: string) =>
+      ((await row(name).locator('[data-test=take-flags]').count())
+        ? ((await row(name).locator('[data-test=take-flags]').textContent()) ?? '')
+        : ''
+      )
+        .replace(/\s+/g, ' ')
+        .replace(/ :/g, ':')
+    await expect
+      .poll(() => flags('QUIET.WAV'), { timeout: 60_000 })
+      .toContain('Too quiet to measure: below the −70 LUFS gate')
     // sox clips the peaks of a 300 Hz sine at twice full scale into flat runs of about half a millisecond.
     await expect.poll(() => flags('LOUD.WAV'), { timeout: 60_000 }).toMatch(/Clipped: [\d.<]+ % clipped, longest 1 ms/)
     expect(await flags('LOUD.WAV')).toMatch(/Over the ceiling: true peak [−\d.]+ dBTP, above the −1 dBTP ceiling/)

@@ -61,7 +61,10 @@ beforeAll(async () => {
   server = await startTestServer({ clientDir: path.resolve('dist') })
   const rec = await signedIn(server.url, 'recordist')
   ids.session = (await createSession(rec, { title: 'Bench sweep for the look' })).id
-  for (const [name, synth] of [['charger_whine', ['sine', '9000']], ['mains_hum', ['sine', '50']]] as const) {
+  for (const [name, synth] of [
+    ['charger_whine', ['sine', '9000']],
+    ['mains_hum', ['sine', '50']],
+  ] as const) {
     const f = soxWav(path.join(server.dir, `${name}.wav`), { seconds: 3, synth: [...synth] })
     const take = await waitForTake(rec, (await uploadTake(rec, ids.session, f, `${name}.wav`)).body.take.id)
     ids.take ||= take.id
@@ -70,18 +73,25 @@ beforeAll(async () => {
   ids.pack = (await designer.post('/api/packs', { name: 'Look check pack', description: 'Two takes' })).body.pack.id
   await designer.post(`/api/packs/${ids.pack}/items`, { takeId: ids.take })
   let build = (await designer.post(`/api/packs/${ids.pack}/builds`)).body.build
-  for (const end = Date.now() + 90_000; build.status !== 'done' && build.status !== 'failed' && Date.now() < end; ) {
+  for (const end = Date.now() + 90_000; build.status !== 'done' && build.status !== 'failed' && Date.now() < end;) {
     await new Promise((r) => setTimeout(r, 200))
     build = (await designer.get(`/api/pack-builds/${build.id}`)).body.build
   }
   await designer.post(`/api/pack-builds/${build.id}/publish`)
-  const link = await designer.post(`/api/pack-builds/${build.id}/share-links`, { expiresAt: new Date(Date.now() + 7 * 864e5).toISOString() })
+  const link = await designer.post(`/api/pack-builds/${build.id}/share-links`, {
+    expiresAt: new Date(Date.now() + 7 * 864e5).toISOString(),
+  })
   ids.share = link.body.link.token
   // An invitation waiting, and mail in the outbox.
   const admin = await signedIn(server.url, 'admin')
   await admin.post('/api/invitations', { email: 'new.listener@example.test', role: 'collaborator' })
   // Source devices of several kinds, each in its family's colour.
-  for (const [name, kind] of [['Bench laptop charger', 'power-supply'], ['Desk lamp dimmer', 'lighting'], ['Office monitor', 'display'], ['Fan motor', 'motor']]) {
+  for (const [name, kind] of [
+    ['Bench laptop charger', 'power-supply'],
+    ['Desk lamp dimmer', 'lighting'],
+    ['Office monitor', 'display'],
+    ['Fan motor', 'motor'],
+  ]) {
     await admin.post('/api/sources', { name, kind })
   }
   browser = await launchBrowser()
@@ -93,7 +103,11 @@ afterAll(async () => {
 })
 
 /** One browser context per person, size and theme: the theme is the one a person picked before (localStorage). */
-async function contextFor(who: Who, size: (typeof SIZES)[number], theme: (typeof THEMES)[number]): Promise<BrowserContext> {
+async function contextFor(
+  who: Who,
+  size: (typeof SIZES)[number],
+  theme: (typeof THEMES)[number],
+): Promise<BrowserContext> {
   const context = await browser.newContext({ viewport: { width: size.width, height: size.height } })
   await context.addInitScript((t) => localStorage.setItem('strayfield.theme', t), theme)
   if (who !== 'nobody') {
@@ -115,7 +129,13 @@ async function axeFindings(page: Page): Promise<string[]> {
   const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa']).analyze()
   return result.violations
     .filter((v) => v.impact === 'serious' || v.impact === 'critical')
-    .map((v) => `${v.impact} ${v.id}: ${v.help} — at ${v.nodes.slice(0, 4).map((n) => n.target.join(' ')).join(' | ')}${v.nodes.length > 4 ? ` (+${v.nodes.length - 4} more)` : ''}`)
+    .map(
+      (v) =>
+        `${v.impact} ${v.id}: ${v.help} — at ${v.nodes
+          .slice(0, 4)
+          .map((n) => n.target.join(' '))
+          .join(' | ')}${v.nodes.length > 4 ? ` (+${v.nodes.length - 4} more)` : ''}`,
+    )
 }
 
 /** The areas the role may see and sign out, reachable from the bar (opening the menu where it folds). */
@@ -123,7 +143,10 @@ async function checkNavigation(page: Page, who: Role, size: (typeof SIZES)[numbe
   const folded = size.width < FOLDS_BELOW
   if (folded) {
     const menu = page.getByRole('button', { name: 'Menu' })
-    expect((await menu.boundingBox())!.height, `${where}: the Menu button is at least 40 px tall`).toBeGreaterThanOrEqual(40)
+    expect(
+      (await menu.boundingBox())!.height,
+      `${where}: the Menu button is at least 40 px tall`,
+    ).toBeGreaterThanOrEqual(40)
     await menu.focus()
     await page.keyboard.press('Enter')
     await expect.poll(() => menu.getAttribute('aria-expanded'), { message: `${where}: the menu opens` }).toBe('true')
@@ -137,12 +160,19 @@ async function checkNavigation(page: Page, who: Role, size: (typeof SIZES)[numbe
     if (folded) expect(box.height, `${where}: "${area.label}" is at least 40 px tall`).toBeGreaterThanOrEqual(40)
   }
   const hidden = AREAS.filter((a) => !can(who, a.permission)).map((a) => a.label)
-  for (const label of hidden) expect(await nav.getByRole('link', { name: label, exact: true }).count(), `${where}: "${label}" is not offered`).toBe(0)
+  for (const label of hidden)
+    expect(
+      await nav.getByRole('link', { name: label, exact: true }).count(),
+      `${where}: "${label}" is not offered`,
+    ).toBe(0)
   if (!folded) await page.locator('[data-test=user-menu]').click()
   const signOut = page.getByRole('button', { name: 'Sign out' })
   expect(await signOut.isVisible(), `${where}: sign out is reachable`).toBe(true)
   const box = (await signOut.boundingBox())!
-  expect(box.x + box.width <= size.width && box.y + box.height <= size.height, `${where}: sign out lies inside the viewport`).toBe(true)
+  expect(
+    box.x + box.width <= size.width && box.y + box.height <= size.height,
+    `${where}: sign out lies inside the viewport`,
+  ).toBe(true)
   if (folded) expect(box.height, `${where}: sign out is at least 40 px tall`).toBeGreaterThanOrEqual(40)
   await page.keyboard.press('Escape')
 }
@@ -163,11 +193,20 @@ for (const size of SIZES) {
           try {
             await page.goto(`${server.url}${view.path()}`)
             await settle(page)
-            expect(await page.evaluate(() => document.documentElement.className), `${where}: the theme is applied`).toContain(theme)
+            expect(
+              await page.evaluate(() => document.documentElement.className),
+              `${where}: the theme is applied`,
+            ).toContain(theme)
 
             await screenshot(page, `look/${view.name.replace(/\W+/g, '-')}-${size.name}-${theme}`)
-            const { scrollWidth, innerWidth } = await page.evaluate(() => ({ scrollWidth: document.documentElement.scrollWidth, innerWidth: window.innerWidth }))
-            expect(scrollWidth, `${where}: the page is ${scrollWidth} px wide in a ${innerWidth} px viewport`).toBeLessThanOrEqual(innerWidth)
+            const { scrollWidth, innerWidth } = await page.evaluate(() => ({
+              scrollWidth: document.documentElement.scrollWidth,
+              innerWidth: window.innerWidth,
+            }))
+            expect(
+              scrollWidth,
+              `${where}: the page is ${scrollWidth} px wide in a ${innerWidth} px viewport`,
+            ).toBeLessThanOrEqual(innerWidth)
 
             const findings = await axeFindings(page)
             expect(findings, `${where}: axe-core found\n  ${findings.join('\n  ')}\n`).toEqual([])

@@ -36,7 +36,10 @@ beforeAll(async () => {
   page = await (await browser.newContext({ viewport: { width: 1000, height: 700 } })).newPage()
   // Signed in as the recordist (so the designer is someone else), through the API in the page's own cookie jar.
   const { token } = (await (await page.request.get(`${server.url}/api/auth/csrf`)).json()) as { token: string }
-  const login = await page.request.post(`${server.url}/api/auth/login`, { headers: { 'x-csrf-token': token }, data: { email: 'recordist@example.test', password: 'strayfield-demo' } })
+  const login = await page.request.post(`${server.url}/api/auth/login`, {
+    headers: { 'x-csrf-token': token },
+    data: { email: 'recordist@example.test', password: 'strayfield-demo' },
+  })
   expect(login.status()).toBe(200)
   await page.goto(`${server.url}/`)
 })
@@ -52,14 +55,18 @@ it('picks a member after "@", lists who will be notified, keeps an unknown name 
   const picker = page.locator('[data-test=mention-picker]')
   await expect.poll(() => picker.isVisible(), { timeout: 10_000 }).toBe(true)
   // Names with a word starting "da" come first, then names holding it anywhere.
-  await expect.poll(() => picker.getByRole('option').allInnerTexts()).toEqual(['Dana Humbucker @Dana.Humbucker', 'Ada Quillfeather @Ada.Quillfeather'])
+  await expect
+    .poll(() => picker.getByRole('option').allInnerTexts())
+    .toEqual(['Dana Humbucker @Dana.Humbucker', 'Ada Quillfeather @Ada.Quillfeather'])
   await screenshot(page, 'mention-picker')
   await page.keyboard.press('Enter')
   expect(await box.inputValue()).toBe('Loud burst at 0:12, @Dana.Humbucker ')
   expect(await picker.isVisible()).toBe(false)
 
   await page.keyboard.type('and @nobody.here, listen')
-  await expect.poll(() => page.locator('[data-test=mention-notify]').innerText(), { timeout: 10_000 }).toBe('Will notify Dana Humbucker by e-mail.')
+  await expect
+    .poll(() => page.locator('[data-test=mention-notify]').innerText(), { timeout: 10_000 })
+    .toBe('Will notify Dana Humbucker by e-mail.')
   await expect
     .poll(() => page.locator('[data-test=mention-unmatched]').innerText(), { timeout: 10_000 })
     .toBe('@nobody.here matches nobody on the team: kept as plain text, nobody is told.')
@@ -76,5 +83,7 @@ it('picks a member after "@", lists who will be notified, keeps an unknown name 
   await screenshot(page, 'mention-input')
 
   await page.keyboard.press('Control+Enter')
-  await expect.poll(() => page.locator('[data-test=posted]').innerText()).toBe('Loud burst at 0:12, @Dana.Humbucker and @nobody.here, listen')
+  await expect
+    .poll(() => page.locator('[data-test=posted]').innerText())
+    .toBe('Loud burst at 0:12, @Dana.Humbucker and @nobody.here, listen')
 })

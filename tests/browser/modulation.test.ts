@@ -20,7 +20,12 @@ beforeAll(async () => {
   const rec = await signedIn(server.url, 'recordist')
   const s = await createSession(rec, { title: 'Modulation bench capture' })
   // sox: a 3 s sine sweep from 200 Hz to 1.6 kHz.
-  const file = soxWav(path.join(server.dir, 'files', 'glide.wav'), { rate: 16000, bits: 16, seconds: 3, synth: ['sine', '200-1600'] })
+  const file = soxWav(path.join(server.dir, 'files', 'glide.wav'), {
+    rate: 16000,
+    bits: 16,
+    seconds: 3,
+    synth: ['sine', '200-1600'],
+  })
   takeId = (await uploadTake(rec, s.id, file, 'rising_glide.wav')).body.take.id
   await waitForTake(rec, takeId, 120_000)
 })
@@ -48,10 +53,18 @@ describe('modulation panel on the listening bench', () => {
     await panel.getByRole('radio', { name: /Tone/ }).check()
     const curve = panel.locator('[data-test=modulation-preview] path')
     // The preview follows the last change after 400 ms: wait until the line drawn is the tone's, which climbs (the envelope's is flat).
-    await page.waitForFunction(() => {
-      const ys = [...(document.querySelector('[data-test=modulation-preview] path')?.getAttribute('d') ?? '').matchAll(/[ML][\d.]+,([\d.]+)/gu)].map((m) => Number(m[1]))
-      return ys.length > 1 && ys[0] - ys[ys.length - 1] > 10
-    }, undefined, { timeout: 20_000 })
+    await page.waitForFunction(
+      () => {
+        const ys = [
+          ...(document.querySelector('[data-test=modulation-preview] path')?.getAttribute('d') ?? '').matchAll(
+            /[ML][\d.]+,([\d.]+)/gu,
+          ),
+        ].map((m) => Number(m[1]))
+        return ys.length > 1 && ys[0] - ys[ys.length - 1] > 10
+      },
+      undefined,
+      { timeout: 20_000 },
+    )
     const [first, last] = ends((await curve.getAttribute('d')) ?? '')
     // 200 Hz → 1.6 kHz is 3 of the 10 octaves above 20 Hz: the line climbs by about 30 % of the strip's height.
     expect(first - last).toBeGreaterThan(25)
@@ -59,12 +72,23 @@ describe('modulation panel on the listening bench', () => {
     await screenshot(page, 'bench-modulation-tone')
 
     await panel.getByLabel('File').selectOption('midi')
-    const [download] = await Promise.all([page.waitForEvent('download'), panel.getByRole('button', { name: 'Export' }).click()])
+    const [download] = await Promise.all([
+      page.waitForEvent('download'),
+      panel.getByRole('button', { name: 'Export' }).click(),
+    ])
     expect(download.suggestedFilename()).toBe('rising_glide_tone.mid')
     const saved = path.join(server.dir, 'files', 'exported.mid')
     await download.saveAs(saved)
     // Debian's python3-mido: 3 s at the default 1000 points a second on controller 1.
-    const out = execFileSync('/usr/bin/python3', ['-c', 'import sys, mido; m = [x for x in mido.MidiFile(sys.argv[1]) if x.type == "control_change"]; print(len(m), m[0].control, m[0].value, m[-1].value)', saved], { encoding: 'utf8' })
+    const out = execFileSync(
+      '/usr/bin/python3',
+      [
+        '-c',
+        'import sys, mido; m = [x for x in mido.MidiFile(sys.argv[1]) if x.type == "control_change"]; print(len(m), m[0].control, m[0].value, m[-1].value)',
+        saved,
+      ],
+      { encoding: 'utf8' },
+    )
     const [count, control, firstValue, lastValue] = out.trim().split(' ').map(Number)
     expect(count).toBe(3000)
     expect(control).toBe(1)

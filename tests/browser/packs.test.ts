@@ -15,7 +15,10 @@ beforeAll(async () => {
   server = await startTestServer({ clientDir: path.resolve('dist') })
   const rec = await signedIn(server.url, 'recordist')
   const s = await createSession(rec, { title: 'Pack sources' })
-  for (const [name, synth] of [['hum_a', ['sine', '50']], ['whine_b', ['sine', '7000']]] as const) {
+  for (const [name, synth] of [
+    ['hum_a', ['sine', '50']],
+    ['whine_b', ['sine', '7000']],
+  ] as const) {
     const f = soxWav(path.join(server.dir, `${name}.wav`), { seconds: 3, synth: [...synth] })
     await waitForTake(rec, (await uploadTake(rec, s.id, f, `${name}.wav`)).body.take.id)
   }
@@ -48,7 +51,11 @@ describe('packs in the browser', () => {
     await page.goto(`${server.url}/packs/${packId}`)
     await expect.poll(() => page.locator('[data-test=pack-items] [data-item]').count()).toBe(2)
     await page.locator('[data-test=build]').click()
-    await expect.poll(() => page.locator('[data-test=builds] [data-build]').first().getAttribute('data-status'), { timeout: 60_000 }).toBe('done')
+    await expect
+      .poll(() => page.locator('[data-test=builds] [data-build]').first().getAttribute('data-status'), {
+        timeout: 60_000,
+      })
+      .toBe('done')
     // After the build each item shows its loudness out of the renderer.
     await expect.poll(() => page.locator('[data-test=pack-items]').innerText()).toMatch(/→ −1[78]\.\d LUFS/)
     await page.locator('[data-test=publish]').click()
@@ -78,7 +85,12 @@ describe('packs in the browser', () => {
   it('anyone with a share link sees the pack and can download it', async () => {
     const designer = await signedIn(server.url, 'designer')
     const build = (await designer.get(`/api/packs/${packId}/builds`)).body.builds[0]
-    const link = (await designer.post(`/api/pack-builds/${build.id}/share-links`, { expiresAt: new Date(Date.now() + 864e5).toISOString(), maxDownloads: 3 })).body.link
+    const link = (
+      await designer.post(`/api/pack-builds/${build.id}/share-links`, {
+        expiresAt: new Date(Date.now() + 864e5).toISOString(),
+        maxDownloads: 3,
+      })
+    ).body.link
     const context = await browser.newContext()
     const page = await context.newPage()
     await page.goto(link.url.replace(/^https?:\/\/[^/]+/, server.url))

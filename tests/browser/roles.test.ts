@@ -35,7 +35,9 @@ describe('each role sees its own areas', () => {
       const page = await context.newPage()
       await signInThroughForm(page, env.server.url, `${role}@example.test`)
       await page.locator('nav[aria-label=Areas] a').first().waitFor()
-      const shown = await page.locator('nav[aria-label=Areas] a').evaluateAll((as) => as.map((a) => a.getAttribute('data-area')))
+      const shown = await page
+        .locator('nav[aria-label=Areas] a')
+        .evaluateAll((as) => as.map((a) => a.getAttribute('data-area')))
       const expected = AREAS.filter((a) => can(role, a.permission)).map((a) => a.name)
       expect(shown).toEqual(expected)
 
@@ -45,7 +47,9 @@ describe('each role sees its own areas', () => {
         await page.goto(`${env.server.url}${denied.path}`)
         await expect.poll(() => page.locator('h1').first().innerText()).toBe('Not for your role')
       }
-      await page.goto(`${env.server.url}${expected.length ? AREAS.find((a) => a.name === expected[expected.length - 1])!.path : '/'}`)
+      await page.goto(
+        `${env.server.url}${expected.length ? AREAS.find((a) => a.name === expected[expected.length - 1])!.path : '/'}`,
+      )
       await page.locator('h1').first().waitFor()
       await screenshot(page, `role-${role}`)
       await context.close()

@@ -14,7 +14,9 @@ let admin: Client
 
 const member = (email: string) => page.locator(`[data-member="${email}"]`)
 const activeOf = async (email: string) =>
-  ((await admin.get('/api/users')).body.users as { email: string; active: boolean; role: string }[]).find((u) => u.email === email)!
+  ((await admin.get('/api/users')).body.users as { email: string; active: boolean; role: string }[]).find(
+    (u) => u.email === email,
+  )!
 
 beforeAll(async () => {
   server = await startTestServer({ clientDir: path.resolve('dist') })
@@ -33,7 +35,9 @@ afterAll(async () => {
 describe('team: status buttons, confirmations and Undo', () => {
   it('asks before deactivating, naming the person and the consequence; Escape keeps them active', async () => {
     const deactivate = member('producer@example.test').getByRole('button', { name: 'Deactivated' })
-    expect(await member('producer@example.test').getByRole('button', { name: 'Active' }).getAttribute('aria-pressed')).toBe('true')
+    expect(
+      await member('producer@example.test').getByRole('button', { name: 'Active' }).getAttribute('aria-pressed'),
+    ).toBe('true')
     await deactivate.focus()
     await page.keyboard.press('Enter')
     const dialog = page.getByRole('dialog')
@@ -48,11 +52,16 @@ describe('team: status buttons, confirmations and Undo', () => {
 
   it('deactivates on confirmation, says so beside the buttons, and Undo reactivates', async () => {
     await member('producer@example.test').getByRole('button', { name: 'Deactivated' }).click()
-    await page.getByRole('dialog').getByRole('button', { name: /^Deactivate / }).click()
+    await page
+      .getByRole('dialog')
+      .getByRole('button', { name: /^Deactivate / })
+      .click()
     const notice = page.locator('[data-test=notice]')
     await expect.poll(() => notice.innerText()).toMatch(/is deactivated and signed out/)
     expect((await activeOf('producer@example.test')).active).toBe(false)
-    expect(await member('producer@example.test').getByRole('button', { name: 'Deactivated' }).getAttribute('aria-pressed')).toBe('true')
+    expect(
+      await member('producer@example.test').getByRole('button', { name: 'Deactivated' }).getAttribute('aria-pressed'),
+    ).toBe('true')
 
     // The notice stands next to the control that caused it, not at the top of the screen.
     const buttons = (await member('producer@example.test').locator('.sf-status-buttons').boundingBox())!
@@ -62,11 +71,15 @@ describe('team: status buttons, confirmations and Undo', () => {
 
     await notice.getByRole('button', { name: 'Undo' }).click()
     await expect.poll(async () => (await activeOf('producer@example.test')).active).toBe(true)
-    await expect.poll(() => member('producer@example.test').getByRole('button', { name: 'Active' }).getAttribute('aria-pressed')).toBe('true')
+    await expect
+      .poll(() => member('producer@example.test').getByRole('button', { name: 'Active' }).getAttribute('aria-pressed'))
+      .toBe('true')
   })
 
   it('asks before a role change; going ahead changes it, and Undo puts the old role back', async () => {
-    await member('collaborator@example.test').getByRole('combobox', { name: /^Role of/ }).focus()
+    await member('collaborator@example.test')
+      .getByRole('combobox', { name: /^Role of/ })
+      .focus()
     await page.keyboard.press('Enter')
     await page.locator('.el-select-dropdown__item:visible', { hasText: 'Producer' }).click()
     const dialog = page.getByRole('dialog')

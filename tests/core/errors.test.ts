@@ -16,7 +16,7 @@ describe('file-system errors', () => {
     expect(publicErrorText("ENOENT: no such file or directory, open '/srv/strayfield/storage/audio/ab/abc.wav'")).toBe(
       'FILE_MISSING: A file this needs is missing on the server; tell an admin',
     )
-    const other = publicErrorText("could not read /srv/strayfield/storage/audio/ab/abc.wav: bad chunk")
+    const other = publicErrorText('could not read /srv/strayfield/storage/audio/ab/abc.wav: bad chunk')
     expect(other).not.toContain('/srv')
     expect(other).toMatch(/bad chunk/)
     expect(publicErrorText('The fmt chunk is too short (12 bytes)')).toBe('The fmt chunk is too short (12 bytes)')

@@ -13,7 +13,16 @@ const channel = (clippedSamples = 0, extra: Record<string, number> = {}) => ({
   clippedSamples,
   ...extra,
 })
-function take(opts: { clipped?: number[]; truePeak?: number | null; lufs?: number | null; extraLevels?: object; status?: string; chExtra?: Record<string, number> } = {}): FlaggableTake {
+function take(
+  opts: {
+    clipped?: number[]
+    truePeak?: number | null
+    lufs?: number | null
+    extraLevels?: object
+    status?: string
+    chExtra?: Record<string, number>
+  } = {},
+): FlaggableTake {
   return {
     status: opts.status ?? 'ready',
     format,
@@ -25,7 +34,12 @@ function take(opts: { clipped?: number[]; truePeak?: number | null; lufs?: numbe
         channels: (opts.clipped ?? [0, 0]).map((c) => channel(c, opts.chExtra)),
         ...opts.extraLevels,
       },
-      loudness: { integratedLufs: opts.lufs === undefined ? -23 : opts.lufs, loudnessRangeLu: 3, maxMomentaryLufs: -20, maxShortTermLufs: -21 },
+      loudness: {
+        integratedLufs: opts.lufs === undefined ? -23 : opts.lufs,
+        loudnessRangeLu: 3,
+        maxMomentaryLufs: -20,
+        maxShortTermLufs: -21,
+      },
       noiseFloorDbfs: -60,
     },
   }
@@ -45,8 +59,12 @@ describe('takeFlags', () => {
 
   it('adds the longest run of any channel when the analysis knows it', () => {
     // 576 samples at 48 kHz = 12 ms; 60,000 = 1.25 s
-    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestClipSamples: 576 } }))[0].detail).toBe('0.4 % clipped, longest 12 ms')
-    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestClipSamples: 60_000 } }))[0].detail).toBe('0.4 % clipped, longest 1.3 s')
+    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestClipSamples: 576 } }))[0].detail).toBe(
+      '0.4 % clipped, longest 12 ms',
+    )
+    expect(takeFlags(take({ clipped: [1920, 1920], chExtra: { longestClipSamples: 60_000 } }))[0].detail).toBe(
+      '0.4 % clipped, longest 1.3 s',
+    )
   })
 
   it('flags a true peak above −1 dBTP (EBU R 128 delivery practice), not one at it', () => {
@@ -63,12 +81,18 @@ describe('takeFlags', () => {
   })
 
   it('spells out the −70 LUFS gate of ITU-R BS.1770-4 for takes with no integrated loudness', () => {
-    expect(takeFlags(take({ lufs: null }))).toEqual([{ kind: 'too-quiet', label: 'Too quiet to measure', detail: 'below the −70 LUFS gate' }])
+    expect(takeFlags(take({ lufs: null }))).toEqual([
+      { kind: 'too-quiet', label: 'Too quiet to measure', detail: 'below the −70 LUFS gate' },
+    ])
     expect(takeFlags(take({ lufs: -69.9 }))).toEqual([])
   })
 
   it('gives several flags in a fixed order', () => {
-    expect(takeFlags(take({ clipped: [10, 0], truePeak: 0.5, lufs: null })).map((f) => f.kind)).toEqual(['clipped', 'over-ceiling', 'too-quiet'])
+    expect(takeFlags(take({ clipped: [10, 0], truePeak: 0.5, lufs: null })).map((f) => f.kind)).toEqual([
+      'clipped',
+      'over-ceiling',
+      'too-quiet',
+    ])
   })
 
   it('ignores shapes it does not know instead of guessing', () => {

@@ -31,7 +31,19 @@ describe('bundled workers', () => {
       const reply = await new Promise<{ type: string; error?: { code?: string } }>((resolve, reject) => {
         w.once('message', resolve)
         w.once('error', reject)
-        w.postMessage({ type: 'render', id: 1, outPath: path.join(dir, 'out.wav'), req: { sourcePath: path.join(dir, 'missing.wav'), startSeconds: null, endSeconds: null, kind: 'one-shot', settings: {}, metadata: {} } })
+        w.postMessage({
+          type: 'render',
+          id: 1,
+          outPath: path.join(dir, 'out.wav'),
+          req: {
+            sourcePath: path.join(dir, 'missing.wav'),
+            startSeconds: null,
+            endSeconds: null,
+            kind: 'one-shot',
+            settings: {},
+            metadata: {},
+          },
+        })
       })
       expect(reply.type).toBe('error')
       expect(reply.error?.code).toBe('ENOENT')
@@ -46,9 +58,12 @@ describe('bundled workers', () => {
     expect(path.basename(bundle.pathname)).toMatch(/^render-worker-[0-9a-f]{16}\.mjs$/)
   })
 
-  it('start without the parent\'s Node options: under tsx its loader would load into every worker', () => {
+  it("start without the parent's Node options: under tsx its loader would load into every worker", () => {
     const script = new URL('../helpers/echo-worker-smoke.ts', import.meta.url).pathname
-    const out = JSON.parse(execFileSync('npx', ['--prefix', process.cwd(), 'tsx', script], { encoding: 'utf8' })) as { parent: string[]; worker: string[] }
+    const out = JSON.parse(execFileSync('npx', ['--prefix', process.cwd(), 'tsx', script], { encoding: 'utf8' })) as {
+      parent: string[]
+      worker: string[]
+    }
     expect(out.parent.join(' ')).toMatch(/tsx/) // the server's own process runs under tsx
     expect(out.worker).toEqual([])
   })

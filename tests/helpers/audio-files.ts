@@ -55,7 +55,11 @@ export function buildWav(chunks: RawChunkSpec[], magic = 'RIFF', riffSize?: numb
 
 /** WAVEFORMATEX (16 bytes) for tag 1/3, or a 40-byte WAVEFORMATEXTENSIBLE when `ext` is given. */
 export function fmtPayload(o: {
-  tag?: number; channels: number; rate: number; bits: number; blockAlign?: number
+  tag?: number
+  channels: number
+  rate: number
+  bits: number
+  blockAlign?: number
   ext?: { validBits: number; mask: number; subTag: number }
 }): Buffer {
   const b = Buffer.alloc(o.ext ? 40 : 16)
@@ -85,7 +89,11 @@ export function pcm16(values: number[]): Buffer {
 
 // ---- reading everything back ----
 
-export async function readAll(path: string, info: WavInfo, opts?: { blockFrames?: number; startFrame?: number; endFrame?: number }): Promise<Float32Array[]> {
+export async function readAll(
+  path: string,
+  info: WavInfo,
+  opts?: { blockFrames?: number; startFrame?: number; endFrame?: number },
+): Promise<Float32Array[]> {
   const parts: Float32Array[][] = []
   for await (const b of readFrames(path, info, opts)) parts.push(b)
   return Array.from({ length: info.format.channels }, (_, c) => {
@@ -119,13 +127,17 @@ export interface FfprobeResult {
 }
 
 export function ffprobe(path: string): FfprobeResult {
-  const out = execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-show_format', '-of', 'json', path], { encoding: 'utf8' })
+  const out = execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-show_format', '-of', 'json', path], {
+    encoding: 'utf8',
+  })
   return JSON.parse(out) as FfprobeResult
 }
 
 /** ffmpeg's own decode of the first stream as interleaved 32-bit float (-f f32le). */
 export function ffmpegF32(path: string): Float32Array {
-  const out = execFileSync('ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-acodec', 'pcm_f32le', '-'], { maxBuffer: 1 << 30 })
+  const out = execFileSync('ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-acodec', 'pcm_f32le', '-'], {
+    maxBuffer: 1 << 30,
+  })
   return new Float32Array(out.buffer.slice(out.byteOffset, out.byteOffset + out.byteLength))
 }
 
@@ -151,5 +163,11 @@ export function soxi(path: string): Soxi {
   const enc = /^(\d+)-bit (.*)$/.exec(field('Sample Encoding'))
   const samples = /=\s*(\d+) samples/.exec(field('Duration'))
   if (!enc || !samples) throw new Error(`unexpected soxi report: ${out}`)
-  return { rate: Number(field('Sample Rate')), channels: Number(field('Channels')), samples: Number(samples[1]), bits: Number(enc[1]), encoding: enc[2] }
+  return {
+    rate: Number(field('Sample Rate')),
+    channels: Number(field('Channels')),
+    samples: Number(samples[1]),
+    bits: Number(enc[1]),
+    encoding: enc[2],
+  }
 }

@@ -17,7 +17,10 @@ const sub = (id: string, payload: Buffer) => {
   h.writeUInt32LE(payload.length, 4)
   return Buffer.concat(payload.length & 1 ? [h, payload, Buffer.alloc(1)] : [h, payload])
 }
-const list = (type: string, entries: Buffer[]) => ({ id: 'LIST', payload: Buffer.concat([Buffer.from(type, 'latin1'), ...entries]) })
+const list = (type: string, entries: Buffer[]) => ({
+  id: 'LIST',
+  payload: Buffer.concat([Buffer.from(type, 'latin1'), ...entries]),
+})
 
 function tone(frames = 4800): Buffer {
   return pcm16(Array.from({ length: frames }, (_, i) => Math.round(3000 * Math.sin((2 * Math.PI * 440 * i) / 48000))))

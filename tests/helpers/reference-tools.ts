@@ -15,7 +15,10 @@ export interface Ebur128Summary {
 export function ffmpegEbur128(path: string): Ebur128Summary {
   const args = ['-nostats', '-hide_banner', '-i', path, '-af', 'ebur128=peak=true:framelog=verbose', '-f', 'null', '-']
   // ffmpeg writes its log to stderr; execFileSync returns only stdout, so send stderr to stdout.
-  const out = execFileSync('sh', ['-c', 'ffmpeg "$@" 2>&1', 'ffmpeg', ...args], { encoding: 'utf8', maxBuffer: 1 << 26 })
+  const out = execFileSync('sh', ['-c', 'ffmpeg "$@" 2>&1', 'ffmpeg', ...args], {
+    encoding: 'utf8',
+    maxBuffer: 1 << 26,
+  })
   const summary = out.slice(out.lastIndexOf('Summary:'))
   const num = (label: string) => {
     const m = new RegExp(`${label}\\s+(-?[0-9.]+|-inf)`).exec(summary)
@@ -51,33 +54,106 @@ export function sox(args: string[]): void {
 }
 
 export function ffmpeg(args: string[]): void {
-  execFileSync('ffmpeg', ['-nostats', '-hide_banner', '-loglevel', 'error', '-y', ...args], { stdio: ['ignore', 'ignore', 'pipe'] })
+  execFileSync('ffmpeg', ['-nostats', '-hide_banner', '-loglevel', 'error', '-y', ...args], {
+    stdio: ['ignore', 'ignore', 'pipe'],
+  })
 }
 
 /** Test signals made by sox and ffmpeg themselves: several rates, depths and channel counts. */
 const GENERATORS: { name: string; make: (out: string, tmp: (name: string) => string) => void }[] = [
-  { name: 'white noise, 44.1 kHz 16-bit mono (sox)', make: (o) => sox(['-n', '-r', '44100', '-b', '16', '-c', '1', o, 'synth', '12', 'whitenoise', 'vol', '-14dB']) },
+  {
+    name: 'white noise, 44.1 kHz 16-bit mono (sox)',
+    make: (o) => sox(['-n', '-r', '44100', '-b', '16', '-c', '1', o, 'synth', '12', 'whitenoise', 'vol', '-14dB']),
+  },
   {
     name: 'pink noise with DC shift, 48 kHz 24-bit stereo (sox)',
-    make: (o) => sox(['-n', '-r', '48000', '-b', '24', '-c', '2', o, 'synth', '15', 'pinknoise', 'vol', '-18dB', 'dcshift', '0.02']),
+    make: (o) =>
+      sox([
+        '-n',
+        '-r',
+        '48000',
+        '-b',
+        '24',
+        '-c',
+        '2',
+        o,
+        'synth',
+        '15',
+        'pinknoise',
+        'vol',
+        '-18dB',
+        'dcshift',
+        '0.02',
+      ]),
   },
   {
     name: '997 Hz sine, 96 kHz float mono (sox)',
-    make: (o) => sox(['-n', '-r', '96000', '-e', 'floating-point', '-b', '32', '-c', '1', o, 'synth', '8', 'sine', '997', 'vol', '-20dB']),
+    make: (o) =>
+      sox([
+        '-n',
+        '-r',
+        '96000',
+        '-e',
+        'floating-point',
+        '-b',
+        '32',
+        '-c',
+        '1',
+        o,
+        'synth',
+        '8',
+        'sine',
+        '997',
+        'vol',
+        '-20dB',
+      ]),
   },
   {
     name: 'level-stepped 440 Hz bursts, 48 kHz 24-bit stereo (ffmpeg aevalsrc)',
     make: (o) =>
-      ffmpeg(['-f', 'lavfi', '-i', 'aevalsrc=sin(2*PI*440*t)*(0.05+0.45*mod(floor(t/4)\\,2)):s=48000:d=24', '-ac', '2', '-c:a', 'pcm_s24le', o]),
+      ffmpeg([
+        '-f',
+        'lavfi',
+        '-i',
+        'aevalsrc=sin(2*PI*440*t)*(0.05+0.45*mod(floor(t/4)\\,2)):s=48000:d=24',
+        '-ac',
+        '2',
+        '-c:a',
+        'pcm_s24le',
+        o,
+      ]),
   },
   {
     name: 'pink noise, 44.1 kHz float stereo (ffmpeg anoisesrc)',
-    make: (o) => ffmpeg(['-f', 'lavfi', '-i', 'anoisesrc=color=pink:amplitude=0.25:sample_rate=44100:duration=12:seed=7', '-ac', '2', '-c:a', 'pcm_f32le', o]),
+    make: (o) =>
+      ffmpeg([
+        '-f',
+        'lavfi',
+        '-i',
+        'anoisesrc=color=pink:amplitude=0.25:sample_rate=44100:duration=12:seed=7',
+        '-ac',
+        '2',
+        '-c:a',
+        'pcm_f32le',
+        o,
+      ]),
   },
   {
     name: '3 kHz tone with gaps, 96 kHz 16-bit stereo (ffmpeg sine + volume)',
     make: (o) =>
-      ffmpeg(['-f', 'lavfi', '-i', 'sine=frequency=3000:sample_rate=96000:duration=10', '-af', "volume='if(lt(mod(t,2),1.5),0.4,0)':eval=frame", '-ac', '2', '-c:a', 'pcm_s16le', o]),
+      ffmpeg([
+        '-f',
+        'lavfi',
+        '-i',
+        'sine=frequency=3000:sample_rate=96000:duration=10',
+        '-af',
+        "volume='if(lt(mod(t,2),1.5),0.4,0)':eval=frame",
+        '-ac',
+        '2',
+        '-c:a',
+        'pcm_s16le',
+        o,
+      ]),
   },
   {
     name: 'brown noise then tone, 48 kHz 16-bit mono (sox)',

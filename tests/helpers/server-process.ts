@@ -18,7 +18,14 @@ const entry = fileURLToPath(import.meta.url)
 /** Starts this file as a server process on the given data; resolves once it listens. */
 export function startServerProcess(dbFile: string, storageDir: string): Promise<ServerProcess> {
   const child = spawn(process.execPath, ['--import', 'tsx', entry], {
-    env: { ...process.env, STRAYFIELD_DB: dbFile, STRAYFIELD_STORAGE: storageDir, SMTP_URL: '', SESSION_SECRET: '', STRAYFIELD_SERVER_PROCESS: '1' },
+    env: {
+      ...process.env,
+      STRAYFIELD_DB: dbFile,
+      STRAYFIELD_STORAGE: storageDir,
+      SMTP_URL: '',
+      SESSION_SECRET: '',
+      STRAYFIELD_SERVER_PROCESS: '1',
+    },
     stdio: ['ignore', 'pipe', 'pipe'],
   })
   let err = ''

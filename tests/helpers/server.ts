@@ -46,13 +46,22 @@ export class Client {
     return this.agent.get(p)
   }
   post(p: string, body?: object) {
-    return this.agent.post(p).set('x-csrf-token', this.token).send(body ?? {})
+    return this.agent
+      .post(p)
+      .set('x-csrf-token', this.token)
+      .send(body ?? {})
   }
   patch(p: string, body?: object) {
-    return this.agent.patch(p).set('x-csrf-token', this.token).send(body ?? {})
+    return this.agent
+      .patch(p)
+      .set('x-csrf-token', this.token)
+      .send(body ?? {})
   }
   put(p: string, body?: object) {
-    return this.agent.put(p).set('x-csrf-token', this.token).send(body ?? {})
+    return this.agent
+      .put(p)
+      .set('x-csrf-token', this.token)
+      .send(body ?? {})
   }
   delete(p: string) {
     return this.agent.delete(p).set('x-csrf-token', this.token)

@@ -4,10 +4,28 @@ import path from 'node:path'
 import type { Client } from './server'
 
 /** A WAV made by Debian's sox (a file this project did not write). */
-export function soxWav(file: string, args: { rate?: number; bits?: number; channels?: number; seconds?: number; synth?: string[]; encoding?: string }): string {
+export function soxWav(
+  file: string,
+  args: { rate?: number; bits?: number; channels?: number; seconds?: number; synth?: string[]; encoding?: string },
+): string {
   const { rate = 48000, bits = 24, channels = 1, seconds = 2, synth = ['sine', '1000'], encoding } = args
   fs.mkdirSync(path.dirname(file), { recursive: true })
-  execFileSync('sox', ['-n', '-r', String(rate), '-b', String(bits), ...(encoding ? ['-e', encoding] : []), '-c', String(channels), file, 'synth', String(seconds), ...synth, 'vol', '0.5'])
+  execFileSync('sox', [
+    '-n',
+    '-r',
+    String(rate),
+    '-b',
+    String(bits),
+    ...(encoding ? ['-e', encoding] : []),
+    '-c',
+    String(channels),
+    file,
+    'synth',
+    String(seconds),
+    ...synth,
+    'vol',
+    '0.5',
+  ])
   return file
 }
 

@@ -26,7 +26,16 @@ const item = (o: Partial<ManifestItem>): ManifestItem => ({
 })
 
 const parse = (csv: string): Record<string, string>[] =>
-  JSON.parse(execFileSync('python3', ['-c', 'import csv, io, json, sys; print(json.dumps(list(csv.DictReader(io.StringIO(sys.stdin.read(), newline="")))))'], { input: csv, encoding: 'utf8' }))
+  JSON.parse(
+    execFileSync(
+      'python3',
+      [
+        '-c',
+        'import csv, io, json, sys; print(json.dumps(list(csv.DictReader(io.StringIO(sys.stdin.read(), newline="")))))',
+      ],
+      { input: csv, encoding: 'utf8' },
+    ),
+  )
 
 describe('manifest.csv', () => {
   it('prefixes every text cell that begins with = + - @ tab or CR with a quote character', () => {

@@ -8,7 +8,15 @@
 import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
 import { DEFAULT_NAMING_TEMPLATE } from '@shared/schemas/packs'
-import { buildFileName, fillTemplate, outputNames, sanitizeName, transliterate, uniquify, type NamingFacts } from '../../server/packs/naming'
+import {
+  buildFileName,
+  fillTemplate,
+  outputNames,
+  sanitizeName,
+  transliterate,
+  uniquify,
+  type NamingFacts,
+} from '../../server/packs/naming'
 
 const PORTABLE = /^[A-Za-z0-9_-]+$/
 
@@ -117,7 +125,12 @@ const facts = (o: Partial<NamingFacts> = {}): NamingFacts => ({
 
 describe('naming templates', () => {
   it('fills every token', () => {
-    expect(fillTemplate('{device}|{state}|{kind}|{descriptor}|{session}|{date}|{index}|{take}|{title}|{file}|{pack}', facts())).toBe(
+    expect(
+      fillTemplate(
+        '{device}|{state}|{kind}|{descriptor}|{session}|{date}|{index}|{take}|{title}|{file}|{pack}',
+        facts(),
+      ),
+    ).toBe(
       'Doorbell transformer|idle|one-shot|hum|Workshop bench sweep|20261121|03|12|Transformer close up|T001_transformer|Bench pack',
     )
   })
@@ -133,7 +146,12 @@ describe('naming templates', () => {
       { name: 'Doorbell transformer hum', facts: facts({ index: 3 }) },
       { name: null, facts: facts({ devices: [], tags: [], title: '', index: 4 }) },
     ])
-    expect(names).toEqual(['Doorbell_transformer_hum', 'Doorbell_transformer_hum_2', 'Doorbell_transformer_hum_3', 'item'])
+    expect(names).toEqual([
+      'Doorbell_transformer_hum',
+      'Doorbell_transformer_hum_2',
+      'Doorbell_transformer_hum_3',
+      'item',
+    ])
   })
 
   it('fills {region} with the region name, and the default template names a region item by its region', () => {
@@ -144,9 +162,15 @@ describe('naming templates', () => {
       { name: null, facts: facts({ index: 2 }) },
       { name: null, facts: facts({ index: 3, regionName: '  ' }) },
     ])
-    expect(names).toEqual(['Doorbell_transformer_Clean_loop_01', 'Doorbell_transformer_hum_02', 'Doorbell_transformer_hum_03'])
+    expect(names).toEqual([
+      'Doorbell_transformer_Clean_loop_01',
+      'Doorbell_transformer_hum_02',
+      'Doorbell_transformer_hum_03',
+    ])
     // A template of the designer's own is left as written.
-    expect(outputNames('{descriptor}_{index}', [{ name: null, facts: facts({ index: 1, regionName: 'Clean loop' }) }])).toEqual(['hum_01'])
+    expect(
+      outputNames('{descriptor}_{index}', [{ name: null, facts: facts({ index: 1, regionName: 'Clean loop' }) }]),
+    ).toEqual(['hum_01'])
   })
 
   it('names the zip <pack-name>_v<version>.zip', () => {

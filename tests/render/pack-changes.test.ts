@@ -29,29 +29,51 @@ const item = (itemId: number, fileName: string, o: Partial<ItemSpec> = {}): Item
   ...o,
 })
 const snap = (items: ItemSpec[], licenceText = 'Words.'): BuildSnapshot => ({
-  pack: { id: 1, name: 'P', description: '', licenceText, namingTemplate: '{index}', settings: DEFAULT_RENDER_SETTINGS },
+  pack: {
+    id: 1,
+    name: 'P',
+    description: '',
+    licenceText,
+    namingTemplate: '{index}',
+    settings: DEFAULT_RENDER_SETTINGS,
+  },
   items,
 })
 
 describe('what changed between two builds', () => {
   it('lists items added, removed, renamed and re-rendered, one line each', () => {
     const before = snap([item(1, 'a.wav'), item(2, 'b.wav'), item(3, 'c.wav'), item(4, 'd.wav')])
-    const after = snap([
-      item(1, 'a.wav'),
-      item(2, 'b_renamed.wav'),
-      item(3, 'c.wav', { startSeconds: 0.5 }),
-      item(5, 'e.wav'),
-    ], 'New words.')
+    const after = snap(
+      [item(1, 'a.wav'), item(2, 'b_renamed.wav'), item(3, 'c.wav', { startSeconds: 0.5 }), item(5, 'e.wav')],
+      'New words.',
+    )
     const c = computeChanges(before, after, 3)
-    expect(c).toMatchObject({ sinceVersion: 3, added: ['e.wav'], removed: ['d.wav'], renamed: [{ from: 'b.wav', to: 'b_renamed.wav' }], rerendered: ['c.wav'] })
-    expect(c.text.split('\n')).toEqual(['Added: e.wav', 'Removed: d.wav', 'Renamed: b.wav → b_renamed.wav', 'Re-rendered: c.wav', 'The licence text changed.'])
+    expect(c).toMatchObject({
+      sinceVersion: 3,
+      added: ['e.wav'],
+      removed: ['d.wav'],
+      renamed: [{ from: 'b.wav', to: 'b_renamed.wav' }],
+      rerendered: ['c.wav'],
+    })
+    expect(c.text.split('\n')).toEqual([
+      'Added: e.wav',
+      'Removed: d.wav',
+      'Renamed: b.wav → b_renamed.wav',
+      'Re-rendered: c.wav',
+      'The licence text changed.',
+    ])
   })
 
   it('counts a changed render spec or type as re-rendered, not metadata', () => {
     const before = snap([item(1, 'a.wav'), item(2, 'b.wav')])
-    const after = snap([item(1, 'a.wav', { settings: { ...DEFAULT_RENDER_SETTINGS, bitDepth: 16 } }), item(2, 'b.wav', { tags: ['new tag'], kind: 'loop' })])
+    const after = snap([
+      item(1, 'a.wav', { settings: { ...DEFAULT_RENDER_SETTINGS, bitDepth: 16 } }),
+      item(2, 'b.wav', { tags: ['new tag'], kind: 'loop' }),
+    ])
     expect(computeChanges(before, after, 1).rerendered).toEqual(['a.wav', 'b.wav'])
-    expect(computeChanges(before, snap([item(1, 'a.wav', { tags: ['x'] }), item(2, 'b.wav')]), 1).text).toBe('No changes to the items since version 1.')
+    expect(computeChanges(before, snap([item(1, 'a.wav', { tags: ['x'] }), item(2, 'b.wav')]), 1).text).toBe(
+      'No changes to the items since version 1.',
+    )
   })
 
   it('says so for a first version', () => {

@@ -26,7 +26,13 @@ export const META: ItemMetadata = {
 export async function render(
   source: string,
   out: string,
-  o: { settings?: Partial<RenderSettings>; kind?: ItemKind; start?: number | null; end?: number | null; metadata?: Partial<ItemMetadata> } = {},
+  o: {
+    settings?: Partial<RenderSettings>
+    kind?: ItemKind
+    start?: number | null
+    end?: number | null
+    metadata?: Partial<ItemMetadata>
+  } = {},
 ): Promise<RenderResult> {
   return renderItem(
     {
@@ -44,7 +50,9 @@ export async function render(
 
 /** The file's samples as ffmpeg decodes them (32-bit float, interleaved), and its channel count. */
 export function decode(file: string, channels: number): Float32Array[] {
-  const raw = execFileSync('ffmpeg', ['-v', 'error', '-i', file, '-f', 'f32le', '-acodec', 'pcm_f32le', '-'], { maxBuffer: 1 << 30 })
+  const raw = execFileSync('ffmpeg', ['-v', 'error', '-i', file, '-f', 'f32le', '-acodec', 'pcm_f32le', '-'], {
+    maxBuffer: 1 << 30,
+  })
   const all = new Float32Array(raw.buffer, raw.byteOffset, raw.length / 4)
   const frames = all.length / channels
   return Array.from({ length: channels }, (_, c) => {
@@ -61,7 +69,11 @@ export function mono(channels: Float32Array[]): Float32Array {
 }
 
 export function ffprobe(file: string): { stream: Record<string, string | number>; tags: Record<string, string> } {
-  const j = JSON.parse(execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-show_format', '-of', 'json', file], { encoding: 'utf8' }))
+  const j = JSON.parse(
+    execFileSync('ffprobe', ['-v', 'error', '-show_streams', '-show_format', '-of', 'json', file], {
+      encoding: 'utf8',
+    }),
+  )
   return { stream: j.streams[0], tags: j.format.tags ?? {} }
 }
 
@@ -69,7 +81,7 @@ export function ffprobe(file: string): { stream: Record<string, string | number>
 export function chunks(file: string): Map<string, Buffer> {
   const b = fs.readFileSync(file)
   const out = new Map<string, Buffer>()
-  for (let p = 12; p + 8 <= b.length; ) {
+  for (let p = 12; p + 8 <= b.length;) {
     const id = b.toString('latin1', p, p + 4)
     const size = b.readUInt32LE(p + 4)
     if (!out.has(id)) out.set(id, b.subarray(p + 8, p + 8 + size))

@@ -15,34 +15,171 @@ const dir = tempDir('render-levels')
 const src = (name: string) => path.join(dir, name)
 
 beforeAll(() => {
-  sox(['-n', '-r', '48000', '-b', '24', '-c', '2', src('pink-48k24-stereo.wav'), 'synth', '5', 'pinknoise', 'vol', '-30dB'])
-  sox(['-n', '-r', '44100', '-b', '16', '-c', '1', src('white-44k16-mono.wav'), 'synth', '4', 'whitenoise', 'vol', '-20dB'])
-  sox(['-n', '-r', '96000', '-e', 'floating-point', '-b', '32', '-c', '1', src('tone-96kf-mono.wav'), 'synth', '3', 'sine', '1000', 'vol', '-35dB'])
-  sox(['-n', '-r', '96000', '-b', '24', '-c', '2', src('brown-96k24-stereo.wav'), 'synth', '4', 'brownnoise', 'vol', '-12dB'])
-  ffmpeg(['-f', 'lavfi', '-i', 'anoisesrc=color=pink:amplitude=0.05:sample_rate=44100:duration=4:seed=3', '-ac', '2', '-c:a', 'pcm_f32le', src('pink-44kf-stereo.wav')])
+  sox([
+    '-n',
+    '-r',
+    '48000',
+    '-b',
+    '24',
+    '-c',
+    '2',
+    src('pink-48k24-stereo.wav'),
+    'synth',
+    '5',
+    'pinknoise',
+    'vol',
+    '-30dB',
+  ])
+  sox([
+    '-n',
+    '-r',
+    '44100',
+    '-b',
+    '16',
+    '-c',
+    '1',
+    src('white-44k16-mono.wav'),
+    'synth',
+    '4',
+    'whitenoise',
+    'vol',
+    '-20dB',
+  ])
+  sox([
+    '-n',
+    '-r',
+    '96000',
+    '-e',
+    'floating-point',
+    '-b',
+    '32',
+    '-c',
+    '1',
+    src('tone-96kf-mono.wav'),
+    'synth',
+    '3',
+    'sine',
+    '1000',
+    'vol',
+    '-35dB',
+  ])
+  sox([
+    '-n',
+    '-r',
+    '96000',
+    '-b',
+    '24',
+    '-c',
+    '2',
+    src('brown-96k24-stereo.wav'),
+    'synth',
+    '4',
+    'brownnoise',
+    'vol',
+    '-12dB',
+  ])
+  ffmpeg([
+    '-f',
+    'lavfi',
+    '-i',
+    'anoisesrc=color=pink:amplitude=0.05:sample_rate=44100:duration=4:seed=3',
+    '-ac',
+    '2',
+    '-c:a',
+    'pcm_f32le',
+    src('pink-44kf-stereo.wav'),
+  ])
   // A quiet 440 Hz tone with one loud 5 ms burst of 3 kHz: reaching −18 LUFS would need about +10 dB, the ceiling allows none.
   ffmpeg([
-    '-f', 'lavfi', '-i', "aevalsrc='0.05*sin(2*PI*440*t)+if(between(t,2,2.005),0.9*sin(2*PI*3000*t),0)':s=48000:d=6",
-    '-c:a', 'pcm_s24le', src('burst-48k24-mono.wav'),
+    '-f',
+    'lavfi',
+    '-i',
+    "aevalsrc='0.05*sin(2*PI*440*t)+if(between(t,2,2.005),0.9*sin(2*PI*3000*t),0)':s=48000:d=6",
+    '-c:a',
+    'pcm_s24le',
+    src('burst-48k24-mono.wav'),
   ])
-  sox(['-n', '-r', '48000', '-e', 'floating-point', '-b', '32', '-c', '1', src('noise-short-float.wav'), 'synth', '0.6', 'whitenoise', 'vol', '-20dB'])
-  sox(['-n', '-r', '48000', '-b', '24', '-c', '1', src('click-0.25s.wav'), 'synth', '0.25', 'sine', '2000', 'vol', '-30dB'])
+  sox([
+    '-n',
+    '-r',
+    '48000',
+    '-e',
+    'floating-point',
+    '-b',
+    '32',
+    '-c',
+    '1',
+    src('noise-short-float.wav'),
+    'synth',
+    '0.6',
+    'whitenoise',
+    'vol',
+    '-20dB',
+  ])
+  sox([
+    '-n',
+    '-r',
+    '48000',
+    '-b',
+    '24',
+    '-c',
+    '1',
+    src('click-0.25s.wav'),
+    'synth',
+    '0.25',
+    'sine',
+    '2000',
+    'vol',
+    '-30dB',
+  ])
 })
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }))
 
 const CASES = [
-  { name: 'pink noise, 48 kHz 24-bit stereo → 24-bit at −18 LUFS', file: 'pink-48k24-stereo.wav', bitDepth: 24, target: -18, codec: 'pcm_s24le' },
-  { name: 'white noise, 44.1 kHz 16-bit mono → 16-bit at −18 LUFS', file: 'white-44k16-mono.wav', bitDepth: 16, target: -18, codec: 'pcm_s16le' },
-  { name: '1 kHz tone, 96 kHz float mono → 32-bit float at −23 LUFS', file: 'tone-96kf-mono.wav', bitDepth: 32, target: -23, codec: 'pcm_f32le' },
-  { name: 'brown noise, 96 kHz 24-bit stereo → 16-bit (dithered) at −20 LUFS', file: 'brown-96k24-stereo.wav', bitDepth: 16, target: -20, codec: 'pcm_s16le' },
-  { name: 'pink noise, 44.1 kHz float stereo → 24-bit (dithered) at −16 LUFS', file: 'pink-44kf-stereo.wav', bitDepth: 24, target: -16, codec: 'pcm_s24le' },
+  {
+    name: 'pink noise, 48 kHz 24-bit stereo → 24-bit at −18 LUFS',
+    file: 'pink-48k24-stereo.wav',
+    bitDepth: 24,
+    target: -18,
+    codec: 'pcm_s24le',
+  },
+  {
+    name: 'white noise, 44.1 kHz 16-bit mono → 16-bit at −18 LUFS',
+    file: 'white-44k16-mono.wav',
+    bitDepth: 16,
+    target: -18,
+    codec: 'pcm_s16le',
+  },
+  {
+    name: '1 kHz tone, 96 kHz float mono → 32-bit float at −23 LUFS',
+    file: 'tone-96kf-mono.wav',
+    bitDepth: 32,
+    target: -23,
+    codec: 'pcm_f32le',
+  },
+  {
+    name: 'brown noise, 96 kHz 24-bit stereo → 16-bit (dithered) at −20 LUFS',
+    file: 'brown-96k24-stereo.wav',
+    bitDepth: 16,
+    target: -20,
+    codec: 'pcm_s16le',
+  },
+  {
+    name: 'pink noise, 44.1 kHz float stereo → 24-bit (dithered) at −16 LUFS',
+    file: 'pink-44kf-stereo.wav',
+    bitDepth: 24,
+    target: -16,
+    codec: 'pcm_s24le',
+  },
 ] as const
 
 describe('loudness normalisation, measured by ffmpeg ebur128', () => {
   for (const c of CASES) {
     it(c.name, async () => {
       const out = path.join(dir, `out-${c.file}`)
-      const r = await render(src(c.file), out, { settings: { normalize: 'loudness', loudnessTargetLufs: c.target, bitDepth: c.bitDepth } })
+      const r = await render(src(c.file), out, {
+        settings: { normalize: 'loudness', loudnessTargetLufs: c.target, bitDepth: c.bitDepth },
+      })
       const ref = ffmpegEbur128(out)
       expect(r.underTargetDb).toBeNull()
       expect(Math.abs(ref.integratedLufs - c.target)).toBeLessThanOrEqual(0.2)
@@ -74,7 +211,9 @@ describe('loudness normalisation, measured by ffmpeg ebur128', () => {
 describe('the true-peak ceiling (gain only, no limiter)', () => {
   it('a loud peaky burst stops at the ceiling and is flagged under target by how much', async () => {
     const out = path.join(dir, 'burst.wav')
-    const r = await render(src('burst-48k24-mono.wav'), out, { settings: { loudnessTargetLufs: -18, truePeakCeilingDbtp: -1 } })
+    const r = await render(src('burst-48k24-mono.wav'), out, {
+      settings: { loudnessTargetLufs: -18, truePeakCeilingDbtp: -1 },
+    })
     const ref = ffmpegEbur128(out)
     expect(r.limited).toBe(true)
     expect(ref.truePeakDbtp).toBeLessThanOrEqual(-1 + 0.1)
@@ -88,7 +227,9 @@ describe('the true-peak ceiling (gain only, no limiter)', () => {
 
   it('peak normalisation to −6 dBTP lands there by ffmpeg’s true peak (two BS.1770 meters agree within 0.3 dB on tones)', async () => {
     const out = path.join(dir, 'peak.wav')
-    const r = await render(src('tone-96kf-mono.wav'), out, { settings: { normalize: 'peak', peakTargetDbtp: -6, bitDepth: 24 } })
+    const r = await render(src('tone-96kf-mono.wav'), out, {
+      settings: { normalize: 'peak', peakTargetDbtp: -6, bitDepth: 24 },
+    })
     expect(r.mode).toBe('peak')
     expect(r.underTargetDb).toBeNull()
     expect(Math.abs(ffmpegEbur128(out).truePeakDbtp - -6)).toBeLessThanOrEqual(0.3)
@@ -99,9 +240,13 @@ describe('the true-peak ceiling (gain only, no limiter)', () => {
     const q = await render(src('white-44k16-mono.wav'), quiet, { settings: { normalize: 'none', bitDepth: 16 } })
     expect(q.gainDb).toBe(0)
     // ffmpeg prints one decimal, so two readings of the same level can differ by one step (0.1) plus float noise.
-    expect(Math.abs(ffmpegEbur128(quiet).integratedLufs - ffmpegEbur128(src('white-44k16-mono.wav')).integratedLufs)).toBeLessThanOrEqual(0.1 + 1e-9)
+    expect(
+      Math.abs(ffmpegEbur128(quiet).integratedLufs - ffmpegEbur128(src('white-44k16-mono.wav')).integratedLufs),
+    ).toBeLessThanOrEqual(0.1 + 1e-9)
     const loud = path.join(dir, 'none-loud.wav')
-    const l = await render(src('burst-48k24-mono.wav'), loud, { settings: { normalize: 'none', truePeakCeilingDbtp: -6 } })
+    const l = await render(src('burst-48k24-mono.wav'), loud, {
+      settings: { normalize: 'none', truePeakCeilingDbtp: -6 },
+    })
     expect(l.gainDb).toBeLessThan(0)
     expect(ffmpegEbur128(loud).truePeakDbtp).toBeLessThanOrEqual(-6 + 0.1)
   })
@@ -110,14 +255,18 @@ describe('the true-peak ceiling (gain only, no limiter)', () => {
 describe('short items and fades', () => {
   it('corrects once when long fades move a short item off target by more than 0.1 LU', async () => {
     const out = path.join(dir, 'short-faded.wav')
-    const r = await render(src('noise-short-float.wav'), out, { settings: { fadeInMs: 200, fadeOutMs: 200, bitDepth: 24 } })
+    const r = await render(src('noise-short-float.wav'), out, {
+      settings: { fadeInMs: 200, fadeOutMs: 200, bitDepth: 24 },
+    })
     expect(r.passes).toBe(2)
     expect(Math.abs(ffmpegEbur128(out).integratedLufs - -18)).toBeLessThanOrEqual(0.2)
   })
 
   it('an item shorter than one 400 ms block has no integrated loudness (BS.1770-4 §2.8) and is normalised by its short-sound loudness', async () => {
     const out = path.join(dir, 'click.wav')
-    const r = await render(src('click-0.25s.wav'), out, { settings: { normalize: 'loudness', loudnessTargetLufs: -24, truePeakCeilingDbtp: -1 } })
+    const r = await render(src('click-0.25s.wav'), out, {
+      settings: { normalize: 'loudness', loudnessTargetLufs: -24, truePeakCeilingDbtp: -1 },
+    })
     expect(r.mode).toBe('loudness')
     expect(r.levels.integratedLufs).toBeNull()
     expect(r.levels.shortSoundLufs).not.toBeNull()

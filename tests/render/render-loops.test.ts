@@ -15,7 +15,28 @@ const noise = path.join(dir, 'pink.wav')
 
 beforeAll(() => {
   // Left 50 Hz, right 75 Hz with a third harmonic: channels that cross zero at different times.
-  sox(['-n', '-r', '44100', '-b', '24', '-c', '2', hum, 'synth', '3', 'sine', '50', 'sine', '75', 'synth', 'sine', 'mix', '150', 'vol', '-12dB'])
+  sox([
+    '-n',
+    '-r',
+    '44100',
+    '-b',
+    '24',
+    '-c',
+    '2',
+    hum,
+    'synth',
+    '3',
+    'sine',
+    '50',
+    'sine',
+    '75',
+    'synth',
+    'sine',
+    'mix',
+    '150',
+    'vol',
+    '-12dB',
+  ])
   sox(['-n', '-r', '48000', '-b', '16', '-c', '1', noise, 'synth', '3', 'pinknoise', 'vol', '-20dB'])
 })
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }))
@@ -24,15 +45,36 @@ afterAll(() => fs.rmSync(dir, { recursive: true, force: true }))
 const rising = (m: Float32Array, i: number) => m[i - 1] < 0 && m[i] >= 0
 
 const cases = [
-  { name: 'stereo hum, 44.1 kHz 24-bit → 24-bit', file: hum, rate: 44100, channels: 2, bitDepth: 24 as const, start: 0.4031, end: 2.5517 },
-  { name: 'pink noise, 48 kHz 16-bit → 16-bit', file: noise, rate: 48000, channels: 1, bitDepth: 16 as const, start: 0.5, end: 2.0 },
+  {
+    name: 'stereo hum, 44.1 kHz 24-bit → 24-bit',
+    file: hum,
+    rate: 44100,
+    channels: 2,
+    bitDepth: 24 as const,
+    start: 0.4031,
+    end: 2.5517,
+  },
+  {
+    name: 'pink noise, 48 kHz 16-bit → 16-bit',
+    file: noise,
+    rate: 48000,
+    channels: 1,
+    bitDepth: 16 as const,
+    start: 0.5,
+    end: 2.0,
+  },
 ]
 
 describe('loop cut points and the smpl chunk', () => {
   for (const c of cases) {
     it(c.name, async () => {
       const out = path.join(dir, `loop-${path.basename(c.file)}`)
-      const r = await render(c.file, out, { kind: 'loop', start: c.start, end: c.end, settings: { bitDepth: c.bitDepth } })
+      const r = await render(c.file, out, {
+        kind: 'loop',
+        start: c.start,
+        end: c.end,
+        settings: { bitDepth: c.bitDepth },
+      })
       expect(r.loop?.onCrossings).toBe(true)
       expect(r.fadeInFrames + r.fadeOutFrames).toBe(0)
 

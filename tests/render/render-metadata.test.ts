@@ -21,7 +21,9 @@ let result: Awaited<ReturnType<typeof render>>
 
 beforeAll(async () => {
   sox(['-n', '-r', '48000', '-b', '24', '-c', '2', source, 'synth', '5', 'pinknoise', 'vol', '-25dB'])
-  result = await render(source, out, { metadata: { timeReference: 172_800_000, keywords: ['hum', 'mains', 'Doorbell transformer'] } })
+  result = await render(source, out, {
+    metadata: { timeReference: 172_800_000, keywords: ['hum', 'mains', 'Doorbell transformer'] },
+  })
 })
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }))
 
@@ -35,7 +37,9 @@ describe('bext and INFO of a rendered file', () => {
     expect(tags.creation_time).toBe('09:15:30')
     expect(tags.time_reference).toBe('172800000')
     // Coding history in the EBU R 98 form: the source line, then the render line.
-    expect(tags.coding_history).toMatch(/^A=PCM,F=48000,W=24,M=stereo,T=source take\r\nA=PCM,F=48000,W=24,M=stereo,T=SF-TEST-1 render, gain \+[0-9.]+ dB/)
+    expect(tags.coding_history).toMatch(
+      /^A=PCM,F=48000,W=24,M=stereo,T=source take\r\nA=PCM,F=48000,W=24,M=stereo,T=SF-TEST-1 render, gain \+[0-9.]+ dB/,
+    )
     expect(tags.title).toBe(META.title)
     expect(tags.IKEY).toBe('hum; mains; Doorbell transformer')
   })
@@ -45,7 +49,11 @@ describe('bext and INFO of a rendered file', () => {
     expect(bext.readUInt16LE(346)).toBe(2)
     const raw = [412, 414, 416, 418, 420].map((at) => bext.readInt16LE(at) / 100)
     const lv = result.levels
-    expect(raw).toEqual([lv.integratedLufs, lv.loudnessRangeLu, lv.truePeakDbtp, lv.maxMomentaryLufs, lv.maxShortTermLufs].map((v) => Math.round(v! * 100) / 100))
+    expect(raw).toEqual(
+      [lv.integratedLufs, lv.loudnessRangeLu, lv.truePeakDbtp, lv.maxMomentaryLufs, lv.maxShortTermLufs].map(
+        (v) => Math.round(v! * 100) / 100,
+      ),
+    )
     const meta = await readMetadata(out, await probeWav(out))
     expect(meta.bext).toMatchObject({
       version: 2,

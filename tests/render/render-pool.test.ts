@@ -59,6 +59,8 @@ describe('the render pool', () => {
   })
 
   it('keeps the ENOENT code of a missing source, which names the failure in a build', async () => {
-    await expect(pool.render(request(path.join(dir, 'gone.wav')), path.join(dir, 'x.wav'), { stopped: false })).rejects.toMatchObject({ code: 'ENOENT' })
+    await expect(
+      pool.render(request(path.join(dir, 'gone.wav')), path.join(dir, 'x.wav'), { stopped: false }),
+    ).rejects.toMatchObject({ code: 'ENOENT' })
   })
 })

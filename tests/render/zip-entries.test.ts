@@ -11,7 +11,11 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { storedEntryRange, zipEntries } from '../../server/packs/zip-entries'
 
 let dir: string
-const files = { 'first.wav': randomBytes(5000), 'second take.wav': randomBytes(70_001), 'LICENSE.txt': Buffer.from('words\n') }
+const files = {
+  'first.wav': randomBytes(5000),
+  'second take.wav': randomBytes(70_001),
+  'LICENSE.txt': Buffer.from('words\n'),
+}
 
 beforeAll(() => {
   dir = fs.mkdtempSync(path.join(os.tmpdir(), 'zip-entries-'))

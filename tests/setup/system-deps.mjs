@@ -30,7 +30,10 @@ if (!isRoot) {
 console.log(`Installing test programs: ${missing.join(', ')}`)
 const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' }
 execFileSync('apt-get', ['update', '-qq'], { stdio: 'inherit', env })
-const res = spawnSync('apt-get', ['install', '-y', '-qq', '--no-install-recommends', ...missing], { stdio: 'inherit', env })
+const res = spawnSync('apt-get', ['install', '-y', '-qq', '--no-install-recommends', ...missing], {
+  stdio: 'inherit',
+  env,
+})
 if (res.status !== 0) {
   console.error(`Installing failed. Run by hand:\n  ${command}`)
   process.exit(1)

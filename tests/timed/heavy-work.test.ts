@@ -25,7 +25,9 @@ beforeAll(async () => {
   const pack = await designer.post('/api/packs', { name: 'Heavy work pack' }).expect(201)
   packId = pack.body.pack.id
   // A range, not the whole take: the server measures it (on a worker thread) when it is added.
-  const item = await designer.post(`/api/packs/${packId}/items`, { takeId, startSeconds: 1, endSeconds: 50 }).expect(201)
+  const item = await designer
+    .post(`/api/packs/${packId}/items`, { takeId, startSeconds: 1, endSeconds: 50 })
+    .expect(201)
   itemId = item.body.item.id
   expect(item.body.item.sourceLevels?.measuredFrom ?? 'range').toBe('range')
 }, 120_000)
@@ -36,7 +38,10 @@ afterAll(async () => {
 
 /** Detailed 30 s excerpts at the largest size: each takes the renderer seconds of CPU. */
 const excerpt = (c: Client, start: number) =>
-  c.get(`/api/takes/${takeId}/spectrogram.png?start=${start}&end=${start + 30}&width=3200&height=512`).buffer(true).parse(binary as never)
+  c
+    .get(`/api/takes/${takeId}/spectrogram.png?start=${start}&end=${start + 30}&width=3200&height=512`)
+    .buffer(true)
+    .parse(binary as never)
 
 describe('heavy work off the event loop', () => {
   it('keeps /api/health answering promptly while spectrograms and a preview render', async () => {
@@ -44,7 +49,10 @@ describe('heavy work off the event loop', () => {
       excerpt(designer, 0),
       excerpt(designer, 5),
       excerpt(producer, 10),
-      designer.get(`/api/packs/${packId}/items/${itemId}/preview`).buffer(true).parse(binary as never),
+      designer
+        .get(`/api/packs/${packId}/items/${itemId}/preview`)
+        .buffer(true)
+        .parse(binary as never),
     ])
     let done = false
     void work.finally(() => (done = true))

@@ -73,6 +73,8 @@ describe('nothing freezes', () => {
     // The labels come from the file once the worker has read it; what was cut is said.
     expect(take.title).toBe('hostile title')
     expect(take.analysis.metadata.ixml.scene).toBe('kept')
-    expect(take.analysis.metadata.dropped).toEqual(expect.arrayContaining([expect.stringMatching(/^iXML document: \d+ characters, kept the first 65536$/)]))
+    expect(take.analysis.metadata.dropped).toEqual(
+      expect.arrayContaining([expect.stringMatching(/^iXML document: \d+ characters, kept the first 65536$/)]),
+    )
   })
 })

@@ -13,7 +13,8 @@ export interface KernelInstance<E> {
 }
 
 export function instantiate<E extends { memory: WebAssembly.Memory }>(base64: string): KernelInstance<E> {
-  const exports = new WebAssembly.Instance(new WebAssembly.Module(Buffer.from(base64, 'base64')), {}).exports as unknown as E
+  const exports = new WebAssembly.Instance(new WebAssembly.Module(Buffer.from(base64, 'base64')), {})
+    .exports as unknown as E
   const memory = exports.memory
   const base = memory.buffer.byteLength
   return {

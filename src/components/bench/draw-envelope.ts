@@ -65,7 +65,8 @@ export function envelopeRenderer(gain: () => number, colours: () => EnvelopeColo
       ctx.fillStyle = c.core
       for (let x = 0; x < W; x++) {
         let low = half[x]
-        for (let k = Math.max(0, x - CORE_RADIUS); k <= Math.min(W - 1, x + CORE_RADIUS); k++) if (half[k] < low) low = half[k]
+        for (let k = Math.max(0, x - CORE_RADIUS); k <= Math.min(W - 1, x + CORE_RADIUS); k++)
+          if (half[k] < low) low = half[k]
         const h = low * reach
         if (h > 0.3) ctx.fillRect(x, mid - h, 1, 2 * h)
       }

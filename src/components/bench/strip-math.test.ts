@@ -2,7 +2,17 @@
 // server's own row mapping, and image placement on the visible range.
 import { describe, expect, it } from 'vitest'
 import { SPECTROGRAM_COLOURS, rowBandHz } from '../../../server/audio/spectrogram'
-import { SPECTROGRAM_RAMP, freqAt, freqFraction, freqTicks, initials, parseRulerTime, placeImage, rulerTicks, rulerTime } from './strip-math'
+import {
+  SPECTROGRAM_RAMP,
+  freqAt,
+  freqFraction,
+  freqTicks,
+  initials,
+  parseRulerTime,
+  placeImage,
+  rulerTicks,
+  rulerTime,
+} from './strip-math'
 
 describe('ruler', () => {
   it('labels m:ss, h:mm:ss on takes of an hour or more, and decimals only when the step needs them', () => {
@@ -36,7 +46,7 @@ describe('ruler', () => {
 describe('frequency axis', () => {
   const axis = { minHz: 20, maxHz: 24000, scale: 'log' as const }
 
-  it("puts each frequency in the row the server renders it in (server/audio/spectrogram.ts rowBandHz)", () => {
+  it('puts each frequency in the row the server renders it in (server/audio/spectrogram.ts rowBandHz)', () => {
     const height = 256
     for (const hz of [50, 1000, 9000, 20000]) {
       const row = Math.floor(freqFraction(hz, axis) * height)
@@ -51,7 +61,8 @@ describe('frequency axis', () => {
     const ticks = freqTicks(axis, 170)
     expect(ticks.map((t) => t.label)).toContain('1 kHz')
     expect(ticks.map((t) => t.label)).toContain('100 Hz')
-    for (let i = 1; i < ticks.length; i++) expect((ticks[i].fraction - ticks[i - 1].fraction) * 170).toBeGreaterThanOrEqual(16)
+    for (let i = 1; i < ticks.length; i++)
+      expect((ticks[i].fraction - ticks[i - 1].fraction) * 170).toBeGreaterThanOrEqual(16)
   })
 })
 

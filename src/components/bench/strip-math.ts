@@ -37,14 +37,22 @@ export const samplePosition = (n: number) => String(Math.round(n)).replace(/\B(?
  * Labelled ticks for the visible range, at least `minGapPx` apart: times on
  * a normal zoom, sample positions (with "smp") on a deep one.
  */
-export function rulerTicks(view: TimeRange, widthPx: number, duration: number, sampleRate: number, minGapPx = 72): { ticks: RulerTick[]; unit: 'time' | 'samples' } {
+export function rulerTicks(
+  view: TimeRange,
+  widthPx: number,
+  duration: number,
+  sampleRate: number,
+  minGapPx = 72,
+): { ticks: RulerTick[]; unit: 'time' | 'samples' } {
   const span = Math.max(1e-9, view.end - view.start)
   const perPx = span / Math.max(1, widthPx)
   if (span < SAMPLE_RULER_BELOW_SECONDS && sampleRate > 0) {
-    const stepSamples = SAMPLE_STEPS.find((s) => s / sampleRate / perPx >= minGapPx) ?? SAMPLE_STEPS[SAMPLE_STEPS.length - 1]
+    const stepSamples =
+      SAMPLE_STEPS.find((s) => s / sampleRate / perPx >= minGapPx) ?? SAMPLE_STEPS[SAMPLE_STEPS.length - 1]
     const first = Math.ceil((view.start * sampleRate) / stepSamples) * stepSamples
     const ticks: RulerTick[] = []
-    for (let n = first; n / sampleRate <= view.end + 1e-9 && ticks.length < 200; n += stepSamples) ticks.push({ seconds: n / sampleRate, label: samplePosition(n) })
+    for (let n = first; n / sampleRate <= view.end + 1e-9 && ticks.length < 200; n += stepSamples)
+      ticks.push({ seconds: n / sampleRate, label: samplePosition(n) })
     return { ticks, unit: 'samples' }
   }
   const step = TIME_STEPS.find((s) => s / perPx >= minGapPx) ?? TIME_STEPS[TIME_STEPS.length - 1]
@@ -93,13 +101,19 @@ export function hzLabel(hz: number): string {
 }
 
 /** Labelled frequencies for an axis `heightPx` tall, at least `minGapPx` apart. */
-export function freqTicks(a: FreqAxis, heightPx: number, minGapPx = 16): { hz: number; fraction: number; label: string }[] {
+export function freqTicks(
+  a: FreqAxis,
+  heightPx: number,
+  minGapPx = 16,
+): { hz: number; fraction: number; label: string }[] {
   let candidates: number[]
   if (a.scale === 'log') {
     candidates = []
     for (let d = 1; d <= 100000; d *= 10) for (const m of [1, 2, 5]) candidates.push(m * d)
   } else {
-    const step = [100, 200, 500, 1000, 2000, 5000, 10000].find((s) => (s / (a.maxHz - a.minHz)) * heightPx >= minGapPx * 1.5) ?? 10000
+    const step =
+      [100, 200, 500, 1000, 2000, 5000, 10000].find((s) => (s / (a.maxHz - a.minHz)) * heightPx >= minGapPx * 1.5) ??
+      10000
     candidates = []
     for (let f = Math.ceil(a.minHz / step) * step; f <= a.maxHz; f += step) candidates.push(f)
   }

@@ -5,7 +5,11 @@ import type { Source } from '@shared/schemas/sources'
 import type { Take } from '@shared/schemas/takes'
 import { findDevice, sortRows, withPrimary } from './sheet'
 
-const take = (id: number, filename: string, o: { lufs?: number | null; device?: [number, string, string][]; createdAt?: string } = {}) =>
+const take = (
+  id: number,
+  filename: string,
+  o: { lufs?: number | null; device?: [number, string, string][]; createdAt?: string } = {},
+) =>
   ({
     id,
     filename,
@@ -13,7 +17,14 @@ const take = (id: number, filename: string, o: { lufs?: number | null; device?: 
     status: 'ready',
     sources: (o.device ?? []).map(([sourceId, name, state]) => ({ sourceId, name, kind: 'other', state })),
     format: null,
-    analysis: o.lufs === undefined ? null : { loudness: { integratedLufs: o.lufs }, levels: { truePeakDbtp: null }, spectrum: { mainsHum: { hz: null } } },
+    analysis:
+      o.lufs === undefined
+        ? null
+        : {
+            loudness: { integratedLufs: o.lufs },
+            levels: { truePeakDbtp: null },
+            spectrum: { mainsHum: { hz: null } },
+          },
   }) as unknown as Take
 
 describe('sortRows', () => {
@@ -24,21 +35,33 @@ describe('sortRows', () => {
   })
 
   it('keeps rows without a value last in both directions, ties by file name', () => {
-    const rows = [take(1, 'C.wav', { lufs: -20 }), take(2, 'A.wav'), take(3, 'B.wav', { lufs: -30 }), take(4, 'D.wav', { lufs: -20 })]
+    const rows = [
+      take(1, 'C.wav', { lufs: -20 }),
+      take(2, 'A.wav'),
+      take(3, 'B.wav', { lufs: -30 }),
+      take(4, 'D.wav', { lufs: -20 }),
+    ]
     expect(sortRows(rows, 'lufs', 'asc').map((t) => t.filename)).toEqual(['B.wav', 'C.wav', 'D.wav', 'A.wav'])
     // Ties stay in the recorder's order (file name ascending) whichever way the column runs.
     expect(sortRows(rows, 'lufs', 'desc').map((t) => t.filename)).toEqual(['C.wav', 'D.wav', 'B.wav', 'A.wav'])
   })
 
   it('sorts by device name and by upload time', () => {
-    const rows = [take(1, 'A.wav', { device: [[2, 'Fan', '']] }), take(2, 'B.wav'), take(3, 'C.wav', { device: [[1, 'Charger', 'idle']] })]
+    const rows = [
+      take(1, 'A.wav', { device: [[2, 'Fan', '']] }),
+      take(2, 'B.wav'),
+      take(3, 'C.wav', { device: [[1, 'Charger', 'idle']] }),
+    ]
     expect(sortRows(rows, 'device', 'asc').map((t) => t.id)).toEqual([3, 1, 2])
     expect(sortRows(rows, 'uploaded', 'desc').map((t) => t.id)).toEqual([3, 2, 1])
   })
 })
 
 describe('findDevice', () => {
-  const sources = [{ id: 1, name: 'Bench laptop charger' }, { id: 2, name: 'Desk fan motor' }] as Source[]
+  const sources = [
+    { id: 1, name: 'Bench laptop charger' },
+    { id: 2, name: 'Desk fan motor' },
+  ] as Source[]
   it('matches whatever the case and spacing, and nothing else', () => {
     expect(findDevice(sources, '  bench LAPTOP   charger ')?.id).toBe(1)
     expect(findDevice(sources, 'Bench laptop')).toBeNull()
@@ -47,7 +70,13 @@ describe('findDevice', () => {
 
 describe('withPrimary', () => {
   it('puts the edited link first and keeps the others, once each', () => {
-    const t = take(1, 'A.wav', { device: [[1, 'Charger', 'idle'], [2, 'Fan', 'on'], [3, 'Lamp', '']] })
+    const t = take(1, 'A.wav', {
+      device: [
+        [1, 'Charger', 'idle'],
+        [2, 'Fan', 'on'],
+        [3, 'Lamp', ''],
+      ],
+    })
     expect(withPrimary(t, { sourceId: 2, state: 'speed 1' })).toEqual([
       { sourceId: 2, state: 'speed 1' },
       { sourceId: 3, state: '' },

@@ -3,7 +3,17 @@
 import type { Source } from '@shared/schemas/sources'
 import type { Take } from '@shared/schemas/takes'
 
-export const SHEET_SORTS = ['filename', 'uploaded', 'device', 'state', 'duration', 'lufs', 'truePeak', 'hum', 'status'] as const
+export const SHEET_SORTS = [
+  'filename',
+  'uploaded',
+  'device',
+  'state',
+  'duration',
+  'lufs',
+  'truePeak',
+  'hum',
+  'status',
+] as const
 export type SheetSort = (typeof SHEET_SORTS)[number]
 
 /** The device a row is logged with: its first link (the sheet edits that one and keeps any others). */
@@ -49,13 +59,17 @@ export function sortRows(takes: Take[], by: SheetSort, order: 'asc' | 'desc'): T
     if (va === null && vb !== null) return 1
     if (vb === null && va !== null) return -1
     let c = 0
-    if (va !== null && vb !== null) c = typeof va === 'number' && typeof vb === 'number' ? va - vb : collator.compare(String(va), String(vb))
+    if (va !== null && vb !== null)
+      c = typeof va === 'number' && typeof vb === 'number' ? va - vb : collator.compare(String(va), String(vb))
     return c * sign || collator.compare(a.filename, b.filename) || a.id - b.id
   })
 }
 
 /** The links a row gets when its device and state become `sourceId`/`state`: that link first, other links kept. */
 export function withPrimary(t: Take, link: { sourceId: number; state: string } | null) {
-  const rest = t.sources.slice(1).filter((l) => l.sourceId !== link?.sourceId).map((l) => ({ sourceId: l.sourceId, state: l.state }))
+  const rest = t.sources
+    .slice(1)
+    .filter((l) => l.sourceId !== link?.sourceId)
+    .map((l) => ({ sourceId: l.sourceId, state: l.state }))
   return link ? [link, ...rest] : rest
 }

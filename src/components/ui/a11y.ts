@@ -4,9 +4,14 @@
 // such select carries its own aria-label, this names it from its placeholder,
 // once, wherever it appears. A select with a label or aria-label is left alone.
 function nameSelects(root: ParentNode) {
-  for (const input of root.querySelectorAll<HTMLInputElement>('input.el-select__input:not([aria-label]):not([aria-labelledby])')) {
+  for (const input of root.querySelectorAll<HTMLInputElement>(
+    'input.el-select__input:not([aria-label]):not([aria-labelledby])',
+  )) {
     if (input.id && document.querySelector(`label[for="${CSS.escape(input.id)}"]`)) continue
-    const placeholder = input.closest('.el-select')?.querySelector('.el-select__placeholder.is-transparent')?.textContent?.trim()
+    const placeholder = input
+      .closest('.el-select')
+      ?.querySelector('.el-select__placeholder.is-transparent')
+      ?.textContent?.trim()
     if (placeholder) input.setAttribute('aria-label', placeholder)
   }
 }

@@ -65,7 +65,11 @@ export function dismissNotice(id: number) {
 /** Keeps a notice while the pointer or focus is on it. */
 export function holdNotice(id: number, hold: boolean) {
   clearTimeout(timers.get(id))
-  if (!hold) timers.set(id, setTimeout(() => dismissNotice(id), 4000))
+  if (!hold)
+    timers.set(
+      id,
+      setTimeout(() => dismissNotice(id), 4000),
+    )
 }
 
 export function showNotice(text: string, tone: NoticeTone = 'done', opts: NoticeOptions = {}): number {
@@ -73,10 +77,14 @@ export function showNotice(text: string, tone: NoticeTone = 'done', opts: Notice
   const anchor = opts.near === undefined ? lastUsed : opts.near
   // One notice per place: a new one beside the same control replaces the old.
   const at = place(anchor)
-  for (const n of noticeState.items) if (Math.abs(n.top - at.top) < 4 && Math.abs(n.left - at.left) < 4) dismissNotice(n.id)
+  for (const n of noticeState.items)
+    if (Math.abs(n.top - at.top) < 4 && Math.abs(n.left - at.left) < 4) dismissNotice(n.id)
   noticeState.items.push({ id, text, tone, undo: opts.undo, ...at })
   const ms = opts.ms ?? (opts.undo ? 10000 : tone === 'error' ? 8000 : 5000)
-  timers.set(id, setTimeout(() => dismissNotice(id), ms))
+  timers.set(
+    id,
+    setTimeout(() => dismissNotice(id), ms),
+  )
   return id
 }
 

@@ -9,7 +9,11 @@ const Harness = defineComponent(() => {
   const posted = ref('')
   return () =>
     h('main', { style: 'max-width: 560px; margin: 40px auto; font-family: sans-serif' }, [
-      h(MentionInput, { modelValue: text.value, 'onUpdate:modelValue': (v: string) => (text.value = v), onSubmit: () => (posted.value = text.value) }),
+      h(MentionInput, {
+        modelValue: text.value,
+        'onUpdate:modelValue': (v: string) => (text.value = v),
+        onSubmit: () => (posted.value = text.value),
+      }),
       h('output', { 'data-test': 'posted' }, posted.value),
     ])
 })
