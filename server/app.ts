@@ -30,6 +30,8 @@ import { registerTakeExportRoutes } from './takes/takes.export'
 import { registerTagRoutes } from './tags/tags.routes'
 import { registerMentionRoutes } from './mentions/mentions.routes'
 import { registerModulationRoutes } from './modulation/modulation.routes'
+import { registerSimilarRoutes } from './similar/similar.routes'
+import { registerSuggestedTagRoutes } from './character/suggested-tags'
 
 export interface BuiltApp {
   app: Express
@@ -88,6 +90,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerOutboxRoutes(api, ctx)
   registerCaptureRoutes(api, ctx)
   registerIngestRoutes(api, ctx)
+  registerSuggestedTagRoutes(api, ctx) // before /takes/:id routes
   registerTakeRoutes(api, ctx)
   registerTakeRemovalRoutes(api, ctx)
   registerSpectrogramRoutes(api, ctx)
@@ -100,6 +103,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerTagRoutes(api, ctx)
   registerMentionRoutes(api, ctx)
   registerModulationRoutes(api, ctx)
+  registerSimilarRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

@@ -2,6 +2,7 @@
 // floor and spectrum, plus the waveform overview when a peaks path is given.
 import { open } from 'node:fs/promises'
 import type { Analysis, WavFormat } from '@shared/schemas/analysis'
+import { CharacterMeter, type TakeFeatures } from './character'
 import { Meter, type MeterResult } from './meter'
 import { PeaksBuilder } from './peaks'
 import { probeWav, readFrames, readMetadata, type WavInfo } from './wav-reader'
@@ -16,6 +17,8 @@ export interface AnalyzeOptions {
 export interface AnalyzeResult {
   format: WavFormat
   analysis: Analysis
+  /** The sounds-like features (kept apart from the analysis: the library never sends them). */
+  features?: TakeFeatures
 }
 
 /** Throws WavFormatError (from the reader) for files it cannot interpret. */
@@ -32,6 +35,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     encoding: format.encoding,
     validBitsPerSample: format.validBitsPerSample,
   })
+  const character = new CharacterMeter(format.sampleRate, format.frames)
   const peaks = opts.peaksPath
     ? new PeaksBuilder(opts.peaksPath, {
         sampleRate: format.sampleRate,
@@ -44,6 +48,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     let reported = 0
     for await (const block of readFrames(path, info, { float64Scale: scale })) {
       meter.push(block)
+      character.push(block)
       peaks?.push(block, meter.lastScan)
       done += block[0]?.length ?? 0
       const fraction = format.frames > 0 ? done / format.frames : 1
@@ -55,7 +60,9 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     const metadata = await readMetadata(path, info)
     peaks?.finish()
     opts.onProgress?.(1)
-    return { format, analysis: { ...unscale(meter.finish(), scale), metadata } }
+    const measured = unscale(meter.finish(), scale)
+    const { character: described, features } = character.finish(measured.spectrum)
+    return { format, analysis: { ...measured, metadata, character: described }, features }
   } catch (err) {
     peaks?.abort()
     throw err

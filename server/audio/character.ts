@@ -6,7 +6,7 @@
 // mono mix and measured when each is complete, and mains hum is read from the
 // spectrum the analysis has already averaged (spectrum.mainsHum).
 import type { Spectrum } from '@shared/schemas/analysis'
-import { type Character, type CharacterTag, type TagConfidence } from '@shared/schemas/character'
+import type { Character, CharacterTag, TagConfidence } from '@shared/schemas/character'
 import { ExcerptAnalyser, MEL_BANDS, type ExcerptMeasures, type LongFrame } from './character-frames'
 
 const EXCERPT_SECONDS = 4

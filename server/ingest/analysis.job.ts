@@ -7,6 +7,7 @@ import { readPeaks } from '../audio/peaks'
 import { addEvent, findTake, updateTake } from '../takes/takes.repository'
 import { prefillFromMetadata } from './prefill'
 import { failureText } from './remeasure'
+import { recordCharacter } from '../similar/similar.service'
 
 const THUMB_POINTS = 48
 
@@ -73,7 +74,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
       await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
       let last = 0
       const peaksPath = ctx.storage.peaksPath(take.id)
-      const { format, analysis } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
+      const { format, analysis, features } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
         // A database write per 2 % is plenty for a live progress bar.
         if (p - last < 0.02) return
         last = p
@@ -93,6 +94,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
           progress: 1,
         })
       })
+      await recordCharacter(ctx, take.id, analysis.character, features)
       await addEvent(
         ctx.db,
         take.id,

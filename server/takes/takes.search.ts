@@ -1,5 +1,6 @@
 import { sql, type RawBuilder } from 'kysely'
 import { normalizeTag } from '@shared/schemas/library'
+import { SUGGEST_FROM } from '@shared/schemas/character'
 import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
@@ -56,6 +57,8 @@ function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
   }
   for (const tag of new Set((q.tag ?? []).map(normalizeTag)))
     c.push(sql`takes.id IN (SELECT take_id FROM take_tags WHERE tag = ${tag})`)
+  for (const tag of new Set(q.character ?? []))
+    c.push(sql`takes.id IN (SELECT take_id FROM take_character WHERE tag = ${tag} AND confidence >= ${SUGGEST_FROM})`)
   if (q.sessionId) c.push(sql`takes.session_id = ${q.sessionId}`)
   if (q.uploaderId) c.push(sql`takes.uploader_id = ${q.uploaderId}`)
   if (q.sampleRate) c.push(sql`takes.sample_rate = ${q.sampleRate}`)
