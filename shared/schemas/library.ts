@@ -126,6 +126,7 @@ export const HISTORY_KINDS = [
   'region-added',
   'region-changed',
   'region-removed',
+  'split',
   'removed',
   'restored',
 ] as const
