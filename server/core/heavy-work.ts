@@ -14,6 +14,7 @@ import type { ModulationFile, ModulationOrder } from '../modulation/modulation-f
 import type { LoopTask, OnsetTask, SplitTask } from '../instrument/instrument-task'
 import type { SplitSegmentFrames } from '../instrument/split'
 import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
+import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
 import { AppError } from './errors'
@@ -29,6 +30,8 @@ export interface HeavyWork {
   /** Where a sweep falls apart into takes, and the copies of those ranges. */
   split(who: string, task: SplitTask): Promise<SplitSegmentFrames[]>
   splitCopy(who: string, task: SplitCopyTask): Promise<SplitCopyResult[]>
+  /** One cycle of a loop as WAV bytes, for the bench's loop audition. */
+  loopCycle(who: string, task: LoopCycleTask): Promise<Buffer>
   close(): Promise<void>
 }
 
@@ -93,6 +96,11 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
     loops: (who, task) => limited(who, (p) => p.run<LoopFrames[]>({ type: 'loops', ...task })),
     split: (who, task) => limited(who, (p) => p.run<SplitSegmentFrames[]>({ type: 'split', ...task })),
     splitCopy: (who, task) => limited(who, (p) => p.run<SplitCopyResult[]>({ type: 'split-copy', ...task })),
+    loopCycle: (who, task) =>
+      limited(who, async (p) => {
+        const bytes = await p.run<Uint8Array>({ type: 'loop-cycle', ...task })
+        return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength)
+      }),
     async close() {
       await pool?.close()
     },

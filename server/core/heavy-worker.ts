@@ -6,6 +6,7 @@
 //   modulation   a take's control curve as a csv, wav or MIDI file (server/modulation/)
 //   onsets, loops, split  the instrument tools' proposals over a take (server/instrument/)
 //   split-copy  sample-exact copies of ranges of a take, each a file of its own
+//   loop-cycle  one cycle of a loop (crossfaded) as a small WAV for the bench to play round
 import { parentPort } from 'node:worker_threads'
 import { errorInfo } from './thread-errors'
 import { renderItem, type PlainRenderRequest } from '../render/render'
@@ -23,6 +24,7 @@ import {
   type SplitTask,
 } from '../instrument/instrument-task'
 import { runSplitCopyTask, type SplitCopyTask } from '../instrument/split-copy'
+import { runLoopCycleTask, type LoopCycleTask } from '../instrument/loop-cycle'
 
 const port = parentPort
 if (!port) throw new Error('heavy-worker must run in a worker thread')
@@ -36,6 +38,7 @@ export type HeavyTask =
   | ({ type: 'loops'; id: number } & LoopTask)
   | ({ type: 'split'; id: number } & SplitTask)
   | ({ type: 'split-copy'; id: number } & SplitCopyTask)
+  | ({ type: 'loop-cycle'; id: number } & LoopCycleTask)
 
 async function serve(m: HeavyTask): Promise<unknown> {
   switch (m.type) {
@@ -64,6 +67,8 @@ async function serve(m: HeavyTask): Promise<unknown> {
       return runSplitTask(m)
     case 'split-copy':
       return runSplitCopyTask(m)
+    case 'loop-cycle':
+      return runLoopCycleTask(m)
   }
 }
 

@@ -108,3 +108,16 @@ export type SplitBody = z.infer<typeof SplitBody>
 /** 201: the new takes, in the order of the segments, queued for measuring like uploads. */
 export const SplitResponse = z.object({ takes: z.array(Take) })
 export type SplitResponse = z.infer<typeof SplitResponse>
+
+// ---- loop audition ----
+
+/** GET /api/takes/:id/loop-cycle: one cycle of a loop as a float WAV, for the bench to play round and round. */
+export const LoopCycleQuery = z
+  .object({
+    startSeconds: z.coerce.number().finite().min(0),
+    endSeconds: z.coerce.number().finite().min(0),
+    /** The join's crossfade, blended from the material just before the start (default 0). */
+    crossfadeMs: z.coerce.number().finite().min(0).max(500).optional(),
+  })
+  .strict()
+export type LoopCycleQuery = z.infer<typeof LoopCycleQuery>
