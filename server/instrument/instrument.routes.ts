@@ -1,5 +1,11 @@
 import { IdParams } from '@shared/schemas/common'
-import { LoopSuggestionsBody, OnsetSuggestionsBody, SplitBody, SplitSuggestionsBody } from '@shared/schemas/instrument'
+import {
+  LoopCycleQuery,
+  LoopSuggestionsBody,
+  OnsetSuggestionsBody,
+  SplitBody,
+  SplitSuggestionsBody,
+} from '@shared/schemas/instrument'
 import type { AppContext } from '../core/context'
 import type { Api } from '../core/routes'
 import { body, params, query } from '../core/validate'

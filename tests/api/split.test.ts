@@ -14,7 +14,7 @@ import { probeWav } from '../../server/audio/wav-reader'
 import { parseBext } from '../../server/audio/wav-chunks'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { createSession, uploadTake, waitForTake } from '../helpers/uploads'
-import { ffprobe, makeTmpDir, soxi, type TmpDir } from '../helpers/audio-files'
+import { ffmpegF32, ffprobe, makeTmpDir, soxi, type TmpDir } from '../helpers/audio-files'
 import { buildSweep } from '../audio/split-signals'
 
 let server: TestServer
@@ -243,5 +243,40 @@ describe('POST /api/takes/:id/split', () => {
     const res = await recordist.post(`/api/takes/${id}/split`, { segments: [{ startSeconds: 0, endSeconds: 2 }] })
     expect(res.status).toBe(403)
     expect(res.body.error.message).toMatch(/only takes you uploaded/)
+  })
+})
+
+describe('GET /api/takes/:id/loop-cycle', () => {
+  it('answers one cycle as a float WAV (soxi): the range itself, or crossfaded into the start', async () => {
+    const [a] = sweep.pieces[0]
+    const start = a / RATE + 1
+    const end = start + 0.5
+    const get = async (q: string) =>
+      designer.agent
+        .get(`/api/takes/${sweepTake}/loop-cycle?${q}`)
+        .buffer(true)
+        .parse(binary as never)
+    const plain = await get(`startSeconds=${start}&endSeconds=${end}`)
+    expect(plain.status).toBe(200)
+    const f = tmp.file('cycle.wav')
+    fs.writeFileSync(f, plain.body as Buffer)
+    expect(soxi(f)).toMatchObject({ rate: RATE, channels: 2, samples: RATE / 2, encoding: 'Floating Point PCM' })
+    // ffmpeg's decode of the left channel equals the take's samples (24-bit, so within one step).
+    const x = ffmpegF32(f).filter((_, i) => i % 2 === 0)
+    const s0 = Math.round(start * RATE)
+    for (const i of [0, 100, RATE / 2 - 1]) expect(Math.abs(x[i] - sweep.samples[s0 + i])).toBeLessThan(2 ** -22)
+    // Crossfaded: the last sample is (nearly) the one just before the start, so the cycle joins smoothly.
+    const faded = await get(`startSeconds=${start}&endSeconds=${end}&crossfadeMs=20`)
+    fs.writeFileSync(f, faded.body as Buffer)
+    const y = ffmpegF32(f).filter((_, i) => i % 2 === 0)
+    expect(y.length).toBe(RATE / 2)
+    expect(Math.abs(y[y.length - 1] - sweep.samples[s0 - 1])).toBeLessThan(0.01)
+    expect(Math.abs(y[0] - sweep.samples[s0])).toBeLessThan(2 ** -22)
+  })
+
+  it('refuses a range outside the take or longer than a loop search reads', async () => {
+    expect((await designer.get(`/api/takes/${sweepTake}/loop-cycle?startSeconds=1&endSeconds=999`)).status).toBe(400)
+    expect((await designer.get(`/api/takes/${sweepTake}/loop-cycle?startSeconds=2&endSeconds=1`)).status).toBe(400)
+    expect((await designer.get(`/api/takes/${sweepTake}/loop-cycle`)).status).toBe(400)
   })
 })
