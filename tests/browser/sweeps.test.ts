@@ -68,6 +68,7 @@ describe('split proposals on the field strip', () => {
     // Drag the first proposal's end edge 40 px to the left: the proposal ends earlier.
     const end = page.locator('[data-test=proposal-end]').first()
     const before = Number(await end.getAttribute('aria-valuenow'))
+    await end.scrollIntoViewIfNeeded()
     const box = (await end.boundingBox())!
     await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2)
     await page.mouse.down()
