@@ -104,11 +104,14 @@ function checkSegments(take: Measured, frames: number, segments: SplitBody['segm
   return ranges
 }
 
-/** "hum-sweep.wav" → "hum-sweep part 2 of 5.wav" (≤ 255 characters). */
-function partName(filename: string, k: number, n: number): string {
+/**
+ * "hum-sweep.wav" → "hum-sweep part 2 of 5.wav", or for a take split off on its own
+ * "hum-sweep from 12.50 s.wav" (≤ 255 characters).
+ */
+function partName(filename: string, k: number, n: number, startSeconds: number): string {
   const ext = path.extname(filename) || '.wav'
   const stem = filename.slice(0, filename.length - path.extname(filename).length)
-  const tail = ` part ${k} of ${n}${ext}`
+  const tail = n > 1 ? ` part ${k} of ${n}${ext}` : ` from ${startSeconds.toFixed(2)} s${ext}`
   return stem.slice(0, 255 - tail.length) + tail
 }
 
@@ -168,14 +171,17 @@ export async function splitTake(ctx: AppContext, user: User, id: number, body: S
         const copy = copies[k]
         const format = formats[k].format
         const relative = ctx.storage.audioRelative(copy.sha256)
-        const filename = partName(take.filename, k + 1, n)
+        const filename = partName(take.filename, k + 1, n, r.start / take.sample_rate)
         const span = `${formatTakeTime(r.start / take.sample_rate)}\u2013${formatTakeTime(r.end / take.sample_rate)}`
         const row = await insertTake(trx, {
           session_id: take.session_id,
           // The recording stays the recordist's: whoever uploaded the sweep may log its parts.
           uploader_id: take.uploader_id,
           filename,
-          title: `${take.title} (part ${k + 1} of ${n})`,
+          title:
+            n > 1
+              ? `${take.title} (part ${k + 1} of ${n})`
+              : `${take.title} (from ${formatTakeTime(r.start / take.sample_rate)})`,
           description: take.description,
           notes: take.notes,
           audio_path: relative,

@@ -101,7 +101,9 @@ describe('split proposals on the field strip', () => {
     const files = page.locator('[data-test=log-file]')
     await expect.poll(() => files.count(), { timeout: 20_000 }).toBeGreaterThanOrEqual(6)
     const names = await files.allInnerTexts()
-    expect(names.filter((n) => n.includes('shelf_sweep part'))).toHaveLength(4)
+    expect(
+      names.filter((n) => /shelf_sweep (part \d of 3|from [\d.]+ s)\.wav/.test(n.replace(/\s+/g, ' '))),
+    ).toHaveLength(4)
     await screenshot(page, 'sweeps-logsheet-desktop')
   })
 
