@@ -18,8 +18,14 @@ import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import { probeWav } from '../audio/wav-reader'
 import { isStorageFull, storageFull } from '../ingest/storage-errors'
-import { assertMayEditTake, loadTake, recordEvent } from '../takes/takes.service'
-import { findTakeBySha, findTakesByIds, insertTake, type TakeJoined } from '../takes/takes.repository'
+import {
+  assertMayEditTake,
+  findTakeBySha,
+  insertTake,
+  loadTake,
+  recordEvent,
+  type TakeJoined,
+} from '../takes/takes.service'
 import { takeRowsToTakes } from '../takes/takes.mapper'
 
 const round6 = (s: number) => Math.round(s * 1e6) / 1e6
@@ -226,8 +232,7 @@ export async function splitTake(ctx: AppContext, user: User, id: number, body: S
       return made
     })
     ctx.jobs.kick()
-    const rows = await findTakesByIds(ctx.db, ids)
-    rows.sort((a, b) => ids.indexOf(a.id) - ids.indexOf(b.id))
+    const rows = await Promise.all(ids.map((made) => loadTake(ctx.db, made)))
     return { takes: await takeRowsToTakes(ctx.db, rows) }
   } catch (err) {
     // Rolled back after a move (a commit that failed): a moved file goes unless a row refers to it.
