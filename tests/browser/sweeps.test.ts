@@ -13,7 +13,7 @@ import { signedIn, startTestServer, type TestServer } from '../helpers/server'
 import { launchBrowser, screenshot, signInThroughForm } from '../helpers/browser'
 import { createSession, uploadTake, waitForTake } from '../helpers/uploads'
 import { buildSweep } from '../audio/split-signals'
-import { humWithHarmonics } from '../audio/instrument-signals'
+import { burstTrain, humWithHarmonics } from '../audio/instrument-signals'
 
 let server: TestServer
 let browser: Browser
@@ -21,6 +21,9 @@ let page: Page
 let sessionId: number
 let sweepId: number
 let humId: number
+let burstId: number
+let packId: number
+const bursts = burstTrain(4, 48000, 6)
 const sweep = buildSweep(31, 5, [true, false, true, false], 48000)
 
 beforeAll(async () => {
@@ -34,7 +37,10 @@ beforeAll(async () => {
   }
   sweepId = (await uploadTake(rec, sessionId, file('sweep.wav', sweep.samples), 'shelf_sweep.wav')).body.take.id
   humId = (await uploadTake(rec, sessionId, file('hum.wav', humWithHarmonics(3, 48000)), 'loop_hum.wav')).body.take.id
-  for (const id of [sweepId, humId]) await waitForTake(rec, id, 120_000)
+  burstId = (await uploadTake(rec, sessionId, file('bursts.wav', bursts.samples), 'relay_bursts.wav')).body.take.id
+  for (const id of [sweepId, humId, burstId]) await waitForTake(rec, id, 120_000)
+  const designer = await signedIn(server.url, 'designer')
+  packId = (await designer.post('/api/packs', { name: 'Relay clicks, set one' })).body.pack.id
   browser = await launchBrowser()
   page = await (await browser.newContext({ viewport: { width: 1440, height: 900 } })).newPage()
   await signInThroughForm(page, server.url, 'designer@example.test')
@@ -143,7 +149,7 @@ describe('loop audition', () => {
           })
           return seen.at(-1)!.w
         },
-        { timeout: 20_000, intervals: [50] },
+        { timeout: 20_000, interval: 50 },
       )
       .toBeGreaterThanOrEqual(2)
     const wentBack = seen.some((x, i) => i > 0 && x.w > seen[i - 1].w && x.s < seen[i - 1].s)
@@ -152,5 +158,36 @@ describe('loop audition', () => {
     await cycle.click()
     await expect.poll(() => now.count()).toBe(0)
     expect(await cycle.getAttribute('aria-pressed')).toBe('false')
+  })
+})
+
+describe('one-shots to a pack', () => {
+  it('accepts one-shot proposals as one-shot regions and adds them all to a chosen pack in one step', async () => {
+    await openBench(burstId)
+    await page.getByRole('button', { name: 'Find one-shots' }).click()
+    await boxes().first().waitFor({ timeout: 30_000 })
+    const count = await boxes().count()
+    expect(count).toBe(bursts.onsets.length)
+    await page.locator('[data-test=strip-accept-all]').click()
+    await expect.poll(() => boxes().count(), { timeout: 30_000 }).toBe(0)
+    const bar = page.locator('[data-test=one-shots-to-pack]')
+    await bar.waitFor()
+    expect(await bar.innerText()).toContain(`${count} one-shots accepted`)
+    await bar.locator('.el-select').first().click()
+    await page.locator('.el-select-dropdown__item:visible', { hasText: 'Relay clicks, set one' }).click()
+    await bar.getByRole('button', { name: 'Add these one-shots to pack…' }).click()
+    await expect
+      .poll(() => page.locator('[data-test=notice]').innerText())
+      .toMatch(new RegExp(`${count} one-shots added`))
+    await screenshot(page, 'sweeps-one-shots-to-pack-desktop')
+
+    const designer = await signedIn(server.url, 'designer')
+    const regions = (await designer.get(`/api/takes/${burstId}/regions`)).body.regions as { id: number; kind: string }[]
+    expect(regions.map((r) => r.kind)).toEqual(Array(count).fill('one-shot'))
+    const pack = (await designer.get(`/api/packs/${packId}`)).body.pack as {
+      items: { regionId: number | null; kind: string }[]
+    }
+    expect(pack.items.map((i) => i.regionId).sort()).toEqual(regions.map((r) => r.id).sort())
+    expect(new Set(pack.items.map((i) => i.kind))).toEqual(new Set(['one-shot']))
   })
 })
