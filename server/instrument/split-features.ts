@@ -45,10 +45,13 @@ export class SplitFeatureTracker {
   private readonly window: Float32Array
   private readonly frame: number[]
   private readonly spectrum: number[]
-  private readonly ring: Float32Array
   private readonly edges: number[]
-  private filled = 0 // samples written into the ring so far
-  private nextAt: number // sample index (of the stream) where the next frame ends
+  /** The channels' mean, from stream sample `bufStart` on; it starts with a frame of zeros before the stream. */
+  private buf: Float32Array
+  private bufStart: number
+  private len: number
+  private fed = 0
+  private nextAt: number // stream index where the next frame's window ends
   private power: number[] = []
   private bandPower: number[] = []
 
@@ -64,8 +67,10 @@ export class SplitFeatureTracker {
     )
     this.frame = new Array<number>(this.size).fill(0)
     this.spectrum = this.fft.createComplexArray() as number[]
-    this.ring = new Float32Array(this.size)
     this.edges = bandBins(sampleRate, this.size)
+    this.buf = new Float32Array(this.size * 4)
+    this.bufStart = -this.size
+    this.len = this.size
     // The first frame is centred on sample hop/2, so frame k stands for [k·hop, (k+1)·hop).
     this.nextAt = Math.round(this.hop / 2 + this.size / 2)
   }
@@ -77,24 +82,28 @@ export class SplitFeatureTracker {
   /** Feeds planar samples; the channels' mean is what is analysed. */
   push(block: Float32Array[]) {
     const n = block[0].length
-    const k = 1 / block.length
-    for (let i = 0; i < n; i++) {
-      let v = 0
-      for (const ch of block) v += ch[i]
-      this.ring[this.filled % this.size] = v * k
-      this.filled++
-      if (this.filled === this.nextAt) this.emit()
+    this.room(n)
+    const out = this.buf.subarray(this.len, this.len + n)
+    out.set(block[0])
+    for (let c = 1; c < block.length; c++) {
+      const ch = block[c]
+      for (let i = 0; i < n; i++) out[i] += ch[i]
     }
+    if (block.length > 1) for (let i = 0, k = 1 / block.length; i < n; i++) out[i] *= k
+    this.len += n
+    this.fed += n
+    while (this.bufStart + this.len >= this.nextAt) this.emit()
   }
 
   /** Frames whose window would run past the end are computed over the zeros beyond it. */
   finish(): SplitFeatures {
-    const total = this.filled
+    const total = this.fed
     const frames = Math.ceil(total / this.hop)
     while (this.power.length < frames) {
-      this.ring[this.filled % this.size] = 0
-      this.filled++
-      if (this.filled === this.nextAt) this.emit()
+      this.room(this.hop)
+      this.buf.fill(0, this.len, this.len + this.hop)
+      this.len += this.hop
+      while (this.bufStart + this.len >= this.nextAt && this.power.length < frames) this.emit()
     }
     return {
       sampleRate: this.sampleRate,
@@ -107,16 +116,29 @@ export class SplitFeatureTracker {
     }
   }
 
-  private emit() {
-    const start = this.filled - this.size
-    // Power over the hop itself (the frame's own stretch of time), spectrum over the window around it.
-    let sq = 0
-    const hopFrom = this.size / 2 - Math.round(this.hop / 2)
-    for (let i = 0; i < this.size; i++) {
-      const v = this.ring[(start + i + this.size * 4) % this.size]
-      this.frame[i] = v * this.window[i]
-      if (i >= hopFrom && i < hopFrom + this.hop) sq += v * v
+  /** Room for n more samples: what no frame needs any more is dropped first. */
+  private room(n: number) {
+    const keep = Math.max(0, this.nextAt - this.size - this.bufStart)
+    if (keep > 0) {
+      this.buf.copyWithin(0, keep, this.len)
+      this.len -= keep
+      this.bufStart += keep
     }
+    if (this.len + n > this.buf.length) {
+      const bigger = new Float32Array(Math.max(this.buf.length * 2, this.len + n))
+      bigger.set(this.buf.subarray(0, this.len))
+      this.buf = bigger
+    }
+  }
+
+  private emit() {
+    const at = this.nextAt - this.size - this.bufStart
+    const x = this.buf
+    // Power over the hop itself (the frame's own stretch of time), spectrum over the window around it.
+    const hopFrom = at + this.size / 2 - Math.round(this.hop / 2)
+    let sq = 0
+    for (let i = hopFrom; i < hopFrom + this.hop; i++) sq += x[i] * x[i]
+    for (let i = 0; i < this.size; i++) this.frame[i] = x[at + i] * this.window[i]
     this.power.push(sq / this.hop)
     this.fft.realTransform(this.spectrum, this.frame)
     const s = this.spectrum
