@@ -7,6 +7,7 @@
 import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { sql } from 'kysely'
 import { SplitResponse, SplitSuggestionsResponse } from '@shared/schemas/instrument'
 import { HistoryResponse } from '@shared/schemas/library'
 import { encodeWav } from '../../server/audio/wav-writer'
@@ -224,6 +225,28 @@ describe('POST /api/takes/:id/split', () => {
     expect(twins.status).toBe(409)
     expect(twins.body.error).toMatchObject({ code: 'DUPLICATE_SEGMENT', details: { segment: 1, sameAsSegment: 0 } })
     expect([await takesIn(sessionId), storageFiles()]).toEqual(before)
+  })
+
+  it('leaves no take, row or file when the split fails inside its transaction', async () => {
+    const jobCount = async () => (await server.ctx.db.selectFrom('jobs').select('id').execute()).length
+    const before = [await takesIn(sessionId), storageFiles(), await jobCount()]
+    // A failure injected after every new take row is written: the whole unit must roll back.
+    await sql`CREATE TRIGGER fail_split BEFORE INSERT ON take_events WHEN NEW.summary LIKE 'Split into%' BEGIN SELECT RAISE(ABORT, 'injected failure'); END`.execute(
+      server.ctx.db,
+    )
+    try {
+      const [a, b] = sweep.pieces[4]
+      const res = await designer.post(`/api/takes/${sweepTake}/split`, {
+        segments: [
+          { startSeconds: 0.25, endSeconds: 2.25 },
+          { startSeconds: a / RATE, endSeconds: b / RATE },
+        ],
+      })
+      expect(res.status).toBe(500)
+    } finally {
+      await sql`DROP TRIGGER fail_split`.execute(server.ctx.db)
+    }
+    expect([await takesIn(sessionId), storageFiles(), await jobCount()]).toEqual(before)
   })
 
   it('lets a recordist split only takes they uploaded', async () => {
