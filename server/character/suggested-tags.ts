@@ -2,25 +2,13 @@
 // take does not carry yet. Accepting moves them into the take's tags (one
 // transaction, one history entry per take changed).
 import type { User } from '@shared/schemas/auth'
-import {
-  AcceptSuggestedBody,
-  SUGGEST_FROM,
-  type AcceptSuggestedResult,
-  type TagConfidence,
-} from '@shared/schemas/character'
+import { AcceptSuggestedBody, SUGGEST_FROM, type AcceptSuggestedResult } from '@shared/schemas/character'
 import { TAGS_PER_TAKE } from '@shared/schemas/library'
-import type { Analysis } from '@shared/schemas/analysis'
 import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import type { Api } from '../core/routes'
 import { body } from '../core/validate'
-import { findTakesByIds, missingTakeIds, replaceTags } from '../takes/takes.repository'
-import { mayEditTake, recordEvent } from '../takes/takes.service'
-
-/** What the take's analysis suggests beyond its own tags, strongest first. */
-export function suggestedTags(analysis: Analysis | null, tags: string[]): TagConfidence[] {
-  return (analysis?.character?.tags ?? []).filter((t) => t.confidence >= SUGGEST_FROM && !tags.includes(t.tag))
-}
+import { findTakesByIds, mayEditTake, missingTakeIds, recordEvent, replaceTags } from '../takes/takes.service'
 
 export async function acceptSuggested(
   ctx: AppContext,

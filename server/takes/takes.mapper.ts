@@ -3,7 +3,7 @@ import type { SourceKind } from '@shared/schemas/sources'
 import type { Take, TakeStatus } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { sourcesOf, tagsOf, type TakeJoined } from './takes.repository'
-import { suggestedTags } from '../character/suggested-tags'
+import { suggestedTags } from '@shared/schemas/character'
 
 export interface MapOptions {
   /** Leave the file's own metadata out of the analysis (library lists). */
@@ -43,7 +43,7 @@ export async function takeRowsToTakes(db: Db, rows: TakeJoined[], opts: MapOptio
       format: r.format_json ? (JSON.parse(r.format_json) as WavFormat) : null,
       analysis,
       character: analysis?.character ?? null,
-      suggestedTags: suggestedTags(analysis, own),
+      suggestedTags: suggestedTags(analysis?.character, own),
     }
   })
 }

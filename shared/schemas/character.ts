@@ -61,3 +61,8 @@ export const AcceptSuggestedResult = z.object({
   skipped: z.array(z.number().int()),
 })
 export type AcceptSuggestedResult = z.infer<typeof AcceptSuggestedResult>
+
+/** What a take's character suggests beyond the tags it carries, strongest first. */
+export function suggestedTags(character: Character | null | undefined, tags: string[]): TagConfidence[] {
+  return (character?.tags ?? []).filter((t) => t.confidence >= SUGGEST_FROM && !tags.includes(t.tag))
+}
