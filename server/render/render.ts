@@ -152,6 +152,9 @@ export async function renderItem(
   options: RenderItemOptions = {},
 ): Promise<RenderResult> {
   const durable = options.durable ?? true
+  // A profile decides the output word length.
+  if (req.settings.profile && req.settings.bitDepth !== req.settings.profile.bitDepth)
+    req = { ...req, settings: { ...req.settings, bitDepth: req.settings.profile.bitDepth } }
   const info = req.sourceInfo ?? (await probeWav(req.sourcePath))
   const f = info.format
   const s = req.settings
