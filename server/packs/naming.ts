@@ -162,8 +162,8 @@ function dropVowel(word: string): string | null {
 /**
  * A sanitised name shortened to `max` characters so it stays readable: the last word (the
  * index, or the word that tells near-identical names apart) is kept whole; the longest other words lose inner
- * vowels first, then letters from their ends, one at a time, down to two letters each; only
- * then are whole words dropped from the middle. Common practice for short sampler displays.
+ * vowels first, then letters from their ends, one at a time, down to three letters each; then
+ * whole words are dropped from the middle. Common practice for short sampler displays.
  */
 export function shortenName(name: string, max: number): string {
   if (name.length <= max) return name
@@ -183,18 +183,23 @@ export function shortenName(name: string, max: number): string {
     if (!next) break
     words[next.i] = dropVowel(next.w)!
   }
-  // 2. letters off the end of the longest words
-  while (join().length > max) {
-    const [longest] = shrinkable()
-    if (!longest || longest.w.length <= 2) break
-    words[longest.i] = longest.w.slice(0, -1)
+  // 2. letters off the end of the longest words, down to three letters each
+  const trim = (shortest: number) => {
+    while (join().length > max) {
+      const [longest] = shrinkable()
+      if (!longest || longest.w.length <= shortest) break
+      words[longest.i] = longest.w.slice(0, -1)
+    }
   }
-  // 3. whole words from the middle (the first and the last word stay)
+  trim(3)
+  // 3. whole words from the middle (the first and the last word stay): three letters read better than two
   while (join().length > max && words.length > 1 + keepLast) {
     const at = words.length - 1 - keepLast
     words.splice(at, 1)
     seps.splice(at - 1, 1)
   }
+  // 4. what is left, down to a letter a word; the final cut only for a single long word
+  trim(1)
   return sanitizeName(join(), max)
 }
 
