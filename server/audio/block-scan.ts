@@ -7,6 +7,35 @@
 
 export const CHUNK = 4
 
+/** Sum, sum of squares, low and high of x[i..n) (the partial last chunk c), stored as the chunk's. */
+function tailChunk(
+  x: Float32Array,
+  i: number,
+  n: number,
+  c: number,
+  lo: Float32Array,
+  hi: Float32Array,
+  cs: Float64Array,
+  ce: Float64Array,
+): { s: number; q: number } {
+  let l = Infinity,
+    h = -Infinity,
+    s = 0,
+    q = 0
+  for (let j = i; j < n; j++) {
+    const v = x[j]
+    s += v
+    q += v * v
+    l = Math.min(l, v)
+    h = Math.max(h, v)
+  }
+  lo[c] = l
+  hi[c] = h
+  cs[c] = s
+  ce[c] = q
+  return { s, q }
+}
+
 export class BlockScan {
   readonly channels: number
   frames = 0
@@ -53,6 +82,10 @@ export class BlockScan {
   /** Scans channels a and b (b = −1: a only); adds to the chunk energies when `accumulate`, else sets them. */
   private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
     const e = this.energy
+    // The first pair sets the chunk energies, later pairs add to them: zeroing first lets the loop
+    // always add (0 + x is x exactly). A choice between the two inside the loop made V8 keep the
+    // running sums as heap numbers, allocating on every chunk.
+    if (!accumulate) e.fill(0, 0, Math.ceil(n / CHUNK))
     const loA = this.lo[a],
       hiA = this.hi[a]
     const loB = b < 0 ? loA : this.lo[b],
@@ -91,7 +124,7 @@ export class BlockScan {
       qa += ea
       qb += eb
       const ec = ea + both * eb
-      e[c] = accumulate ? e[c] + ec : ec
+      e[c] += ec
       // Selects, not branches: on noise a branch here mispredicts half the time.
       const la = a0 < a1 ? a0 : a1,
         ha = a0 < a1 ? a1 : a0,
@@ -108,35 +141,17 @@ export class BlockScan {
     }
     if (i < n) {
       // The partial last chunk, channel by channel.
-      const tail = (x: Float32Array, lo: Float32Array, hi: Float32Array, cs: Float64Array, ce: Float64Array) => {
-        let l = Infinity,
-          h = -Infinity,
-          s = 0,
-          q = 0
-        for (let j = i; j < n; j++) {
-          const v = x[j]
-          s += v
-          q += v * v
-          l = Math.min(l, v)
-          h = Math.max(h, v)
-        }
-        lo[c] = l
-        hi[c] = h
-        cs[c] = s
-        ce[c] = q
-        return { s, q }
-      }
-      const ta = tail(xa, loA, hiA, sumA, nrgA)
+      const ta = tailChunk(xa, i, n, c, loA, hiA, sumA, nrgA)
       sa += ta.s
       qa += ta.q
       let ec = ta.q
       if (b >= 0) {
-        const tb = tail(xb, loB, hiB, sumB, nrgB)
+        const tb = tailChunk(xb, i, n, c, loB, hiB, sumB, nrgB)
         sb += tb.s
         qb += tb.q
         ec += tb.q
       }
-      e[c] = accumulate ? e[c] + ec : ec
+      e[c] += ec
     }
     this.sum[a] = sa
     this.sumSquares[a] = qa

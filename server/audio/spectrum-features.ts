@@ -116,10 +116,20 @@ const HUM_HARMONICS = 8
 /** Hum bands must hold at least this share of the total power (−70 dB; common practice, chosen here). */
 const HUM_MIN_SHARE = 1e-7
 
+/**
+ * Σ power[k] for k ≥ 1. Its own function: readHum runs once per segment and signal, too rarely for V8
+ * to optimise its body, and this loop, left unoptimised, boxed every partial sum (half a megabyte of
+ * garbage per call on a 64k-point spectrum).
+ */
+function powerAbove0(power: Float64Array): number {
+  let total = 0
+  for (let k = 1; k < power.length; k++) total += power[k]
+  return total
+}
+
 /** `thresholdDb`: how far a harmonic must stand out (6 dB on averaged spectra; one segment's spectrum is noisier, so its verdict asks for 10). */
 export function readHum(s: PowerSpectrum, thresholdDb = HUM_THRESHOLD_DB): HumReading {
-  let total = 0
-  for (let k = 1; k < s.power.length; k++) total += s.power[k]
+  const total = powerAbove0(s.power)
   const candidates = ([50, 60] as const).map((f0) => humCandidate(s, f0, total, thresholdDb))
   const mains = candidates.filter((c) => c.mains)
   const pick = (list: typeof candidates) =>

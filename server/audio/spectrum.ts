@@ -33,12 +33,22 @@ export interface PowerSpectrum {
 
 /** dst[at..] = sum over channels of planar[·][from..to) (the 1/channels of the mean is applied with the window). */
 function mixInto(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
-  const first = planar[0]
-  for (let i = from, j = at; i < to; i++, j++) dst[j] = first[i]
-  for (let ch = 1; ch < planar.length; ch++) {
-    const x = planar[ch]
-    for (let i = from, j = at; i < to; i++, j++) dst[j] += x[i]
-  }
+  copyInto(dst, at, planar[0], from, to)
+  for (let ch = 1; ch < planar.length; ch++) addInto(dst, at, planar[ch], from, to)
+}
+
+// One loop per function: a function with two long loops, called a few hundred times, was compiled
+// on the first loop's stack and thrown away on reaching the second (which had never run), again and
+// again, spending most of its time unoptimised (and allocating a number per sample).
+
+/** dst[at..] = src[from..to). */
+function copyInto(dst: Float64Array, at: number, src: Float32Array, from: number, to: number): void {
+  for (let i = from, j = at; i < to; i++, j++) dst[j] = src[i]
+}
+
+/** dst[at..] += src[from..to). */
+function addInto(dst: Float64Array, at: number, src: Float32Array, from: number, to: number): void {
+  for (let i = from, j = at; i < to; i++, j++) dst[j] += src[i]
 }
 
 export function fftSizeFor(sampleRate: number): number {
@@ -101,11 +111,6 @@ function addPowerOfDifference(a: Float64Array, b: Float64Array, power: Float64Ar
     sum[k] += p
     power[k] = p
   }
-}
-
-/** dst[at..] = src[from..to). */
-function copyInto(dst: Float64Array, at: number, src: Float32Array, from: number, to: number): void {
-  for (let i = from, j = at; i < to; i++, j++) dst[j] = src[i]
 }
 
 function hannWindow(len: number): { w: Float64Array; energy: number } {
