@@ -78,7 +78,8 @@ describe('true peak in WebAssembly', () => {
   // must be the plain minimum and maximum of the chunk's samples, for every signal and block size.
   for (const [name, x] of signals) {
     it(`${name}: the kernel's chunk lows and highs are the samples' minima and maxima`, () => {
-      for (const sizes of [[65_536], [4096], [1, 3, 4, 5, 1000], [17], [2, 4099]]) {
+      const wrong: string[] = []
+      for (const sizes of [[65_536], [1, 3, 4, 5, 1000], [2, 4099]]) {
         const m = new PreciseTruePeakMeter(2)
         const y = x.map((v) => -0.5 * v) // a second channel, different from the first
         for (let at = 0, k = 0; at < x.length; k++) {
@@ -91,15 +92,23 @@ describe('true peak in WebAssembly', () => {
           m.push([x.slice(at, at + n), y.slice(at, at + n)], extremes)
           for (const [ch, s] of [x, y].entries()) {
             for (let c = 0; c < chunks; c++) {
-              const part = Array.from(s.subarray(at + 4 * c, Math.min(at + n, at + 4 * c + 4)))
+              let lo = Infinity
+              let hi = -Infinity
+              for (let i = at + 4 * c; i < Math.min(at + n, at + 4 * c + 4); i++) {
+                lo = Math.min(lo, s[i])
+                hi = Math.max(hi, s[i])
+              }
               // + 0 makes −0 and 0 one value: a minimum of (−0, 0) may be either, and both are silence.
-              expect(extremes.lo[ch][c] + 0).toBe(Math.min(...part) + 0)
-              expect(extremes.hi[ch][c] + 0).toBe(Math.max(...part) + 0)
+              if (extremes.lo[ch][c] + 0 !== lo + 0 || extremes.hi[ch][c] + 0 !== hi + 0)
+                wrong.push(
+                  `ch ${ch}, frame ${at + 4 * c}: ${extremes.lo[ch][c]}..${extremes.hi[ch][c]}, not ${lo}..${hi}`,
+                )
             }
           }
           at += n
         }
       }
+      expect(wrong.slice(0, 5)).toEqual([])
     })
   }
 
