@@ -259,7 +259,7 @@ async function child(work: string, levelsFile: string): Promise<void> {
   const built = await runBuild(
     ctx,
     build.id,
-    async () => undefined,
+    new AbortController().signal,
     forced === undefined ? {} : { renderThreads: Number(forced) },
   )
   const buildSeconds = (performance.now() - t0) / 1000

@@ -31,8 +31,9 @@ export interface Config {
   mailCatcher: boolean
   /** Port of the embedded mail catcher (0: any free port). */
   mailCatcherPort: number
+  /** Takes measured at once (0: the audio-task pool's threads less one). */
   analysisWorkers: number
-  /** Worker threads for spectrograms, previews and range measurements (0: the default). */
+  /** Threads of the one audio-task pool, server/work/ (0: the default; at least two). */
   heavyThreads: number
   /** Such tasks one user may have running or waiting at once. */
   heavyPerUser: number

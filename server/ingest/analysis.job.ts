@@ -2,7 +2,7 @@ import type { Analysis, FileMetadata, WavFormat } from '@shared/schemas/analysis
 import type { AppContext } from '../core/context'
 import { publicErrorText } from '../core/errors'
 import type { JobHandler } from '../jobs/job-runner'
-import type { AnalysisPool } from '../audio/pool'
+import { runAudioTask } from '../work/audio-tasks'
 import { readPeaks } from '../audio/peaks'
 import { addEvent, findTake, updateTake } from '../takes/takes.repository'
 import { prefillFromMetadata } from './prefill'
@@ -63,23 +63,39 @@ function labelsFromFile(
   }
 }
 
-/** Measures one take in the worker pool and stores every number with it. */
-export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
+/**
+ * A task that sends no progress for this long (a reader stuck on hostile metadata, say) is stopped
+ * and the take fails with that reason.
+ */
+export const ANALYSIS_SILENCE_MS = 120_000
+
+/**
+ * Measures one take on the audio-task pool and stores every number with it. Status and progress
+ * go to the take's row only (the one place the API reads them). `concurrency`: takes measured at once.
+ */
+export function analysisJob(ctx: AppContext, concurrency: number): JobHandler {
   return {
-    concurrency: pool.size,
-    async run(job, progress) {
+    concurrency,
+    async run(job, signal) {
       const take = await findTake(ctx.db, job.ref_id)
       if (!take) return // deleted meanwhile
       await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
       let last = 0
       const peaksPath = ctx.storage.peaksPath(take.id)
-      const { format, analysis } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
-        // A database write per 2 % is plenty for a live progress bar.
-        if (p - last < 0.02) return
-        last = p
-        void updateTake(ctx.db, take.id, { progress: p }).catch(() => undefined)
-        void progress(p).catch(() => undefined)
-      })
+      const { format, analysis } = await runAudioTask(
+        'analyze',
+        { path: ctx.storage.abs(take.audio_path), peaksPath },
+        {
+          signal,
+          silenceLimitMs: ANALYSIS_SILENCE_MS,
+          onProgress: (p) => {
+            // A database write per 2 % is plenty for a live progress bar.
+            if (p - last < 0.02) return
+            last = p
+            void updateTake(ctx.db, take.id, { progress: p }).catch(() => undefined)
+          },
+        },
+      )
       const thumb = await thumbnail(peaksPath)
       await ctx.db.transaction().execute(async (trx) => {
         const now = await findTake(trx, take.id)
