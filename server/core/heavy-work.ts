@@ -9,7 +9,10 @@ import type { SpectrogramOptions } from '../audio/spectrogram'
 import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
 import type { ModulationFile, ModulationOrder } from '../modulation/modulation-files'
-import type { LoopTask, OnsetTask } from '../instrument/instrument-task'
+import type { LoopTask, OnsetTask, SplitTask } from '../instrument/instrument-task'
+import type { SplitSegmentFrames } from '../instrument/split'
+import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
+import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
 import { runAudioTask } from '../work/audio-tasks'
@@ -23,6 +26,11 @@ export interface HeavyWork {
   /** The instrument tools' proposals (server/instrument/). */
   onsets(who: string, task: OnsetTask): Promise<OnsetSliceFrames[]>
   loops(who: string, task: LoopTask): Promise<LoopFrames[]>
+  /** Where a sweep falls apart into takes, and the copies of those ranges. */
+  split(who: string, task: SplitTask): Promise<SplitSegmentFrames[]>
+  splitCopy(who: string, task: SplitCopyTask): Promise<SplitCopyResult[]>
+  /** One cycle of a loop as WAV bytes, for the bench's loop audition. */
+  loopCycle(who: string, task: LoopCycleTask): Promise<Buffer>
 }
 
 export interface HeavyWorkOptions {
@@ -72,5 +80,12 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
     modulation: (who, path, order) => limited(who, () => runAudioTask('modulation', { path, order })),
     onsets: (who, task) => limited(who, () => runAudioTask('onsets', task)),
     loops: (who, task) => limited(who, () => runAudioTask('loops', task)),
+    split: (who, task) => limited(who, () => runAudioTask('split', task)),
+    splitCopy: (who, task) => limited(who, () => runAudioTask('split-copy', task)),
+    loopCycle: (who, task) =>
+      limited(who, async () => {
+        const bytes = await runAudioTask('loop-cycle', task)
+        return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength)
+      }),
   }
 }

@@ -9,7 +9,9 @@ import { WavFormatError } from '../audio/wav-errors'
 import { measureRange } from '../render/level-meter'
 import { renderItem } from '../render/render'
 import { computeModulation } from '../modulation/modulation-compute'
-import { runLoopTask, runOnsetTask } from '../instrument/instrument-task'
+import { runLoopTask, runOnsetTask, runSplitTask } from '../instrument/instrument-task'
+import { runSplitCopyTask } from '../instrument/split-copy'
+import { runLoopCycleTask } from '../instrument/loop-cycle'
 import { buildTask } from '../packs/build-writer'
 import type { FromTask, TaskAnswer, TaskEnvelope, ToTask } from './protocol'
 import type { AudioTaskInput, AudioTaskKind, AudioTaskOutput } from './task-kinds'
@@ -53,6 +55,9 @@ const handlers: Handlers = {
   modulation: (i) => computeModulation(i.path, i.order),
   onsets: (i) => runOnsetTask(i),
   loops: (i) => runLoopTask(i),
+  split: (i) => runSplitTask(i),
+  'split-copy': (i) => runSplitCopyTask(i),
+  'loop-cycle': (i) => runLoopCycleTask(i),
   'pack-build': (order, t) =>
     buildTask(order, {
       render: (req, outPath, onFrames) => t.subtask('render', { req, outPath }, onFrames),

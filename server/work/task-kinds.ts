@@ -6,7 +6,10 @@ import type { SpectrogramOptions } from '../audio/spectrogram'
 import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderResult } from '../render/render'
 import type { ModulationFile, ModulationOrder } from '../modulation/modulation-files'
-import type { LoopTask, OnsetTask } from '../instrument/instrument-task'
+import type { LoopTask, OnsetTask, SplitTask } from '../instrument/instrument-task'
+import type { SplitSegmentFrames } from '../instrument/split'
+import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
+import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
 import type { BuildAnswer, BuildOrder } from '../packs/build-writer'
@@ -26,6 +29,12 @@ export interface AudioTasks {
   /** The instrument tools' proposals (server/instrument/). */
   onsets: { input: OnsetTask; output: OnsetSliceFrames[] }
   loops: { input: LoopTask; output: LoopFrames[] }
+  /** Where a sweep falls apart into takes. */
+  split: { input: SplitTask; output: SplitSegmentFrames[] }
+  /** Sample-exact copies of ranges of a take, each a file of its own. */
+  'split-copy': { input: SplitCopyTask; output: SplitCopyResult[] }
+  /** One cycle of a loop (crossfaded) as a small WAV for the bench to play round. */
+  'loop-cycle': { input: LoopCycleTask; output: Uint8Array }
   /**
    * Writes a pack build's zip; its items are rendered as `render` tasks on other threads of the same
    * pool while this one writes the zip. Progress: fraction 0..1 of the frames to render.
