@@ -1,4 +1,5 @@
 import type { Analysis, FileMetadata, WavFormat } from '@shared/schemas/analysis'
+import type { TakeGlyph } from '@shared/schemas/takes'
 import type { AppContext } from '../core/context'
 import { publicErrorText } from '../core/errors'
 import type { JobHandler } from '../jobs/job-runner'
@@ -28,10 +29,11 @@ async function thumbnail(peaksPath: string): Promise<number[]> {
 
 const fmt = (v: number | null, unit: string) => (v === null ? `— ${unit}` : `${v.toFixed(1)} ${unit}`)
 
-export function measuredColumns(format: WavFormat, analysis: Analysis) {
+/** The glyph is stored inside the analysis's JSON (key `glyph`; the mapper lifts it onto the take). */
+export function measuredColumns(format: WavFormat, analysis: Analysis, glyph?: TakeGlyph) {
   return {
     format_json: JSON.stringify(format),
-    analysis_json: JSON.stringify(analysis),
+    analysis_json: JSON.stringify(glyph ? { ...analysis, glyph } : analysis),
     duration_seconds: format.durationSeconds,
     sample_rate: format.sampleRate,
     channels: format.channels,
@@ -73,7 +75,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
       await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
       let last = 0
       const peaksPath = ctx.storage.peaksPath(take.id)
-      const { format, analysis } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
+      const { format, analysis, glyph } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
         // A database write per 2 % is plenty for a live progress bar.
         if (p - last < 0.02) return
         last = p
@@ -86,7 +88,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
         if (!now) return
         const labels = labelsFromFile(now, analysis.metadata)
         await updateTake(trx, take.id, {
-          ...measuredColumns(format, analysis),
+          ...measuredColumns(format, analysis, glyph),
           ...labels,
           thumb_json: JSON.stringify(thumb),
           status: 'ready',
