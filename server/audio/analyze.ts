@@ -2,6 +2,8 @@
 // floor and spectrum, plus the waveform overview when a peaks path is given.
 import { open } from 'node:fs/promises'
 import type { Analysis, WavFormat } from '@shared/schemas/analysis'
+import type { TakeGlyph } from '@shared/schemas/takes'
+import { GlyphMeter } from './glyph'
 import { Meter, type MeterResult } from './meter'
 import { PeaksBuilder } from './peaks'
 import { probeWav, readFrames, readMetadata, type WavInfo } from './wav-reader'
@@ -16,6 +18,8 @@ export interface AnalyzeOptions {
 export interface AnalyzeResult {
   format: WavFormat
   analysis: Analysis
+  /** The library row's small spectrogram (glyph.ts). */
+  glyph: TakeGlyph
 }
 
 /** Throws WavFormatError (from the reader) for files it cannot interpret. */
@@ -39,6 +43,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
         frames: format.frames,
       })
     : null
+  const glyph = new GlyphMeter(format.sampleRate, format.channels, format.frames)
   try {
     let done = 0
     let reported = 0
@@ -46,6 +51,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     // may refill the arrays of the block before last: no fresh arrays, less garbage collection.
     for await (const block of readFrames(path, info, { float64Scale: scale, recycle: 2 })) {
       meter.push(block)
+      glyph.push(block)
       peaks?.push(block, meter.lastScan)
       done += block[0]?.length ?? 0
       const fraction = format.frames > 0 ? done / format.frames : 1
@@ -57,7 +63,8 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     const metadata = await readMetadata(path, info)
     peaks?.finish()
     opts.onProgress?.(1)
-    return { format, analysis: { ...unscale(meter.finish(), scale), metadata } }
+    const measured = unscale(meter.finish(), scale)
+    return { format, analysis: { ...measured, metadata }, glyph: glyph.finish(measured.spectrum) }
   } catch (err) {
     peaks?.abort()
     throw err

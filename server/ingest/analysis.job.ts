@@ -1,4 +1,5 @@
 import type { Analysis, FileMetadata, WavFormat } from '@shared/schemas/analysis'
+import type { TakeGlyph } from '@shared/schemas/takes'
 import type { AppContext } from '../core/context'
 import { publicErrorText } from '../core/errors'
 import type { JobWork, WorkEnv } from '../jobs/queue'
@@ -28,10 +29,11 @@ async function thumbnail(peaksPath: string): Promise<number[]> {
 
 const fmt = (v: number | null, unit: string) => (v === null ? `— ${unit}` : `${v.toFixed(1)} ${unit}`)
 
-export function measuredColumns(format: WavFormat, analysis: Analysis) {
+/** The glyph is stored inside the analysis's JSON (key `glyph`; the mapper lifts it onto the take). */
+export function measuredColumns(format: WavFormat, analysis: Analysis, glyph?: TakeGlyph) {
   return {
     format_json: JSON.stringify(format),
-    analysis_json: JSON.stringify(analysis),
+    analysis_json: JSON.stringify(glyph ? { ...analysis, glyph } : analysis),
     duration_seconds: format.durationSeconds,
     sample_rate: format.sampleRate,
     channels: format.channels,
@@ -78,6 +80,7 @@ export interface AnalysisOrder {
 export interface AnalysisResult {
   format: WavFormat
   analysis: Analysis
+  glyph: TakeGlyph
   thumb: number[]
 }
 
@@ -85,7 +88,7 @@ export interface AnalysisResult {
 export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<AnalysisResult> {
   const peaksPath = env.storage.peaksPath(order.takeId)
   let last = 0
-  const { format, analysis } = await runAudioTask(
+  const { format, analysis, glyph } = await runAudioTask(
     'analyze',
     { path: env.storage.abs(order.audioPath), peaksPath },
     {
@@ -99,7 +102,7 @@ export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<A
       },
     },
   )
-  return { format, analysis, thumb: await thumbnail(peaksPath) }
+  return { format, analysis, glyph, thumb: await thumbnail(peaksPath) }
 }
 
 /**
@@ -119,13 +122,13 @@ export function analysisJob(ctx: AppContext, concurrency: number): JobWork<Analy
     progress(_job, order, p) {
       void updateTake(ctx.db, order.takeId, { progress: p }).catch(() => undefined)
     },
-    async record(_job, order, { format, analysis, thumb }) {
+    async record(_job, order, { format, analysis, glyph, thumb }) {
       await ctx.db.transaction().execute(async (trx) => {
         const now = await findTake(trx, order.takeId)
         if (!now) return
         const labels = labelsFromFile(now, analysis.metadata)
         await updateTake(trx, order.takeId, {
-          ...measuredColumns(format, analysis),
+          ...measuredColumns(format, analysis, glyph),
           ...labels,
           thumb_json: JSON.stringify(thumb),
           status: 'ready',
