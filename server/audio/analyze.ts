@@ -3,6 +3,8 @@
 import { open } from 'node:fs/promises'
 import type { Analysis, WavFormat } from '@shared/schemas/analysis'
 import { CharacterMeter, type TakeFeatures } from './character'
+import type { TakeGlyph } from '@shared/schemas/takes'
+import { GlyphMeter } from './glyph'
 import { Meter, type MeterResult } from './meter'
 import { PeaksBuilder } from './peaks'
 import { probeWav, readFrames, readMetadata, type WavInfo } from './wav-reader'
@@ -17,6 +19,8 @@ export interface AnalyzeOptions {
 export interface AnalyzeResult {
   format: WavFormat
   analysis: Analysis
+  /** The library row's small spectrogram (glyph.ts). */
+  glyph: TakeGlyph
   /** The sounds-like features (kept apart from the analysis: the library never sends them). */
   features?: TakeFeatures
 }
@@ -43,6 +47,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
         frames: format.frames,
       })
     : null
+  const glyph = new GlyphMeter(format.sampleRate, format.channels, format.frames)
   try {
     let done = 0
     let reported = 0
@@ -51,6 +56,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     for await (const block of readFrames(path, info, { float64Scale: scale, recycle: 2 })) {
       meter.push(block)
       character.push(block)
+      glyph.push(block)
       peaks?.push(block, meter.lastScan)
       done += block[0]?.length ?? 0
       const fraction = format.frames > 0 ? done / format.frames : 1
@@ -64,7 +70,12 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     opts.onProgress?.(1)
     const measured = unscale(meter.finish(), scale)
     const { character: described, features } = character.finish(measured.spectrum)
-    return { format, analysis: { ...measured, metadata, character: described }, features }
+    return {
+      format,
+      analysis: { ...measured, metadata, character: described },
+      glyph: glyph.finish(measured.spectrum),
+      features,
+    }
   } catch (err) {
     peaks?.abort()
     throw err

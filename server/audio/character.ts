@@ -20,6 +20,23 @@ export interface TakeFeatures {
   frameMel: Float32Array
 }
 
+/** TakeFeatures as plain arrays, for results that travel as JSON. */
+export interface FeaturesJson {
+  vector: number[]
+  frameTimes: number[]
+  frameMel: number[]
+}
+export const featuresToJson = (f: TakeFeatures): FeaturesJson => ({
+  vector: Array.from(f.vector),
+  frameTimes: Array.from(f.frameTimes),
+  frameMel: Array.from(f.frameMel),
+})
+export const featuresFromJson = (f: FeaturesJson): TakeFeatures => ({
+  vector: Float32Array.from(f.vector),
+  frameTimes: Float32Array.from(f.frameTimes),
+  frameMel: Float32Array.from(f.frameMel),
+})
+
 export interface CharacterResult {
   character: Character
   features: TakeFeatures

@@ -17,16 +17,25 @@ export function failureText(message: string, err?: unknown): string {
   return `${message}. This may pass (a full disk, a stopped worker): measuring again may help.`
 }
 
-/** POST /api/takes/:id/measure: a failed take is queued for measuring again (a designer, or the recordist who uploaded it). */
+/** A ready take measured before the library's spectrum glyph existed (its stored analysis has none). */
+function lacksGlyph(take: { status: string; analysis_json: string | null }): boolean {
+  return take.status === 'ready' && take.analysis_json !== null && !take.analysis_json.includes('"glyph":')
+}
+
+/**
+ * POST /api/takes/:id/measure: a failed take, or a ready one measured before glyphs, is queued for
+ * measuring again (a designer, or the recordist who uploaded it).
+ */
 export async function measureAgain(ctx: AppContext, user: User, id: number) {
   const take = await findTake(ctx.db, id)
   if (!take) throw notFound('take', 'TAKE_NOT_FOUND')
   assertMayEditTake(user, take, 'measure again')
-  if (take.status !== 'failed') {
+  const from = lacksGlyph(take) ? 'ready' : 'failed'
+  if (take.status !== from) {
     throw new AppError(
       409,
       'NOT_FAILED',
-      `Take ${take.id} is ${take.status}; only a take whose measuring failed is measured again`,
+      `Take ${take.id} is ${take.status}; only a take whose measuring failed (or that has no spectrum glyph yet) is measured again`,
       { status: take.status },
     )
   }
@@ -42,7 +51,7 @@ export async function measureAgain(ctx: AppContext, user: User, id: number) {
       .updateTable('takes')
       .set({ status: 'queued', progress: 0, error: null })
       .where('id', '=', id)
-      .where('status', '=', 'failed')
+      .where('status', '=', from)
       .executeTakeFirst()
     if (Number(claimed.numUpdatedRows) !== 1)
       throw new AppError(409, 'NOT_FAILED', `Take ${take.id} was queued again meanwhile`)

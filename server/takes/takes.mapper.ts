@@ -1,6 +1,6 @@
 import { Analysis, WavFormat } from '@shared/schemas/analysis'
 import type { SourceKind } from '@shared/schemas/sources'
-import type { Take, TakeStatus } from '@shared/schemas/takes'
+import type { Take, TakeGlyph, TakeStatus } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { sourcesOf, tagsOf, type TakeJoined } from './takes.repository'
 import { suggestedTags } from '@shared/schemas/character'
@@ -15,7 +15,10 @@ export async function takeRowsToTakes(db: Db, rows: TakeJoined[], opts: MapOptio
   const ids = rows.map((r) => r.id)
   const [links, tags] = await Promise.all([sourcesOf(db, ids), tagsOf(db, ids)])
   return rows.map((r) => {
-    const analysis = r.analysis_json ? (JSON.parse(r.analysis_json) as Analysis) : null
+    // The glyph is stored with the analysis (analysis.job.ts) and answered beside it.
+    const stored = r.analysis_json ? (JSON.parse(r.analysis_json) as Analysis & { glyph?: TakeGlyph }) : null
+    const { glyph = null, ...rest } = stored ?? {}
+    const analysis = stored ? (rest as Analysis) : null
     if (analysis && opts.withoutFileMetadata)
       analysis.metadata = { bext: null, ixml: null, info: {}, cues: [], loops: [], tags: {}, dropped: [] }
     const own = tags.filter((t) => t.take_id === r.id).map((t) => t.tag)
@@ -40,6 +43,7 @@ export async function takeRowsToTakes(db: Db, rows: TakeJoined[], opts: MapOptio
         .map((l) => ({ sourceId: l.source_id, name: l.name, kind: l.kind as SourceKind, state: l.state })),
       tags: own,
       thumb: r.thumb_json ? (JSON.parse(r.thumb_json) as number[]) : [],
+      glyph,
       format: r.format_json ? (JSON.parse(r.format_json) as WavFormat) : null,
       analysis,
       character: analysis?.character ?? null,

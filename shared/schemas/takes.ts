@@ -16,6 +16,25 @@ export const TakeSource = z.object({
 })
 export type TakeSource = z.infer<typeof TakeSource>
 
+/**
+ * A take's spectrum over time, small enough for a library row: `columns` time slices × the bands,
+ * each level quantised to 0..255 over the 60 dB below the glyph's loudest cell. Computed at
+ * measuring time (server/audio/glyph.ts) and stored with the analysis; takes measured before it
+ * have none until measured again.
+ */
+export const TakeGlyph = z.object({
+  /** Centre frequency of each band, Hz, low to high, equally spaced in log frequency. */
+  bands: z.array(z.number()),
+  columns: z.number().int(),
+  /** columns × bands.length levels, column by column, lowest band first; 0 = 60 dB or more below the loudest cell. */
+  levels: z.array(z.number().int().min(0).max(255)),
+  /** The mains-hum comb's fundamental when the take has mains hum. */
+  humHz: z.number().nullable(),
+  /** The loudest steady tone at or above 1 kHz (a switching supply's or a display's whine), Hz. */
+  whineHz: z.number().nullable(),
+})
+export type TakeGlyph = z.infer<typeof TakeGlyph>
+
 export const Take = z.object({
   id: z.number().int(),
   sessionId: z.number().int(),
@@ -38,6 +57,8 @@ export const Take = z.object({
   tags: z.array(z.string()),
   /** Tiny overview for lists: 0..1 amplitudes. */
   thumb: z.array(z.number()),
+  /** The library row's spectrum glyph; null until measured (or when measured before glyphs existed). */
+  glyph: TakeGlyph.nullable(),
   format: WavFormat.nullable(),
   analysis: Analysis.nullable(),
   /** The analysis's character descriptors (null before measuring or for analyses stored before them). */

@@ -10,6 +10,10 @@ describe('source kinds and their colour families', () => {
     expect(kindFamily('mains-wiring')).toBe('mains')
     expect(kindFamily('radio-link')).toBe('radio')
     expect(kindColor('display')).toBe('var(--sf-kind-display)')
+    expect(kindFamily('appliance')).toBe('mains')
+    expect(kindFamily('vehicle')).toBe('motor')
+    expect(kindFamily('camera')).toBe('camera')
+    expect(kindFamily('computer')).toBe('radio')
   })
 
   it('puts a kind it does not know, or none, into "other"', () => {

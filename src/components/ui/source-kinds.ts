@@ -18,10 +18,14 @@ export const FAMILY_LABELS: Record<KindFamily, string> = {
 const FAMILY_OF_KIND: Record<string, KindFamily> = {
   'mains-wiring': 'mains',
   lighting: 'mains',
+  // Mains-powered and closed: what a pickup hears from outside is its mains side.
+  appliance: 'mains',
   'power-supply': 'switching',
   'radio-link': 'radio',
   computer: 'radio',
   motor: 'motor',
+  // Alternators, fans and drive motors are what a coil hears from a vehicle.
+  vehicle: 'motor',
   display: 'display',
   camera: 'camera',
 }
