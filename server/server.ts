@@ -6,7 +6,7 @@ import { createMailer } from './mail/mailer'
 import { createApp } from './app'
 import { seedDemo } from './demo/seed'
 import type { AppContext } from './core/context'
-import { Storage } from './core/storage'
+import { openStorage } from './core/storage'
 import { lockData, type DataLock } from './core/data-lock'
 import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
@@ -45,7 +45,7 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
   const mailer = await createMailer(config, db)
-  const storage = new Storage(config.storageDir)
+  const storage = openStorage(config)
   storage.sweepIncoming()
   const pool = createAnalysisPool(config.analysisWorkers || undefined)
   const heavy = createHeavyWork({ threads: config.heavyThreads || undefined, perUser: config.heavyPerUser })

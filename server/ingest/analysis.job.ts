@@ -73,7 +73,8 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
       await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
       let last = 0
       const peaksPath = ctx.storage.peaksPath(take.id)
-      const { format, analysis } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
+      const audio = await ctx.storage.local(take.audio_path) // with S3, fetched into the working copy first
+      const { format, analysis } = await pool.run(audio, peaksPath, (p) => {
         // A database write per 2 % is plenty for a live progress bar.
         if (p - last < 0.02) return
         last = p
@@ -81,6 +82,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
         void progress(p).catch(() => undefined)
       })
       const thumb = await thumbnail(peaksPath)
+      await ctx.storage.persist(ctx.storage.peaksRelative(take.id))
       await ctx.db.transaction().execute(async (trx) => {
         const now = await findTake(trx, take.id)
         if (!now) return

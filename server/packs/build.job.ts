@@ -179,6 +179,10 @@ export async function runBuild(
   }
 
   const renderThreads = options.renderThreads ?? renderThreadsFor(snap)
+  // With S3 the build process reads takes by path: fetch each into the working copy first.
+  const audioFiles = new Map<string, string>()
+  for (const spec of snap.items)
+    if (!audioFiles.has(spec.audioPath)) audioFiles.set(spec.audioPath, await ctx.storage.local(spec.audioPath))
   const order: BuildOrder = {
     buildId,
     version: build.version,
@@ -187,7 +191,7 @@ export async function runBuild(
     requests: snap.items.map((spec) =>
       renderRequest(
         spec,
-        ctx.storage.abs(spec.audioPath),
+        audioFiles.get(spec.audioPath)!,
         `SF-P${snap.pack.id}-V${build.version}-${spec.position}`,
         createdAt,
       ),
@@ -245,6 +249,7 @@ async function record(
       under_target_db: it.manifest.underTargetDb,
     }
   })
+  await ctx.storage.persist(paths.finalRel) // with S3, the zip is in the bucket before the build says done
   await ctx.db.transaction().execute(async (trx) => {
     await repo.insertBuildItems(trx, rows)
     await repo.updateBuild(trx, buildId, {

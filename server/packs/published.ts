@@ -172,7 +172,7 @@ export async function sendBuildItem(
     )
   const spec = snapshotOf(build).items.find((s) => publishedItemId(s) === itemId)
   if (!spec) throw publishedItemNotFound()
-  const zip = ctx.storage.abs(build.zip_path)
+  const zip = await ctx.storage.local(build.zip_path)
   let range: Awaited<ReturnType<typeof storedEntryRange>>
   try {
     range = await storedEntryRange(zip, spec.fileName)
