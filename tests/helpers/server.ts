@@ -20,6 +20,8 @@ export async function startTestServer(overrides: Partial<Config> = {}): Promise<
       demo: true,
       demoAudio: false,
       clientDir: path.join(dir, 'no-client'),
+      // Under the scaled suite (STORAGE_URL=s3://…) each server gets a prefix of its own in the bucket.
+      storageUrl: process.env.STORAGE_URL ? `${process.env.STORAGE_URL}/${path.basename(dir)}` : null,
       ...overrides,
     },
     { ...process.env, SMTP_URL: overrides.smtpUrl ?? '', SESSION_SECRET: '' },
