@@ -1,4 +1,4 @@
-import { defineConfig, mergeConfig } from 'vitest/config'
+import { mergeConfig } from 'vitest/config'
 import base from '../../vite.config'
 
 /**
@@ -6,20 +6,16 @@ import base from '../../vite.config'
  * STORAGE_URL, S3_* and AWS_* first): its own tests plus the API tests whose files go
  * through storage, run here against S3.
  */
-export default mergeConfig(
-  base,
-  defineConfig({
-    test: {
-      include: [
-        'tests/scaled/**/*.test.ts',
-        'tests/api/tus-upload.test.ts',
-        'tests/api/ingest.test.ts',
-        'tests/api/ingest-reliability.test.ts',
-        'tests/api/library-*.test.ts',
-        'tests/api/packs-*.test.ts',
-      ],
-      exclude: ['**/node_modules/**'],
-    },
-  }),
-  true,
-)
+const config = mergeConfig(base, {})
+// Set, not merged: mergeConfig would append these lists to the main suite's.
+config.test!.include = [
+  'tests/scaled/**/*.test.ts',
+  'tests/api/tus-upload.test.ts',
+  'tests/api/ingest.test.ts',
+  'tests/api/ingest-reliability.test.ts',
+  'tests/api/library-*.test.ts',
+  'tests/api/packs-*.test.ts',
+]
+config.test!.exclude = ['**/node_modules/**']
+
+export default config
