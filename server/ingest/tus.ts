@@ -15,7 +15,7 @@ import { cleanFileName } from '@shared/schemas/common'
 import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import { hashingTap } from '../core/hash-tap'
-import { parseS3Url } from '../storage/s3'
+import { parseS3Url, S3_COMPAT } from '../storage/s3'
 import { findSession } from '../captures/captures.repository'
 import { ingestFile } from './ingest.service'
 
@@ -47,14 +47,35 @@ async function uploadTarget(ctx: AppContext, upload: Upload) {
   return { sessionId, originalName: cleanFileName(filename) }
 }
 
+/**
+ * @tus/s3-store's remove() first aborts the upload's multipart upload, which S3 has already
+ * completed once the last byte arrived (it answers "not found"), and then never deletes the object. Here a
+ * finished upload is removed too: ingest has copied it by then.
+ */
+class FinishedUploadsS3Store extends S3Store {
+  override async remove(id: string): Promise<void> {
+    try {
+      await super.remove(id)
+    } catch (err) {
+      if ((err as { status_code?: number }).status_code !== 404) throw err
+      await this.client.deleteObjects({
+        Bucket: this.bucket,
+        Delete: { Objects: [{ Key: id }, { Key: this.infoKey(id) }] },
+      })
+      await this.clearCache(id)
+    }
+  }
+}
+
 function tusStore(ctx: AppContext): DataStore {
   if (!ctx.config.storageUrl) return new FileStore({ directory: path.join(ctx.storage.root, 'tus') })
   const { bucket } = parseS3Url(ctx.config.storageUrl)
-  return new S3Store({
+  return new FinishedUploadsS3Store({
     partSize: 8 * 2 ** 20,
     s3ClientConfig: {
       bucket,
       region: ctx.config.s3Region || 'us-east-1',
+      ...S3_COMPAT,
       ...(ctx.config.s3Endpoint ? { endpoint: ctx.config.s3Endpoint, forcePathStyle: true } : {}),
     },
   })

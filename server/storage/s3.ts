@@ -32,8 +32,18 @@ export function parseS3Url(url: string): S3Location {
  * gateway, a local MinIO-like service), buckets are addressed by path: such endpoints seldom
  * have a DNS name per bucket.
  */
+/**
+ * Checksums only where S3 requires them: the SDK's default since 3.729 adds CRC trailers to
+ * streamed bodies (aws-chunked), which S3-compatible gateways such as Ceph's radosgw do not all
+ * accept on a stream of unknown length; TLS and the SHA-256 checks of ingest already guard the bytes.
+ */
+export const S3_COMPAT = {
+  requestChecksumCalculation: 'WHEN_REQUIRED',
+  responseChecksumValidation: 'WHEN_REQUIRED',
+} as const satisfies S3ClientConfig
+
 export function s3Client(opts: { endpoint: string | null; region: string | null }): S3Client {
-  const config: S3ClientConfig = { region: opts.region || 'us-east-1' }
+  const config: S3ClientConfig = { region: opts.region || 'us-east-1', ...S3_COMPAT }
   if (opts.endpoint) Object.assign(config, { endpoint: opts.endpoint, forcePathStyle: true })
   return new S3Client(config)
 }

@@ -64,6 +64,8 @@ describe('resumable uploads (tus)', () => {
     const rows = await takes()
     expect(rows).toHaveLength(1)
     expect(rows[0]).toMatchObject({ id: take.id, sha256: sha(wav), size_bytes: wav.length })
+    // Under npm run test:scaled the take's audio is in the S3 bucket, not only in the working copy.
+    expect(server.ctx.storage.remote).toBe(Boolean(process.env.STORAGE_URL))
     expect(await server.ctx.storage.blobs.size(rows[0].audio_path)).toBe(wav.length)
     const audio = await rec.get(`/api/takes/${take.id}/audio`).buffer(true).expect(200)
     expect(sha(audio.body as Buffer)).toBe(sha(wav))
