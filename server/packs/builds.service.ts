@@ -114,7 +114,7 @@ export async function buildZip(
   ctx: AppContext,
   user: User,
   id: number,
-): Promise<{ path: string; build: repo.BuildJoined }> {
+): Promise<{ key: string; build: repo.BuildJoined }> {
   const b = await visibleBuild(ctx, user, id)
   if (b.status !== 'done' || !b.zip_path)
     throw new AppError(
@@ -122,7 +122,7 @@ export async function buildZip(
       'BUILD_NOT_DONE',
       `Version ${b.version} is ${b.status}; it can be downloaded once it is done`,
     )
-  return { path: await ctx.storage.local(b.zip_path), build: b }
+  return { key: b.zip_path, build: b }
 }
 
 /** Deletes a pack with its builds' zips; refused while one of its builds is queued or running. */

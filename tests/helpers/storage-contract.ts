@@ -74,6 +74,18 @@ export function storageContract(name: string, open: (workDir: string) => Promise
       await store.remove('builds/pack-1/big.zip')
     })
 
+    it('presigns a link a browser can fetch the object from directly (S3), or says there is none (local)', async () => {
+      await store.putFile('builds/pack-2/v1.zip', file('zip', 'zip bytes'))
+      const url = await store.presign('builds/pack-2/v1.zip', { expiresSeconds: 60, downloadName: 'Pack v1.zip' })
+      if (store.kind === 'local') return expect(url).toBeNull()
+      const res = await fetch(url!)
+      expect(res.status).toBe(200)
+      expect(await res.text()).toBe('zip bytes')
+      expect(res.headers.get('content-disposition')).toContain('Pack%20v1.zip')
+      const part = await fetch(url!, { headers: { Range: 'bytes=4-8' } })
+      expect([part.status, await part.text()]).toEqual([206, 'bytes'])
+    })
+
     it('refuses keys that would leave the storage root', async () => {
       for (const bad of ['../x', '/etc/passwd', 'audio/../../x', 'a//b'])
         await expect(store.size(bad), bad).rejects.toThrow(/bad storage key/)
