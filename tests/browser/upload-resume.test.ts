@@ -13,20 +13,23 @@ import { signedIn } from '../helpers/server'
 const env = useBrowserServer()
 
 describe('resumable upload in the browser', () => {
-  it('resumes after a reload mid-upload from the kept bytes and ends with one take of the same SHA-256', async () => {
+  it.each([
+    { size: 'desktop', viewport: { width: 1440, height: 900 }, seconds: 30 },
+    { size: 'phone', viewport: { width: 390, height: 844 }, seconds: 29 },
+  ])('$size: resumes after a reload mid-upload from the kept bytes, one take of the same SHA-256', async (c) => {
     const rec = await signedIn(env.server.url, 'recordist')
     const sessionId = (await createSession(rec)).id
     // 30 s of 48 kHz 24-bit stereo noise, about 8.6 MB: some 9 s at 1 MB/s.
-    const file = soxWav(path.join(env.server.dir, 'card', 'REC0042.WAV'), {
+    const file = soxWav(path.join(env.server.dir, c.size, 'REC0042.WAV'), {
       rate: 48000,
       bits: 24,
       channels: 2,
-      seconds: 30,
+      seconds: c.seconds,
       synth: ['whitenoise'],
     })
     const bytes = fs.readFileSync(file)
 
-    const page = await env.browser.newPage({ viewport: { width: 1440, height: 900 } })
+    const page = await env.browser.newPage({ viewport: c.viewport })
     const offsets: number[] = []
     page.on('request', (r) => {
       if (r.method() === 'PATCH' && r.url().includes('/api/files/')) offsets.push(Number(r.headers()['upload-offset']))
@@ -45,7 +48,7 @@ describe('resumable upload in the browser', () => {
     await page.locator('[data-test=file-input]').setInputFiles(file)
     const bar = page.locator('[data-test=upload-queue] li .el-progress__text')
     await expect.poll(async () => parseInt(await bar.innerText(), 10), { timeout: 30_000 }).toBeGreaterThanOrEqual(20)
-    await screenshot(page, 'upload-resume-before-reload')
+    await screenshot(page, `upload-resume-${c.size}-before-reload`)
     await page.reload()
 
     // No take yet: the upload is unfinished, not refused.
@@ -65,9 +68,13 @@ describe('resumable upload in the browser', () => {
     expect(offsets[0]).toBeGreaterThan(0)
     expect(offsets[0]).toBeLessThan(bytes.length)
     await expect.poll(() => page.locator('[data-test=log-sheet] [data-test=log-row]').count()).toBe(1)
-    await screenshot(page, 'upload-resume-done')
+    await screenshot(page, `upload-resume-${c.size}-done`)
 
-    const rows = await env.server.ctx.db.selectFrom('takes').select(['sha256', 'size_bytes']).execute()
+    const rows = await env.server.ctx.db
+      .selectFrom('takes')
+      .select(['sha256', 'size_bytes'])
+      .where('session_id', '=', sessionId)
+      .execute()
     expect(rows).toEqual([
       { sha256: crypto.createHash('sha256').update(bytes).digest('hex'), size_bytes: bytes.length },
     ])
