@@ -16,7 +16,7 @@ import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import { hashingTap } from '../core/hash-tap'
 import { parseS3Url, S3_COMPAT } from '../storage/s3'
-import { findSession } from '../captures/captures.repository'
+import { findSession } from '../captures/captures.service'
 import { ingestFile } from './ingest.service'
 
 export const TUS_PATH = '/api/files'
