@@ -179,10 +179,11 @@ export async function runBuild(
   }
 
   const renderThreads = options.renderThreads ?? renderThreadsFor(snap)
-  // With S3 the build process reads takes by path: fetch each into the working copy first.
+  // With S3 the build process reads takes by path: fetch each into the working copy first. One
+  // that cannot be fetched keeps its plain path, so the render names the item it belongs to.
   const audioFiles = new Map<string, string>()
-  for (const spec of snap.items)
-    if (!audioFiles.has(spec.audioPath)) audioFiles.set(spec.audioPath, await ctx.storage.local(spec.audioPath))
+  for (const { audioPath: key } of snap.items)
+    if (!audioFiles.has(key)) audioFiles.set(key, await ctx.storage.local(key).catch(() => ctx.storage.abs(key)))
   const order: BuildOrder = {
     buildId,
     version: build.version,
