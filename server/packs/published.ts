@@ -9,7 +9,7 @@ import type { Db } from '../core/database'
 import { AppError, fileError } from '../core/errors'
 import type { PackBuildItemRow } from '../../db/schema-packs'
 import { round2 } from '../render/settings'
-import type { BuildSnapshot, ItemSpec } from './item-spec'
+import { zipPath, type BuildSnapshot, type ItemSpec } from './item-spec'
 import * as repo from './packs.repository'
 import { storedEntryRange, ZipFormatError } from './zip-entries'
 
@@ -176,7 +176,7 @@ export async function sendBuildItem(
   let range: Awaited<ReturnType<typeof storedEntryRange>>
   try {
     zip = await ctx.storage.local(build.zip_path)
-    range = await storedEntryRange(zip, spec.fileName)
+    range = await storedEntryRange(zip, zipPath(spec))
   } catch (err) {
     if (err instanceof ZipFormatError) throw err
     // Fixed words for file-system errors (FILE_MISSING…); the path goes to the server log only.
