@@ -90,7 +90,8 @@ export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<A
   let last = 0
   const { format, analysis, glyph } = await runAudioTask(
     'analyze',
-    { path: env.storage.abs(order.audioPath), peaksPath },
+    // With S3 the audio is fetched into the working copy first (heavy work reads files by path).
+    { path: await env.storage.local(order.audioPath), peaksPath },
     {
       signal: env.signal,
       silenceLimitMs: ANALYSIS_SILENCE_MS,
@@ -102,7 +103,9 @@ export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<A
       },
     },
   )
-  return { format, analysis, glyph, thumb: await thumbnail(peaksPath) }
+  const thumb = await thumbnail(peaksPath)
+  await env.storage.persist(env.storage.peaksRelative(order.takeId))
+  return { format, analysis, glyph, thumb }
 }
 
 /**
