@@ -1,12 +1,19 @@
-// `npm run bench:library`: seeds 50,000 takes with varied metadata into a
-// temporary database, starts the real server on it, and times typical library
+// `npm run bench:library`: seeds a library of takes with varied metadata into
+// a SQLite file, starts the real server on it, and times typical library
 // searches and filters through the HTTP API (p50/p95 over 100 runs after a
-// warm-up). Prints the table and writes bench/results/library.md.
+// warm-up), at each library size in BENCH_TAKES (default 50,000 and
+// 1,000,000). Prints one table with a column group per size and writes it to
+// bench/results/library.md.
 //
 // Rows go in through Kysely in big transactions; the full-text index is
 // filled by the same triggers that keep it current in production. The server
 // under test then runs as its own process (`server/main.ts`, as `npm start`
 // runs it), so the client's work is not counted against it.
+//
+// Seeding a million takes takes ten minutes or more; keep the files to reuse
+// them: BENCH_DB_DIR=dir keeps one `library-<takes>.sqlite` per size there
+// (BENCH_DB=file does the same for a single size). A kept file is migrated on
+// reuse like any database, so new indexes are built on it first.
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
@@ -19,13 +26,15 @@ import type { NewTake } from '../db/schema'
 import { SOURCE_KINDS } from '../shared/schemas/sources'
 import { prng } from '../server/audio/synth'
 
-const TAKES = Number(process.env.BENCH_TAKES ?? 50_000)
+const SIZES = (process.env.BENCH_TAKES ?? '50000,1000000').split(',').map((n) => Number(n.replace(/_/g, '')))
 const RUNS = Number(process.env.BENCH_RUNS ?? 100)
 const WARMUP = 10
 const root = path.join(path.dirname(fileURLToPath(import.meta.url)), '..')
 const resultsFile = path.join(root, 'bench', 'results', 'library.md')
 
-const rand = prng(20261201)
+const SEED = 20261201
+// Reset per library, so every size holds the same devices and sessions and a smaller library is the start of a larger one.
+let rand = prng(SEED)
 const pick = <T>(xs: readonly T[]): T => xs[Math.floor(rand() * xs.length)]
 const between = (lo: number, hi: number) => lo + rand() * (hi - lo)
 const round1 = (x: number) => Math.round(x * 10) / 10
@@ -160,7 +169,8 @@ function analysisJson(
   })
 }
 
-async function seed(db: Db): Promise<void> {
+async function seed(db: Db, takes: number): Promise<void> {
+  rand = prng(SEED)
   const users = await db.selectFrom('users').select('id').execute()
   const sources: { id: number; kind: string }[] = []
   await db.transaction().execute(async (trx) => {
@@ -202,12 +212,12 @@ async function seed(db: Db): Promise<void> {
 
   const BATCH = 500
   const t0 = Date.now()
-  for (let start = 0; start < TAKES; start += 5000) {
+  for (let start = 0; start < takes; start += 5000) {
     await db.transaction().execute(async (trx) => {
-      for (let b = start; b < Math.min(TAKES, start + 5000); b += BATCH) {
+      for (let b = start; b < Math.min(takes, start + 5000); b += BATCH) {
         const rows: NewTake[] = []
         const extras: { tags: string[]; links: { source_id: number; state: string }[] }[] = []
-        for (let i = b; i < Math.min(TAKES, b + BATCH); i++) {
+        for (let i = b; i < Math.min(takes, b + BATCH); i++) {
           const src = pick(sources)
           const words = DEVICE_WORDS[src.kind]
           const sound = pick(SOUNDS)
@@ -294,7 +304,7 @@ async function seed(db: Db): Promise<void> {
       }
     })
     process.stdout.write(
-      `\rseeded ${Math.min(TAKES, start + 5000)} / ${TAKES} takes (${((Date.now() - t0) / 1000).toFixed(0)} s)`,
+      `\rseeded ${Math.min(takes, start + 5000)} / ${takes} takes (${((Date.now() - t0) / 1000).toFixed(0)} s)`,
     )
   }
   process.stdout.write('\n')
@@ -364,21 +374,108 @@ async function serve(dbFile: string, storageDir: string) {
   }
 }
 
-async function main(): Promise<void> {
-  const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'strayfield-bench-'))
-  // BENCH_DB=file keeps the seeded database there and reuses it on the next run (for working on queries).
-  const keep = process.env.BENCH_DB ? path.resolve(process.env.BENCH_DB) : null
-  const reuse = keep !== null && fs.existsSync(keep)
-  const dbFile = keep ?? path.join(dir, 'bench.sqlite')
-  const storageDir = path.join(dir, 'storage')
+// ---- the queries ----
+
+/** Ids the queries name, looked up in each seeded library (the same in every size, which is seeded alike). */
+interface Known {
+  fanId: number
+  anySession: number
+  anyUploader: number
+}
+
+interface Answer {
+  total?: number
+  totalCapped?: boolean
+}
+
+/**
+ * One row of the table. To time another kind of request, add a row: `path`
+ * builds its path and query string from the library's known ids, `matches`
+ * reads the count the table shows from its JSON answer.
+ */
+interface BenchQuery {
+  name: string
+  path: (k: Known) => string
+  matches?: (body: Answer) => string
+}
+
+/** A page's total as the library shows it: counts stop at a cap, beyond which the answer says "more". */
+const pageTotal = (body: Answer) => `${(body.total ?? 0).toLocaleString('en')}${body.totalCapped ? '+' : ''}`
+const search = (name: string, qs: string | ((k: Known) => string)): BenchQuery => ({
+  name,
+  path: (k) => {
+    const s = typeof qs === 'string' ? qs : qs(k)
+    return `/api/takes${s ? `?${s}` : ''}`
+  },
+  matches: pageTotal,
+})
+
+const QUERIES: BenchQuery[] = [
+  { name: 'baseline: `GET /api/auth/me` (session check, no search)', path: () => '/api/auth/me' },
+  search('everything, newest first (page 1)', ''),
+  search('text "hum"', 'q=hum'),
+  search('text "power supply 60"', `q=${encodeURIComponent('power supply 60')}`),
+  search('text prefix "whin"', 'q=whin'),
+  search('tag "whine"', 'tag=whine'),
+  search('two tags "hum" + "loopable"', 'tag=hum&tag=loopable'),
+  search('one device', (k) => `sourceId=${k.fanId}`),
+  search(
+    'kind + LUFS range + duration',
+    'sourceKind=power-supply&minLufs=-30&maxLufs=-18&minDuration=5&maxDuration=60',
+  ),
+  search('true-peak range, sorted by loudness', 'minTruePeak=-12&maxTruePeak=-3&sort=integratedLufs&order=desc'),
+  search('hum = 60 Hz', 'hum=60'),
+  search('no hum, sorted by noise floor', 'hum=none&sort=noiseFloor'),
+  search('sorted by title', 'sort=title'),
+  search('sorted by loudness, ascending', 'sort=integratedLufs&order=asc'),
+  search('sorted by capture session', 'sort=session'),
+  search('deep page 100', 'page=100'),
+  search('session + uploader', (k) => `sessionId=${k.anySession}&uploaderId=${k.anyUploader}`),
+  search('text + kind + LUFS + no hum, by true peak', 'q=whine&sourceKind=display&minLufs=-40&hum=none&sort=truePeak'),
+  search('text + 48 kHz stereo + duration', 'q=drone&sampleRate=48000&channels=2&minDuration=30'),
+]
+
+// ---- one library size ----
+
+interface Timed {
+  path: string
+  p50: number
+  p95: number
+  matches: string
+}
+
+interface SizeResult {
+  takes: number
+  sourceCount: number
+  loadBefore: number
+  loadAfter: number
+  timed: Map<string, Timed>
+}
+
+/** Where a size's database lives: kept (BENCH_DB, BENCH_DB_DIR) or in the run's temporary folder. */
+function databaseFile(takes: number, tmp: string): string {
+  if (process.env.BENCH_DB) {
+    if (SIZES.length > 1) throw new Error('BENCH_DB names one file: use it with one size, or BENCH_DB_DIR for several')
+    return path.resolve(process.env.BENCH_DB)
+  }
+  const dir = process.env.BENCH_DB_DIR ? path.resolve(process.env.BENCH_DB_DIR) : tmp
+  fs.mkdirSync(dir, { recursive: true })
+  return path.join(dir, `library-${takes}.sqlite`)
+}
+
+async function benchSize(takes: number, tmp: string): Promise<SizeResult> {
+  const dbFile = databaseFile(takes, tmp)
+  const reuse = fs.existsSync(dbFile)
+  const storageDir = path.join(tmp, `storage-${takes}`)
 
   // Migrate, create the demo team and seed, through the app's own start-up; then close.
+  console.log(`\n${takes.toLocaleString('en')} takes: ${reuse ? `reusing ${dbFile}` : `seeding ${dbFile}`}`)
   const seeder = await startServer(
-    { port: 0, dbFile, storageDir, demo: true, demoAudio: false, runJobs: false, clientDir: path.join(dir, 'none') },
+    { port: 0, dbFile, storageDir, demo: true, demoAudio: false, runJobs: false, clientDir: path.join(tmp, 'none') },
     { ...process.env, SMTP_URL: '', SESSION_SECRET: '' },
   )
   const db = seeder.ctx.db
-  if (!reuse) await seed(db)
+  if (!reuse) await seed(db, takes)
   const sourceCount = Number(
     (
       await db
@@ -387,91 +484,102 @@ async function main(): Promise<void> {
         .executeTakeFirstOrThrow()
     ).n,
   )
-  const anySession = (
-    await db.selectFrom('capture_sessions').select('id').orderBy('id').limit(1).offset(41).executeTakeFirstOrThrow()
-  ).id
-  const anyUploader = (
-    await db.selectFrom('users').select('id').where('email', '=', 'recordist@example.test').executeTakeFirstOrThrow()
-  ).id
-  const fanId = (await db.selectFrom('sources').select('id').where('name', '=', 'Desk fan 3').executeTakeFirstOrThrow())
-    .id
+  const known: Known = {
+    anySession: (
+      await db.selectFrom('capture_sessions').select('id').orderBy('id').limit(1).offset(41).executeTakeFirstOrThrow()
+    ).id,
+    anyUploader: (
+      await db.selectFrom('users').select('id').where('email', '=', 'recordist@example.test').executeTakeFirstOrThrow()
+    ).id,
+    fanId: (await db.selectFrom('sources').select('id').where('name', '=', 'Desk fan 3').executeTakeFirstOrThrow()).id,
+  }
   await seeder.stop()
 
   const server = await serve(dbFile, storageDir)
   try {
     const headers = await signIn(server.url)
-    const queries: [string, string][] = [
-      ['baseline: `GET /api/auth/me` (session check, no search)', 'ME'],
-      ['everything, newest first (page 1)', ''],
-      ['text "hum"', 'q=hum'],
-      ['text "power supply 60"', `q=${encodeURIComponent('power supply 60')}`],
-      ['text prefix "whin"', 'q=whin'],
-      ['tag "whine"', 'tag=whine'],
-      ['two tags "hum" + "loopable"', 'tag=hum&tag=loopable'],
-      ['one device', `sourceId=${fanId}`],
-      ['kind + LUFS range + duration', 'sourceKind=power-supply&minLufs=-30&maxLufs=-18&minDuration=5&maxDuration=60'],
-      ['true-peak range, sorted by loudness', 'minTruePeak=-12&maxTruePeak=-3&sort=integratedLufs&order=desc'],
-      ['hum = 60 Hz', 'hum=60'],
-      ['no hum, sorted by noise floor', 'hum=none&sort=noiseFloor'],
-      ['sorted by title', 'sort=title'],
-      ['sorted by loudness, ascending', 'sort=integratedLufs&order=asc'],
-      ['sorted by capture session', 'sort=session'],
-      ['deep page 100', 'page=100'],
-      ['session + uploader', `sessionId=${anySession}&uploaderId=${anyUploader}`],
-      ['text + kind + LUFS + no hum, by true peak', `q=whine&sourceKind=display&minLufs=-40&hum=none&sort=truePeak`],
-      ['text + 48 kHz stereo + duration', 'q=drone&sampleRate=48000&channels=2&minDuration=30'],
-    ]
-
     const loadBefore = os.loadavg()[0]
-    const results: { name: string; qs: string; p50: number; p95: number; matches: number }[] = []
-    for (const [name, qs] of queries) {
-      const url = qs === 'ME' ? `${server.url}/api/auth/me` : `${server.url}/api/takes${qs ? `?${qs}` : ''}`
-      let matches = 0
+    const timed = new Map<string, Timed>()
+    for (const query of QUERIES) {
+      const url = `${server.url}${query.path(known)}`
+      let body: Answer = {}
       const times: number[] = []
       for (let i = 0; i < WARMUP + RUNS; i++) {
         const t0 = performance.now()
         const res = await fetch(url, { headers })
-        const body = (await res.json()) as { total?: number }
+        body = (await res.json()) as Answer
         const ms = performance.now() - t0
-        if (res.status !== 200) throw new Error(`${name}: ${res.status} ${JSON.stringify(body)}`)
-        matches = body.total ?? 0
+        if (res.status !== 200) throw new Error(`${query.name}: ${res.status} ${JSON.stringify(body)}`)
         if (i >= WARMUP) times.push(ms)
       }
-      const r = { name, qs, p50: quantile(times, 0.5), p95: quantile(times, 0.95), matches }
-      results.push(r)
+      const r = {
+        path: query.path(known),
+        p50: quantile(times, 0.5),
+        p95: quantile(times, 0.95),
+        matches: query.matches?.(body) ?? '',
+      }
+      timed.set(query.name, r)
       console.log(
-        `${name.padEnd(48)} p50 ${r.p50.toFixed(1).padStart(6)} ms   p95 ${r.p95.toFixed(1).padStart(6)} ms   ${r.matches} matches`,
+        `${query.name.padEnd(48)} p50 ${r.p50.toFixed(1).padStart(6)} ms   p95 ${r.p95.toFixed(1).padStart(6)} ms   ${r.matches}`,
       )
     }
+    return { takes, sourceCount, loadBefore, loadAfter: os.loadavg()[0], timed }
+  } finally {
+    await server.stop()
+  }
+}
 
-    const loadAfter = os.loadavg()[0]
-    const target = 50
-    const misses = results.filter((r) => r.qs !== 'ME' && r.p95 >= target)
+// ---- the table ----
+
+const TARGET_MS = 100
+
+function table(sizes: SizeResult[]): string {
+  const n = (x: number) => x.toLocaleString('en')
+  const params = (p: string) => (p.includes('?') ? `\`${p.slice(p.indexOf('?') + 1)}\`` : '')
+  const head = ['query', 'parameters', ...sizes.flatMap((s) => [`p50 ms · ${n(s.takes)}`, 'p95 ms', 'matches'])]
+  const align = ['---', '---', ...sizes.flatMap(() => ['---:', '---:', '---:'])]
+  const rows = QUERIES.map((q) => {
+    const first = sizes[0].timed.get(q.name)!
+    const cells = sizes.flatMap((s) => {
+      const t = s.timed.get(q.name)!
+      return [t.p50.toFixed(1), t.p95.toFixed(1), t.matches]
+    })
+    return [q.name, params(first.path), ...cells]
+  })
+  return [head, align, ...rows].map((r) => `| ${r.join(' | ')} |`).join('\n')
+}
+
+async function main(): Promise<void> {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'strayfield-bench-'))
+  try {
+    const sizes: SizeResult[] = []
+    for (const takes of SIZES) sizes.push(await benchSize(takes, tmp))
+
+    const searches = QUERIES.filter((q) => q.matches)
+    const misses = sizes.flatMap((s) =>
+      searches
+        .filter((q) => s.timed.get(q.name)!.p95 >= TARGET_MS)
+        .map((q) => `${q.name} at ${s.takes.toLocaleString('en')}`),
+    )
     const cpu = os.cpus()[0]?.model.trim() ?? 'unknown CPU'
     const md = [
       '# Library search benchmark',
       '',
       `Generated by \`npm run bench:library\` on ${new Date().toISOString().slice(0, 10)}; Node ${process.version}, ${os.cpus().length} × ${cpu}.`,
-      `${TAKES.toLocaleString('en')} takes (500 capture sessions, ${sourceCount} devices, tags, states, bext descriptions, measurements) in a temporary SQLite file.`,
-      `The server runs as its own process (\`server/main.ts\`). Each query is one \`GET /api/takes\` through HTTP on loopback (page size 50, full take objects), run ${RUNS} times after ${WARMUP} warm-up runs; times are wall-clock per request as the client sees it.`,
-      `Machine load (1-minute average) ${loadBefore.toFixed(1)} before and ${loadAfter.toFixed(1)} after the timed runs, on ${os.cpus().length} cores.`,
-      `Target: p95 under ${target} ms. ${misses.length ? `Missed by: ${misses.map((m) => m.name).join(', ')}.` : 'Every query meets it.'}`,
+      `Libraries of ${sizes.map((s) => s.takes.toLocaleString('en')).join(' and ')} takes (500 capture sessions, ${sizes[0].sourceCount} devices, tags, states, bext descriptions, measurements) in SQLite files; the smaller is the start of the larger.`,
+      `The server runs as its own process (\`server/main.ts\`). Each query is one request through HTTP on loopback (page size 50, full take objects), run ${RUNS} times after ${WARMUP} warm-up runs; times are wall-clock per request as the client sees it. Matches: the page's total ("+": more than that; counts stop there).`,
+      `Machine load (1-minute average, ${os.cpus().length} cores) before and after the timed runs: ${sizes.map((s) => `${s.loadBefore.toFixed(1)} and ${s.loadAfter.toFixed(1)} at ${s.takes.toLocaleString('en')} takes`).join('; ')}.`,
+      `Target: p95 under ${TARGET_MS} ms at every size. ${misses.length ? `Missed by: ${misses.join(', ')}.` : 'Every query meets it.'}`,
       '',
-      '| query | parameters | p50 (ms) | p95 (ms) | matches |',
-      '| --- | --- | ---: | ---: | ---: |',
-      ...results.map((r) =>
-        r.qs === 'ME'
-          ? `| ${r.name} | | ${r.p50.toFixed(1)} | ${r.p95.toFixed(1)} | |`
-          : `| ${r.name} | \`${r.qs || '(none)'}\` | ${r.p50.toFixed(1)} | ${r.p95.toFixed(1)} | ${r.matches.toLocaleString('en')} |`,
-      ),
+      table(sizes),
       '',
     ].join('\n')
+    console.log(`\n${md}`)
     fs.mkdirSync(path.dirname(resultsFile), { recursive: true })
     fs.writeFileSync(resultsFile, md)
-    console.log(`\nwrote ${path.relative(root, resultsFile)}`)
+    console.log(`wrote ${path.relative(root, resultsFile)}`)
   } finally {
-    await server.stop()
-    fs.rmSync(dir, { recursive: true, force: true })
+    fs.rmSync(tmp, { recursive: true, force: true })
   }
 }
 

@@ -113,7 +113,10 @@ export type TakeQuery = z.infer<typeof TakeQuery>
 
 export const TakePage = z.object({
   items: z.array(Take),
+  /** How many takes match: exact up to a cap (10,000, or the end of this page if further). */
   total: z.number().int(),
+  /** More takes match than `total` says: counting stopped at the cap. */
+  totalCapped: z.boolean(),
   page: z.number().int(),
   pageSize: z.number().int(),
 })
