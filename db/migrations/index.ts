@@ -11,6 +11,7 @@ import * as hardening from './20261202110000_hardening'
 import * as takeRemovals from './20261202130000_take_removals'
 import * as listeningNotes from './20261202150000_listening_notes'
 import * as packBuildNotes from './20261202160000_pack_build_notes'
+import * as searchIndexes from './20261202170000_search_indexes'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
@@ -22,4 +23,5 @@ export const migrations: Record<string, Migration> = {
   '20261202130000_take_removals': takeRemovals,
   '20261202150000_listening_notes': listeningNotes,
   '20261202160000_pack_build_notes': packBuildNotes,
+  '20261202170000_search_indexes': searchIndexes,
 }

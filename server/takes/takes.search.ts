@@ -19,24 +19,25 @@ export function ftsQuery(q: string): string | null {
     .join(' ')
 }
 
-const SORT_COLUMNS: Record<Exclude<TakeSort, 'relevance'>, string> = {
-  createdAt: 'takes.created_at',
-  title: 'takes.title',
-  filename: 'takes.filename',
-  session: 'capture_sessions.title',
-  duration: 'takes.duration_seconds',
-  sampleRate: 'takes.sample_rate',
-  channels: 'takes.channels',
-  integratedLufs: 'takes.integrated_lufs',
-  truePeak: 'takes.true_peak_dbtp',
-  loudnessRange: 'takes.loudness_range_lu',
-  samplePeak: 'takes.sample_peak_dbfs',
-  noiseFloor: 'takes.noise_floor_dbfs',
-  hum: 'takes.hum_hz',
-  status: 'takes.status',
+/** Each sort: the column, and the index that lists takes in its order (none for the session's title, a joined table). */
+const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: string }> = {
+  createdAt: { col: 'created_at', index: 'takes_created_at' },
+  title: { col: 'title', index: 'takes_title' },
+  filename: { col: 'filename', index: 'takes_filename' },
+  session: { col: 'capture_sessions.title' },
+  duration: { col: 'duration_seconds', index: 'takes_duration_seconds' },
+  sampleRate: { col: 'sample_rate', index: 'takes_sample_rate' },
+  channels: { col: 'channels', index: 'takes_channels' },
+  integratedLufs: { col: 'integrated_lufs', index: 'takes_integrated_lufs' },
+  truePeak: { col: 'true_peak_dbtp', index: 'takes_true_peak_dbtp' },
+  loudnessRange: { col: 'loudness_range_lu', index: 'takes_loudness_range_lu' },
+  samplePeak: { col: 'sample_peak_dbfs', index: 'takes_sample_peak_dbfs' },
+  noiseFloor: { col: 'noise_floor_dbfs', index: 'takes_noise_floor_dbfs' },
+  hum: { col: 'hum_hz', index: 'takes_hum_hz' },
+  status: { col: 'status', index: 'takes_status' },
 }
 
-/** Columns that are never NULL: they sort without the "unmeasured last" term (and on their own index). */
+/** Columns that are never NULL: they sort without the "unmeasured last" part. */
 const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session', 'status'])
 
 /**
@@ -45,25 +46,49 @@ const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session',
  */
 export const COUNT_CAP = 10_000
 
-/**
- * A condition met by a set of take ids read from its own index (the words, a
- * tag, a device). Its ids can drive a query (read the few ids, then their
- * rows), or it can be checked take by take while the query walks its sort
- * index, which is fast when many takes match. Counting its ids up to
- * DRIVER_MAX decides which.
- */
-interface SetCondition {
-  /** SELECT of the take ids meeting the condition, as column `id`. */
-  ids: RawBuilder<unknown>
-  /** The same condition for the one take whose id is `id`. */
-  holds: (id: RawBuilder<unknown>) => RawBuilder<unknown>
-}
-
-/** A set condition with at most this many ids drives the query; sorting that many rows costs a few milliseconds. */
+/** A condition whose own index yields at most this many takes drives the query: only those are checked and sorted. */
 const DRIVER_MAX = 2_000
 
-function setConditions(q: TakeQuery, fts: string | undefined): SetCondition[] {
-  const c: SetCondition[] = []
+/** How far each condition's takes are counted to choose where the count reads from. */
+const SIZE_PROBE = 10_000
+
+/**
+ * One filter of GET /api/takes (parameters bound, never spliced).
+ * `ids`: the takes meeting it, read from its own index (a SELECT of `id`);
+ * absent where no index serves it. `holds(id)`: the same test for one take;
+ * tests on the take's own columns are instead `column(t)` on the narrow
+ * index `takes_by_id` aliased `t`, so a take's row is never read to decide.
+ */
+interface Condition {
+  ids?: RawBuilder<unknown>
+  holds?: (id: RawBuilder<unknown>) => RawBuilder<unknown>
+  column?: (t: string) => RawBuilder<unknown>
+}
+
+const col = (t: string, name: string) => sql.ref(`${t}.${name}`)
+
+/** A range filter on one measured column: one condition for min and max together. */
+function range(name: string, min: number | undefined, max: number | undefined): Condition[] {
+  if (min === undefined && max === undefined) return []
+  const test = (t: string) =>
+    sql.join(
+      [
+        ...(min !== undefined ? [sql`${col(t, name)} >= ${min}`] : []),
+        ...(max !== undefined ? [sql`${col(t, name)} <= ${max}`] : []),
+      ],
+      sql` AND `,
+    )
+  return [{ ids: sql`SELECT id FROM takes WHERE ${test('takes')}`, column: test }]
+}
+
+/** An equality filter on an indexed column of takes. */
+const equal = (name: string, value: number | string): Condition => ({
+  ids: sql`SELECT id FROM takes WHERE ${sql.ref(name)} = ${value}`,
+  column: (t) => sql`${col(t, name)} = ${value}`,
+})
+
+function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
+  const c: Condition[] = []
   if (fts)
     c.push({
       ids: sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts}`,
@@ -78,7 +103,7 @@ function setConditions(q: TakeQuery, fts: string | undefined): SetCondition[] {
   if (q.sourceKind?.length) {
     const kinds = sql.join([...new Set(q.sourceKind)])
     c.push({
-      ids: sql`SELECT DISTINCT ts.take_id AS id FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE s.kind IN (${kinds})`,
+      ids: sql`SELECT DISTINCT ts.take_id AS id FROM sources s CROSS JOIN take_sources ts ON ts.source_id = s.id WHERE s.kind IN (${kinds})`,
       holds: (id) =>
         sql`EXISTS (SELECT 1 FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE ts.take_id = ${id} AND s.kind IN (${kinds}))`,
     })
@@ -95,38 +120,45 @@ function setConditions(q: TakeQuery, fts: string | undefined): SetCondition[] {
       holds: (id) =>
         sql`EXISTS (SELECT 1 FROM comments WHERE take_id = ${id} AND outcome = ${q.noteOutcome} AND parent_id IS NULL)`,
     })
+  if (q.sessionId) c.push(equal('session_id', q.sessionId))
+  if (q.uploaderId) c.push(equal('uploader_id', q.uploaderId))
+  if (q.sampleRate) c.push(equal('sample_rate', q.sampleRate))
+  if (q.channels) c.push(equal('channels', q.channels))
+  c.push(...range('duration_seconds', q.minDuration, q.maxDuration))
+  c.push(...range('integrated_lufs', q.minLufs, q.maxLufs))
+  c.push(...range('true_peak_dbtp', q.minTruePeak, q.maxTruePeak))
+  c.push(...range('loudness_range_lu', q.minLra, q.maxLra))
+  if (q.hum === '50' || q.hum === '60') c.push(equal('hum_hz', Number(q.hum)))
+  if (q.hum === 'none')
+    c.push({
+      ids: sql`SELECT id FROM takes WHERE hum_hz IS NULL AND status = 'ready'`,
+      column: (t) => sql`${col(t, 'hum_hz')} IS NULL AND ${col(t, 'status')} = 'ready'`,
+    })
+  if (q.status) c.push(equal('status', q.status))
   return c
 }
 
-/** Filters on the take's own columns (parameters bound, never spliced). */
-function columnConditions(q: TakeQuery): RawBuilder<unknown>[] {
-  const c: RawBuilder<unknown>[] = []
-  if (q.sessionId) c.push(sql`takes.session_id = ${q.sessionId}`)
-  if (q.uploaderId) c.push(sql`takes.uploader_id = ${q.uploaderId}`)
-  if (q.sampleRate) c.push(sql`takes.sample_rate = ${q.sampleRate}`)
-  if (q.channels) c.push(sql`takes.channels = ${q.channels}`)
-  if (q.minDuration !== undefined) c.push(sql`takes.duration_seconds >= ${q.minDuration}`)
-  if (q.maxDuration !== undefined) c.push(sql`takes.duration_seconds <= ${q.maxDuration}`)
-  if (q.minLufs !== undefined) c.push(sql`takes.integrated_lufs >= ${q.minLufs}`)
-  if (q.maxLufs !== undefined) c.push(sql`takes.integrated_lufs <= ${q.maxLufs}`)
-  if (q.minTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp >= ${q.minTruePeak}`)
-  if (q.maxTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp <= ${q.maxTruePeak}`)
-  if (q.minLra !== undefined) c.push(sql`takes.loudness_range_lu >= ${q.minLra}`)
-  if (q.maxLra !== undefined) c.push(sql`takes.loudness_range_lu <= ${q.maxLra}`)
-  if (q.hum === '50' || q.hum === '60') c.push(sql`takes.hum_hz = ${Number(q.hum)}`)
-  if (q.hum === 'none') c.push(sql`takes.hum_hz IS NULL AND takes.status = 'ready'`)
-  if (q.status) c.push(sql`takes.status = ${q.status}`)
-  return c
+/** Every condition but `except`, for the take whose id is `id`; takes in the Removed list never match (see takes.removal.ts). */
+function checks(conds: Condition[], id: RawBuilder<unknown>, except?: Condition): RawBuilder<unknown>[] {
+  const rest = conds.filter((c) => c !== except)
+  const columns = rest.filter((c) => c.column).map((c) => c.column!('t'))
+  return [
+    // The take's own numbers first: one seek in the narrow index, and most takes stop there.
+    ...(columns.length
+      ? [
+          sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
+        ]
+      : []),
+    ...rest.filter((c) => c.holds).map((c) => c.holds!(id)),
+    sql`${id} NOT IN (SELECT take_id FROM take_removals)`,
+  ]
 }
 
 const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
-/** Takes in the Removed list never reach a list (see takes.removal.ts). */
-const notRemoved = (id: RawBuilder<unknown>) => sql`${id} NOT IN (SELECT take_id FROM take_removals)`
-
-/** How many ids a set condition has, counting no further than DRIVER_MAX + 1. */
-async function idsUpTo(db: Db, c: SetCondition): Promise<number> {
-  const r = await sql<{ n: number }>`SELECT count(*) AS n FROM (${c.ids} LIMIT ${DRIVER_MAX + 1})`.execute(db)
+/** How many takes a condition's index yields, counting no further than `upTo` + 1. */
+async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
+  const r = await sql<{ n: number }>`SELECT count(*) AS n FROM (${c.ids} LIMIT ${upTo + 1})`.execute(db)
   return Number(r.rows[0].n)
 }
 
@@ -138,86 +170,128 @@ export interface SearchResult {
   totalCapped: boolean
 }
 
-const T = sql.ref('takes.id')
+const ID = sql.ref('takes.id')
 const M = sql.ref('m.id')
 
 /**
  * One page of takes for GET /api/takes, and how many match.
  *
  * Takes rows are wide (the whole analysis is stored with them), so a page is
- * chosen as bare ids and only its rows are then read in full. A page walks
- * its sort column's index and checks each take's conditions until the page is
- * full, which for a broad query reads little more than the page; when a tag,
- * a device or the words match few takes (DRIVER_MAX), those ids drive instead
- * and only they are sorted. Relevance ranks every text match in the full-text
- * index. The count stops at `countUpTo` (COUNT_CAP unless asked, never before
- * the end of the page asked for), so it costs at most that many matches.
+ * chosen as bare ids and only its rows are then read in full; deciding reads
+ * only indexes. Each condition is sized on its own index, counting no further
+ * than SIZE_PROBE. When one yields few takes (DRIVER_MAX), those drive: only
+ * they are checked and sorted. Otherwise the page walks its sort column's index
+ * and checks take after take until the page is full, which for broad
+ * conditions reads little more than the page. Relevance ranks every text match
+ * in the full-text index. The count reads the smallest condition's takes and
+ * stops at `countUpTo` matches (COUNT_CAP unless asked, never before the end
+ * of the page asked for).
  */
 export async function searchTakeRows(db: Db, q: TakeQuery, opts: { countUpTo?: number } = {}): Promise<SearchResult> {
   const fts = q.q?.trim() ? ftsQuery(q.q) : undefined
   if (fts === null) return { rows: [], total: 0, totalCapped: false }
 
-  const sets = setConditions(q, fts)
-  const text = fts ? sets[0] : null
-  // The smallest id set drives when it is small; the others are checked per take.
-  const sizes = await Promise.all(sets.map((c) => idsUpTo(db, c)))
+  const conds = conditions(q, fts)
+  const text = fts ? conds[0] : undefined
+  const sized = conds.filter((c) => c.ids)
+  const sizes = await Promise.all(sized.map((c) => sizeOf(db, c, SIZE_PROBE)))
   const least = Math.min(...sizes)
   if (least === 0) return { rows: [], total: 0, totalCapped: false }
-  const driver = least <= DRIVER_MAX ? sets[sizes.indexOf(least)] : null
-  const columns = columnConditions(q)
-  /** Every condition but the one that yields the ids, for the take whose id is `id`. */
-  const checks = (id: RawBuilder<unknown>, source: SetCondition | null) => [
-    ...sets.filter((c) => c !== source).map((c) => c.holds(id)),
-    notRemoved(id),
-  ]
-  // Ids come from the driver, else from the words, else from walking `takes` itself.
-  const source = driver ?? text
-  /** Matching take ids as `takes.id`, with the `takes` row at hand when a column condition needs it. */
-  const matching = source
-    ? columns.length
-      ? sql`(${source.ids}) m CROSS JOIN takes ON takes.id = m.id ${whereAll([...checks(M, source), ...columns])}`
-      : sql`(${source.ids}) m ${whereAll(checks(M, source))}`
-    : sql`takes ${whereAll([...checks(T, null), ...columns])}`
-  const idOf = source ? M : T
+  const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
+  const driver = least <= DRIVER_MAX ? smallest : undefined
 
   // Relevance needs words to rank by; without them the list is newest first.
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
-  const order = sql.raw(q.order ?? (sort === 'createdAt' ? 'desc' : 'asc'))
+  const desc = (q.order ?? (sort === 'createdAt' ? 'desc' : 'asc')) === 'desc'
+  const order = sql.raw(desc ? 'desc' : 'asc')
   const offset = (q.page - 1) * q.pageSize
-  const limit = sql`LIMIT ${q.pageSize} OFFSET ${offset}`
+  const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
 
-  let idQuery: RawBuilder<{ id: number }>
+  let ids: number[]
   if (sort === 'relevance') {
-    // bm25 is smaller for better matches. The words yield the ids here (so every match is ranked once).
-    const ranked = sql`(SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m`
-    const others = checks(M, text)
-    idQuery = columns.length
-      ? sql`SELECT m.id FROM ${ranked} CROSS JOIN takes ON takes.id = m.id ${whereAll([...others, ...columns])}
-            ORDER BY m.score ${order}, m.id ${order} ${limit}`
-      : sql`SELECT m.id FROM ${ranked} ${whereAll(others)} ORDER BY m.score ${order}, m.id ${order} ${limit}`
+    // bm25 is smaller for better matches; the words yield the ids, so every match is ranked once.
+    ids = await pageOf(sql`SELECT m.id AS id
+      FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
+      ${whereAll(checks(conds, M, text))}
+      ORDER BY m.score ${order}, m.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
+  } else if (driver || sort === 'session') {
+    // Few takes (or an order no index of takes holds): check them all, then sort them.
+    const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
+    const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
+    const from = driver
+      ? sql`(${driver.ids}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id`
+      : sql`takes INDEXED BY takes_by_id`
+    ids = await pageOf(sql`SELECT takes.id AS id FROM ${from}
+      JOIN capture_sessions ON capture_sessions.id = takes.session_id
+      ${whereAll(checks(conds, ID, driver))}
+      ORDER BY ${nullsLast}${by} ${order}, takes.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
   } else {
-    const col = sql.ref(SORT_COLUMNS[sort])
-    const join = sort === 'session' ? sql`JOIN capture_sessions ON capture_sessions.id = takes.session_id` : sql``
-    // Unmeasured takes (null numbers) sort last either way.
-    const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${col} IS NULL, `
-    const conds = [...(driver ? [sql`takes.id IN (${driver.ids})`] : []), ...checks(T, driver), ...columns]
-    idQuery = sql`SELECT takes.id AS id FROM takes ${join} ${whereAll(conds)}
-                  ORDER BY ${nullsLast}${col} ${order}, takes.id ${order} ${limit}`
+    ids = await walkSortIndex(db, SORTS[sort], !NOT_NULL.has(sort), order, checks(conds, ID), q.pageSize, offset)
   }
-  const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
-  const countQuery = sql<{
-    n: number
-  }>`SELECT count(*) AS n FROM (SELECT ${idOf} FROM ${matching} LIMIT ${countUpTo + 1})`
 
-  const page = (await idQuery.execute(db)).rows
   // A short first page is the whole list: nothing more to count.
-  const n = offset === 0 && page.length < q.pageSize ? page.length : Number((await countQuery.execute(db)).rows[0].n)
+  const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
+  let n = ids.length
+  if (!(offset === 0 && ids.length < q.pageSize)) {
+    const from = smallest
+      ? sql`(${smallest.ids}) m ${whereAll(checks(conds, M, smallest))}`
+      : sql`takes m ${whereAll(checks(conds, M))}`
+    const r = await sql<{
+      n: number
+    }>`SELECT count(*) AS n FROM (SELECT m.id FROM ${from} LIMIT ${countUpTo + 1})`.execute(db)
+    n = Number(r.rows[0].n)
+  }
   const total = Math.min(n, countUpTo)
   const totalCapped = n > countUpTo
-  const ids = page.map((r) => r.id)
   if (!ids.length) return { rows: [], total, totalCapped }
 
   const rows = await selectTakes(db).where('takes.id', 'in', ids).execute()
   const byId = new Map(rows.map((r) => [r.id, r]))
   return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total, totalCapped }
+}
+
+/**
+ * A page in a column's order, walking that column's index and checking take
+ * after take. Unmeasured takes (NULL) come last in either direction; an index
+ * holds them first, so they are a second walk (in id order) after the measured ones.
+ */
+async function walkSortIndex(
+  db: Db,
+  sort: { col: string; index?: string },
+  nullable: boolean,
+  order: RawBuilder<unknown>,
+  where: RawBuilder<unknown>[],
+  size: number,
+  offset: number,
+): Promise<number[]> {
+  const by = col('takes', sort.col)
+  const from = sql`takes INDEXED BY ${sql.raw(sort.index!)}`
+  const walk = async (part: RawBuilder<unknown>[], orderBy: RawBuilder<unknown>, limit: number, skip: number) =>
+    (
+      await sql<{ id: number }>`SELECT takes.id AS id FROM ${from} ${whereAll([...part, ...where])}
+        ORDER BY ${orderBy} LIMIT ${limit} OFFSET ${skip}`.execute(db)
+    ).rows.map((r) => r.id)
+  if (!nullable) return walk([], sql`${by} ${order}, takes.id ${order}`, size, offset)
+
+  const measured = await walk([sql`${by} IS NOT NULL`], sql`${by} ${order}, takes.id ${order}`, size, offset)
+  if (measured.length === size) return measured
+  // How many measured takes match decides where the unmeasured part of the page starts.
+  const measuredCount = measured.length
+    ? offset + measured.length
+    : Number(
+        (
+          await sql<{
+            n: number
+          }>`SELECT count(*) AS n FROM (SELECT 1 FROM ${from} ${whereAll([sql`${by} IS NOT NULL`, ...where])} LIMIT ${offset})`.execute(
+            db,
+          )
+        ).rows[0].n,
+      )
+  const rest = await walk(
+    [sql`${by} IS NULL`],
+    sql`takes.id ${order}`,
+    size - measured.length,
+    Math.max(0, offset - measuredCount),
+  )
+  return [...measured, ...rest]
 }
