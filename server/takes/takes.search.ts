@@ -170,6 +170,13 @@ export interface SearchResult {
   totalCapped: boolean
 }
 
+export interface SearchOptions {
+  /** Count matches up to this many (default COUNT_CAP); the export asks for its own limit. */
+  countUpTo?: number
+  /** Largest id set that drives the query (default DRIVER_MAX); tests set it to 0 or Infinity to check both ways of finding a page. */
+  driverMax?: number
+}
+
 const ID = sql.ref('takes.id')
 const M = sql.ref('m.id')
 
@@ -198,7 +205,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: { countUpTo?: n
   const least = Math.min(...sizes)
   if (least === 0) return { rows: [], total: 0, totalCapped: false }
   const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
-  const driver = least <= DRIVER_MAX ? smallest : undefined
+  const driver = least <= (opts.driverMax ?? DRIVER_MAX) ? smallest : undefined
 
   // Relevance needs words to rank by; without them the list is newest first.
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
