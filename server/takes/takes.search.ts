@@ -194,7 +194,7 @@ const M = sql.ref('m.id')
  * stops at `countUpTo` matches (COUNT_CAP unless asked, never before the end
  * of the page asked for).
  */
-export async function searchTakeRows(db: Db, q: TakeQuery, opts: { countUpTo?: number } = {}): Promise<SearchResult> {
+export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions = {}): Promise<SearchResult> {
   const fts = q.q?.trim() ? ftsQuery(q.q) : undefined
   if (fts === null) return { rows: [], total: 0, totalCapped: false }
 
@@ -221,17 +221,17 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: { countUpTo?: n
       FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
       ${whereAll(checks(conds, M, text))}
       ORDER BY m.score ${order}, m.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
-  } else if (driver || sort === 'session') {
-    // Few takes (or an order no index of takes holds): check them all, then sort them.
+  } else if (driver) {
+    // Few takes: check them all, then sort them.
     const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
     const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
-    const from = driver
-      ? sql`(${driver.ids}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id`
-      : sql`takes INDEXED BY takes_by_id`
-    ids = await pageOf(sql`SELECT takes.id AS id FROM ${from}
+    ids = await pageOf(sql`SELECT takes.id AS id
+      FROM (${driver.ids}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id
       JOIN capture_sessions ON capture_sessions.id = takes.session_id
       ${whereAll(checks(conds, ID, driver))}
       ORDER BY ${nullsLast}${by} ${order}, takes.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
+  } else if (sort === 'session') {
+    ids = await walkSessions(db, desc, checks(conds, ID), q.pageSize, offset)
   } else {
     ids = await walkSortIndex(db, SORTS[sort], !NOT_NULL.has(sort), order, checks(conds, ID), q.pageSize, offset)
   }
@@ -301,4 +301,46 @@ async function walkSortIndex(
     Math.max(0, offset - measuredCount),
   )
   return [...measured, ...rest]
+}
+
+/**
+ * A page in capture-session order (by title, then take id), walking the
+ * sessions in title order and each one's takes through `takes_session`: no
+ * index of takes holds a joined table's order, and a team's sessions are few
+ * next to its takes. Sessions that share a title are walked as one, so their
+ * takes still interleave by id.
+ */
+async function walkSessions(
+  db: Db,
+  desc: boolean,
+  where: RawBuilder<unknown>[],
+  size: number,
+  offset: number,
+): Promise<number[]> {
+  const byTitle = new Map<string, number[]>()
+  for (const s of await db.selectFrom('capture_sessions').select(['id', 'title']).execute())
+    byTitle.set(s.title, [...(byTitle.get(s.title) ?? []), s.id])
+  // SQLite orders text by its UTF-8 bytes.
+  const titles = [...byTitle.keys()].sort((a, b) => Buffer.compare(Buffer.from(a), Buffer.from(b)))
+  if (desc) titles.reverse()
+  const order = sql.raw(desc ? 'desc' : 'asc')
+  const out: number[] = []
+  let skip = offset
+  for (const title of titles) {
+    const inGroup = [sql`takes.session_id IN (${sql.join(byTitle.get(title)!)})`, ...where]
+    const found = (
+      await sql<{ id: number }>`SELECT takes.id AS id FROM takes INDEXED BY takes_session ${whereAll(inGroup)}
+        ORDER BY takes.id ${order} LIMIT ${size - out.length} OFFSET ${skip}`.execute(db)
+    ).rows.map((r) => r.id)
+    if (found.length) skip = 0
+    else if (skip > 0) {
+      // The whole group lies before the page: skip past it.
+      const r = await sql<{ n: number }>`SELECT count(*) AS n FROM (SELECT 1 FROM takes INDEXED BY takes_session
+        ${whereAll(inGroup)} LIMIT ${skip})`.execute(db)
+      skip -= Number(r.rows[0].n)
+    }
+    out.push(...found)
+    if (out.length === size) break
+  }
+  return out
 }
