@@ -41,13 +41,20 @@ const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: strin
 const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session', 'status'])
 
 /**
- * Counts stop here: past it a page says "more than" (`totalCapped`) instead of
+ * Counts stop here: past it a page says "10,000+" (`totalCapped`) instead of
  * counting on, so a broad query on a large library never counts every row.
  */
 export const COUNT_CAP = 10_000
 
 /** A condition whose own index yields at most this many takes drives the query: only those are checked and sorted. */
 const DRIVER_MAX = 2_000
+
+/**
+ * The most takes a count reads. Where every condition matches many takes but
+ * few match them all, counting exactly would read a large part of the
+ * library; past this many the count is a floor and the page says "N+".
+ */
+const COUNT_BUDGET = 20_000
 
 /** How far each condition's takes are counted to choose where the count reads from. */
 const SIZE_PROBE = 10_000
@@ -164,15 +171,17 @@ async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
 
 export interface SearchResult {
   rows: TakeJoined[]
-  /** Matches, exact up to the count limit; the limit itself when `totalCapped`. */
+  /** Matches: exact unless `totalCapped`, then a floor (at least this many). */
   total: number
-  /** True when more takes match than `total` says (counting stopped there). */
+  /** Counting stopped (at the count limit, or at COUNT_BUDGET takes read): `total` or more match. */
   totalCapped: boolean
 }
 
 export interface SearchOptions {
   /** Count matches up to this many (default COUNT_CAP); the export asks for its own limit. */
   countUpTo?: number
+  /** Most takes a count reads (default COUNT_BUDGET); never fewer than `countUpTo` + 1. */
+  countBudget?: number
   /** Largest id set that drives the query (default DRIVER_MAX); tests set it to 0 or Infinity to check both ways of finding a page. */
   driverMax?: number
 }
@@ -206,6 +215,10 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   if (least === 0) return { rows: [], total: 0, totalCapped: false }
   const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
   const driver = least <= (opts.driverMax ?? DRIVER_MAX) ? smallest : undefined
+  // A driver's ids are read once (the words may be costly to match) and handed back as a list.
+  const driverIds = driver
+    ? sql`SELECT value AS id FROM json_each(${JSON.stringify((await sql<{ id: number }>`${driver.ids}`.execute(db)).rows.map((r) => r.id))})`
+    : undefined
 
   // Relevance needs words to rank by; without them the list is newest first.
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
@@ -226,7 +239,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
     const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
     const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
     ids = await pageOf(sql`SELECT takes.id AS id
-      FROM (${driver.ids}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id
+      FROM (${driverIds}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id
       JOIN capture_sessions ON capture_sessions.id = takes.session_id
       ${whereAll(checks(conds, ID, driver))}
       ORDER BY ${nullsLast}${by} ${order}, takes.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
@@ -236,20 +249,23 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
     ids = await walkSortIndex(db, SORTS[sort], !NOT_NULL.has(sort), order, checks(conds, ID), q.pageSize, offset)
   }
 
-  // A short first page is the whole list: nothing more to count.
+  // The count reads the driver's or the smallest condition's takes, at most COUNT_BUDGET of them, and checks the rest.
+  // Exact when that list ends within the budget; past it, what was found is a floor ("N+").
   const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
-  let n = ids.length
+  let total = ids.length
+  let totalCapped = false
+  // A short first page is the whole list: nothing more to count.
   if (!(offset === 0 && ids.length < q.pageSize)) {
-    const from = smallest
-      ? sql`(${smallest.ids}) m ${whereAll(checks(conds, M, smallest))}`
-      : sql`takes m ${whereAll(checks(conds, M))}`
-    const r = await sql<{
-      n: number
-    }>`SELECT count(*) AS n FROM (SELECT m.id FROM ${from} LIMIT ${countUpTo + 1})`.execute(db)
-    n = Number(r.rows[0].n)
+    const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
+    const source = driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`
+    const test = sql.join(checks(conds, M, driver ?? smallest), sql` AND `)
+    const r = await sql<{ seen: number; n: number }>`SELECT count(*) AS seen, coalesce(sum(${test}), 0) AS n
+      FROM (SELECT id FROM (${source}) LIMIT ${budget + 1}) m`.execute(db)
+    const { seen, n } = { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n) }
+    total = Math.min(n, countUpTo)
+    totalCapped = n > countUpTo || seen > budget
+    if (totalCapped) total = Math.max(total, offset + ids.length)
   }
-  const total = Math.min(n, countUpTo)
-  const totalCapped = n > countUpTo
   if (!ids.length) return { rows: [], total, totalCapped }
 
   const rows = await selectTakes(db).where('takes.id', 'in', ids).execute()

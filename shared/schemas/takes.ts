@@ -113,9 +113,9 @@ export type TakeQuery = z.infer<typeof TakeQuery>
 
 export const TakePage = z.object({
   items: z.array(Take),
-  /** How many takes match: exact up to a cap (10,000, or the end of this page if further). */
+  /** How many takes match; exact unless `totalCapped`. */
   total: z.number().int(),
-  /** More takes match than `total` says: counting stopped at the cap. */
+  /** Counting stopped early (at 10,000, or where many takes had to be read to count): at least `total` match. */
   totalCapped: z.boolean(),
   page: z.number().int(),
   pageSize: z.number().int(),

@@ -8,8 +8,9 @@ describe('matchCountText', () => {
     expect(matchCountText(2345)).toBe('2,345 takes')
   })
 
-  it('says "more than" when the server stopped counting', () => {
-    expect(matchCountText(10000, true)).toBe('more than 10,000 takes')
+  it('marks a floor with "+" when the server stopped counting', () => {
+    expect(matchCountText(10000, true)).toBe('10,000+ takes')
+    expect(matchCountText(1, true)).toBe('1+ takes')
     expect(matchCountText(10000, false)).toBe('10,000 takes')
   })
 })
