@@ -46,8 +46,12 @@ const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session',
  */
 export const COUNT_CAP = 10_000
 
-/** A condition whose own index yields at most this many takes drives the query: only those are checked and sorted. */
-const DRIVER_MAX = 2_000
+/**
+ * A condition whose own index yields at most this many takes drives the
+ * query: only those are checked (one seek each in takes_by_id) and sorted,
+ * rather than walking the sort index past takes that fail.
+ */
+const DRIVER_MAX = 10_000
 
 /**
  * The most takes a count reads. Where every condition matches many takes but
@@ -68,6 +72,8 @@ const SIZE_PROBE = 10_000
  */
 interface Condition {
   ids?: RawBuilder<unknown>
+  /** `ids` may hold takes that fail the condition, so reading them is not enough: check it too. */
+  idsWider?: boolean
   holds?: (id: RawBuilder<unknown>) => RawBuilder<unknown>
   column?: (t: string) => RawBuilder<unknown>
 }
@@ -138,7 +144,9 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
   if (q.hum === '50' || q.hum === '60') c.push(equal('hum_hz', Number(q.hum)))
   if (q.hum === 'none')
     c.push({
-      ids: sql`SELECT id FROM takes WHERE hum_hz IS NULL AND status = 'ready'`,
+      // The hum index alone (status would need each row): the unmeasured takes it adds are checked out.
+      ids: sql`SELECT id FROM takes WHERE hum_hz IS NULL`,
+      idsWider: true,
       column: (t) => sql`${col(t, 'hum_hz')} IS NULL AND ${col(t, 'status')} = 'ready'`,
     })
   if (q.status) c.push(equal('status', q.status))
@@ -147,7 +155,7 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
 
 /** Every condition but `except`, for the take whose id is `id`; takes in the Removed list never match (see takes.removal.ts). */
 function checks(conds: Condition[], id: RawBuilder<unknown>, except?: Condition): RawBuilder<unknown>[] {
-  const rest = conds.filter((c) => c !== except)
+  const rest = conds.filter((c) => c !== except || c.idsWider)
   const columns = rest.filter((c) => c.column).map((c) => c.column!('t'))
   return [
     // The take's own numbers first: one seek in the narrow index, and most takes stop there.
