@@ -8,10 +8,10 @@ import { AppError } from '../core/errors'
 import type { Api } from '../core/routes'
 import { body, params } from '../core/validate'
 import { nowIso } from '../core/time'
-import { updateUser } from '../team/users.repository'
+import { updateUser } from '../users/users.service'
 import { completePasswordReset, requestPasswordReset } from './auth.service'
 import { LoginThrottle } from './login-throttle'
-import type { SqliteSessionStore } from './session-store'
+import type { SqliteSessionStore } from '../core/session-store'
 
 interface AuthDeps {
   passport: PassportStatic

@@ -3,9 +3,8 @@ import type { Db } from '../core/database'
 import { AppError } from '../core/errors'
 import { isoIn, nowIso } from '../core/time'
 import { passwordResetMail } from '../mail/messages'
-import { findUserByEmail, updateUser } from '../team/users.repository'
-import { hashPassword, hashToken, newToken } from './passwords'
-import type { SqliteSessionStore } from './session-store'
+import { findUserByEmail, hashPassword, hashToken, newToken, updateUser } from '../users/users.service'
+import type { SqliteSessionStore } from '../core/session-store'
 
 const RESET_TTL_MS = 60 * 60 * 1000
 

@@ -1,9 +1,7 @@
 import passport from 'passport'
 import { Strategy as LocalStrategy } from 'passport-local'
 import type { Db } from '../core/database'
-import { findUserByEmail, findUserById } from '../team/users.repository'
-import { userRowToUser } from '../team/users.mapper'
-import { dummyHash, verifyPassword } from './passwords'
+import { dummyHash, findUserByEmail, findUserById, userRowToUser, verifyPassword } from '../users/users.service'
 
 /** A passport instance of the app's own (not the module singleton), so several apps can live in one test process. */
 export function createPassport(db: Db): passport.PassportStatic {

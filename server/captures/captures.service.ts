@@ -4,6 +4,9 @@ import type { Db } from '../core/database'
 import { AppError, notFound } from '../core/errors'
 import { findSession, listSessions, stripsOf, updateSession, type SessionJoined } from './captures.repository'
 
+// Ingest checks the capture session exists before it accepts a file.
+export { findSession } from './captures.repository'
+
 const STRIP_TAKES = 24
 
 function sessionRowToSession(

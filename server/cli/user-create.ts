@@ -8,8 +8,7 @@ import { Role } from '@shared/schemas/auth'
 import { Email, NameText, Password } from '@shared/schemas/common'
 import { loadConfig } from '../core/config'
 import { migrateToLatest, openDatabase } from '../core/database'
-import { hashPassword } from '../auth/passwords'
-import { findUserByEmail, insertUser } from '../team/users.repository'
+import { findUserByEmail, hashPassword, insertUser } from '../users/users.service'
 import { describeZod } from '../core/errors'
 
 const Args = z.object({ email: Email, name: NameText(120, 'give --name'), role: Role })

@@ -12,9 +12,9 @@ import type { Db } from '../core/database'
 import { AppError, forbidden, notFound } from '../core/errors'
 import { nowIso } from '../core/time'
 import { mentionMail } from '../mail/messages'
-import { findRegion } from '../regions/regions.repository'
+import { findRegion } from '../regions/regions.service'
 import { loadTake, recordEvent } from '../takes/takes.service'
-import type { TakeJoined } from '../takes/takes.repository'
+import type { TakeJoined } from '../takes/takes.service'
 import {
   activeMembers,
   commentsOf,

@@ -1,6 +1,5 @@
 import type { AppContext } from '../core/context'
-import { hashPassword } from '../auth/passwords'
-import { countUsers, insertUser } from '../team/users.repository'
+import { countUsers, hashPassword, insertUser } from '../users/users.service'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from './demo-team'
 import { seedDemoLibrary } from './demo-library'
 

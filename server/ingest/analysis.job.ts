@@ -4,7 +4,7 @@ import { publicErrorText } from '../core/errors'
 import type { JobHandler } from '../jobs/job-runner'
 import type { AnalysisPool } from '../audio/pool'
 import { readPeaks } from '../audio/peaks'
-import { addEvent, findTake, updateTake } from '../takes/takes.repository'
+import { addEvent, findTake, updateTake } from '../takes/takes.service'
 import { prefillFromMetadata } from './prefill'
 import { failureText } from './remeasure'
 

@@ -5,7 +5,7 @@ import type { User } from '@shared/schemas/auth'
 import type { AppContext } from '../core/context'
 import { AppError, notFound } from '../core/errors'
 import { WavFormatError } from '../audio/wav-reader'
-import { addEvent, findTake } from '../takes/takes.repository'
+import { addEvent, findTake } from '../takes/takes.service'
 import { assertMayEditTake } from '../takes/takes.service'
 
 /** The failure text of a measuring job: what happened, then whether measuring again may help. */

@@ -14,7 +14,7 @@ import type { User } from '@shared/schemas/auth'
 import type { AppContext } from '../core/context'
 import { AppError } from '../core/errors'
 import { assertMayEditTake, loadTake } from '../takes/takes.service'
-import type { TakeJoined } from '../takes/takes.repository'
+import type { TakeJoined } from '../takes/takes.service'
 
 const round6 = (s: number) => Math.round(s * 1e6) / 1e6
 

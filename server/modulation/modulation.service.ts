@@ -4,7 +4,7 @@
 import { MODULATION_LIMITS, type ModulationBody } from '@shared/schemas/modulation'
 import type { Db } from '../core/database'
 import { AppError, notFound } from '../core/errors'
-import { findTake } from '../takes/takes.repository'
+import { findTake } from '../takes/takes.service'
 import type { ModulationOrder } from './modulation-files'
 
 export interface ModulationPlan {

@@ -3,7 +3,7 @@ import type { User } from '@shared/schemas/auth'
 import type { Db } from '../core/database'
 import { AppError, notFound } from '../core/errors'
 import { assertMayEditTake, loadTake, recordEvent } from '../takes/takes.service'
-import type { TakeJoined } from '../takes/takes.repository'
+import type { TakeJoined } from '../takes/takes.service'
 import {
   deleteRegion,
   findRegion,
@@ -12,6 +12,9 @@ import {
   updateRegion,
   type RegionJoined,
 } from './regions.repository'
+
+// A note may be pinned to a region; the notes feature looks it up here.
+export { findRegion } from './regions.repository'
 
 const toRegion = (r: RegionJoined): Region => ({
   id: r.id,

@@ -19,7 +19,7 @@ import { AppError, notFound } from '../core/errors'
 import type { Api } from '../core/routes'
 import { params, query } from '../core/validate'
 import { DEFAULT_LOG_MIN_HZ, type SpectrogramOptions } from '../audio/spectrogram'
-import { findTake } from '../takes/takes.repository'
+import { findTake } from '../takes/takes.service'
 import { SpectrogramCache } from './spectrogram-cache'
 
 const CACHE_CONTROL = 'private, max-age=3600'

@@ -30,6 +30,9 @@ import {
   type LinkChange,
   type TakeJoined,
 } from './takes.repository'
+
+// What other features may use of the takes table directly (ingest records new takes, analysis writes results).
+export { addEvent, findTake, findTakeBySha, insertTake, updateTake, type TakeJoined } from './takes.repository'
 import { takeRowToTake, takeRowsToTakes } from './takes.mapper'
 
 /** A take's history entry, written with the user who caused it. */

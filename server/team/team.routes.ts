@@ -4,7 +4,7 @@ import { IdParams, TokenParams } from '@shared/schemas/common'
 import type { AppContext } from '../core/context'
 import type { Api } from '../core/routes'
 import { body, params } from '../core/validate'
-import type { SqliteSessionStore } from '../auth/session-store'
+import type { SqliteSessionStore } from '../core/session-store'
 import {
   acceptInvitation,
   invite,

@@ -4,12 +4,21 @@ import type { User } from '@shared/schemas/auth'
 import type { AppContext } from '../core/context'
 import { AppError, notFound } from '../core/errors'
 import { isoIn, nowIso } from '../core/time'
-import { hashPassword, hashToken, newToken } from '../auth/passwords'
-import type { SqliteSessionStore } from '../auth/session-store'
+import {
+  findUserByEmail,
+  findUserById,
+  hashPassword,
+  hashToken,
+  insertUser,
+  listUsers,
+  newToken,
+  updateUser,
+  userRowToMember,
+  userRowToUser,
+} from '../users/users.service'
+import type { SqliteSessionStore } from '../core/session-store'
 import { invitationMail } from '../mail/messages'
 import type { InvitationRow } from '../../db/schema'
-import { findUserByEmail, findUserById, insertUser, listUsers, updateUser } from './users.repository'
-import { userRowToMember, userRowToUser } from './users.mapper'
 
 export const INVITATION_TTL_MS = 72 * 60 * 60 * 1000
 

@@ -1,5 +1,5 @@
 import session from 'express-session'
-import type { Db } from '../core/database'
+import type { Db } from './database'
 
 const DAY = 24 * 60 * 60 * 1000
 
