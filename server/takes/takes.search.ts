@@ -171,6 +171,17 @@ function checks(conds: Condition[], id: RawBuilder<unknown>, except?: Condition)
 
 const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
+/**
+ * The largest condition that should drive a page ending at `end`. Driving
+ * checks all of its n takes; walking checks about end × library ÷ n of them
+ * (fewer when n is a large share), so driving wins below n² ≈ end × library.
+ * The library's size is taken from the highest take id (a seek, not a count).
+ */
+async function driverMax(db: Db, end: number): Promise<number> {
+  const r = await sql<{ n: number | null }>`SELECT max(id) AS n FROM takes`.execute(db)
+  return Math.min(DRIVER_MAX, Math.sqrt(4 * end * Number(r.rows[0].n ?? 0)))
+}
+
 /** How many takes a condition's index yields, counting no further than `upTo` + 1. */
 async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
   const r = await sql<{ n: number }>`SELECT count(*) AS n FROM (${c.ids} LIMIT ${upTo + 1})`.execute(db)
@@ -222,7 +233,8 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const least = Math.min(...sizes)
   if (least === 0) return { rows: [], total: 0, totalCapped: false }
   const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
-  const driver = least <= (opts.driverMax ?? DRIVER_MAX) ? smallest : undefined
+  const offset = (q.page - 1) * q.pageSize
+  const driver = least <= (opts.driverMax ?? (await driverMax(db, offset + q.pageSize))) ? smallest : undefined
   // A driver's ids are read once (the words may be costly to match) and handed back as a list.
   const driverIds = driver
     ? sql`SELECT value AS id FROM json_each(${JSON.stringify((await sql<{ id: number }>`${driver.ids}`.execute(db)).rows.map((r) => r.id))})`
@@ -232,7 +244,6 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
   const desc = (q.order ?? (sort === 'createdAt' ? 'desc' : 'asc')) === 'desc'
   const order = sql.raw(desc ? 'desc' : 'asc')
-  const offset = (q.page - 1) * q.pageSize
   const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
 
   let ids: number[]
