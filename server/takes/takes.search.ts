@@ -235,15 +235,15 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
   const offset = (q.page - 1) * q.pageSize
   const driver = least <= (opts.driverMax ?? (await driverMax(db, offset + q.pageSize))) ? smallest : undefined
-  // A driver's ids are read once (the words may be costly to match) and handed back as a list.
-  const driverIds = driver
-    ? sql`SELECT value AS id FROM json_each(${JSON.stringify((await sql<{ id: number }>`${driver.ids}`.execute(db)).rows.map((r) => r.id))})`
-    : undefined
-
   // Relevance needs words to rank by; without them the list is newest first.
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
   const desc = (q.order ?? (sort === 'createdAt' ? 'desc' : 'asc')) === 'desc'
   const order = sql.raw(desc ? 'desc' : 'asc')
+  // A driver's ids are read once (the words may be costly to match) and handed back as a list; a ranked page reads the words anyway.
+  const driverIds =
+    driver && sort !== 'relevance'
+      ? sql`SELECT value AS id FROM json_each(${JSON.stringify((await sql<{ id: number }>`${driver.ids}`.execute(db)).rows.map((r) => r.id))})`
+      : undefined
   const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
 
   let ids: number[]
@@ -253,7 +253,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
       FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
       ${whereAll(checks(conds, M, text))}
       ORDER BY m.score ${order}, m.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
-  } else if (driver) {
+  } else if (driverIds) {
     // Few takes: check them all, then sort them.
     const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
     const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
