@@ -9,6 +9,8 @@ export interface RegionTable {
   name: string
   start_seconds: number
   end_seconds: number
+  /** 'one-shot' | 'loop' | 'drone', or null for a plain named range. */
+  kind: string | null
   created_by: number | null
   created_at: Generated<string>
   updated_at: Generated<string>

@@ -11,7 +11,8 @@ import * as hardening from './20261202110000_hardening'
 import * as takeRemovals from './20261202130000_take_removals'
 import * as listeningNotes from './20261202150000_listening_notes'
 import * as packBuildNotes from './20261202160000_pack_build_notes'
-import * as searchIndexes from './20261202170000_search_indexes'
+import * as regionKind from './20261202170500_region_kind'
+import * as searchIndexes from './20261202180000_search_indexes'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
@@ -23,5 +24,6 @@ export const migrations: Record<string, Migration> = {
   '20261202130000_take_removals': takeRemovals,
   '20261202150000_listening_notes': listeningNotes,
   '20261202160000_pack_build_notes': packBuildNotes,
-  '20261202170000_search_indexes': searchIndexes,
+  '20261202170500_region_kind': regionKind,
+  '20261202180000_search_indexes': searchIndexes,
 }

@@ -11,7 +11,10 @@ import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
 import { createRenderPool, type RenderPool } from '../render/render-pool'
 import type { ModulationFile, ModulationOrder } from '../modulation/modulation-files'
-import type { LoopTask, OnsetTask } from '../instrument/instrument-task'
+import type { LoopTask, OnsetTask, SplitTask } from '../instrument/instrument-task'
+import type { SplitSegmentFrames } from '../instrument/split'
+import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
+import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
 import { AppError } from './errors'
@@ -24,6 +27,11 @@ export interface HeavyWork {
   /** The instrument tools' proposals (server/instrument/). */
   onsets(who: string, task: OnsetTask): Promise<OnsetSliceFrames[]>
   loops(who: string, task: LoopTask): Promise<LoopFrames[]>
+  /** Where a sweep falls apart into takes, and the copies of those ranges. */
+  split(who: string, task: SplitTask): Promise<SplitSegmentFrames[]>
+  splitCopy(who: string, task: SplitCopyTask): Promise<SplitCopyResult[]>
+  /** One cycle of a loop as WAV bytes, for the bench's loop audition. */
+  loopCycle(who: string, task: LoopCycleTask): Promise<Buffer>
   close(): Promise<void>
 }
 
@@ -86,6 +94,13 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
     modulation: (who, path, order) => limited(who, (p) => p.run<ModulationFile>({ type: 'modulation', path, order })),
     onsets: (who, task) => limited(who, (p) => p.run<OnsetSliceFrames[]>({ type: 'onsets', ...task })),
     loops: (who, task) => limited(who, (p) => p.run<LoopFrames[]>({ type: 'loops', ...task })),
+    split: (who, task) => limited(who, (p) => p.run<SplitSegmentFrames[]>({ type: 'split', ...task })),
+    splitCopy: (who, task) => limited(who, (p) => p.run<SplitCopyResult[]>({ type: 'split-copy', ...task })),
+    loopCycle: (who, task) =>
+      limited(who, async (p) => {
+        const bytes = await p.run<Uint8Array>({ type: 'loop-cycle', ...task })
+        return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength)
+      }),
     async close() {
       await pool?.close()
     },

@@ -4,7 +4,9 @@
 //   spectrogram  a take's or an excerpt's spectrogram, as PNG bytes
 //   measure      loudness and true peak of a range of a take (an item added to a pack)
 //   modulation   a take's control curve as a csv, wav or MIDI file (server/modulation/)
-//   onsets, loops  the instrument tools' proposals over a range of a take (server/instrument/)
+//   onsets, loops, split  the instrument tools' proposals over a take (server/instrument/)
+//   split-copy  sample-exact copies of ranges of a take, each a file of its own
+//   loop-cycle  one cycle of a loop (crossfaded) as a small WAV for the bench to play round
 import { parentPort } from 'node:worker_threads'
 import { errorInfo } from './thread-errors'
 import { renderItem, type PlainRenderRequest } from '../render/render'
@@ -13,7 +15,16 @@ import { renderSpectrogram, type SpectrogramOptions } from '../audio/spectrogram
 import { probeWav } from '../audio/wav-reader'
 import { computeModulation } from '../modulation/modulation-compute'
 import type { ModulationOrder } from '../modulation/modulation-files'
-import { runLoopTask, runOnsetTask, type LoopTask, type OnsetTask } from '../instrument/instrument-task'
+import {
+  runLoopTask,
+  runOnsetTask,
+  runSplitTask,
+  type LoopTask,
+  type OnsetTask,
+  type SplitTask,
+} from '../instrument/instrument-task'
+import { runSplitCopyTask, type SplitCopyTask } from '../instrument/split-copy'
+import { runLoopCycleTask, type LoopCycleTask } from '../instrument/loop-cycle'
 
 const port = parentPort
 if (!port) throw new Error('heavy-worker must run in a worker thread')
@@ -25,6 +36,9 @@ export type HeavyTask =
   | { type: 'modulation'; id: number; path: string; order: ModulationOrder }
   | ({ type: 'onsets'; id: number } & OnsetTask)
   | ({ type: 'loops'; id: number } & LoopTask)
+  | ({ type: 'split'; id: number } & SplitTask)
+  | ({ type: 'split-copy'; id: number } & SplitCopyTask)
+  | ({ type: 'loop-cycle'; id: number } & LoopCycleTask)
 
 async function serve(m: HeavyTask): Promise<unknown> {
   switch (m.type) {
@@ -49,6 +63,12 @@ async function serve(m: HeavyTask): Promise<unknown> {
       return runOnsetTask(m)
     case 'loops':
       return runLoopTask(m)
+    case 'split':
+      return runSplitTask(m)
+    case 'split-copy':
+      return runSplitCopyTask(m)
+    case 'loop-cycle':
+      return runLoopCycleTask(m)
   }
 }
 

@@ -4,6 +4,8 @@
 import { probeWav, readFrames } from '../audio/wav-reader'
 import { detectOnsets, hopFrames, type OnsetSliceFrames } from './onsets'
 import { findLoops, type LoopFrames } from './loops'
+import { SplitFeatureTracker } from './split-features'
+import { proposeSplits, type SplitSegmentFrames } from './split'
 
 export interface OnsetTask {
   path: string
@@ -59,4 +61,21 @@ export async function runOnsetTask(t: OnsetTask): Promise<OnsetSliceFrames[]> {
 export async function runLoopTask(t: LoopTask): Promise<LoopFrames[]> {
   const { mono, sampleRate } = await readRange(t.path, t.startFrame, t.endFrame)
   return findLoops(mono, { sampleRate, approxLength: t.approxFrames, minLength: t.minFrames })
+}
+
+export interface SplitTask {
+  path: string
+  minSegmentSeconds: number
+  sensitivity?: number
+}
+
+/** Features are gathered as the take streams by (its samples are never all held), then judged. */
+export async function runSplitTask(t: SplitTask): Promise<SplitSegmentFrames[]> {
+  const info = await probeWav(t.path)
+  const sr = info.format.sampleRate
+  // 10 ms frames, coarser past an hour so the features of a long sweep stay a few tens of MB.
+  const hop = Math.round((sr / 100) * Math.max(1, Math.ceil(info.format.durationSeconds / 3600)))
+  const tracker = new SplitFeatureTracker(sr, hop)
+  for await (const block of readFrames(t.path, info)) tracker.push(block)
+  return proposeSplits(tracker.finish(), { minSegmentSeconds: t.minSegmentSeconds, sensitivity: t.sensitivity })
 }

@@ -5,6 +5,7 @@ import {
   MAX_LOOP_SECONDS,
   MAX_ONSET_SECONDS,
   MIN_LOOP_SECONDS,
+  type LoopCycleQuery,
   type LoopSuggestionsBody,
   type LoopSuggestionsResponse,
   type OnsetSuggestionsBody,
@@ -138,4 +139,25 @@ export async function loopSuggestions(
       crossfadeMs: l.crossfadeMs,
     })),
   }
+}
+
+/** One cycle of a loop for the bench's audition (anyone who may listen to the take). */
+export async function loopCycle(ctx: AppContext, user: User, id: number, q: LoopCycleQuery): Promise<Buffer> {
+  const take = await loadTake(ctx.db, id)
+  if (!take.sample_rate || take.duration_seconds === null) {
+    throw new AppError(
+      409,
+      'NOT_MEASURED',
+      `Take ${take.id} is ${take.status}; its loops can be heard once it is measured`,
+    )
+  }
+  const t = take as TakeJoined & { sample_rate: number; duration_seconds: number }
+  const r = rangeFrames(t, q.startSeconds, q.endSeconds, MAX_LOOP_SECONDS, 'Looping')
+  if (r.endFrame - r.startFrame < 2) throw new AppError(400, 'RANGE_TOO_SHORT', 'A loop needs at least two samples')
+  return ctx.heavy.loopCycle(`user:${user.id}`, {
+    path: ctx.storage.abs(take.audio_path),
+    startFrame: r.startFrame,
+    endFrame: r.endFrame,
+    crossfadeFrames: Math.round(((q.crossfadeMs ?? 0) / 1000) * r.sr),
+  })
 }

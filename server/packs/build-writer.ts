@@ -11,6 +11,7 @@
 import fs from 'node:fs/promises'
 import path from 'node:path'
 import type { ManifestItem } from '@shared/schemas/packs'
+import { presetOf, profileSummary } from '@shared/schemas/packs-profiles'
 import {
   renderItem,
   RenderStopped,
@@ -20,7 +21,7 @@ import {
 } from '../render/render'
 import { createRenderPool } from '../render/render-pool'
 import { round2 } from '../render/settings'
-import type { BuildSnapshot } from './item-spec'
+import { zipPath, type BuildSnapshot } from './item-spec'
 import { manifestCsv, PackZip, type ZipEntryResult } from './pack-zip'
 
 export interface BuildOrder {
@@ -132,11 +133,11 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
       const r = await inflight[k]
       if (signal.stopped) throw new BuildStopped()
       startNext()
-      const entry = await zip.addFile(spec.fileName, r.path)
+      const entry = await zip.addFile(zipPath(spec), r.path)
       await fs.rm(r.path, { force: true })
       items.push({
         manifest: {
-          file: spec.fileName,
+          file: zipPath(spec),
           durationSeconds: r.durationSeconds,
           sampleRate: r.sampleRate,
           bitDepth: r.bitDepth,
@@ -151,6 +152,8 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
           regionName: spec.regionName ?? null,
           licence: snap.pack.licenceText,
           sha256: entry.sha256,
+          originalName: `${spec.fullName ?? spec.outputName}.wav`,
+          sourceFile: spec.sourceFile,
         },
         bytes: entry.bytes,
         gainDb: r.gainDb,
@@ -171,6 +174,14 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
         namingTemplate: snap.pack.namingTemplate,
         settings: snap.pack.settings,
       },
+      // The delivery format in words and fields; null: the files keep their takes' rates and channels.
+      profile: snap.pack.settings.profile
+        ? {
+            ...snap.pack.settings.profile,
+            preset: presetOf(snap.pack.settings.profile),
+            summary: profileSummary(snap.pack.settings.profile),
+          }
+        : null,
       build: {
         id: order.buildId,
         version: order.version,

@@ -12,7 +12,8 @@ import { packPublishedMail } from '../mail/messages'
 import { buildToApi } from './builds.mapper'
 import { computeChanges } from './changes'
 import { snapshotOf } from './published'
-import type { BuildSnapshot } from './item-spec'
+import { tooLongItem, tooLongText, type BuildSnapshot } from './item-spec'
+import { round2 } from '../render/settings'
 import * as repo from './packs.repository'
 import { itemSpecs, managedPack, managesPacks, parseSettingsOf, visiblePack } from './packs.service'
 
@@ -39,6 +40,14 @@ export async function requestBuild(ctx: AppContext, user: User, packId: number):
         takeId: unready.take.id,
       },
     )
+  }
+  const long = tooLongItem(specs.map((s) => s.spec))
+  if (long) {
+    throw new AppError(409, 'ITEM_TOO_LONG', tooLongText(long), {
+      itemId: long.spec.itemId,
+      seconds: round2(long.seconds),
+      maxSeconds: long.maxSeconds,
+    })
   }
   const snapshot: BuildSnapshot = {
     pack: {

@@ -22,6 +22,12 @@ export interface ItemSpec {
   /** Without `.wav`. */
   outputName: string
   fileName: string
+  /** The zip folder under a by-kind profile (the first source device's kind), else null/absent: at the top. */
+  folder?: string | null
+  /** The name before the profile's length limit shortened it (absent in builds made before profiles). */
+  fullName?: string
+  /** The take's uploaded file name (absent in builds made before profiles). */
+  sourceFile?: string
   /** Relative to the storage root. */
   audioPath: string
   sourceLevels: SourceLevels | null
@@ -50,11 +56,38 @@ export interface BuildSnapshot {
   items: ItemSpec[]
 }
 
-/** Frames the item will render, for progress (loops move by a few frames). */
+/** Where the item's file sits in the zip: `folder/name.wav`, or `name.wav` at the top. */
+export const zipPath = (spec: Pick<ItemSpec, 'folder' | 'fileName'>): string =>
+  spec.folder ? `${spec.folder}/${spec.fileName}` : spec.fileName
+
+/** Frames the item will render, for progress (loops move by a few frames; a conversion reads the source once more). */
 export function expectedFrames(spec: ItemSpec): number {
   const seconds = (spec.endSeconds ?? spec.takeDurationSeconds) - (spec.startSeconds ?? 0)
-  return Math.max(1, Math.round(seconds * (spec.sampleRate ?? 48000)))
+  const rate = spec.sampleRate ?? 48000
+  const p = spec.settings.profile
+  const converts =
+    p && ((p.sampleRate !== 'source' && p.sampleRate !== rate) || (p.channels !== 'keep' && (spec.channels ?? 1) > 1))
+  const out = converts && p.sampleRate !== 'source' ? p.sampleRate : rate
+  return Math.max(1, Math.round(seconds * (converts ? rate + out : rate)))
 }
+
+/** An item longer than the profile allows, as the refusal names it; null when every item fits. */
+export function tooLongItem(specs: ItemSpec[]): { spec: ItemSpec; seconds: number; maxSeconds: number } | null {
+  for (const spec of specs) {
+    const max = spec.settings.profile?.maxSeconds ?? null
+    const seconds = (spec.endSeconds ?? spec.takeDurationSeconds) - (spec.startSeconds ?? 0)
+    if (max !== null && seconds > max + 1e-9) return { spec, seconds, maxSeconds: max }
+  }
+  return null
+}
+
+/** "item 3 (hum_01) lasts 42.00 s, longer than the export profile's limit of 20 s" */
+export const tooLongText = (t: {
+  spec: Pick<ItemSpec, 'position' | 'outputName'>
+  seconds: number
+  maxSeconds: number
+}) =>
+  `item ${t.spec.position} (${t.spec.outputName}) lasts ${t.seconds.toFixed(2)} s, longer than the export profile's limit of ${t.maxSeconds} s`
 
 /** bext description: the title, the region, the sources and the tags, within the chunk's 256 characters. */
 export function describeItem(
@@ -113,6 +146,7 @@ export function describeItemFailure(spec: Pick<ItemSpec, 'position' | 'outputNam
   const e = err as NodeJS.ErrnoException & { reason?: string }
   let why: string
   if (e?.code === 'ENOENT') why = `take ${spec.takeId}'s audio file is missing`
+  else if (e?.name === 'TooLongForProfile') why = e.message
   else if (e?.name === 'WavFormatError') why = `take ${spec.takeId}'s audio file cannot be read: ${e.message}`
   else why = e instanceof Error ? e.message : String(err)
   return `item ${spec.position} (${spec.outputName}): ${why}`

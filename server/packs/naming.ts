@@ -151,9 +151,93 @@ export function templateFor(template: string, f: NamingFacts): string {
   return template === DEFAULT_NAMING_TEMPLATE && f.regionName?.trim() ? DEFAULT_REGION_NAMING_TEMPLATE : template
 }
 
+const VOWEL = /[aeiou]/i
+
+/** Drops the last inner vowel of a word (never its first letter): "transformer" → "transformr". */
+function dropVowel(word: string): string | null {
+  for (let i = word.length - 1; i > 0; i--) if (VOWEL.test(word[i])) return word.slice(0, i) + word.slice(i + 1)
+  return null
+}
+
+/**
+ * A sanitised name shortened to `max` characters so it stays readable: the last word (the
+ * index, or the word that tells near-identical names apart) is kept whole; the longest other words lose inner
+ * vowels first, then letters from their ends, one at a time, down to three letters each; then
+ * whole words are dropped from the middle. Common practice for short sampler displays.
+ */
+export function shortenName(name: string, max: number): string {
+  if (name.length <= max) return name
+  const parts = name.split(/([-_])/) // words at even places, separators between
+  const words = parts.filter((_, i) => i % 2 === 0)
+  const seps = parts.filter((_, i) => i % 2 === 1)
+  const keepLast = words.length > 1 && words[words.length - 1].length <= max / 2 ? 1 : 0
+  const join = () => words.reduce((out, w, i) => (i === 0 ? w : out + seps[i - 1] + w), '')
+  const shrinkable = () =>
+    words
+      .map((w, i) => ({ w, i }))
+      .filter(({ i }) => i < words.length - keepLast)
+      .sort((a, b) => b.w.length - a.w.length || b.i - a.i)
+  // 1. inner vowels of the longest words
+  while (join().length > max) {
+    const next = shrinkable().find(({ w }) => w.length > 3 && dropVowel(w) !== null)
+    if (!next) break
+    words[next.i] = dropVowel(next.w)!
+  }
+  // 2. letters off the end of the longest words, down to three letters each
+  const trim = (shortest: number) => {
+    while (join().length > max) {
+      const [longest] = shrinkable()
+      if (!longest || longest.w.length <= shortest) break
+      words[longest.i] = longest.w.slice(0, -1)
+    }
+  }
+  trim(3)
+  // 3. whole words from the middle (the first and the last word stay): three letters read better than two
+  while (join().length > max && words.length > 1 + keepLast) {
+    const at = words.length - 1 - keepLast
+    words.splice(at, 1)
+    seps.splice(at - 1, 1)
+  }
+  // 4. what is left, down to a letter a word; the final cut only for a single long word
+  trim(1)
+  return sanitizeName(join(), max)
+}
+
+export interface NamingOptions {
+  /** Longest name before `.wav` (a profile's limit); default MAX_OUTPUT_NAME. */
+  maxLength?: number | null
+}
+
+/** The full and the delivered name of each item. */
+export interface ItemName {
+  /** Sanitised, before any length limit below MAX_OUTPUT_NAME. */
+  full: string
+  /** Within the limit and unique in the pack: the file name without `.wav`. */
+  name: string
+}
+
+/** Output names of a pack's items in order: explicit names or the template, sanitised, shortened to the limit, then made unique. */
+export function itemNames(
+  template: string,
+  items: { name: string | null; facts: NamingFacts }[],
+  opts: NamingOptions = {},
+): ItemName[] {
+  const max = opts.maxLength ?? MAX_OUTPUT_NAME
+  const full = items.map((i) => sanitizeName(i.name ?? fillTemplate(templateFor(template, i.facts), i.facts)))
+  const names = uniquify(
+    full.map((n) => shortenName(n, max)),
+    max,
+  )
+  return full.map((f, k) => ({ full: f, name: names[k] }))
+}
+
 /** Output names (without .wav) of a pack's items in order: explicit names or the template, sanitised, then made unique. */
-export function outputNames(template: string, items: { name: string | null; facts: NamingFacts }[]): string[] {
-  return uniquify(items.map((i) => sanitizeName(i.name ?? fillTemplate(templateFor(template, i.facts), i.facts))))
+export function outputNames(
+  template: string,
+  items: { name: string | null; facts: NamingFacts }[],
+  opts: NamingOptions = {},
+): string[] {
+  return itemNames(template, items, opts).map((n) => n.name)
 }
 
 /** The zip's download name: `<pack-name>_v<version>.zip`. */

@@ -233,6 +233,8 @@ export const MANIFEST_COLUMNS = [
   'regionName',
   'licence',
   'sha256',
+  'originalName',
+  'sourceFile',
 ] as const satisfies readonly (keyof ManifestItem)[]
 
 /**

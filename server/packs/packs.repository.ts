@@ -153,7 +153,7 @@ export async function takeFacts(db: Db, takeIds: number[]) {
     db
       .selectFrom('take_sources')
       .innerJoin('sources', 'sources.id', 'take_sources.source_id')
-      .select(['take_sources.take_id', 'sources.name', 'take_sources.state'])
+      .select(['take_sources.take_id', 'sources.name', 'sources.kind', 'take_sources.state'])
       .where('take_sources.take_id', 'in', takeIds)
       .orderBy('sources.name')
       .execute(),

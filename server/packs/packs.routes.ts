@@ -141,7 +141,7 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   /** The output names a naming template would give the pack's items, for the live preview while it is typed. */
   api.route('get', '/packs/:id/naming-preview', 'packs:manage', async (req, res) => {
     const { id } = params(req, IdParams)
-    res.json(await namingPreview(ctx, id, query(req, NamingPreviewQuery).template))
+    res.json(await namingPreview(ctx, id, query(req, NamingPreviewQuery)))
   })
 
   api.route('put', '/packs/:id/items/order', 'packs:manage', async (req, res) => {

@@ -12,7 +12,9 @@ import {
   LICENCE_TEMPLATES,
   RenderSettings,
   RenderSettingsPatch,
+  ItemSettingsPatch,
   effectiveSettings,
+  presetProfile,
   type AddItemBody,
   type CreatePackBody,
   type ItemKind,
@@ -29,8 +31,8 @@ import type { Db } from '../core/database'
 import { AppError } from '../core/errors'
 import type { PackItemRow } from '../../db/schema-packs'
 import { planGain, round2 } from '../render/settings'
-import { outputNames, type NamingFacts } from './naming'
-import type { ItemSpec } from './item-spec'
+import { itemNames, type NamingFacts } from './naming'
+import { tooLongItem, tooLongText, type ItemSpec } from './item-spec'
 import * as repo from './packs.repository'
 import { buildToApi } from './builds.mapper'
 import { itemSeconds, newestPublished, publishedDetail, renderedOf, snapshotOf } from './published'
@@ -46,7 +48,7 @@ export const MIN_ITEM_SECONDS = 0.01
 const parseSettings = (json: string | null): RenderSettings =>
   effectiveSettings(json ? (JSON.parse(json) as object) : null)
 export const parseSettingsOf = (pack: { settings_json: string }): RenderSettings => parseSettings(pack.settings_json)
-const parsePatch = (json: string | null) => (json ? RenderSettingsPatch.parse(JSON.parse(json)) : null)
+const parsePatch = (json: string | null) => (json ? ItemSettingsPatch.parse(JSON.parse(json)) : null)
 
 /** The pack, or 404 when it does not exist or the user may not see it. */
 export async function visiblePack(db: Db, user: User, id: number): Promise<repo.PackJoined> {
@@ -160,21 +162,35 @@ const rangeSeconds = (
   take: { duration_seconds: number | null },
 ) => (row.end_seconds ?? take.duration_seconds ?? 0) - (row.start_seconds ?? 0)
 
-/** Everything about a pack's items in order: facts, names and render specs. */
-export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow[]) {
+/** The by-kind folder of a take: its first source device's kind; takes logged without a device go to "other". */
+function kindFolder(facts: Facts, takeId: number): string {
+  return facts.sources.find((s) => s.take_id === takeId)?.kind ?? 'other'
+}
+
+/** Everything about a pack's items in order: facts, names and render specs. `opts` previews another name limit or layout. */
+export async function itemSpecs(
+  db: Db,
+  pack: repo.PackJoined,
+  rows: PackItemRow[],
+  opts: { maxNameLength?: number | null; layout?: 'flat' | 'by-kind' } = {},
+) {
   const [facts, regions] = await Promise.all([
     repo.takeFacts(db, [...new Set(rows.map((r) => r.take_id))]),
     repo.regionNames(db, [...new Set(rows.flatMap((r) => (r.region_id === null ? [] : [r.region_id])))]),
   ])
-  const packSettings = parsePatch(pack.settings_json)
+  const packSettings = pack.settings_json ? RenderSettingsPatch.parse(JSON.parse(pack.settings_json)) : null
+  const profile = effectiveSettings(packSettings).profile ?? null
+  const maxLength = opts.maxNameLength !== undefined ? opts.maxNameLength : (profile?.maxNameLength ?? null)
+  const layout = opts.layout ?? profile?.layout ?? 'flat'
   const entries = rows.map((row, i) => {
     const take = facts.takes.find((t) => t.id === row.take_id)!
     const regionName = row.region_id === null ? null : (regions.get(row.region_id) ?? null)
     return { row, take, naming: namingFacts(pack, take, facts, row.kind as ItemKind, i + 1, rows.length, regionName) }
   })
-  const names = outputNames(
+  const names = itemNames(
     pack.naming_template,
     entries.map((e) => ({ name: e.row.name, facts: e.naming })),
+    { maxLength },
   )
   return entries.map((e, i) => {
     const settings = effectiveSettings(packSettings, parsePatch(e.row.settings_json))
@@ -192,8 +208,11 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
       endSeconds: e.row.end_seconds,
       kind: e.row.kind as ItemKind,
       settings,
-      outputName: names[i],
-      fileName: `${names[i]}.wav`,
+      outputName: names[i].name,
+      fileName: `${names[i].name}.wav`,
+      fullName: names[i].full,
+      folder: layout === 'by-kind' ? kindFolder(facts, e.take.id) : null,
+      sourceFile: e.take.filename,
       audioPath: e.take.audio_path,
       sourceLevels,
       sampleRate: e.take.sample_rate,
@@ -210,10 +229,25 @@ export async function itemSpecs(db: Db, pack: repo.PackJoined, rows: PackItemRow
 }
 
 /** The output names `template` would give the pack's items (explicit names stay), for the live preview. */
-export async function namingPreview(ctx: AppContext, packId: number, template: string): Promise<NamingPreview> {
+export async function namingPreview(
+  ctx: AppContext,
+  packId: number,
+  q: { template: string; maxNameLength?: number; layout?: 'flat' | 'by-kind' },
+): Promise<NamingPreview> {
   const pack = await managedPack(ctx.db, packId)
-  const specs = await itemSpecs(ctx.db, { ...pack, naming_template: template }, await repo.itemsOf(ctx.db, packId))
-  return { names: specs.map((s) => ({ itemId: s.row.id, outputName: s.spec.outputName, fileName: s.spec.fileName })) }
+  const specs = await itemSpecs(ctx.db, { ...pack, naming_template: q.template }, await repo.itemsOf(ctx.db, packId), {
+    maxNameLength: q.maxNameLength,
+    layout: q.layout,
+  })
+  return {
+    names: specs.map((s) => ({
+      itemId: s.row.id,
+      outputName: s.spec.outputName,
+      fileName: s.spec.fileName,
+      fullName: s.spec.fullName ?? s.spec.outputName,
+      folder: s.spec.folder ?? null,
+    })),
+  }
 }
 
 /** `publishedOnly`: rendered numbers from published builds only (what producers may see). */
@@ -258,6 +292,8 @@ export async function itemsToApi(
       name: row.name,
       outputName: spec.outputName,
       fileName: spec.fileName,
+      folder: spec.folder ?? null,
+      fullName: spec.fullName,
       settings: parsePatch(row.settings_json),
       effectiveSettings: spec.settings,
       source: {
@@ -543,7 +579,7 @@ const SETTING_KEYS = [
 
 /** A take or a range of one as a one-item spec, with a pack's settings and naming (or the defaults), any setting overridden. */
 export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExportQuery, who: string): Promise<ItemSpec> {
-  const pack: repo.PackJoined = q.packId
+  let pack: repo.PackJoined = q.packId
     ? await managedPack(ctx.db, q.packId)
     : {
         id: 0,
@@ -561,6 +597,13 @@ export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExport
   const take = facts.takes[0]
   if (!take) throw new AppError(404, 'TAKE_NOT_FOUND', 'No take with that id')
   const range = checkRange(take, { startSeconds: q.start ?? null, endSeconds: q.end ?? null })
+  if (q.preset !== undefined) {
+    const settings = {
+      ...parseSettings(pack.settings_json),
+      profile: q.preset === 'none' ? null : presetProfile(q.preset),
+    }
+    pack = { ...pack, settings_json: JSON.stringify(settings) }
+  }
   const overrides: RenderSettingsPatch = {}
   for (const k of SETTING_KEYS) if (q[k] !== undefined) (overrides as Record<string, unknown>)[k] = q[k]
   const row: PackItemRow = {
@@ -580,5 +623,11 @@ export async function exportSpec(ctx: AppContext, takeId: number, q: QuickExport
     ...(await sourceLevels(ctx, who, take, range)),
   }
   const [{ spec }] = await itemSpecs(ctx.db, pack, [row])
+  const long = tooLongItem([spec])
+  if (long)
+    throw new AppError(400, 'ITEM_TOO_LONG', tooLongText(long), {
+      seconds: round2(long.seconds),
+      maxSeconds: long.maxSeconds,
+    })
   return { ...spec, itemId: null }
 }

@@ -9,7 +9,7 @@ import type { Db } from '../core/database'
 import { AppError, fileError } from '../core/errors'
 import type { PackBuildItemRow } from '../../db/schema-packs'
 import { round2 } from '../render/settings'
-import type { BuildSnapshot, ItemSpec } from './item-spec'
+import { zipPath, type BuildSnapshot, type ItemSpec } from './item-spec'
 import * as repo from './packs.repository'
 import { storedEntryRange, ZipFormatError } from './zip-entries'
 
@@ -175,7 +175,7 @@ export async function sendBuildItem(
   const zip = ctx.storage.abs(build.zip_path)
   let range: Awaited<ReturnType<typeof storedEntryRange>>
   try {
-    range = await storedEntryRange(zip, spec.fileName)
+    range = await storedEntryRange(zip, zipPath(spec))
   } catch (err) {
     if (err instanceof ZipFormatError) throw err
     // Fixed words for file-system errors (FILE_MISSING…); the path goes to the server log only.

@@ -9,7 +9,7 @@
 // to exist.
 import { stat } from 'node:fs/promises'
 import type { User } from '@shared/schemas/auth'
-import type { CreateShareLinkBody, ShareInfo, ShareLink } from '@shared/schemas/packs'
+import { profileSummary, type CreateShareLinkBody, type ShareInfo, type ShareLink } from '@shared/schemas/packs'
 import type { AppContext } from '../core/context'
 import { AppError, fileError } from '../core/errors'
 import { sessionSecret } from '../core/settings'
@@ -136,6 +136,7 @@ export async function shareInfo(ctx: AppContext, token: string): Promise<ShareIn
     downloadUrl: `/api/share/${token}/download`,
     items: await publishedItems(ctx.db, build, `/api/share/${token}`),
     changeNote: build.change_note,
+    format: snap.pack.settings.profile ? profileSummary(snap.pack.settings.profile) : null,
   }
 }
 

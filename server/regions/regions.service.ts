@@ -22,6 +22,7 @@ const toRegion = (r: RegionJoined): Region => ({
   name: r.name,
   startSeconds: r.start_seconds,
   endSeconds: r.end_seconds,
+  kind: (r.kind as Region['kind']) ?? null,
   createdBy: r.created_by && r.creator_name ? { id: r.created_by, name: r.creator_name } : null,
   createdAt: r.created_at,
   updatedAt: r.updated_at,
@@ -68,6 +69,7 @@ export async function createRegion(db: Db, user: User, takeId: number, body: Cre
       name: body.name,
       start_seconds: body.startSeconds,
       end_seconds: body.endSeconds,
+      kind: body.kind ?? null,
       created_by: user.id,
     })
     await recordEvent(
@@ -75,7 +77,7 @@ export async function createRegion(db: Db, user: User, takeId: number, body: Cre
       takeId,
       user,
       'region-added',
-      `Region \u201c${body.name}\u201d ${span(body.startSeconds, body.endSeconds)}`,
+      `Region \u201c${body.name}\u201d ${span(body.startSeconds, body.endSeconds)}${body.kind ? ` (${body.kind})` : ''}`,
     )
     return id
   })
@@ -96,15 +98,22 @@ export async function patchRegion(
     name: body.name ?? region.name,
     start: body.startSeconds ?? region.start_seconds,
     end: body.endSeconds ?? region.end_seconds,
+    kind: body.kind === undefined ? region.kind : body.kind,
   }
   checkRange(take, next.start, next.end)
   const changes: string[] = []
   if (next.name !== region.name) changes.push(`renamed \u201c${region.name}\u201d \u2192 \u201c${next.name}\u201d`)
   if (next.start !== region.start_seconds || next.end !== region.end_seconds)
     changes.push(`${span(region.start_seconds, region.end_seconds)} \u2192 ${span(next.start, next.end)}`)
+  if (next.kind !== region.kind) changes.push(`kind ${region.kind ?? 'none'} \u2192 ${next.kind ?? 'none'}`)
   if (changes.length) {
     await db.transaction().execute(async (trx) => {
-      await updateRegion(trx, regionId, { name: next.name, start_seconds: next.start, end_seconds: next.end })
+      await updateRegion(trx, regionId, {
+        name: next.name,
+        start_seconds: next.start,
+        end_seconds: next.end,
+        kind: next.kind,
+      })
       await recordEvent(trx, takeId, user, 'region-changed', `Region \u201c${next.name}\u201d: ${changes.join('; ')}`)
     })
   }

@@ -9,17 +9,22 @@
 //   4. One streaming pass: read a block, apply gain and fades, reduce the word length
 //      with TPDF dither (quantize.ts), meter the exact output samples (loudness, range,
 //      true peak), write the block.
+//   (Under an export profile that changes the rate or the channels, steps 2–5 run on the
+//   range after channel mapping and resampling (convert.ts), so the delivered file meets
+//   its loudness and ceiling; the loop and the fades are then laid out at the new rate.)
 //   5. Fades and quantisation move a short item's loudness slightly. When the measured
 //      result misses the target by more than 0.1 LU (or 0.1 dB in peak mode), or its true
 //      peak is above the ceiling, the pass is thrown away and run once more with the
 //      gain corrected by the miss (still capped by the ceiling). Otherwise bext's loudness
 //      fields get the measured values and the file is closed into place.
 import { randomBytes } from 'node:crypto'
+import { rm } from 'node:fs/promises'
 import type { ItemKind, RenderSettings } from '@shared/schemas/packs'
 import { probeWav, readFrames, type WavInfo } from '../audio/wav-reader'
 import { WavWriter, type WavWriteOptions } from '../audio/wav-writer'
 import { LevelMeter, measureRange, type LevelReading } from './level-meter'
-import { bextFor, codingHistory, infoFor, type ItemMetadata } from './metadata'
+import { convertRange, conversionText, needsConversion } from './convert'
+import { bextFor, codingHistory, infoFor, type CodingLine, type ItemMetadata } from './metadata'
 import { ditherState, processBlock } from './quantize'
 import { ceilingPeak, modeTarget, planGain, round2, targetLoudness, type GainPlan, type SourceLevels } from './settings'
 import { loopCut } from './zero-crossing'
@@ -53,6 +58,21 @@ export interface RenderRequest {
   shouldStop?: () => boolean
   /** A probe of sourcePath the caller already made. */
   sourceInfo?: WavInfo
+  /** Set on the second stage of a converted render: the take's format and what the conversion did (coding history). */
+  origin?: { source: CodingLine; conversion: CodingLine }
+  /** Set on the second stage of a converted loop: the range is already the loop, cut on crossings at the source rate. */
+  loopReady?: { onCrossings: boolean }
+}
+
+/** An item longer than its profile allows: refused before any sample is written. */
+export class TooLongForProfile extends Error {
+  constructor(
+    readonly seconds: number,
+    readonly maxSeconds: number,
+  ) {
+    super(`it lasts ${seconds.toFixed(2)} s, longer than the export profile's limit of ${maxSeconds} s`)
+    this.name = 'TooLongForProfile'
+  }
 }
 
 /** A request without its callbacks: what crosses to a worker thread or the build process. */
@@ -132,6 +152,9 @@ export async function renderItem(
   options: RenderItemOptions = {},
 ): Promise<RenderResult> {
   const durable = options.durable ?? true
+  // A profile decides the output word length.
+  if (req.settings.profile && req.settings.bitDepth !== req.settings.profile.bitDepth)
+    req = { ...req, settings: { ...req.settings, bitDepth: req.settings.profile.bitDepth } }
   const info = req.sourceInfo ?? (await probeWav(req.sourcePath))
   const f = info.format
   const s = req.settings
@@ -139,12 +162,18 @@ export async function renderItem(
   let end = clampFrame(req.endSeconds, f.sampleRate, f.frames, f.frames)
   if (end <= start) throw new RangeError(`the range ${start}..${end} holds no frames`)
   let loop: RenderResult['loop'] = null
-  if (req.kind === 'loop') {
+  const maxSeconds = s.profile?.maxSeconds ?? null
+  if (maxSeconds !== null && (end - start) / f.sampleRate > maxSeconds + 1e-9)
+    throw new TooLongForProfile((end - start) / f.sampleRate, maxSeconds)
+  if (req.kind === 'loop' && req.loopReady) {
+    loop = { start: 0, end: end - start - 1, onCrossings: req.loopReady.onCrossings }
+  } else if (req.kind === 'loop') {
     const cut = await loopCut(req.sourcePath, info, start, end)
     start = cut.start
     end = cut.end
     loop = { start: 0, end: end - start - 1, onCrossings: cut.onCrossings }
   }
+  if (needsConversion(info, s.profile)) return renderConverted(req, info, start, end, loop, outPath, options)
   const total = end - start
   let source: SourceLevels = req.sourceLevels ?? (await measureRange(req.sourcePath, info, start, end))
   // A one-shot under 400 ms has no integrated loudness; loudness mode meets its target on the
@@ -218,6 +247,79 @@ export async function renderItem(
   }
 }
 
+/**
+ * Channel mapping and resampling first, into a float scratch file beside the output; then the
+ * usual render of that file, whose levels are measured afresh (the given source levels are of
+ * the take's own channels and rate). The loop, already cut on the source's crossings, becomes
+ * the whole converted range; fades are laid out in milliseconds, so at the new rate.
+ */
+async function renderConverted(
+  req: RenderRequest,
+  info: WavInfo,
+  start: number,
+  end: number,
+  loop: RenderResult['loop'],
+  outPath: string,
+  options: RenderItemOptions,
+): Promise<RenderResult> {
+  const profile = req.settings.profile!
+  const f = info.format
+  const scratch = `${outPath}.convert-${randomBytes(4).toString('hex')}.wav`
+  let converted
+  let done = 0
+  try {
+    converted = await convertRange(req.sourcePath, info, start, end, profile, scratch, {
+      shouldStop: req.shouldStop,
+      onFrames: (n) => req.onFrames?.((done += n)),
+    })
+  } catch (err) {
+    await rm(scratch, { force: true })
+    throw (err as Error)?.message === 'render stopped' ? new RenderStopped() : err
+  }
+  const t = converted.format
+  try {
+    const result = await renderItem(
+      {
+        ...req,
+        sourcePath: scratch,
+        sourceInfo: undefined,
+        startSeconds: null,
+        endSeconds: null,
+        sourceLevels: null,
+        settings: { ...req.settings, profile: null },
+        metadata: {
+          ...req.metadata,
+          // Samples since midnight count at the file's own rate.
+          timeReference: Math.round((req.metadata.timeReference * t.sampleRate) / f.sampleRate),
+        },
+        origin: {
+          source: {
+            encoding: f.encoding,
+            sampleRate: f.sampleRate,
+            bits: f.validBitsPerSample,
+            channels: f.channels,
+            text: 'source take',
+          },
+          conversion: {
+            encoding: 'float',
+            sampleRate: t.sampleRate,
+            bits: 32,
+            channels: t.channels,
+            text: conversionText(info, profile),
+          },
+        },
+        loopReady: loop ? { onCrossings: loop.onCrossings } : undefined,
+        onFrames: (n) => req.onFrames?.(done + n),
+      },
+      outPath,
+      options,
+    )
+    return { ...result, sourceStartFrame: start, sourceEndFrame: end }
+  } finally {
+    await rm(scratch, { force: true })
+  }
+}
+
 /** The gain change of the corrective pass, or null when the first pass is good. */
 export function correctionDb(
   plan: GainPlan,
@@ -269,13 +371,17 @@ async function renderPass(
   const dithered = needsDither(info, s, gain, fadeIn + fadeOut > 0)
   const float = s.bitDepth === 32
   const history = codingHistory([
-    {
-      encoding: f.encoding,
-      sampleRate: f.sampleRate,
-      bits: f.validBitsPerSample,
-      channels: f.channels,
-      text: 'source take',
-    },
+    ...(req.origin
+      ? [req.origin.source, req.origin.conversion]
+      : [
+          {
+            encoding: f.encoding,
+            sampleRate: f.sampleRate,
+            bits: f.validBitsPerSample,
+            channels: f.channels,
+            text: 'source take',
+          },
+        ]),
     {
       encoding: float ? 'float' : 'pcm',
       sampleRate: f.sampleRate,

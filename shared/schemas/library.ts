@@ -126,6 +126,7 @@ export const HISTORY_KINDS = [
   'region-added',
   'region-changed',
   'region-removed',
+  'split',
   'removed',
   'restored',
 ] as const
@@ -147,12 +148,17 @@ export const HistoryResponse = z.object({ events: z.array(HistoryEvent) })
 
 export const RegionParams = z.object({ id: Id, regionId: Id })
 
+/** What a region is for as an instrument part; null: a plain named range. */
+export const RegionKind = z.enum(['one-shot', 'loop', 'drone'])
+export type RegionKind = z.infer<typeof RegionKind>
+
 export const Region = z.object({
   id: z.number().int(),
   takeId: z.number().int(),
   name: z.string(),
   startSeconds: z.number(),
   endSeconds: z.number(),
+  kind: RegionKind.nullable(),
   createdBy: UserRef.nullable(),
   createdAt: z.string(),
   updatedAt: z.string(),
@@ -162,13 +168,14 @@ export type Region = z.infer<typeof Region>
 const regionName = text(120).min(1, 'Give the region a name')
 
 export const CreateRegionBody = z
-  .object({ name: regionName, startSeconds: seconds, endSeconds: seconds })
+  .object({ name: regionName, startSeconds: seconds, endSeconds: seconds, kind: RegionKind.nullable().optional() })
   .refine((r) => r.startSeconds < r.endSeconds, { message: 'A region ends after it starts', path: ['endSeconds'] })
 export type CreateRegionBody = z.infer<typeof CreateRegionBody>
 
 /** The result must still satisfy 0 ≤ start < end ≤ duration; the server checks it against the stored region. */
 export const UpdateRegionBody = z.object({
   name: regionName.optional(),
+  kind: RegionKind.nullable().optional(),
   startSeconds: seconds.optional(),
   endSeconds: seconds.optional(),
 })

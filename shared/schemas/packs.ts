@@ -1,6 +1,9 @@
 // Sample packs: curated items of takes, rendered to a spec, built into numbered
 // zip versions and delivered to producers or through share links.
 import { z } from 'zod'
+import { EXPORT_PRESETS, type ExportPresetKey as PresetKey } from './packs-profiles'
+
+export * from './packs-profiles'
 
 const text = (max: number) => z.string().trim().max(max)
 
@@ -19,6 +22,41 @@ export const ITEM_KINDS = ['one-shot', 'loop'] as const
 export const ItemKind = z.enum(ITEM_KINDS)
 export type ItemKind = z.infer<typeof ItemKind>
 
+// ---- export profiles ----
+
+/** Output sample rates of a profile: the source's own, or one of the two rates samplers commonly play. */
+export const PROFILE_SAMPLE_RATES = ['source', 44100, 48000] as const
+export const ProfileSampleRate = z.union([z.literal('source'), z.literal(44100), z.literal(48000)])
+export type ProfileSampleRate = z.infer<typeof ProfileSampleRate>
+/** keep: as recorded; mono: the mean of all channels; left / right: the first / second channel alone. */
+export const PROFILE_CHANNELS = ['keep', 'mono', 'left', 'right'] as const
+export const ProfileChannels = z.enum(PROFILE_CHANNELS)
+export type ProfileChannels = z.infer<typeof ProfileChannels>
+/** flat: every file at the zip's top; by-kind: one folder per kind of source device (SOURCE_KINDS). */
+export const PROFILE_LAYOUTS = ['flat', 'by-kind'] as const
+export const ProfileLayout = z.enum(PROFILE_LAYOUTS)
+export type ProfileLayout = z.infer<typeof ProfileLayout>
+/** Shortest name limit a profile may set: room for a word, a separator and a two-digit index. */
+export const MIN_NAME_LIMIT = 8
+
+/** How a pack's files are delivered for a sampler: format, longest item, name length and folders. */
+export const ExportProfile = z
+  .object({
+    sampleRate: ProfileSampleRate,
+    channels: ProfileChannels,
+    bitDepth: z.union([z.literal(16), z.literal(24), z.literal(32)]),
+    /** Items longer than this are refused, naming the item and its length; null: no limit. */
+    maxSeconds: z.number().positive().max(86_400).nullable(),
+    /** Longest file name before `.wav`; longer names are shortened, readably and uniquely. null: the usual 80. */
+    maxNameLength: z.number().int().min(MIN_NAME_LIMIT).max(80).nullable(),
+    layout: ProfileLayout,
+  })
+  .strict()
+export type ExportProfile = z.infer<typeof ExportProfile>
+
+export const ExportPresetKey = z.enum(EXPORT_PRESETS.map((p) => p.key) as [PresetKey, ...PresetKey[]])
+export type ExportPresetKey = z.infer<typeof ExportPresetKey>
+
 export const RenderSettings = z.object({
   normalize: NormalizeMode,
   /** Integrated loudness target (ITU-R BS.1770-4) for normalize = 'loudness'. */
@@ -31,6 +69,8 @@ export const RenderSettings = z.object({
   /** Equal-power (quarter-sine) fades of one-shots; loops are cut on zero crossings instead. */
   fadeInMs: z.number().min(0).max(10_000),
   fadeOutMs: z.number().min(0).max(10_000),
+  /** Delivery format for a sampler; absent or null: the source's rate and channels, `bitDepth` above, flat, 80-character names. */
+  profile: ExportProfile.nullable().optional(),
 })
 export type RenderSettings = z.infer<typeof RenderSettings>
 
@@ -47,13 +87,18 @@ export const DEFAULT_RENDER_SETTINGS: RenderSettings = {
 /** Any subset of the settings: a PATCH of the pack's settings, or an item's override. */
 export const RenderSettingsPatch = RenderSettings.partial().strict()
 export type RenderSettingsPatch = z.infer<typeof RenderSettingsPatch>
+/** An item's override: the profile is the pack's alone (names and folders are decided pack-wide). */
+export const ItemSettingsPatch = RenderSettingsPatch.omit({ profile: true })
+export type ItemSettingsPatch = z.infer<typeof ItemSettingsPatch>
 
-/** An item's settings: the defaults, the pack's on top, the item's override on top of those. */
+/** An item's settings: the defaults, the pack's on top, the item's override on top of those; a profile sets the bit depth. */
 export function effectiveSettings(
   pack: RenderSettingsPatch | null | undefined,
   item?: RenderSettingsPatch | null,
 ): RenderSettings {
-  return RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...(pack ?? {}), ...(item ?? {}) })
+  const { profile: _ignored, ...override } = item ?? {}
+  const s = RenderSettings.parse({ ...DEFAULT_RENDER_SETTINGS, ...(pack ?? {}), ...override })
+  return s.profile ? { ...s, bitDepth: s.profile.bitDepth } : s
 }
 
 // ---- licences and names ----
@@ -177,7 +222,7 @@ export const AddItemBody = z
     /** An explicit output name (sanitised); omitted: from the pack's naming template. */
     name: text(200).optional(),
     kind: ItemKind.default('one-shot'),
-    settings: RenderSettingsPatch.optional(),
+    settings: ItemSettingsPatch.optional(),
   })
   .strict()
 export type AddItemBody = z.infer<typeof AddItemBody>
@@ -194,7 +239,7 @@ export const UpdateItemBody = z
     name: text(200).nullable(),
     kind: ItemKind,
     /** null: no override. */
-    settings: RenderSettingsPatch.nullable(),
+    settings: ItemSettingsPatch.nullable(),
   })
   .partial()
   .strict()
@@ -216,10 +261,25 @@ export const PublishBuildBody = z.object({ note: text(4000).optional() }).strict
 export type PublishBuildBody = z.infer<typeof PublishBuildBody>
 
 /** GET /api/packs/:id/naming-preview?template=…: the output names a template would give the pack's items. */
-export const NamingPreviewQuery = z.object({ template: NamingTemplate })
+export const NamingPreviewQuery = z.object({
+  template: NamingTemplate,
+  /** A name length limit to preview (a profile's maxNameLength); omitted: the pack's own profile decides. */
+  maxNameLength: z.coerce.number().int().min(MIN_NAME_LIMIT).max(80).optional(),
+  /** 'by-kind' to preview folders too. */
+  layout: ProfileLayout.optional(),
+})
 export type NamingPreviewQuery = z.infer<typeof NamingPreviewQuery>
 export const NamingPreview = z.object({
-  names: z.array(z.object({ itemId: z.number().int(), outputName: z.string(), fileName: z.string() })),
+  names: z.array(
+    z.object({
+      itemId: z.number().int(),
+      outputName: z.string(),
+      fileName: z.string(),
+      /** The name before shortening. */
+      fullName: z.string(),
+      folder: z.string().nullable(),
+    }),
+  ),
 })
 export type NamingPreview = z.infer<typeof NamingPreview>
 
@@ -238,6 +298,8 @@ export const QuickExportQuery = z.object({
   bitDepth: z.coerce.number().pipe(BitDepth).optional(),
   fadeInMs: num.min(0).max(10_000).optional(),
   fadeOutMs: num.min(0).max(10_000).optional(),
+  /** A named export profile (EXPORT_PRESETS); 'none' for no profile even when the pack has one. */
+  preset: z.union([ExportPresetKey, z.literal('none')]).optional(),
 })
 export type QuickExportQuery = z.infer<typeof QuickExportQuery>
 
@@ -307,7 +369,11 @@ export const PackItem = z.object({
   /** The file name it renders to, without `.wav`: sanitised and unique within the pack. */
   outputName: z.string(),
   fileName: z.string(),
-  settings: RenderSettingsPatch.nullable(),
+  /** The folder inside the zip (by-kind layout), or null at the top. */
+  folder: z.string().nullable().optional(),
+  /** The name before the profile's length limit shortened it (without `.wav`); equal to outputName when it fits. */
+  fullName: z.string().optional(),
+  settings: ItemSettingsPatch.nullable(),
   effectiveSettings: RenderSettings,
   source: ItemSourceLevels,
   /** From the newest finished build holding this item, or null. */
@@ -443,6 +509,8 @@ export const ShareInfo = z.object({
   items: z.array(PublishedItem),
   /** The build's "what changed" note. */
   changeNote: z.string().nullable(),
+  /** The export profile's summary (profileSummary), or null when the files keep their source format. */
+  format: z.string().nullable().optional(),
 })
 export type ShareInfo = z.infer<typeof ShareInfo>
 
@@ -465,5 +533,9 @@ export const ManifestItem = z.object({
   regionName: z.string().nullable(),
   licence: z.string(),
   sha256: z.string(),
+  /** The item's name before the profile's length limit shortened it, with `.wav`. */
+  originalName: z.string().optional(),
+  /** The take's file name as it was uploaded. */
+  sourceFile: z.string().optional(),
 })
 export type ManifestItem = z.infer<typeof ManifestItem>

@@ -72,6 +72,13 @@ export async function fetchImage(url: string, signal?: AbortSignal): Promise<{ b
   return { blob: await res.blob(), headers: res.headers }
 }
 
+/** A GET whose answer is bytes to decode (a loop's cycle for Web Audio). */
+export async function fetchBytes(url: string, signal?: AbortSignal): Promise<ArrayBuffer> {
+  const res = await fetch(url, { credentials: 'same-origin', signal })
+  if (!res.ok) throw await toApiError(res)
+  return res.arrayBuffer()
+}
+
 /** Query string from an object, leaving out empty values. */
 export function qs(params: Record<string, unknown>): string {
   const sp = new URLSearchParams()

@@ -24,6 +24,15 @@ export function wireMedia(el: HTMLMediaElement) {
   return nodes
 }
 
+/**
+ * The chain's input for another source heard as `el` is (the bench's loop
+ * audition): the same even-level gain and master volume, in the same context.
+ */
+export function chainInput(el: HTMLMediaElement): { context: AudioContext; input: AudioNode } {
+  const nodes = wireMedia(el)
+  return { context: context!, input: nodes.even }
+}
+
 /** Sets both gains of a wired element (a short glide, so a change never clicks). */
 export function applyGains(el: HTMLMediaElement | null, evenDb: number, master: number) {
   const nodes = el && wired.get(el)

@@ -2,7 +2,7 @@ import { acceptHMRUpdate, defineStore } from 'pinia'
 import { computed, ref } from 'vue'
 import type { Peaks } from '@shared/schemas/analysis'
 import type { Take } from '@shared/schemas/takes'
-import type { Comment, Region, HistoryEvent, UpdateTakeBody } from '@shared/schemas/library'
+import type { Comment, Region, RegionKind, HistoryEvent, UpdateTakeBody } from '@shared/schemas/library'
 import type { NoteOutcome } from '@shared/schemas/notes'
 import { api } from '@/api/client'
 
@@ -51,11 +51,12 @@ export const useBenchStore = defineStore('bench', () => {
     await loadHistory()
   }
 
-  async function addRegion(name: string, startSeconds: number, endSeconds: number) {
+  async function addRegion(name: string, startSeconds: number, endSeconds: number, kind?: RegionKind) {
     const { region } = await api.post<{ region: Region }>(`/api/takes/${id.value}/regions`, {
       name,
       startSeconds,
       endSeconds,
+      ...(kind ? { kind } : {}),
     })
     regions.value = [...regions.value, region].sort((a, b) => a.startSeconds - b.startSeconds)
     await loadHistory()

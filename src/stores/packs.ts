@@ -75,10 +75,13 @@ export const usePacksStore = defineStore('packs', () => {
   const changes = async (buildId: number) =>
     (await api.get<{ changes: BuildChanges }>(`/api/pack-builds/${buildId}/changes`)).changes
   /** Output names the template would give the current pack's items. */
-  const namingPreview = async (template: string) =>
+  /** `limit` and `layout`: a profile's name limit and folders to preview (omitted: the pack's saved profile). */
+  const namingPreview = async (template: string, o: { limit?: number | null; layout?: 'flat' | 'by-kind' } = {}) =>
     (
       await api.get<NamingPreview>(
-        `/api/packs/${current.value!.id}/naming-preview?template=${encodeURIComponent(template)}`,
+        `/api/packs/${current.value!.id}/naming-preview?template=${encodeURIComponent(template)}` +
+          (o.limit ? `&maxNameLength=${o.limit}` : o.limit === null ? '&maxNameLength=80' : '') +
+          (o.layout ? `&layout=${o.layout}` : ''),
       )
     ).names
 

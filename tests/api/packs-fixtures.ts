@@ -23,7 +23,10 @@ export function soxMake(
   effects: string[],
 ): string {
   fs.mkdirSync(path.dirname(file), { recursive: true })
+  // The rate goes before -n as well: otherwise sox synthesises at its default rate and resamples.
   execFileSync('sox', [
+    '-r',
+    String(o.rate),
     '-n',
     '-r',
     String(o.rate),

@@ -54,28 +54,28 @@ describe('instrument tools on the bench', () => {
     await rows().first().waitFor()
     const count = await rows().count()
     expect(count).toBe(bursts.onsets.length)
-    expect(await page.locator('[data-test=proposals] .box').count()).toBe(count) // dashed on the lane
+    expect(await page.locator('[data-test=strip-proposal]').count()).toBe(count) // dashed on the strip's lane
     await screenshot(page, 'instrument-one-shots-desktop')
 
     await page.getByRole('button', { name: 'Reject One-shot 1', exact: true }).click()
     expect(await rows().count()).toBe(count - 1)
 
-    // Adjust: the proposal becomes the selection, where its handles can move it.
+    // Adjust: the proposal becomes the selection, where its handles can move it (names stay as proposed).
     const second = rows().first()
     const range = (await second.locator('.num').innerText()).split('–')
-    await page.getByRole('button', { name: 'Adjust One-shot 1 in the selection', exact: true }).click()
+    await page.getByRole('button', { name: 'Adjust One-shot 2 in the selection', exact: true }).click()
     expect(await page.locator('[data-test=selection-start]').innerText()).toBe(range[0])
     expect(await page.locator('[data-test=selection-end]').innerText()).toBe(range[1])
     expect(await rows().count()).toBe(count - 2)
 
     // Accept with the keyboard: focus the button, press Enter.
-    await page.getByRole('button', { name: 'Accept One-shot 1 as a region', exact: true }).focus()
+    await page.getByRole('button', { name: 'Accept One-shot 3 as a region', exact: true }).focus()
     await page.keyboard.press('Enter')
     await expect.poll(() => savedRegions().count(), { timeout: 10_000 }).toBe(1)
-    expect(await savedRegions().first().innerText()).toContain('One-shot 1')
+    expect(await savedRegions().first().innerText()).toContain('One-shot 3')
     expect(await rows().count()).toBe(count - 3)
 
-    await page.getByRole('button', { name: 'Accept all' }).click()
+    await page.locator('[data-test=accept-all]').click()
     await expect.poll(() => savedRegions().count(), { timeout: 20_000 }).toBe(count - 2)
     await expect.poll(() => rows().count()).toBe(0)
   })

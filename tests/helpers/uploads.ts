@@ -10,7 +10,10 @@ export function soxWav(
 ): string {
   const { rate = 48000, bits = 24, channels = 1, seconds = 2, synth = ['sine', '1000'], encoding } = args
   fs.mkdirSync(path.dirname(file), { recursive: true })
+  // The rate goes before -n as well: otherwise sox synthesises at its default rate and resamples.
   execFileSync('sox', [
+    '-r',
+    String(rate),
     '-n',
     '-r',
     String(rate),
