@@ -27,10 +27,11 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
   /** The library: full-text search, filters, sort, one page at a time. */
   api.route('get', '/takes', 'library:browse', async (req, res) => {
     const q = TakeQuery.parse(req.query)
-    const { rows, total } = await searchTakeRows(ctx.db, q)
+    const { rows, total, totalCapped } = await searchTakeRows(ctx.db, q)
     res.json({
       items: await takeRowsToTakes(ctx.db, rows, { withoutFileMetadata: true }),
       total,
+      totalCapped,
       page: q.page,
       pageSize: q.pageSize,
     })
