@@ -23,10 +23,8 @@ export default defineConfig({
     // and run on their own after the rest (STRAYFIELD_TIMED=1, one file at a time),
     // so the suite's own parallel load does not decide them.
     include: timed ? ['tests/timed/**/*.test.ts'] : ['tests/**/*.test.ts', 'src/**/*.test.ts', 'server/**/*.test.ts'],
-    // tests/scaled/ needs the services `npm run test:scaled` starts (REDIS_URL): left out without them.
-    exclude: timed
-      ? configDefaults.exclude
-      : [...configDefaults.exclude, 'tests/timed/**', ...(process.env.REDIS_URL ? [] : ['tests/scaled/**'])],
+    // tests/scaled/ needs services of its own (npm run test:scaled starts them).
+    exclude: timed ? configDefaults.exclude : [...configDefaults.exclude, 'tests/timed/**', 'tests/scaled/**'],
     environment: 'node',
     testTimeout: 60_000,
     hookTimeout: 120_000,

@@ -16,6 +16,7 @@ import { registerTeamRoutes } from './team/team.routes'
 import { registerOutboxRoutes } from './mail/outbox.routes'
 import { registerHealthRoutes } from './health/health.routes'
 import { registerCaptureRoutes } from './captures/captures.routes'
+import { registerTusRoutes } from './ingest/tus.routes'
 import { registerIngestRoutes } from './ingest/ingest.routes'
 import { bodyDeadline } from './ingest/slow-bodies'
 import { registerTakeRoutes } from './takes/takes.routes'
@@ -90,6 +91,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerOutboxRoutes(api, ctx)
   registerCaptureRoutes(api, ctx)
   registerIngestRoutes(api, ctx)
+  registerTusRoutes(api, ctx)
   registerSuggestedTagRoutes(api, ctx) // before /takes/:id routes
   registerTakeRoutes(api, ctx)
   registerTakeRemovalRoutes(api, ctx)

@@ -6,7 +6,7 @@ import { createMailer } from './mail/mailer'
 import { createApp } from './app'
 import { seedDemo } from './demo/seed'
 import type { AppContext } from './core/context'
-import { Storage } from './core/storage'
+import { openStorage } from './core/storage'
 import { lockData, type DataLock } from './core/data-lock'
 import { JobRunner } from './jobs/job-runner'
 import { localHandler, type JobQueue, type JobWorks } from './jobs/queue'
@@ -47,7 +47,7 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   const db = openDatabase(config.dbFile)
   await migrateToLatest(db)
   const mailer = await createMailer(config, db)
-  const storage = new Storage(config.storageDir)
+  const storage = openStorage(config)
   storage.sweepIncoming()
   // The one audio-task pool of this process (server/work/); the first server in a process sizes it.
   const releaseAudioTasks = holdAudioTasks(config.heavyThreads)

@@ -10,7 +10,7 @@
 // and a worker runs it again from scratch.
 import { Worker, type Job } from 'bullmq'
 import { loadConfig } from '../core/config'
-import { Storage } from '../core/storage'
+import { openStorage } from '../core/storage'
 import { measureTake, type AnalysisOrder } from '../ingest/analysis.job'
 import { performBuild, type BuildJobOrder } from '../packs/build.job'
 import { queueName, redisConnection, type QueuedJob } from '../jobs/bullmq-queue'
@@ -23,7 +23,9 @@ if (!config.redisUrl) {
   process.stderr.write('npm run worker needs REDIS_URL (the Redis the API server uses)\n')
   process.exit(2)
 }
-const storage = new Storage(config.storageDir)
+// The same storage as the API (STORAGE_URL / S3_*): with S3 the audio comes from the bucket, so this
+// machine needs no shared folder, only a working copy of its own (STRAYFIELD_STORAGE).
+const storage = openStorage(config)
 const release = holdAudioTasks(config.heavyThreads)
 const lockMs = Number(process.env.STRAYFIELD_JOB_LOCK_MS ?? 30_000)
 
@@ -56,7 +58,7 @@ const workers = (Object.keys(performs) as JobKind[]).map((kind) => {
   )
 })
 await Promise.all(workers.map((w) => w.waitUntilReady()))
-process.stdout.write(`worker ready (${workers.length} queues, storage ${config.storageDir})\n`)
+process.stdout.write(`worker ready (${workers.length} queues, storage ${config.storageUrl ?? config.storageDir})\n`)
 
 // Stopping leaves running jobs unfinished: their locks run out and other workers take them up.
 async function stop(): Promise<void> {

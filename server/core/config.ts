@@ -5,6 +5,11 @@ export interface Config {
   port: number
   dbFile: string
   storageDir: string
+  /** STORAGE_URL=s3://bucket/prefix keeps files in S3 (storageDir is then a working copy); null: the local folder. */
+  storageUrl: string | null
+  /** S3_ENDPOINT of an S3-compatible service (null: AWS itself); S3_REGION. */
+  s3Endpoint: string | null
+  s3Region: string | null
   demo: boolean
   smtpUrl: string | null
   sessionSecret: string | null
@@ -61,6 +66,9 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     port,
     dbFile: path.resolve(env.STRAYFIELD_DB ?? 'db/strayfield.sqlite'),
     storageDir: path.resolve(env.STRAYFIELD_STORAGE ?? 'storage'),
+    storageUrl: env.STORAGE_URL || null,
+    s3Endpoint: env.S3_ENDPOINT || null,
+    s3Region: env.S3_REGION || null,
     demo: (env.STRAYFIELD_DEMO ?? '1') !== '0',
     smtpUrl: env.SMTP_URL || null,
     sessionSecret: env.SESSION_SECRET || null,

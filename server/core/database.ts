@@ -7,7 +7,7 @@ import { migrations } from '../../db/migrations'
 
 export type Db = Kysely<Database>
 
-/** Opens the SQLite file with WAL, a busy timeout and foreign keys on. */
+/** Opens the SQLite file with WAL, a busy timeout, foreign keys on, and memory-mapped reads with a larger page cache. */
 export function openDatabase(file: string): Db {
   if (file !== ':memory:') fs.mkdirSync(path.dirname(file), { recursive: true })
   const sqlite = new SQLite(file)
@@ -15,6 +15,10 @@ export function openDatabase(file: string): Db {
   sqlite.pragma('busy_timeout = 5000')
   sqlite.pragma('foreign_keys = ON')
   sqlite.pragma('synchronous = NORMAL')
+  // The library search walks large indexes (a million takes is a few GB of file): reading pages through a memory
+  // map skips a copy per page, and a larger page cache keeps the indexes it walks at hand (64 MiB per connection).
+  sqlite.pragma('mmap_size = 1073741824')
+  sqlite.pragma('cache_size = -65536')
   return new Kysely<Database>({ dialect: new SqliteDialect({ database: sqlite }) })
 }
 

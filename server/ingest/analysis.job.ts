@@ -94,7 +94,8 @@ export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<A
   let last = 0
   const { format, analysis, glyph, features } = await runAudioTask(
     'analyze',
-    { path: env.storage.abs(order.audioPath), peaksPath },
+    // With S3 the audio is fetched into the working copy first (heavy work reads files by path).
+    { path: await env.storage.local(order.audioPath), peaksPath },
     {
       signal: env.signal,
       silenceLimitMs: ANALYSIS_SILENCE_MS,
@@ -106,13 +107,9 @@ export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<A
       },
     },
   )
-  return {
-    format,
-    analysis,
-    glyph,
-    thumb: await thumbnail(peaksPath),
-    features: features && featuresToJson(features),
-  }
+  const thumb = await thumbnail(peaksPath)
+  await env.storage.persist(env.storage.peaksRelative(order.takeId))
+  return { format, analysis, glyph, thumb, features: features && featuresToJson(features) }
 }
 
 /**

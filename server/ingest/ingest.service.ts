@@ -61,7 +61,13 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
     const relative = ctx.storage.audioRelative(file.sha256)
     const finalPath = ctx.storage.abs(relative)
     let moved = false
+    // With S3 the bytes go to the bucket before the claim, outside the transaction (a long
+    // multipart upload must not hold the database's write lock); the key is the content hash,
+    // so a parallel upload of the same bytes writes the same object.
+    let uploaded = false
     try {
+      await ctx.storage.upload(relative, file.path)
+      uploaded = ctx.storage.remote
       const take = await ctx.db.transaction().execute(async (trx) => {
         const again = await findTakeBySha(trx, file.sha256)
         if (again) throw duplicate(originalName, again)
@@ -101,7 +107,10 @@ export async function ingestFile(ctx: AppContext, input: IngestInput) {
       return { id: take.id, filename: take.filename, status: take.status }
     } catch (err) {
       // Rolled back after the move (a commit that failed): the file goes only when no row refers to it.
-      if (moved && !(await findTakeBySha(ctx.db, file.sha256).catch(() => true))) rmQuiet(finalPath)
+      if ((moved || uploaded) && !(await findTakeBySha(ctx.db, file.sha256).catch(() => true))) {
+        rmQuiet(finalPath)
+        if (uploaded) await ctx.storage.blobs.remove(relative).catch(() => undefined)
+      }
       if (err instanceof AppError) throw err
       if (isStorageFull(err)) throw storageFull()
       if (String(err).includes('UNIQUE constraint failed: takes.sha256')) {

@@ -1,6 +1,5 @@
 // Measuring a take again after a failure that may pass (a full disk, a crashed
 // worker, a file restored from a backup). The failure text says which kind it was.
-import fs from 'node:fs'
 import type { User } from '@shared/schemas/auth'
 import type { AppContext } from '../core/context'
 import { AppError, notFound } from '../core/errors'
@@ -39,7 +38,7 @@ export async function measureAgain(ctx: AppContext, user: User, id: number) {
       { status: take.status },
     )
   }
-  if (!fs.existsSync(ctx.storage.abs(take.audio_path))) {
+  if (!(await ctx.storage.exists(take.audio_path))) {
     throw new AppError(
       409,
       'FILE_MISSING',

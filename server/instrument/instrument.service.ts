@@ -92,7 +92,7 @@ export async function onsetSuggestions(
     'Slicing at onsets',
   )
   const slices = await ctx.heavy.onsets(`user:${user.id}`, {
-    path: ctx.storage.abs(take.audio_path),
+    path: await ctx.storage.local(take.audio_path),
     startFrame: r.startFrame,
     endFrame: r.endFrame,
     sensitivity: body.sensitivity,
@@ -125,7 +125,7 @@ export async function loopSuggestions(
     throw new AppError(400, 'RANGE_TOO_SHORT', `Finding loops needs a range of at least ${MIN_LOOP_SECONDS * 2} s`)
   }
   const loops = await ctx.heavy.loops(`user:${user.id}`, {
-    path: ctx.storage.abs(take.audio_path),
+    path: await ctx.storage.local(take.audio_path),
     startFrame: r.startFrame,
     endFrame: r.endFrame,
     approxFrames: body.approxLengthSeconds === undefined ? undefined : Math.round(body.approxLengthSeconds * r.sr),

@@ -19,7 +19,7 @@ export function registerModulationRoutes(api: Api, ctx: AppContext) {
   api.route('post', '/takes/:id/modulation', 'library:browse', async (req, res) => {
     const { id } = params(req, IdParams)
     const plan = await planModulation(ctx.db, id, body(req, ModulationBody))
-    const file = await ctx.heavy.modulation(`user:${req.user!.id}`, ctx.storage.abs(plan.audioPath), plan.order)
+    const file = await ctx.heavy.modulation(`user:${req.user!.id}`, await ctx.storage.local(plan.audioPath), plan.order)
     const h = MODULATION_HEADERS
     res.set({
       [h.points]: String(file.points),

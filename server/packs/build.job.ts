@@ -87,6 +87,11 @@ export async function performBuild(o: BuildJobOrder, env: WorkEnv): Promise<Buil
   // Whatever an interrupted attempt left: a partial zip, temp renders.
   await sweep(paths)
   const createdAt = new Date(o.createdAt)
+  // With S3 the renders read takes by path: fetch each into the working copy first. One that cannot
+  // be fetched keeps its plain path, so the render fails naming the item it belongs to.
+  const audioFiles = new Map<string, string>()
+  for (const { audioPath: key } of o.snap.items)
+    if (!audioFiles.has(key)) audioFiles.set(key, await env.storage.local(key).catch(() => env.storage.abs(key)))
   const order: BuildOrder = {
     buildId: o.buildId,
     version: o.version,
@@ -95,7 +100,7 @@ export async function performBuild(o: BuildJobOrder, env: WorkEnv): Promise<Buil
     requests: o.snap.items.map((spec) =>
       renderRequest(
         spec,
-        env.storage.abs(spec.audioPath),
+        audioFiles.get(spec.audioPath)!,
         `SF-P${o.snap.pack.id}-V${o.version}-${spec.position}`,
         createdAt,
       ),
@@ -106,7 +111,10 @@ export async function performBuild(o: BuildJobOrder, env: WorkEnv): Promise<Buil
     renderThreads: o.renderThreads,
   }
   try {
-    return await runAudioTask('pack-build', order, { signal: env.signal, onProgress: env.progress })
+    const answer = await runAudioTask('pack-build', order, { signal: env.signal, onProgress: env.progress })
+    // With S3, the zip is in the bucket before the build can be recorded as done (where this ran).
+    if (answer.ok) await env.storage.persist(paths.finalRel)
+    return answer
   } catch (err) {
     // A thread stopped mid-write (the signal, a crash) cannot clean up after itself.
     await sweep(paths)

@@ -1,7 +1,6 @@
 // Builds: asked for (frozen snapshot + durable job), listed, published (mail to
 // followers) and downloaded. Producers see and download published builds only;
 // an unpublished one answers 404 to them, like a missing id.
-import fs from 'node:fs/promises'
 import type { User } from '@shared/schemas/auth'
 import type { BuildChanges, PackBuild } from '@shared/schemas/packs'
 import { can } from '@shared/permissions'
@@ -124,7 +123,7 @@ export async function buildZip(
   ctx: AppContext,
   user: User,
   id: number,
-): Promise<{ path: string; build: repo.BuildJoined }> {
+): Promise<{ key: string; build: repo.BuildJoined }> {
   const b = await visibleBuild(ctx, user, id)
   if (b.status !== 'done' || !b.zip_path)
     throw new AppError(
@@ -132,7 +131,7 @@ export async function buildZip(
       'BUILD_NOT_DONE',
       `Version ${b.version} is ${b.status}; it can be downloaded once it is done`,
     )
-  return { path: ctx.storage.abs(b.zip_path), build: b }
+  return { key: b.zip_path, build: b }
 }
 
 /** Deletes a pack with its builds' zips; refused while one of its builds is queued or running. */
@@ -147,5 +146,5 @@ export async function deletePackAndBuilds(ctx: AppContext, packId: number): Prom
   }
   const zips = await repo.zipPathsOf(ctx.db, packId)
   await repo.deletePack(ctx.db, packId)
-  for (const z of zips) if (z.zip_path) await fs.rm(ctx.storage.abs(z.zip_path), { force: true })
+  for (const z of zips) if (z.zip_path) await ctx.storage.remove(z.zip_path)
 }

@@ -1,3 +1,4 @@
+import fs from 'node:fs'
 import { stat } from 'node:fs/promises'
 import type { NextFunction, Response } from 'express'
 import { z } from 'zod'
@@ -15,6 +16,7 @@ import {
   UpdatePackBody,
 } from '@shared/schemas/packs'
 import type { AppContext } from '../core/context'
+import { fileError } from '../core/errors'
 import type { Api } from '../core/routes'
 import { body, params, query } from '../core/validate'
 import * as repo from './packs.repository'
@@ -216,10 +218,17 @@ export function registerPackRoutes(api: Api, ctx: AppContext) {
   })
 
   api.route('get', '/pack-builds/:id/download', 'packs:receive', async (req, res, next) => {
-    const { path, build } = await buildZip(ctx, req.user!, params(req, IdParams).id)
-    sendWithRanges(res, next, path, build.size_bytes ?? 0, {
+    const { key, build } = await buildZip(ctx, req.user!, params(req, IdParams).id)
+    const downloadName = buildFileName(build.pack_name, build.version)
+    // With S3 and no copy on this machine the browser fetches the zip from the bucket itself,
+    // through a link that works for five minutes (resumable there by Range too).
+    const direct = ctx.storage.remote && !fs.existsSync(ctx.storage.abs(key))
+    if (direct && (await ctx.storage.blobs.size(key)) === null) throw fileError({ code: 'ENOENT' })
+    const url = direct ? await ctx.storage.blobs.presign(key, { expiresSeconds: 300, downloadName }) : null
+    if (url) return res.redirect(302, url)
+    sendWithRanges(res, next, await ctx.storage.local(key), build.size_bytes ?? 0, {
       contentType: 'application/zip',
-      downloadName: buildFileName(build.pack_name, build.version),
+      downloadName,
       cache: 'private, no-cache',
     })
   })

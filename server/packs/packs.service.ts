@@ -404,7 +404,7 @@ async function sourceLevels(ctx: AppContext, who: string, take: TakeFact, r: Ran
       source_measured_from: 'take',
     }
   }
-  const path = ctx.storage.abs(take.audio_path)
+  const path = await ctx.storage.local(take.audio_path)
   try {
     // On a worker thread: a long range takes seconds to measure.
     const m = await ctx.heavy.measure(who, path, r.startSeconds, r.endSeconds)

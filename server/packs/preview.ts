@@ -57,7 +57,7 @@ export async function renderedPreview(
     job = (async () => {
       await ctx.heavy.render(
         who,
-        renderRequest(spec, ctx.storage.abs(spec.audioPath), originatorReference, new Date()),
+        renderRequest(spec, await ctx.storage.local(spec.audioPath), originatorReference, new Date()),
         file,
       )
       await sweep(dir, `${key}.wav`).catch(() => undefined)

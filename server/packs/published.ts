@@ -172,9 +172,10 @@ export async function sendBuildItem(
     )
   const spec = snapshotOf(build).items.find((s) => publishedItemId(s) === itemId)
   if (!spec) throw publishedItemNotFound()
-  const zip = ctx.storage.abs(build.zip_path)
+  let zip = build.zip_path
   let range: Awaited<ReturnType<typeof storedEntryRange>>
   try {
+    zip = await ctx.storage.local(build.zip_path)
     range = await storedEntryRange(zip, zipPath(spec))
   } catch (err) {
     if (err instanceof ZipFormatError) throw err

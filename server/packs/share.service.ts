@@ -182,7 +182,10 @@ export async function shareDownload(
   const at = new Date().toISOString()
   const state = linkState(link, at)
   if (state === 'revoked' || state === 'expired') throw gone(state)
-  const path = ctx.storage.abs(build.zip_path!)
+  const path = await ctx.storage.local(build.zip_path!).catch((err: unknown) => {
+    console.error(`[share] build ${build.id}'s zip unreadable: ${(err as Error).message}`)
+    throw fileError(err)
+  })
   const size = await fileSize(path)
   const plan = planRange(rangeHeader, size)
   const base = { path, build, sizeBytes: size, served: async () => undefined }

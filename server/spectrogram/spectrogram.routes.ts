@@ -145,7 +145,7 @@ export function registerSpectrogramRoutes(api: Api, ctx: AppContext) {
       )
     }
     const file = path.join(ctx.storage.derivedDir(row.id), spectrogramCacheName(v, row.sample_rate / 2))
-    const png = await image(file, `user:${req.user!.id}`, ctx.storage.abs(row.audio_path), {
+    const png = await image(file, `user:${req.user!.id}`, await ctx.storage.local(row.audio_path), {
       width: v.width,
       height: v.height,
       scale: v.scale,

@@ -43,12 +43,17 @@ function groupBy<T>(xs: T[], key: (x: T) => number): Map<number, T[]> {
 export async function libraryCsv(db: Db, q: TakeQuery): Promise<{ csv: string; count: number }> {
   const rows: (string | number | null)[][] = []
   for (let page = 1; ; page++) {
-    const { rows: found, total } = await searchTakeRows(db, { ...q, page, pageSize: PAGE })
-    if (total > EXPORT_MAX_TAKES) {
+    // Counting stops just past the export limit: enough to refuse, without counting a whole large library.
+    const {
+      rows: found,
+      total,
+      totalCapped,
+    } = await searchTakeRows(db, { ...q, page, pageSize: PAGE }, { countUpTo: EXPORT_MAX_TAKES })
+    if (totalCapped) {
       throw new AppError(
         400,
         'EXPORT_TOO_LARGE',
-        `The query matches ${total} takes; narrow it to at most ${EXPORT_MAX_TAKES} to export`,
+        `The query matches more than ${EXPORT_MAX_TAKES} takes; narrow it to at most ${EXPORT_MAX_TAKES} to export`,
         { total, max: EXPORT_MAX_TAKES },
       )
     }

@@ -5,8 +5,6 @@
 // removed takes out through `visibleTake` (search, capture sessions, devices).
 // A take in a published pack build cannot be removed (409 naming the pack
 // version): producers and share recipients hold that audio.
-import fs from 'node:fs'
-import path from 'node:path'
 import { sql } from 'kysely'
 import { can } from '@shared/permissions'
 import type { User } from '@shared/schemas/auth'
@@ -144,8 +142,8 @@ export async function purgeRemovedTakes(db: Db, storage: Storage, now = new Date
     })
     if (!gone) continue
     purged.push(take.id)
-    fs.rmSync(storage.abs(take.audio_path), { force: true })
-    fs.rmSync(path.join(storage.root, 'derived', `take-${take.id}`), { recursive: true, force: true })
+    await storage.remove(take.audio_path)
+    await storage.removeDir(storage.derivedRelative(take.id))
   }
   return purged
 }

@@ -1,9 +1,11 @@
+import fs from 'node:fs'
 import { IdParams } from '@shared/schemas/common'
 import type { AppContext } from '../core/context'
 import { AppError, notFound } from '../core/errors'
 import type { Api } from '../core/routes'
 import { params } from '../core/validate'
 import { readPeaks } from '../audio/peaks'
+import { sendFromStore } from '../storage/send'
 import { findTake } from './takes.repository'
 import { takeRowToTake, takeRowsToTakes } from './takes.mapper'
 import { searchTakeRows } from './takes.search'
@@ -25,10 +27,11 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
   /** The library: full-text search, filters, sort, one page at a time. */
   api.route('get', '/takes', 'library:browse', async (req, res) => {
     const q = TakeQuery.parse(req.query)
-    const { rows, total } = await searchTakeRows(ctx.db, q)
+    const { rows, total, totalCapped } = await searchTakeRows(ctx.db, q)
     res.json({
       items: await takeRowsToTakes(ctx.db, rows, { withoutFileMetadata: true }),
       total,
+      totalCapped,
       page: q.page,
       pageSize: q.pageSize,
     })
@@ -49,33 +52,37 @@ export function registerTakeRoutes(api: Api, ctx: AppContext) {
       )
     const { maxPoints } = PeaksQuery.parse(req.query)
     res.set('Cache-Control', 'private, max-age=3600')
-    res.json(await readPeaks(ctx.storage.peaksPath(row.id), { maxPoints }))
+    res.json(await readPeaks(await ctx.storage.local(ctx.storage.peaksRelative(row.id)), { maxPoints }))
   })
 
   /** The audio itself, with HTTP Range support (206, 416, Accept-Ranges) from Express's send. */
   api.route('get', '/takes/:id/audio', 'library:browse', async (req, res, next) => {
     const row = await load(params(req, IdParams).id)
+    const headers = { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, max-age=3600' }
+    const unsatisfiable = () =>
+      void res
+        .status(416)
+        .set('Content-Range', `bytes */${row.size_bytes}`)
+        .json({
+          error: {
+            code: 'RANGE_NOT_SATISFIABLE',
+            message: `The requested range lies outside the file's ${row.size_bytes} bytes`,
+            details: { sizeBytes: row.size_bytes },
+          },
+        })
+    // With S3 and no working copy here, ranged reads from the bucket: a seek never fetches the whole take.
+    if (ctx.storage.remote && !fs.existsSync(ctx.storage.abs(row.audio_path)))
+      return sendFromStore(ctx.storage.blobs, row.audio_path, req, res, {
+        size: row.size_bytes,
+        headers,
+        unsatisfiable,
+      })
     res.sendFile(
       ctx.storage.abs(row.audio_path),
-      {
-        acceptRanges: true,
-        headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, max-age=3600' },
-      },
+      { acceptRanges: true, headers },
       (err?: Error & { status?: number }) => {
         if (!err || res.headersSent) return
-        if (err.status === 416) {
-          res
-            .status(416)
-            .set('Content-Range', `bytes */${row.size_bytes}`)
-            .json({
-              error: {
-                code: 'RANGE_NOT_SATISFIABLE',
-                message: `The requested range lies outside the file's ${row.size_bytes} bytes`,
-                details: { sizeBytes: row.size_bytes },
-              },
-            })
-          return
-        }
+        if (err.status === 416) return unsatisfiable()
         next(err)
       },
     )

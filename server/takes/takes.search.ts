@@ -20,135 +20,370 @@ export function ftsQuery(q: string): string | null {
     .join(' ')
 }
 
-const SORT_COLUMNS: Record<Exclude<TakeSort, 'relevance'>, string> = {
-  createdAt: 'takes.created_at',
-  title: 'takes.title',
-  filename: 'takes.filename',
-  session: 'capture_sessions.title',
-  duration: 'takes.duration_seconds',
-  sampleRate: 'takes.sample_rate',
-  channels: 'takes.channels',
-  integratedLufs: 'takes.integrated_lufs',
-  truePeak: 'takes.true_peak_dbtp',
-  loudnessRange: 'takes.loudness_range_lu',
-  samplePeak: 'takes.sample_peak_dbfs',
-  noiseFloor: 'takes.noise_floor_dbfs',
-  hum: 'takes.hum_hz',
-  status: 'takes.status',
+/** Each sort: the column, and the index that lists takes in its order (none for the session's title, a joined table). */
+const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: string }> = {
+  createdAt: { col: 'created_at', index: 'takes_created_at' },
+  title: { col: 'title', index: 'takes_title' },
+  filename: { col: 'filename', index: 'takes_filename' },
+  session: { col: 'capture_sessions.title' },
+  duration: { col: 'duration_seconds', index: 'takes_duration_seconds' },
+  sampleRate: { col: 'sample_rate', index: 'takes_sample_rate' },
+  channels: { col: 'channels', index: 'takes_channels' },
+  integratedLufs: { col: 'integrated_lufs', index: 'takes_integrated_lufs' },
+  truePeak: { col: 'true_peak_dbtp', index: 'takes_true_peak_dbtp' },
+  loudnessRange: { col: 'loudness_range_lu', index: 'takes_loudness_range_lu' },
+  samplePeak: { col: 'sample_peak_dbfs', index: 'takes_sample_peak_dbfs' },
+  noiseFloor: { col: 'noise_floor_dbfs', index: 'takes_noise_floor_dbfs' },
+  hum: { col: 'hum_hz', index: 'takes_hum_hz' },
+  status: { col: 'status', index: 'takes_status' },
 }
 
-/** Columns that are never NULL: they sort without the "unmeasured last" term (and on their own index). */
+/** Columns that are never NULL: they sort without the "unmeasured last" part. */
 const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session', 'status'])
 
 /**
- * Every filter of GET /api/takes as a condition on `takes` (parameters bound,
- * never spliced). Repeated sourceId and tag values must all hold; repeated
- * sourceKind values are alternatives.
+ * Counts stop here: past it a page says "10,000+" (`totalCapped`) instead of
+ * counting on, so a broad query on a large library never counts every row.
  */
-function filterConditions(q: TakeQuery): RawBuilder<unknown>[] {
-  const c: RawBuilder<unknown>[] = []
-  for (const id of new Set(q.sourceId ?? []))
-    c.push(sql`takes.id IN (SELECT take_id FROM take_sources WHERE source_id = ${id})`)
-  if (q.sourceKind?.length) {
-    const kinds = [...new Set(q.sourceKind)]
-    c.push(
-      sql`takes.id IN (SELECT ts.take_id FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE s.kind IN (${sql.join(kinds)}))`,
+export const COUNT_CAP = 10_000
+
+/**
+ * A condition whose own index yields at most this many takes drives the
+ * query: only those are checked (one seek each in takes_by_id) and sorted,
+ * rather than walking the sort index past takes that fail.
+ */
+const DRIVER_MAX = 10_000
+
+/**
+ * The most takes a count reads. Where every condition matches many takes but
+ * few match them all, counting exactly would read a large part of the
+ * library; past this many the count is a floor and the page says "N+".
+ */
+const COUNT_BUDGET = 20_000
+
+/** How far each condition's takes are counted to choose where the count reads from. */
+const SIZE_PROBE = 10_000
+
+/**
+ * One filter of GET /api/takes (parameters bound, never spliced).
+ * `ids`: the takes meeting it, read from its own index (a SELECT of `id`);
+ * absent where no index serves it. `holds(id)`: the same test for one take;
+ * tests on the take's own columns are instead `column(t)` on the narrow
+ * index `takes_by_id` aliased `t`, so a take's row is never read to decide.
+ */
+interface Condition {
+  ids?: RawBuilder<unknown>
+  /** `ids` may hold takes that fail the condition, so reading them is not enough: check it too. */
+  idsWider?: boolean
+  holds?: (id: RawBuilder<unknown>) => RawBuilder<unknown>
+  column?: (t: string) => RawBuilder<unknown>
+}
+
+const col = (t: string, name: string) => sql.ref(`${t}.${name}`)
+
+/** A range filter on one measured column: one condition for min and max together. */
+function range(name: string, min: number | undefined, max: number | undefined): Condition[] {
+  if (min === undefined && max === undefined) return []
+  const test = (t: string) =>
+    sql.join(
+      [
+        ...(min !== undefined ? [sql`${col(t, name)} >= ${min}`] : []),
+        ...(max !== undefined ? [sql`${col(t, name)} <= ${max}`] : []),
+      ],
+      sql` AND `,
     )
+  return [{ ids: sql`SELECT id FROM takes WHERE ${test('takes')}`, column: test }]
+}
+
+/** An equality filter on an indexed column of takes. */
+const equal = (name: string, value: number | string): Condition => ({
+  ids: sql`SELECT id FROM takes WHERE ${sql.ref(name)} = ${value}`,
+  column: (t) => sql`${col(t, name)} = ${value}`,
+})
+
+function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
+  const c: Condition[] = []
+  if (fts)
+    c.push({
+      ids: sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts}`,
+      // A correlated MATCH would rerun the search per take: IN reads the id list once into a temporary index.
+      holds: (id) => sql`+${id} IN (SELECT rowid FROM take_fts WHERE take_fts MATCH ${fts})`,
+    })
+  for (const source of new Set(q.sourceId ?? []))
+    c.push({
+      ids: sql`SELECT take_id AS id FROM take_sources WHERE source_id = ${source}`,
+      holds: (id) => sql`EXISTS (SELECT 1 FROM take_sources WHERE take_id = ${id} AND source_id = ${source})`,
+    })
+  if (q.sourceKind?.length) {
+    const kinds = sql.join([...new Set(q.sourceKind)])
+    c.push({
+      ids: sql`SELECT DISTINCT ts.take_id AS id FROM sources s CROSS JOIN take_sources ts ON ts.source_id = s.id WHERE s.kind IN (${kinds})`,
+      holds: (id) =>
+        sql`EXISTS (SELECT 1 FROM take_sources ts JOIN sources s ON s.id = ts.source_id WHERE ts.take_id = ${id} AND s.kind IN (${kinds}))`,
+    })
   }
   for (const tag of new Set((q.tag ?? []).map(normalizeTag)))
-    c.push(sql`takes.id IN (SELECT take_id FROM take_tags WHERE tag = ${tag})`)
+    c.push({
+      ids: sql`SELECT take_id AS id FROM take_tags WHERE tag = ${tag}`,
+      holds: (id) => sql`EXISTS (SELECT 1 FROM take_tags WHERE take_id = ${id} AND tag = ${tag})`,
+    })
+  // Character the analysis heard at suggestion strength, accepted as a tag or not (index take_character_tag).
   for (const tag of new Set(q.character ?? []))
-    c.push(sql`takes.id IN (SELECT take_id FROM take_character WHERE tag = ${tag} AND confidence >= ${SUGGEST_FROM})`)
-  if (q.sessionId) c.push(sql`takes.session_id = ${q.sessionId}`)
-  if (q.uploaderId) c.push(sql`takes.uploader_id = ${q.uploaderId}`)
-  if (q.sampleRate) c.push(sql`takes.sample_rate = ${q.sampleRate}`)
-  if (q.channels) c.push(sql`takes.channels = ${q.channels}`)
-  if (q.minDuration !== undefined) c.push(sql`takes.duration_seconds >= ${q.minDuration}`)
-  if (q.maxDuration !== undefined) c.push(sql`takes.duration_seconds <= ${q.maxDuration}`)
-  if (q.minLufs !== undefined) c.push(sql`takes.integrated_lufs >= ${q.minLufs}`)
-  if (q.maxLufs !== undefined) c.push(sql`takes.integrated_lufs <= ${q.maxLufs}`)
-  if (q.minTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp >= ${q.minTruePeak}`)
-  if (q.maxTruePeak !== undefined) c.push(sql`takes.true_peak_dbtp <= ${q.maxTruePeak}`)
-  if (q.minLra !== undefined) c.push(sql`takes.loudness_range_lu >= ${q.minLra}`)
-  if (q.maxLra !== undefined) c.push(sql`takes.loudness_range_lu <= ${q.maxLra}`)
-  if (q.hum === '50' || q.hum === '60') c.push(sql`takes.hum_hz = ${Number(q.hum)}`)
-  if (q.hum === 'none') c.push(sql`takes.hum_hz IS NULL AND takes.status = 'ready'`)
-  if (q.status) c.push(sql`takes.status = ${q.status}`)
+    c.push({
+      ids: sql`SELECT take_id AS id FROM take_character WHERE tag = ${tag} AND confidence >= ${SUGGEST_FROM}`,
+      holds: (id) =>
+        sql`EXISTS (SELECT 1 FROM take_character WHERE take_id = ${id} AND tag = ${tag} AND confidence >= ${SUGGEST_FROM})`,
+    })
   // Listening notes' outcome ("takes with a keep note"), from the comments_outcome_take index.
   if (q.noteOutcome)
-    c.push(sql`takes.id IN (SELECT take_id FROM comments WHERE outcome = ${q.noteOutcome} AND parent_id IS NULL)`)
+    c.push({
+      ids: sql`SELECT DISTINCT take_id AS id FROM comments WHERE outcome = ${q.noteOutcome} AND parent_id IS NULL`,
+      holds: (id) =>
+        sql`EXISTS (SELECT 1 FROM comments WHERE take_id = ${id} AND outcome = ${q.noteOutcome} AND parent_id IS NULL)`,
+    })
+  if (q.sessionId) c.push(equal('session_id', q.sessionId))
+  if (q.uploaderId) c.push(equal('uploader_id', q.uploaderId))
+  if (q.sampleRate) c.push(equal('sample_rate', q.sampleRate))
+  if (q.channels) c.push(equal('channels', q.channels))
+  c.push(...range('duration_seconds', q.minDuration, q.maxDuration))
+  c.push(...range('integrated_lufs', q.minLufs, q.maxLufs))
+  c.push(...range('true_peak_dbtp', q.minTruePeak, q.maxTruePeak))
+  c.push(...range('loudness_range_lu', q.minLra, q.maxLra))
+  if (q.hum === '50' || q.hum === '60') c.push(equal('hum_hz', Number(q.hum)))
+  if (q.hum === 'none')
+    c.push({
+      // The hum index alone (status would need each row): the unmeasured takes it adds are checked out.
+      ids: sql`SELECT id FROM takes WHERE hum_hz IS NULL`,
+      idsWider: true,
+      column: (t) => sql`${col(t, 'hum_hz')} IS NULL AND ${col(t, 'status')} = 'ready'`,
+    })
+  if (q.status) c.push(equal('status', q.status))
   return c
+}
+
+/** Every condition but `except`, for the take whose id is `id`; takes in the Removed list never match (see takes.removal.ts). */
+function checks(conds: Condition[], id: RawBuilder<unknown>, except?: Condition): RawBuilder<unknown>[] {
+  const rest = conds.filter((c) => c !== except || c.idsWider)
+  const columns = rest.filter((c) => c.column).map((c) => c.column!('t'))
+  return [
+    // The take's own numbers first: one seek in the narrow index, and most takes stop there.
+    ...(columns.length
+      ? [
+          sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
+        ]
+      : []),
+    ...rest.filter((c) => c.holds).map((c) => c.holds!(id)),
+    sql`${id} NOT IN (SELECT take_id FROM take_removals)`,
+  ]
 }
 
 const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
-/** Takes in the Removed list never reach a list (see takes.removal.ts); kept apart from the filters so an unfiltered list still walks its sort's own index. */
-const notRemoved = (id: RawBuilder<unknown> = sql.ref('takes.id')) =>
-  sql`${id} NOT IN (SELECT take_id FROM take_removals)`
+/**
+ * The largest condition that should drive a page ending at `end`. Driving
+ * checks all of its n takes; walking checks about end × library ÷ n of them
+ * (fewer when n is a large share), so driving wins below n² ≈ end × library.
+ * The library's size is taken from the highest take id (a seek, not a count).
+ */
+async function driverMax(db: Db, end: number): Promise<number> {
+  const r = await sql<{ n: number | null }>`SELECT max(id) AS n FROM takes`.execute(db)
+  return Math.min(DRIVER_MAX, Math.sqrt(4 * end * Number(r.rows[0].n ?? 0)))
+}
+
+/** How many takes a condition's index yields, counting no further than `upTo` + 1. */
+async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
+  const r = await sql<{ n: number }>`SELECT count(*) AS n FROM (${c.ids} LIMIT ${upTo + 1})`.execute(db)
+  return Number(r.rows[0].n)
+}
+
+export interface SearchResult {
+  rows: TakeJoined[]
+  /** Matches: exact unless `totalCapped`, then a floor (at least this many). */
+  total: number
+  /** Counting stopped (at the count limit, or at COUNT_BUDGET takes read): `total` or more match. */
+  totalCapped: boolean
+}
+
+export interface SearchOptions {
+  /** Count matches up to this many (default COUNT_CAP); the export asks for its own limit. */
+  countUpTo?: number
+  /** Most takes a count reads (default COUNT_BUDGET); never fewer than `countUpTo` + 1. */
+  countBudget?: number
+  /** Largest id set that drives the query (default DRIVER_MAX); tests set it to 0 or Infinity to check both ways of finding a page. */
+  driverMax?: number
+}
+
+const ID = sql.ref('takes.id')
+const M = sql.ref('m.id')
 
 /**
- * One page of takes for GET /api/takes, and the total that matches.
+ * One page of takes for GET /api/takes, and how many match.
  *
- * Takes rows are wide (the whole analysis is stored with them), so filtering
- * never reads them: a filtered query scans the narrow covering index
- * `takes_facets` (every filter and sort column, about 150 bytes a take) and
- * checks tag, device and text conditions against id sets read once from their
- * own indexes. Text alone is counted and ranked inside the full-text index.
- * The page is chosen as bare ids (a deep OFFSET walks an index, not rows), and
- * only the page's rows are then read in full.
+ * Takes rows are wide (the whole analysis is stored with them), so a page is
+ * chosen as bare ids and only its rows are then read in full; deciding reads
+ * only indexes. Each condition is sized on its own index, counting no further
+ * than SIZE_PROBE. When one yields few takes (DRIVER_MAX), those drive: only
+ * they are checked and sorted. Otherwise the page walks its sort column's index
+ * and checks take after take until the page is full, which for broad
+ * conditions reads little more than the page. Relevance ranks every text match
+ * in the full-text index. The count reads the smallest condition's takes and
+ * stops at `countUpTo` matches (COUNT_CAP unless asked, never before the end
+ * of the page asked for).
  */
-export async function searchTakeRows(db: Db, q: TakeQuery): Promise<{ rows: TakeJoined[]; total: number }> {
+export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions = {}): Promise<SearchResult> {
   const fts = q.q?.trim() ? ftsQuery(q.q) : undefined
-  if (fts === null) return { rows: [], total: 0 }
+  if (fts === null) return { rows: [], total: 0, totalCapped: false }
 
-  const filters = filterConditions(q)
-  const all = fts ? [sql`takes.id IN (SELECT rowid FROM take_fts WHERE take_fts MATCH ${fts})`, ...filters] : filters
-  // With any condition, scan the covering index; with none, let each sort use its own index.
-  const from = all.length ? sql`takes INDEXED BY takes_facets` : sql`takes`
-
+  const conds = conditions(q, fts)
+  const text = fts ? conds[0] : undefined
+  const sized = conds.filter((c) => c.ids)
+  const sizes = await Promise.all(sized.map((c) => sizeOf(db, c, SIZE_PROBE)))
+  const least = Math.min(...sizes)
+  if (least === 0) return { rows: [], total: 0, totalCapped: false }
+  const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
+  const offset = (q.page - 1) * q.pageSize
+  const driver = least <= (opts.driverMax ?? (await driverMax(db, offset + q.pageSize))) ? smallest : undefined
   // Relevance needs words to rank by; without them the list is newest first.
   const sort: TakeSort = q.sort === 'relevance' && !fts ? 'createdAt' : (q.sort ?? (fts ? 'relevance' : 'createdAt'))
-  const order = sql.raw(q.order ?? (sort === 'createdAt' ? 'desc' : 'asc'))
-  const offset = (q.page - 1) * q.pageSize
-  const limit = sql`LIMIT ${q.pageSize} OFFSET ${offset}`
-  // Where conditions make the scan the cost, the page carries the total with it
-  // (a window count over the same scan) instead of scanning twice.
-  const windowTotal = sql`count(*) OVER () AS total`
+  const desc = (q.order ?? (sort === 'createdAt' ? 'desc' : 'asc')) === 'desc'
+  const order = sql.raw(desc ? 'desc' : 'asc')
+  // A driver's ids are read once (the words may be costly to match) and handed back as a list; a ranked page reads the words anyway.
+  const driverIds =
+    driver && sort !== 'relevance'
+      ? sql`SELECT value AS id FROM json_each(${JSON.stringify((await sql<{ id: number }>`${driver.ids}`.execute(db)).rows.map((r) => r.id))})`
+      : undefined
+  const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
 
-  let idQuery: RawBuilder<{ id: number; total?: number }>
+  let ids: number[]
   if (sort === 'relevance') {
-    // bm25 is smaller for better matches. The unary + keeps the id set a
-    // filter: pushed into FTS5 as a rowid constraint it would rerun the match per id.
-    idQuery = filters.length
-      ? sql`SELECT m.id, ${windowTotal} FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
-            WHERE +m.id IN (SELECT takes.id FROM takes INDEXED BY takes_facets ${whereAll([...filters, notRemoved()])})
-            ORDER BY m.score ${order}, m.id ${order} ${limit}`
-      : sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} AND ${notRemoved(sql`rowid`)} ORDER BY bm25(take_fts) ${order}, rowid ${order} ${limit}`
+    // bm25 is smaller for better matches; the words yield the ids, so every match is ranked once.
+    ids = await pageOf(sql`SELECT m.id AS id
+      FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
+      ${whereAll(checks(conds, M, text))}
+      ORDER BY m.score ${order}, m.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
+  } else if (driverIds) {
+    // Few takes: check them all, then sort them.
+    const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
+    const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
+    ids = await pageOf(sql`SELECT takes.id AS id
+      FROM (${driverIds}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id
+      JOIN capture_sessions ON capture_sessions.id = takes.session_id
+      ${whereAll(checks(conds, ID, driver))}
+      ORDER BY ${nullsLast}${by} ${order}, takes.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
+  } else if (sort === 'session') {
+    ids = await walkSessions(db, desc, checks(conds, ID), q.pageSize, offset)
   } else {
-    const col = sql.ref(SORT_COLUMNS[sort])
-    const join = sort === 'session' ? sql`JOIN capture_sessions ON capture_sessions.id = takes.session_id` : sql``
-    // Unmeasured takes (null numbers) sort last either way.
-    const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${col} IS NULL, `
-    idQuery = sql`SELECT takes.id AS id${all.length ? sql`, ${windowTotal}` : sql``} FROM ${from} ${join} ${whereAll([...all, notRemoved()])}
-                  ORDER BY ${nullsLast}${col} ${order}, takes.id ${order} ${limit}`
+    ids = await walkSortIndex(db, SORTS[sort], !NOT_NULL.has(sort), order, checks(conds, ID), q.pageSize, offset)
   }
-  const countQuery: RawBuilder<{ n: number }> =
-    fts && !filters.length
-      ? sql`SELECT count(*) AS n FROM take_fts WHERE take_fts MATCH ${fts} AND ${notRemoved(sql`rowid`)}`
-      : sql`SELECT count(*) AS n FROM ${from} ${whereAll([...all, notRemoved()])}`
 
-  const page = (await idQuery.execute(db)).rows
-  const windowed = page.length > 0 && page[0].total !== undefined
-  // An empty page past the end still reports the total; the plain count is cheap where no window ran.
-  const count = windowed
-    ? Number(page[0].total)
-    : page.length === 0 && offset === 0
-      ? 0
-      : Number((await countQuery.execute(db)).rows[0]?.n ?? 0)
-  const ids = page.map((r) => r.id)
-  if (!ids.length) return { rows: [], total: count }
+  // The count reads the driver's or the smallest condition's takes, at most COUNT_BUDGET of them, and checks the rest.
+  // Exact when that list ends within the budget; past it, what was found is a floor ("N+").
+  const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
+  let total = ids.length
+  let totalCapped = false
+  // A short first page is the whole list: nothing more to count.
+  if (!(offset === 0 && ids.length < q.pageSize)) {
+    const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
+    const source = driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`
+    const test = sql.join(checks(conds, M, driver ?? smallest), sql` AND `)
+    const r = await sql<{ seen: number; n: number }>`SELECT count(*) AS seen, coalesce(sum(${test}), 0) AS n
+      FROM (SELECT id FROM (${source}) LIMIT ${budget + 1}) m`.execute(db)
+    const { seen, n } = { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n) }
+    total = Math.min(n, countUpTo)
+    totalCapped = n > countUpTo || seen > budget
+    if (totalCapped) total = Math.max(total, offset + ids.length)
+  }
+  if (!ids.length) return { rows: [], total, totalCapped }
 
   const rows = await selectTakes(db).where('takes.id', 'in', ids).execute()
   const byId = new Map(rows.map((r) => [r.id, r]))
-  return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total: count }
+  return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total, totalCapped }
+}
+
+/**
+ * A page in a column's order, walking that column's index and checking take
+ * after take. Unmeasured takes (NULL) come last in either direction; an index
+ * holds them first, so they are a second walk (in id order) after the measured ones.
+ */
+async function walkSortIndex(
+  db: Db,
+  sort: { col: string; index?: string },
+  nullable: boolean,
+  order: RawBuilder<unknown>,
+  where: RawBuilder<unknown>[],
+  size: number,
+  offset: number,
+): Promise<number[]> {
+  const by = col('takes', sort.col)
+  const from = sql`takes INDEXED BY ${sql.raw(sort.index!)}`
+  const walk = async (part: RawBuilder<unknown>[], orderBy: RawBuilder<unknown>, limit: number, skip: number) =>
+    (
+      await sql<{ id: number }>`SELECT takes.id AS id FROM ${from} ${whereAll([...part, ...where])}
+        ORDER BY ${orderBy} LIMIT ${limit} OFFSET ${skip}`.execute(db)
+    ).rows.map((r) => r.id)
+  if (!nullable) return walk([], sql`${by} ${order}, takes.id ${order}`, size, offset)
+
+  const measured = await walk([sql`${by} IS NOT NULL`], sql`${by} ${order}, takes.id ${order}`, size, offset)
+  if (measured.length === size) return measured
+  // How many measured takes match decides where the unmeasured part of the page starts.
+  const measuredCount = measured.length
+    ? offset + measured.length
+    : Number(
+        (
+          await sql<{
+            n: number
+          }>`SELECT count(*) AS n FROM (SELECT 1 FROM ${from} ${whereAll([sql`${by} IS NOT NULL`, ...where])} LIMIT ${offset})`.execute(
+            db,
+          )
+        ).rows[0].n,
+      )
+  const rest = await walk(
+    [sql`${by} IS NULL`],
+    sql`takes.id ${order}`,
+    size - measured.length,
+    Math.max(0, offset - measuredCount),
+  )
+  return [...measured, ...rest]
+}
+
+/**
+ * A page in capture-session order (by title, then take id), walking the
+ * sessions in title order and each one's takes through `takes_session`: no
+ * index of takes holds a joined table's order, and a team's sessions are few
+ * next to its takes. Sessions that share a title are walked as one, so their
+ * takes still interleave by id.
+ */
+async function walkSessions(
+  db: Db,
+  desc: boolean,
+  where: RawBuilder<unknown>[],
+  size: number,
+  offset: number,
+): Promise<number[]> {
+  const byTitle = new Map<string, number[]>()
+  for (const s of await db.selectFrom('capture_sessions').select(['id', 'title']).execute())
+    byTitle.set(s.title, [...(byTitle.get(s.title) ?? []), s.id])
+  // SQLite orders text by its UTF-8 bytes.
+  const titles = [...byTitle.keys()].sort((a, b) => Buffer.compare(Buffer.from(a), Buffer.from(b)))
+  if (desc) titles.reverse()
+  const order = sql.raw(desc ? 'desc' : 'asc')
+  const out: number[] = []
+  let skip = offset
+  for (const title of titles) {
+    const inGroup = [sql`takes.session_id IN (${sql.join(byTitle.get(title)!)})`, ...where]
+    const found = (
+      await sql<{ id: number }>`SELECT takes.id AS id FROM takes INDEXED BY takes_session ${whereAll(inGroup)}
+        ORDER BY takes.id ${order} LIMIT ${size - out.length} OFFSET ${skip}`.execute(db)
+    ).rows.map((r) => r.id)
+    if (found.length) skip = 0
+    else if (skip > 0) {
+      // The whole group lies before the page: skip past it.
+      const r = await sql<{ n: number }>`SELECT count(*) AS n FROM (SELECT 1 FROM takes INDEXED BY takes_session
+        ${whereAll(inGroup)} LIMIT ${skip})`.execute(db)
+      skip -= Number(r.rows[0].n)
+    }
+    out.push(...found)
+    if (out.length === size) break
+  }
+  return out
 }

@@ -141,7 +141,10 @@ export type TakeQuery = z.infer<typeof TakeQuery>
 
 export const TakePage = z.object({
   items: z.array(Take),
+  /** How many takes match; exact unless `totalCapped`. */
   total: z.number().int(),
+  /** Counting stopped early (at 10,000, or where many takes had to be read to count): at least `total` match. */
+  totalCapped: z.boolean(),
   page: z.number().int(),
   pageSize: z.number().int(),
 })

@@ -22,6 +22,9 @@ async function fetchCsrf(): Promise<string> {
   return csrfToken
 }
 
+/** The CSRF token, for requests made by other HTTP stacks (resumable uploads through tus-js-client). */
+export const csrf = async (): Promise<string> => csrfToken ?? (await fetchCsrf())
+
 /** Forget the token: the session id changed (sign-in, sign-out). */
 export const resetCsrf = () => {
   csrfToken = null

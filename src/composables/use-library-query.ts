@@ -67,3 +67,9 @@ export function useLibraryQuery() {
   }
   return { query, set, clear, one, many }
 }
+
+/** The library's count line. Where the server stopped counting the number is a floor, and a "+" says so. */
+export function matchCountText(total: number, capped = false): string {
+  const n = total.toLocaleString('en')
+  return capped ? `${n}+ takes` : `${n} take${total === 1 ? '' : 's'}`
+}

@@ -173,12 +173,15 @@ describe('nothing is lost', () => {
     await server.ctx.db.updateTable('takes').set({ status: 'failed', error: 'x' }).where('id', '=', id).execute()
     const moved = server.ctx.storage.abs(row.audio_path) + '.aside'
     fs.renameSync(server.ctx.storage.abs(row.audio_path), moved)
+    // Under the scaled suite the bucket holds the file too (locally this is the file just moved aside).
+    await server.ctx.storage.blobs.remove(row.audio_path)
     try {
       const res = await designer.post(`/api/takes/${id}/measure`)
       expect(res.status).toBe(409)
       expect(res.body.error.code).toBe('FILE_MISSING')
     } finally {
       fs.renameSync(moved, server.ctx.storage.abs(row.audio_path))
+      await server.ctx.storage.persist(row.audio_path)
     }
   })
 })

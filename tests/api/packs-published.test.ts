@@ -328,6 +328,7 @@ describe('share links', () => {
       .executeTakeFirstOrThrow()
     const zip = server.ctx.storage.abs(row.zip_path!)
     fs.renameSync(zip, `${zip}.away`)
+    await server.ctx.storage.blobs.remove(row.zip_path!) // the bucket's copy too, under the scaled suite
     try {
       const items = ShareInfo.parse((await anon.get(`/api/share/${link.token}`).expect(200)).body.share).items
       const res = await anon.get(items[0].downloadUrl)
@@ -336,6 +337,7 @@ describe('share links', () => {
       expect(JSON.stringify(res.body)).not.toContain(server.dir)
     } finally {
       fs.renameSync(`${zip}.away`, zip)
+      await server.ctx.storage.persist(row.zip_path!)
     }
   })
 })

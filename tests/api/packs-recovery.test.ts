@@ -45,7 +45,7 @@ describe('a failing build', () => {
       .select('audio_path')
       .where('id', '=', lost.id)
       .executeTakeFirstOrThrow()
-    fs.rmSync(server.ctx.storage.abs(row.audio_path))
+    await server.ctx.storage.remove(row.audio_path) // the file and, under the scaled suite, the bucket's copy
 
     const started = await designer.post(`/api/packs/${pack.id}/builds`).expect(202)
     const b = await waitForBuild(designer, started.body.build.id)

@@ -253,17 +253,17 @@ describe('a used-up link hands out nothing more, whatever the request shape', ()
 
   it('a missing zip is 404 FILE_MISSING without a server path, and is not counted', async () => {
     const link = await createLink({ expiresAt: inADay(), maxDownloads: 1 })
-    const zipPath = server.ctx.storage.abs(
-      (
-        await server.ctx.db
-          .selectFrom('pack_builds')
-          .select('zip_path')
-          .where('id', '=', buildId)
-          .executeTakeFirstOrThrow()
-      ).zip_path!,
-    )
+    const zipKey = (
+      await server.ctx.db
+        .selectFrom('pack_builds')
+        .select('zip_path')
+        .where('id', '=', buildId)
+        .executeTakeFirstOrThrow()
+    ).zip_path!
+    const zipPath = server.ctx.storage.abs(zipKey)
     const fs = await import('node:fs')
     fs.renameSync(zipPath, `${zipPath}.away`)
+    await server.ctx.storage.blobs.remove(zipKey) // the bucket's copy too, under the scaled suite
     try {
       const res = await fetchShare(link.token)
       expect(res.status).toBe(404)
@@ -279,6 +279,7 @@ describe('a used-up link hands out nothing more, whatever the request shape', ()
       expect(JSON.stringify(own.body)).not.toContain(server.dir)
     } finally {
       fs.renameSync(`${zipPath}.away`, zipPath)
+      await server.ctx.storage.persist(zipKey)
     }
   })
 

@@ -22,6 +22,8 @@ export async function startTestServer(overrides: Partial<Config> = {}): Promise<
       clientDir: path.join(dir, 'no-client'),
       // Jobs in this process even when the environment names a Redis (the scaled suite sets REDIS_URL).
       redisUrl: null,
+      // Under the scaled suite (STORAGE_URL=s3://…) each server gets a prefix of its own in the bucket.
+      storageUrl: process.env.STORAGE_URL ? `${process.env.STORAGE_URL}/${path.basename(dir)}` : null,
       ...overrides,
     },
     { ...process.env, SMTP_URL: overrides.smtpUrl ?? '', SESSION_SECRET: '' },
