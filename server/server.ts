@@ -11,7 +11,7 @@ import { lockData, type DataLock } from './core/data-lock'
 import { JobRunner } from './jobs/job-runner'
 import { createAnalysisPool } from './audio/pool'
 import { analysisJob } from './ingest/analysis.job'
-import { buildPackJob } from './packs/build.job'
+import { buildPackJob } from './packs/builds/build.job'
 import { startRemovalSweep } from './takes/takes.removal'
 import { createHeavyWork } from './core/heavy-work'
 

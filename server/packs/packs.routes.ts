@@ -32,7 +32,7 @@ import {
   updateItem,
   updatePackFields,
   visiblePack,
-} from './packs.service'
+} from './curation/packs.service'
 import {
   buildChanges,
   buildZip,
@@ -41,10 +41,10 @@ import {
   publishBuild,
   requestBuild,
   visibleBuild,
-} from './builds.service'
-import { buildToApi } from './builds.mapper'
-import { buildFileName } from './naming'
-import { renderedPreview } from './preview'
+} from './builds/builds.service'
+import { buildToApi } from './builds/builds.mapper'
+import { buildFileName } from './curation/naming'
+import { renderedPreview } from './curation/preview'
 import {
   createShareLink,
   listShareLinks,
@@ -53,10 +53,10 @@ import {
   shareHead,
   shareInfo,
   shareItemBuild,
-} from './share.service'
-import { CONDITIONAL_HEADERS } from './share-ranges'
-import { newestPublished, publishedItemNotFound, sendBuildItem } from './published'
-import { namingPreview } from './packs.service'
+} from './delivery/share.service'
+import { CONDITIONAL_HEADERS } from './delivery/share-ranges'
+import { newestPublished, publishedItemNotFound, sendBuildItem } from './builds/published'
+import { namingPreview } from './curation/packs.service'
 
 const ItemParams = z.object({ id: Id, itemId: Id })
 const ShareItemParams = TokenParams.extend({ itemId: Id })

@@ -18,10 +18,10 @@ import {
   type PlainRenderRequest,
   type RenderRequest,
   type RenderResult,
-} from '../render/render'
-import { createRenderPool } from '../render/render-pool'
-import { round2 } from '../render/settings'
-import { zipPath, type BuildSnapshot } from './item-spec'
+} from '../../render/render'
+import { createRenderPool } from '../../render/render-pool'
+import { round2 } from '../../render/settings'
+import { zipPath, type BuildSnapshot } from '../curation/item-spec'
 import { manifestCsv, PackZip, type ZipEntryResult } from './pack-zip'
 
 export interface BuildOrder {

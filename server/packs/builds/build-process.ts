@@ -7,7 +7,7 @@
 // it is given; away from the API its memory is its own (and measurable: it
 // reports its peak), a crash in it cannot take the API down, and it loads only
 // the render and zip code, not the server's.
-import { errorInfo, type ErrorInfo } from '../core/thread-errors'
+import { errorInfo, type ErrorInfo } from '../../core/thread-errors'
 import { BuildStopped, ItemFailure, writeBuild, type BuildOrder, type BuildOutput } from './build-writer'
 
 export type ToBuildProcess = { type: 'order'; order: BuildOrder } | { type: 'stop' }

@@ -4,14 +4,14 @@
 // Single items are served straight out of the build's stored zip (zip-entries.ts).
 import type { NextFunction, Response } from 'express'
 import { effectiveSettings, type PackDetail, type PackItem, type PublishedItem } from '@shared/schemas/packs'
-import type { AppContext } from '../core/context'
-import type { Db } from '../core/database'
-import { AppError, fileError } from '../core/errors'
-import type { PackBuildItemRow } from '../../db/schema-packs'
-import { round2 } from '../render/settings'
-import { zipPath, type BuildSnapshot, type ItemSpec } from './item-spec'
-import * as repo from './packs.repository'
-import { storedEntryRange, ZipFormatError } from './zip-entries'
+import type { AppContext } from '../../core/context'
+import type { Db } from '../../core/database'
+import { AppError, fileError } from '../../core/errors'
+import type { PackBuildItemRow } from '../../../db/schema-packs'
+import { round2 } from '../../render/settings'
+import { zipPath, type BuildSnapshot, type ItemSpec } from '../curation/item-spec'
+import * as repo from '../packs.repository'
+import { storedEntryRange, ZipFormatError } from '../delivery/zip-entries'
 
 /** A build's frozen snapshot (a damaged or empty one reads as a pack with no items). */
 export function snapshotOf(b: Pick<repo.BuildJoined, 'snapshot_json' | 'pack_name'>): BuildSnapshot {
