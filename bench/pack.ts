@@ -8,11 +8,12 @@
 // Each build is asked for by a child of this script (the job side: a fresh
 // database and storage folder, the takes hard-linked into storage and recorded
 // as measured, with levels from one analysis of each file kept beside the
-// files), which calls the 'build-pack' job's runBuild directly; runBuild starts
-// the build process that renders and zips, as the server does. Seconds: the
-// build as the job sees it (the build process's start included), measured
-// inside the child. Peak memory: the build process's own peak resident memory
-// (getrusage, all its threads), and the job side's by /usr/bin/time -v.
+// files), which calls the 'build-pack' job's runBuild directly; runBuild runs
+// the pack-build task on the audio-task pool, as the server does (the zip on
+// one thread, the items rendering on others). Seconds: the build as the job
+// sees it, measured inside the child. Peak memory: the child's own peak
+// resident memory (getrusage, all its threads: the build now runs inside the
+// process that runs the job), and the same by /usr/bin/time -v.
 // The rendered files are then unpacked from the build's zip and handed to
 // `zip -0`, warm in the page cache like the build's sources were.
 // Sources are made by sox once and kept in bench/.data/pack/ (git-ignored).
@@ -254,12 +255,12 @@ async function child(work: string, levelsFile: string): Promise<void> {
   )
   const build = await requestBuild(ctx, user, pack.id)
   const t0 = performance.now()
-  // BENCH_PACK_WORKERS=0 renders in the build process's own thread, N in N worker threads; unset: what the job chooses.
+  // BENCH_PACK_WORKERS=N renders N items at once on the pool; unset: what the job chooses.
   const forced = process.env.BENCH_PACK_WORKERS
   const built = await runBuild(
     ctx,
     build.id,
-    async () => undefined,
+    new AbortController().signal,
     forced === undefined ? {} : { renderThreads: Number(forced) },
   )
   const buildSeconds = (performance.now() - t0) / 1000

@@ -161,7 +161,6 @@ export interface JobTable {
   kind: string
   ref_id: number
   status: Generated<JobStatus>
-  progress: Generated<number>
   error: string | null
   attempts: Generated<number>
   created_at: Generated<string>

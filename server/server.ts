@@ -9,11 +9,13 @@ import type { AppContext } from './core/context'
 import { Storage } from './core/storage'
 import { lockData, type DataLock } from './core/data-lock'
 import { JobRunner } from './jobs/job-runner'
-import { createAnalysisPool } from './audio/pool'
+import { localHandler, type JobQueue, type JobWorks } from './jobs/queue'
+import { BullJobs } from './jobs/bullmq-queue'
 import { analysisJob } from './ingest/analysis.job'
 import { buildPackJob } from './packs/builds/build.job'
 import { startRemovalSweep } from './takes/takes.removal'
 import { createHeavyWork } from './core/heavy-work'
+import { audioThreads, holdAudioTasks } from './work/audio-tasks'
 
 export interface RunningServer {
   url: string
@@ -47,10 +49,19 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
   const mailer = await createMailer(config, db)
   const storage = new Storage(config.storageDir)
   storage.sweepIncoming()
-  const pool = createAnalysisPool(config.analysisWorkers || undefined)
-  const heavy = createHeavyWork({ threads: config.heavyThreads || undefined, perUser: config.heavyPerUser })
-  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobRunner, heavy }
-  ctx.jobs = new JobRunner(db, { 'analyze-take': analysisJob(ctx, pool), 'build-pack': buildPackJob(ctx) })
+  // The one audio-task pool of this process (server/work/); the first server in a process sizes it.
+  const releaseAudioTasks = holdAudioTasks(config.heavyThreads)
+  const heavy = createHeavyWork({ perUser: config.heavyPerUser })
+  const ctx: AppContext = { config, db, mailer, storage, jobs: null as unknown as JobQueue, heavy }
+  // Takes measured at once: all threads but one, so requests' images and previews keep a thread.
+  const measuring = config.analysisWorkers || Math.max(1, audioThreads() - 1)
+  const works = { 'analyze-take': analysisJob(ctx, measuring), 'build-pack': buildPackJob(ctx) }
+  ctx.jobs = config.redisUrl
+    ? new BullJobs(db, works as unknown as JobWorks, config.redisUrl)
+    : new JobRunner(db, {
+        'analyze-take': localHandler(works['analyze-take'], storage),
+        'build-pack': localHandler(works['build-pack'], storage),
+      })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
   // Removed takes older than 30 days are purged with their files, at start and daily.
@@ -80,8 +91,7 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
         })
         await ctx.jobs.stop()
         await stopRemovalSweep()
-        await pool.close()
-        await heavy.close()
+        await releaseAudioTasks()
         await built.close()
         await mailer.close()
         await db.destroy()

@@ -42,7 +42,9 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
   try {
     let done = 0
     let reported = 0
-    for await (const block of readFrames(path, info, { float64Scale: scale })) {
+    // Every meter is done with a block when push returns (they copy what they keep), so the reader
+    // may refill the arrays of the block before last: no fresh arrays, less garbage collection.
+    for await (const block of readFrames(path, info, { float64Scale: scale, recycle: 2 })) {
       meter.push(block)
       peaks?.push(block, meter.lastScan)
       done += block[0]?.length ?? 0

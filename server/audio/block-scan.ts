@@ -7,6 +7,35 @@
 
 export const CHUNK = 4
 
+/** Sum, sum of squares, low and high of x[i..n) (the partial last chunk c), stored as the chunk's. */
+function tailChunk(
+  x: Float32Array,
+  i: number,
+  n: number,
+  c: number,
+  lo: Float32Array,
+  hi: Float32Array,
+  cs: Float64Array,
+  ce: Float64Array,
+): { s: number; q: number } {
+  let l = Infinity,
+    h = -Infinity,
+    s = 0,
+    q = 0
+  for (let j = i; j < n; j++) {
+    const v = x[j]
+    s += v
+    q += v * v
+    l = Math.min(l, v)
+    h = Math.max(h, v)
+  }
+  lo[c] = l
+  hi[c] = h
+  cs[c] = s
+  ce[c] = q
+  return { s, q }
+}
+
 export class BlockScan {
   readonly channels: number
   frames = 0
@@ -21,7 +50,14 @@ export class BlockScan {
   chunkSum: Float64Array[]
   chunkEnergy: Float64Array[]
 
-  constructor(channels: number) {
+  /**
+   * Whether scan() finds the chunk lows and highs itself. The measurement engine turns this off and
+   * has the true-peak kernel, which finds them anyway, fill lo and hi (meter.ts).
+   */
+  readonly findsExtremes: boolean
+
+  constructor(channels: number, opts: { findsExtremes?: boolean } = {}) {
+    this.findsExtremes = opts.findsExtremes ?? true
     this.channels = channels
     this.sum = new Float64Array(channels)
     this.sumSquares = new Float64Array(channels)
@@ -46,13 +82,63 @@ export class BlockScan {
     this.chunks = chunks
     // Channels go two at a time: independent chains for the CPU, and one store per chunk energy.
     let ch = 0
-    for (; ch + 1 < this.channels; ch += 2) this.scanPair(ch, ch + 1, planar[ch], planar[ch + 1], n, ch > 0)
-    if (ch < this.channels) this.scanPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
+    if (this.findsExtremes) {
+      for (; ch + 1 < this.channels; ch += 2) this.scanPair(ch, ch + 1, planar[ch], planar[ch + 1], n, ch > 0)
+      if (ch < this.channels) this.scanPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
+    } else {
+      for (; ch + 1 < this.channels; ch += 2) this.sumPair(ch, ch + 1, planar[ch], planar[ch + 1], n, ch > 0)
+      if (ch < this.channels) this.sumPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
+    }
+  }
+
+  /** scanPair without the lows and highs (the same sums, in the same order). */
+  private sumPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
+    const e = this.energy
+    if (!accumulate) e.fill(0, 0, Math.ceil(n / CHUNK))
+    const both = b >= 0 ? 1 : 0
+    const sumA = this.chunkSum[a],
+      nrgA = this.chunkEnergy[a]
+    const sumB = b < 0 ? sumA : this.chunkSum[b],
+      nrgB = b < 0 ? nrgA : this.chunkEnergy[b]
+    let sa = 0,
+      qa = 0,
+      sb = 0,
+      qb = 0
+    let c = 0
+    let i = 0
+    for (; i + 3 < n; i += 4, c++) {
+      const a0 = xa[i],
+        a1 = xa[i + 1],
+        a2 = xa[i + 2],
+        a3 = xa[i + 3]
+      const b0 = xb[i],
+        b1 = xb[i + 1],
+        b2 = xb[i + 2],
+        b3 = xb[i + 3]
+      const ca = a0 + a1 + (a2 + a3)
+      const cb = b0 + b1 + (b2 + b3)
+      sa += ca
+      sb += cb
+      const ea = a0 * a0 + a1 * a1 + (a2 * a2 + a3 * a3)
+      const eb = b0 * b0 + b1 * b1 + (b2 * b2 + b3 * b3)
+      sumB[c] = cb
+      nrgB[c] = eb
+      sumA[c] = ca
+      nrgA[c] = ea
+      qa += ea
+      qb += eb
+      e[c] += ea + both * eb
+    }
+    this.finishPair(a, b, xa, xb, i, n, c, sa, qa, sb, qb)
   }
 
   /** Scans channels a and b (b = −1: a only); adds to the chunk energies when `accumulate`, else sets them. */
   private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
     const e = this.energy
+    // The first pair sets the chunk energies, later pairs add to them: zeroing first lets the loop
+    // always add (0 + x is x exactly). A choice between the two inside the loop made V8 keep the
+    // running sums as heap numbers, allocating on every chunk.
+    if (!accumulate) e.fill(0, 0, Math.ceil(n / CHUNK))
     const loA = this.lo[a],
       hiA = this.hi[a]
     const loB = b < 0 ? loA : this.lo[b],
@@ -91,7 +177,7 @@ export class BlockScan {
       qa += ea
       qb += eb
       const ec = ea + both * eb
-      e[c] = accumulate ? e[c] + ec : ec
+      e[c] += ec
       // Selects, not branches: on noise a branch here mispredicts half the time.
       const la = a0 < a1 ? a0 : a1,
         ha = a0 < a1 ? a1 : a0,
@@ -106,37 +192,36 @@ export class BlockScan {
       loB[c] = lb < mb ? lb : mb
       hiB[c] = hb > nb ? hb : nb
     }
+    this.finishPair(a, b, xa, xb, i, n, c, sa, qa, sb, qb)
+  }
+
+  /** The partial last chunk (frames i..n, chunk c), channel by channel, and the block's totals. */
+  private finishPair(
+    a: number,
+    b: number,
+    xa: Float32Array,
+    xb: Float32Array,
+    i: number,
+    n: number,
+    c: number,
+    sa: number,
+    qa: number,
+    sb: number,
+    qb: number,
+  ): void {
+    const e = this.energy
     if (i < n) {
-      // The partial last chunk, channel by channel.
-      const tail = (x: Float32Array, lo: Float32Array, hi: Float32Array, cs: Float64Array, ce: Float64Array) => {
-        let l = Infinity,
-          h = -Infinity,
-          s = 0,
-          q = 0
-        for (let j = i; j < n; j++) {
-          const v = x[j]
-          s += v
-          q += v * v
-          l = Math.min(l, v)
-          h = Math.max(h, v)
-        }
-        lo[c] = l
-        hi[c] = h
-        cs[c] = s
-        ce[c] = q
-        return { s, q }
-      }
-      const ta = tail(xa, loA, hiA, sumA, nrgA)
+      const ta = tailChunk(xa, i, n, c, this.lo[a], this.hi[a], this.chunkSum[a], this.chunkEnergy[a])
       sa += ta.s
       qa += ta.q
       let ec = ta.q
       if (b >= 0) {
-        const tb = tail(xb, loB, hiB, sumB, nrgB)
+        const tb = tailChunk(xb, i, n, c, this.lo[b], this.hi[b], this.chunkSum[b], this.chunkEnergy[b])
         sb += tb.s
         qb += tb.q
         ec += tb.q
       }
-      e[c] = accumulate ? e[c] + ec : ec
+      e[c] += ec
     }
     this.sum[a] = sa
     this.sumSquares[a] = qa

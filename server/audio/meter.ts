@@ -69,7 +69,8 @@ export class Meter {
     this.sampleRate = f.sampleRate
     this.invalid = new Float64Array(f.channels)
     this.precise = new PreciseTruePeakMeter(f.channels)
-    this.scan = new BlockScan(f.channels)
+    // The true-peak kernel finds each chunk's low and high on its way; the scan leaves them to it.
+    this.scan = new BlockScan(f.channels, { findsExtremes: false })
     this.levels = new LevelsMeter({
       channels: f.channels,
       encoding: f.encoding ?? 'pcm',
@@ -97,9 +98,10 @@ export class Meter {
       this.dropInvalid(planar)
       this.scan.scan(planar)
     }
+    // First the true peak: it fills the scan's chunk lows and highs, which the levels read.
+    this.precise.push(planar, this.scan)
     this.levels.add(planar, this.scan)
     this.noiseFloor.add(this.scan)
-    this.precise.push(planar)
     this.loudness.push(planar)
     this.spectrum.push(planar)
     this.position += planar[0]?.length ?? 0

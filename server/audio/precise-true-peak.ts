@@ -17,7 +17,7 @@
 // the sinc interpolator (parabolic steps down to 1/1024 of a sample). Before the
 // first sample and after the last the signal is taken as silence, as a
 // converter would play it.
-import { TRUE_PEAK_PHASES, TruePeakMeter } from './true-peak'
+import { TRUE_PEAK_PHASES, TruePeakMeter, type ChunkExtremes } from './true-peak'
 
 const HALF = 32 // taps on each side
 const PHASES = 1024
@@ -157,14 +157,15 @@ export class PreciseTruePeakMeter {
     this.pending = Array.from({ length: channels }, () => [])
   }
 
-  push(planar: Float32Array[]): void {
+  /** With `extremes`, the lows and highs of the block's 4-frame chunks are handed back too (see TruePeakMeter.pushScreened). */
+  push(planar: Float32Array[], extremes?: ChunkExtremes): void {
     const frames = planar[0]?.length ?? 0
     if (frames === 0) return
     const stretches = Math.ceil(frames / STRETCH)
     if ((this.out[0]?.length ?? 0) < stretches)
       this.out = Array.from({ length: this.channels }, () => new Float64Array(stretches))
     for (let ch = 0; ch < this.channels; ch++) this.thresholds[ch] = this.peaks[ch] * SCREEN
-    this.annex.pushScreened(planar, this.thresholds, STRETCH, this.out)
+    this.annex.pushScreened(planar, this.thresholds, STRETCH, this.out, extremes)
     const keepFrom = this.position + frames - (STRETCH + HALF + HEAD)
     for (let ch = 0; ch < this.channels; ch++) {
       const o = this.out[ch]

@@ -1,12 +1,14 @@
 // Average power spectrum of the mono mix (mean of all channels) by Welch's
 // method: Hann-windowed segments, mean removed, FFT of the smallest power of two
 // giving ≤ 1 Hz resolution. For the hum verdict a take of two or more channels
-// is also looked at as its side signal ch1 − ch2 (L − R): hum in antiphase
-// between the channels cancels in the mix and stands in the side signal, and hum
-// on one channel only shows in both. The side signal's FFT is a quarter of the
-// mix's (the first quarter of each segment: about 3 Hz bins at 48 kHz, ample for
-// harmonics 50 Hz apart, at a fifth of the cost). Each segment gets its own
-// verdict, which places the hum in time. At most MAX_SEGMENTS segments are taken, evenly
+// is also looked at channel by channel and as its side signal ch1 − ch2 (L − R):
+// hum in antiphase between the channels cancels in the mix and stands in the side
+// signal, and hum on one channel of many, diluted in the mix, stands in its own.
+// These spectra take a quarter of the mix's FFT size (the first quarter of each
+// segment: about 3 Hz bins at 48 kHz, ample for harmonics 50 Hz apart, each at a
+// fifth of the mix's cost), and the side signal's comes from the first two
+// channels' spectra by linearity, with no FFT of its own. Each segment gets its
+// own verdict, which places the hum in time. At most MAX_SEGMENTS segments are taken, evenly
 // spaced through the take (50 % overlap when fewer fit), so an hour-long take
 // costs no more than a few minutes' one. 128 segments put the spread of each
 // averaged bin near ±0.4 dB (1/√128), ample for finding tones 10 dB above the
@@ -31,12 +33,22 @@ export interface PowerSpectrum {
 
 /** dst[at..] = sum over channels of planar[·][from..to) (the 1/channels of the mean is applied with the window). */
 function mixInto(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
-  const first = planar[0]
-  for (let i = from, j = at; i < to; i++, j++) dst[j] = first[i]
-  for (let ch = 1; ch < planar.length; ch++) {
-    const x = planar[ch]
-    for (let i = from, j = at; i < to; i++, j++) dst[j] += x[i]
-  }
+  copyInto(dst, at, planar[0], from, to)
+  for (let ch = 1; ch < planar.length; ch++) addInto(dst, at, planar[ch], from, to)
+}
+
+// One loop per function: a function with two long loops, called a few hundred times, was compiled
+// on the first loop's stack and thrown away on reaching the second (which had never run), again and
+// again, spending most of its time unoptimised (and allocating a number per sample).
+
+/** dst[at..] = src[from..to). */
+function copyInto(dst: Float64Array, at: number, src: Float32Array, from: number, to: number): void {
+  for (let i = from, j = at; i < to; i++, j++) dst[j] = src[i]
+}
+
+/** dst[at..] += src[from..to). */
+function addInto(dst: Float64Array, at: number, src: Float32Array, from: number, to: number): void {
+  for (let i = from, j = at; i < to; i++, j++) dst[j] += src[i]
 }
 
 export function fftSizeFor(sampleRate: number): number {
@@ -55,22 +67,113 @@ interface Segment {
   start: number
   filled: number
   buffer: Float64Array
-  /** ch0 − ch1 (stereo and more). */
-  side: Float64Array | null
-}
-
-/** dst[at..] = planar[0][from..to) − planar[1][from..to). */
-function sideInto(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
-  const a = planar[0]
-  const b = planar[1]
-  for (let i = from, j = at; i < to; i++, j++) dst[j] = a[i] - b[i]
+  /** Per channel (two or more channels): the segment's first `hum.size` samples. */
+  channels: Float64Array[] | null
 }
 
 /** A single segment's spectrum is one periodogram (noisy): its verdict asks harmonics to stand 10 dB out. */
 const SEGMENT_HUM_DB = 10
 
-/** Names of the signals the hum is looked for in: the mix, and the side signal. */
-const SIGNALS = ['all channels', 'L−R'] as const
+// The loops below are module functions with typed-array arguments, not inline in the methods that
+// call them: those run once per segment (128 times a take), and V8 kept throwing away their
+// optimised code on the cold paths around the loops; small functions called many times stay hot.
+
+/** Mean of b[0..len). */
+function meanOf(b: Float64Array, len: number): number {
+  let mean = 0
+  for (let i = 0; i < len; i++) mean += b[i]
+  return mean / len
+}
+
+/** b[i] = (b[i] − mean)·w[i]·scale for i < len; zeros after. */
+function windowInPlace(b: Float64Array, len: number, mean: number, w: Float64Array, scale: number): void {
+  for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i] * scale
+  if (len < b.length) b.fill(0, len)
+}
+
+/** power[k] = |o_k|², sum[k] += it, for k < power.length (o interleaved re, im). */
+function addPower(o: Float64Array, power: Float64Array, sum: Float64Array): void {
+  for (let k = 0, m = power.length; k < m; k++) {
+    const re = o[2 * k]
+    const im = o[2 * k + 1]
+    const p = re * re + im * im
+    sum[k] += p
+    power[k] = p
+  }
+}
+
+/** As addPower for the difference of two spectra a − b (the FFT is linear: this is the spectrum of the difference signal). */
+function addPowerOfDifference(a: Float64Array, b: Float64Array, power: Float64Array, sum: Float64Array): void {
+  for (let k = 0, m = power.length; k < m; k++) {
+    const re = a[2 * k] - b[2 * k]
+    const im = a[2 * k + 1] - b[2 * k + 1]
+    const p = re * re + im * im
+    sum[k] += p
+    power[k] = p
+  }
+}
+
+function hannWindow(len: number): { w: Float64Array; energy: number } {
+  const w = new Float64Array(len)
+  let energy = 0
+  for (let i = 0; i < len; i++) {
+    w[i] = len > 1 ? 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / (len - 1)) : 1
+    energy += w[i] * w[i]
+  }
+  return { w, energy }
+}
+
+/** Hum is looked for in the mix, in each channel and in the side signal; these name them in `signals`. */
+const MIX = 'all channels'
+const SIDE = 'L−R'
+/** Channel names: L and R for the first two (as in the side signal's name), then "ch 3", "ch 4"… */
+export function channelName(ch: number): string {
+  return ch === 0 ? 'L' : ch === 1 ? 'R' : `ch ${ch + 1}`
+}
+
+/**
+ * The per-channel spectra for the hum verdict (two or more channels): each channel's first quarter
+ * of the segment, FFT a quarter the mix's size, and from the first two channels' spectra the side
+ * signal's (L − R) by the FFT's linearity, without an FFT of its own.
+ */
+class ChannelSpectra {
+  readonly size: number
+  private readonly fft: FFT
+  /** Per channel, then the side signal: summed power, and this segment's. */
+  readonly sums: Float64Array[]
+  readonly current: Float64Array[]
+  private readonly out: Float64Array[]
+  private window: Float64Array | null = null
+  windowEnergy = 0
+  segments = 0
+
+  constructor(size: number, channels: number) {
+    this.size = size
+    this.fft = new FFT(size)
+    const bins = size / 2 + 1
+    this.sums = Array.from({ length: channels + 1 }, () => new Float64Array(bins))
+    this.current = Array.from({ length: channels + 1 }, () => new Float64Array(bins))
+    this.out = Array.from({ length: channels }, () => new Float64Array(2 * size))
+  }
+
+  /** Transforms each channel's buffer (first `len` samples; mean removed, Hann window) and adds the powers. */
+  add(buffers: Float64Array[], len: number): void {
+    if (this.window?.length !== len) {
+      const h = hannWindow(len)
+      this.window = h.w
+      this.windowEnergy = h.energy
+    }
+    const channels = buffers.length
+    for (let ch = 0; ch < channels; ch++) {
+      const b = buffers[ch]
+      windowInPlace(b, len, meanOf(b, len), this.window, 1)
+      this.fft.realTransform(this.out[ch], b)
+      addPower(this.out[ch], this.current[ch], this.sums[ch])
+    }
+    addPowerOfDifference(this.out[0], this.out[1], this.current[channels], this.sums[channels])
+    this.segments++
+  }
+}
 
 export class SpectrumMeter {
   private readonly sampleRate: number
@@ -80,6 +183,7 @@ export class SpectrumMeter {
   private nextStart = 0
   private readonly active: Segment[] = []
   private readonly spare: Float64Array[] = []
+  private readonly spareChannels: Float64Array[][] = []
   private readonly fft: FFT
   private readonly out: Float64Array
   private readonly sum: Float64Array
@@ -88,18 +192,10 @@ export class SpectrumMeter {
   private window: Float64Array | null = null
   private position = 0
   private readonly length: number // segment length: the FFT size, or the whole take when shorter
-  private readonly stereo: boolean
-  private readonly spareSide: Float64Array[] = []
-  private readonly sideSize: number
-  private readonly sideFft: FFT | null
-  private readonly out2: Float64Array
-  private sideWindow: Float64Array | null = null
-  private sideWindowEnergy = 0
-  /** Summed power of the side signal; the mix's is `sum`. */
-  private readonly sideSum: Float64Array
   private readonly mixPower: Float64Array
-  private readonly sidePower: Float64Array
-  private sideSegments = 0
+  /** Two or more channels: the per-channel and side spectra. */
+  private readonly hum: ChannelSpectra | null
+  private readonly names: string[]
   /** Per analysed segment: where it lies and which mains frequency (if any) it holds. */
   private readonly humSegments: { start: number; length: number; hz: 50 | 60 | null }[] = []
 
@@ -112,30 +208,31 @@ export class SpectrumMeter {
     this.fft = new FFT(this.size)
     this.out = new Float64Array(2 * this.size)
     this.sum = new Float64Array(this.size / 2 + 1)
-    this.stereo = channels >= 2
-    this.sideSize = this.size / 4
-    this.sideFft = this.stereo ? new FFT(this.sideSize) : null
-    this.out2 = new Float64Array(this.stereo ? 2 * this.sideSize : 0)
-    this.sideSum = new Float64Array(this.stereo ? this.sideSize / 2 + 1 : 0)
     this.mixPower = new Float64Array(this.size / 2 + 1)
-    this.sidePower = new Float64Array(this.sideSum.length)
+    this.hum = channels >= 2 ? new ChannelSpectra(this.size / 4, channels) : null
+    this.names = [MIX, ...(this.hum ? Array.from({ length: channels }, (_, ch) => channelName(ch)) : []), SIDE]
   }
 
   push(planar: Float32Array[]): void {
     const n = planar[0]?.length ?? 0
     const blockEnd = this.position + n
+    const hum = this.hum
     while (this.nextStart < this.starts.length && this.starts[this.nextStart] < blockEnd) {
       const buffer = this.spare.pop() ?? new Float64Array(this.size)
-      const side = this.stereo ? (this.spareSide.pop() ?? new Float64Array(this.sideSize)) : null
-      this.active.push({ start: this.starts[this.nextStart++], filled: 0, buffer, side })
+      const channels = hum
+        ? (this.spareChannels.pop() ?? Array.from({ length: this.channels }, () => new Float64Array(hum.size)))
+        : null
+      this.active.push({ start: this.starts[this.nextStart++], filled: 0, buffer, channels })
     }
     for (const seg of this.active) {
       const from = Math.max(0, seg.start + seg.filled - this.position)
       const to = Math.min(n, seg.start + this.length - this.position)
       if (to <= from) continue
       mixInto(seg.buffer, seg.filled, planar, from, to)
-      if (seg.side && seg.filled < this.sideSize)
-        sideInto(seg.side, seg.filled, planar, from, Math.min(to, from + this.sideSize - seg.filled))
+      if (seg.channels && hum && seg.filled < hum.size) {
+        const end = Math.min(to, from + hum.size - seg.filled)
+        for (let ch = 0; ch < this.channels; ch++) copyInto(seg.channels[ch], seg.filled, planar[ch], from, end)
+      }
       seg.filled += to - from
     }
     this.position = blockEnd
@@ -145,78 +242,37 @@ export class SpectrumMeter {
       this.accumulate(seg)
       this.active.splice(k, 1)
       this.spare.push(seg.buffer)
-      if (seg.side) this.spareSide.push(seg.side)
+      if (seg.channels) this.spareChannels.push(seg.channels)
     }
-  }
-
-  /** Mean removed, Hann window and scale applied in place, then the FFT into `o`. */
-  private transform(b: Float64Array, len: number, scale: number, o: Float64Array): void {
-    let mean = 0
-    for (let i = 0; i < len; i++) mean += b[i]
-    mean /= len
-    const w = this.hann(len)
-    for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i] * scale
-    if (len < b.length) b.fill(0, len)
-    this.fft.realTransform(o, b)
   }
 
   private accumulate(seg: Segment): void {
     const len = seg.filled
-    const o = this.out
-    this.transform(seg.buffer, len, 1 / this.channels, o) // the mono mix is the mean of the channels
-    const sum = this.sum
-    const mixPower = this.mixPower
-    for (let k = 0, m = sum.length; k < m; k++) {
-      const re = o[2 * k]
-      const im = o[2 * k + 1]
-      const p = re * re + im * im
-      sum[k] += p
-      mixPower[k] = p
-    }
-    let hz = readHum(this.spectrumOf(mixPower, 1), SEGMENT_HUM_DB).hz
-    if (seg.side && this.sideFft) {
-      const sideLen = Math.min(len, this.sideSize)
-      this.transformSide(seg.side, sideLen)
-      const o2 = this.out2
-      const sp = this.sidePower
-      for (let k = 0; k < sp.length; k++) {
-        const p = o2[2 * k] * o2[2 * k] + o2[2 * k + 1] * o2[2 * k + 1]
-        sp[k] = p
-        this.sideSum[k] += p
-      }
-      this.sideSegments++
-      hz ??= readHum(this.sideSpectrum(sp, 1), SEGMENT_HUM_DB).hz
+    const b = seg.buffer
+    const w = this.hann(len)
+    // The mono mix is the mean of the channels: 1/channels goes with the window.
+    windowInPlace(b, len, meanOf(b, len), w, 1 / this.channels)
+    this.fft.realTransform(this.out, b)
+    addPower(this.out, this.mixPower, this.sum)
+    let hz = readHum(this.spectrumOf(this.mixPower, 1), SEGMENT_HUM_DB).hz
+    const hum = this.hum
+    if (seg.channels && hum) {
+      hum.add(seg.channels, Math.min(len, hum.size))
+      for (let i = 0; hz === null && i < hum.current.length; i++)
+        hz = readHum(this.humSpectrum(hum.current[i], 1), SEGMENT_HUM_DB).hz
     }
     this.humSegments.push({ start: seg.start, length: len, hz })
     this.segments++
   }
 
-  private transformSide(b: Float64Array, len: number): void {
-    if (this.sideWindow?.length !== len) {
-      const w = new Float64Array(len)
-      let energy = 0
-      for (let i = 0; i < len; i++) {
-        w[i] = len > 1 ? 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / (len - 1)) : 1
-        energy += w[i] * w[i]
-      }
-      this.sideWindow = w
-      this.sideWindowEnergy = energy
-    }
-    let mean = 0
-    for (let i = 0; i < len; i++) mean += b[i]
-    mean /= len
-    const w = this.sideWindow
-    for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i]
-    if (len < b.length) b.fill(0, len)
-    this.sideFft!.realTransform(this.out2, b)
-  }
-
-  private sideSpectrum(power: Float64Array, segments: number): PowerSpectrum {
+  /** A per-channel or side power spectrum (the quarter-size FFT) as a PowerSpectrum. */
+  private humSpectrum(power: Float64Array, segments: number): PowerSpectrum {
+    const hum = this.hum!
     return {
       power: segments === 1 ? power : power.map((p) => p / segments),
-      fftSize: this.sideSize,
+      fftSize: hum.size,
       sampleRate: this.sampleRate,
-      windowEnergy: this.sideWindowEnergy,
+      windowEnergy: hum.windowEnergy,
     }
   }
 
@@ -231,14 +287,9 @@ export class SpectrumMeter {
 
   private hann(len: number): Float64Array {
     if (this.window?.length !== len) {
-      const w = new Float64Array(len)
-      let energy = 0
-      for (let i = 0; i < len; i++) {
-        w[i] = len > 1 ? 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / (len - 1)) : 1
-        energy += w[i] * w[i]
-      }
-      this.window = w
-      this.windowEnergy = energy
+      const h = hannWindow(len)
+      this.window = h.w
+      this.windowEnergy = h.energy
     }
     return this.window
   }
@@ -259,17 +310,19 @@ export class SpectrumMeter {
 
   finish(): Spectrum {
     const mix = this.powerSpectrum()
-    return describeSpectrum(mix, mix ? this.hum(mix) : undefined)
+    return describeSpectrum(mix, mix ? this.humVerdict(mix) : undefined)
   }
 
   /**
-   * The hum verdict from the averaged spectra of every signal (the mix; for stereo also L − R, L and
-   * R): the signal with the clearest mains pattern gives the figures, and every signal showing the
-   * same mains frequency is named. The share and spans come from the segments' own verdicts.
+   * The hum verdict from the averaged spectra of every signal (the mix; with two or more channels
+   * also each channel and the side signal L − R): the signal with the clearest mains pattern gives
+   * the figures, and every signal showing the same mains frequency is named. The share and spans
+   * come from the segments' own verdicts.
    */
-  private hum(mix: PowerSpectrum): MainsHum {
-    const spectra = this.sideSegments > 0 ? [mix, this.sideSpectrum(this.sideSum, this.sideSegments)] : [mix]
-    const readings = spectra.map((s, i) => ({ name: SIGNALS[i], r: readHum(s) }))
+  private humVerdict(mix: PowerSpectrum): MainsHum {
+    const hum = this.hum
+    const spectra = hum && hum.segments > 0 ? [mix, ...hum.sums.map((p) => this.humSpectrum(p, hum.segments))] : [mix]
+    const readings = spectra.map((s, i) => ({ name: this.names[i], r: readHum(s) }))
     const found = readings.filter((x) => x.r.hz !== null)
     const best = found.length > 0 ? found.reduce((a, b) => (b.r.confidence > a.r.confidence ? b : a)) : readings[0]
     const hz = best.r.hz

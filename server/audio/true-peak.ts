@@ -59,6 +59,7 @@ const OUTER_ABS_GAIN = absGain(PHASE_0)
 interface Kernel {
   memory: WebAssembly.Memory
   setGains(ig: number, iag: number, og: number, oag: number): void
+  setExtremesOut(lo: number, hi: number): void
   scan(x: number, n: number, realFrom: number, firstOutput: number, running: number): number
   scanStretches(
     x: number,
@@ -83,6 +84,15 @@ function kernelFor(samples: number): { k: Kernel; base: number; view: Float32Arr
   const buffer = kernel.scratch(samples * 4)
   if (view.buffer !== buffer || view.length < samples) view = new Float32Array(buffer, kernel.base, samples)
   return { k: kernel.exports, base: kernel.base, view }
+}
+
+/** Frames per chunk of the extremes pushScreened can hand back (block-scan.ts's CHUNK). */
+const EXTREMES_CHUNK = 4
+
+/** Per channel, the low and high of each 4-frame chunk of a block (as block-scan.ts defines them). */
+export interface ChunkExtremes {
+  lo: Float32Array[]
+  hi: Float32Array[]
 }
 
 /** Per-channel true-peak meter; values are linear (1.0 = full scale). */
@@ -120,15 +130,27 @@ export class TruePeakMeter {
   /**
    * As push, and per stretch of `stretch` frames (from the block's start) the Annex peak when it
    * exceeds the channel's threshold (else the threshold), into out[ch]. The running peaks come out
-   * exactly as push makes them: a threshold never exceeds the channel's running peak.
+   * exactly as push makes them: a threshold never exceeds the channel's running peak. With
+   * `extremes` (arrays of at least ⌈frames / 4⌉), the kernel's lows and highs of the block's 4-frame
+   * chunks are copied there, found on the way.
    */
-  pushScreened(planar: Float32Array[], thresholds: Float64Array, stretch: number, out: Float64Array[]): void {
+  pushScreened(
+    planar: Float32Array[],
+    thresholds: Float64Array,
+    stretch: number,
+    out: Float64Array[],
+    extremes?: ChunkExtremes,
+  ): void {
     const frames = planar[0]?.length ?? 0
     if (frames === 0) return
     const total = HISTORY + frames
     const stretches = Math.ceil(frames / stretch)
     const samplesBytes = Math.ceil((total * 4) / 8) * 8
-    const { k, base, view: x } = kernelFor(samplesBytes / 4 + stretches * 2)
+    const chunks = Math.ceil(frames / EXTREMES_CHUNK)
+    const wantExtremes = extremes !== undefined && stretch % EXTREMES_CHUNK === 0
+    const loAt = samplesBytes + stretches * 8
+    const hiAt = loAt + chunks * 4
+    const { k, base, view: x } = kernelFor(samplesBytes / 4 + stretches * 2 + (wantExtremes ? 2 * chunks + 4 : 0))
     const results = new Float64Array(x.buffer, base + samplesBytes, stretches)
     const realFrom = HISTORY - this.filled
     const firstOutput = realFrom + HISTORY
@@ -136,7 +158,13 @@ export class TruePeakMeter {
       x.set(this.history[ch], 0)
       x.set(planar[ch], HISTORY)
       const threshold = Math.min(thresholds[ch], this.peaks[ch])
+      if (wantExtremes) k.setExtremesOut(base + loAt, base + hiAt)
       k.scanStretches(base, total, realFrom, firstOutput, threshold, stretch, base + samplesBytes)
+      if (wantExtremes) {
+        k.setExtremesOut(0, 0)
+        extremes.lo[ch].set(new Float32Array(x.buffer, base + loAt, chunks))
+        extremes.hi[ch].set(new Float32Array(x.buffer, base + hiAt, chunks))
+      }
       const o = out[ch]
       let peak = this.peaks[ch]
       for (let s = 0; s < stretches; s++) {

@@ -1,11 +1,11 @@
 // `npm run --silent analyze -- [--json] FILE...`: measures WAVE files.
 // With --json, stdout holds only a JSON array of AnalyzeCliResult (shared
 // schema); otherwise a table with one row per file. Exit status 1 when any
-// file failed. Several files go through the worker pool, one runs in-process.
+// file failed. Several files go through the audio-task pool, one runs in-process.
 import { basename } from 'node:path'
 import type { AnalyzeCliResult, Analysis, WavFormat } from '@shared/schemas/analysis'
 import { analyzeFile, type AnalyzeResult } from '../audio/analyze'
-import { createAnalysisPool, defaultPoolSize } from '../audio/pool'
+import { holdAudioTasks, runAudioTask } from '../work/audio-tasks'
 import { WavFormatError } from '../audio/wav-reader'
 
 const USAGE = 'usage: npm run --silent analyze -- [--json] FILE...'
@@ -30,11 +30,11 @@ async function analyzeAll(files: string[]): Promise<AnalyzeCliResult[]> {
       }),
     )
   if (files.length === 1) return [await settle(files[0], analyzeFile(files[0]))]
-  const pool = createAnalysisPool(Math.min(files.length, defaultPoolSize()))
+  const release = holdAudioTasks()
   try {
-    return await Promise.all(files.map((f) => settle(f, pool.run(f))))
+    return await Promise.all(files.map((f) => settle(f, runAudioTask('analyze', { path: f }))))
   } finally {
-    await pool.close()
+    await release()
   }
 }
 

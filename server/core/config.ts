@@ -31,9 +31,12 @@ export interface Config {
   mailCatcher: boolean
   /** Port of the embedded mail catcher (0: any free port). */
   mailCatcherPort: number
+  /** Takes measured at once (0: the audio-task pool's threads less one). */
   analysisWorkers: number
-  /** Worker threads for spectrograms, previews and range measurements (0: the default). */
+  /** Threads of the one audio-task pool, server/work/ (0: the default; at least two). */
   heavyThreads: number
+  /** REDIS_URL: jobs go through BullMQ to `npm run worker` processes; null: jobs run in this process. */
+  redisUrl: string | null
   /** Such tasks one user may have running or waiting at once. */
   heavyPerUser: number
   /** Spectrogram images kept per take, and for all takes together (bytes); least recently used go first. */
@@ -75,6 +78,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env, overrides: Part
     mailCatcherPort: Number(env.STRAYFIELD_MAIL_CATCHER_PORT ?? 0),
     analysisWorkers: Number(env.STRAYFIELD_ANALYSIS_WORKERS ?? 0),
     heavyThreads: Number(env.STRAYFIELD_HEAVY_WORKERS ?? 0),
+    redisUrl: env.REDIS_URL || null,
     heavyPerUser: 3,
     spectrogramsPerTake: 12,
     spectrogramCacheBytes: Number(env.STRAYFIELD_SPECTROGRAM_CACHE_MB ?? 1024) * 2 ** 20,

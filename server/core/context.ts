@@ -2,7 +2,7 @@ import type { Config } from './config'
 import type { Db } from './database'
 import type { Storage } from './storage'
 import type { Mailer } from '../mail/mailer'
-import type { JobRunner } from '../jobs/job-runner'
+import type { JobQueue } from '../jobs/queue'
 import type { HeavyWork } from './heavy-work'
 
 /** What every feature's routes and services are handed: no globals. */
@@ -11,7 +11,8 @@ export interface AppContext {
   db: Db
   mailer: Mailer
   storage: Storage
-  jobs: JobRunner
+  /** Durable jobs: in this process (the jobs table), or through Redis to `npm run worker` processes. */
+  jobs: JobQueue
   /** CPU-heavy work for requests, on worker threads with a per-user limit. */
   heavy: HeavyWork
 }

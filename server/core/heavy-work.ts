@@ -1,15 +1,13 @@
 // CPU-heavy work asked for by API requests (spectrograms, pack item previews and
-// quick exports, the range measurement when an item is added to a pack) runs
-// here, never on the API's event loop: on worker threads of one render pool
-// (render-pool.ts) started on heavy-worker.ts. The pool's size is the
-// concurrency limit (tasks beyond it wait their turn); each user may have at
-// most `perUser` tasks running or waiting, and one more answers 429, so one
-// member cannot fill the queue for everybody.
-import { availableParallelism } from 'node:os'
+// quick exports, the range measurement when an item is added to a pack, the
+// instrument and modulation tasks) runs on the one audio-task pool
+// (server/work/audio-tasks.ts), never on the API's event loop. This layer adds
+// admission per member: each may have at most `perUser` tasks running or
+// waiting, and one more answers 429, so one member cannot fill the queue for
+// everybody. The pool's size is the concurrency limit; tasks beyond it wait.
 import type { SpectrogramOptions } from '../audio/spectrogram'
 import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
-import { createRenderPool, type RenderPool } from '../render/render-pool'
 import type { ModulationFile, ModulationOrder } from '../modulation/modulation-files'
 import type { LoopTask, OnsetTask, SplitTask } from '../instrument/instrument-task'
 import type { SplitSegmentFrames } from '../instrument/split'
@@ -17,6 +15,7 @@ import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
 import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
+import { runAudioTask } from '../work/audio-tasks'
 import { AppError } from './errors'
 
 export interface HeavyWork {
@@ -32,45 +31,32 @@ export interface HeavyWork {
   splitCopy(who: string, task: SplitCopyTask): Promise<SplitCopyResult[]>
   /** One cycle of a loop as WAV bytes, for the bench's loop audition. */
   loopCycle(who: string, task: LoopCycleTask): Promise<Buffer>
-  close(): Promise<void>
 }
 
 export interface HeavyWorkOptions {
-  /** Worker threads (default: one fewer than the cores, at least one, at most four). */
-  threads?: number
-  /** Tasks one user may have running or waiting at once. */
+  /** Tasks one member may have running or waiting at once. */
   perUser?: number
 }
 
-export const defaultHeavyThreads = () => Math.max(1, Math.min(4, availableParallelism() - 1))
 export const HEAVY_PER_USER = 3
-
-function entry(): URL {
-  const ext = import.meta.url.endsWith('.ts') ? '.ts' : '.js'
-  return new URL(`./heavy-worker${ext}`, import.meta.url)
-}
 
 export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
   const perUser = opts.perUser ?? HEAVY_PER_USER
-  let pool: RenderPool | null = null // started on first use: a server that draws nothing starts no thread
   const busy = new Map<string, number>()
-  const getPool = () => (pool ??= createRenderPool(opts.threads ?? defaultHeavyThreads(), entry()))
 
-  async function limited<T>(who: string, work: (p: RenderPool) => Promise<T>): Promise<T> {
+  async function limited<T>(who: string, work: () => Promise<T>): Promise<T> {
     const n = busy.get(who) ?? 0
     if (n >= perUser) {
       throw new AppError(
         429,
         'TOO_BUSY',
         `You already have ${n} images, renders, proposals or control curves being made; wait for them to finish and try again`,
-        {
-          limit: perUser,
-        },
+        { limit: perUser },
       )
     }
     busy.set(who, n + 1)
     try {
-      return await work(getPool())
+      return await work()
     } finally {
       const left = (busy.get(who) ?? 1) - 1
       if (left > 0) busy.set(who, left)
@@ -80,29 +66,26 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
 
   return {
     spectrogram: (who, path, o) =>
-      limited(who, async (p) => {
-        const bytes = await p.run<Uint8Array>({ type: 'spectrogram', path, opts: o })
+      limited(who, async () => {
+        const bytes = await runAudioTask('spectrogram', { path, opts: o })
         return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength)
       }),
     render: (who, req, outPath) =>
-      limited(who, (p) => {
+      limited(who, () => {
         const { onFrames: _f, shouldStop: _s, sourceInfo: _i, ...plain } = req
-        return p.run<RenderResult>({ type: 'render', req: plain satisfies PlainRenderRequest, outPath })
+        return runAudioTask('render', { req: plain satisfies PlainRenderRequest, outPath })
       }),
     measure: (who, path, startSeconds, endSeconds) =>
-      limited(who, (p) => p.run<LevelReading>({ type: 'measure', path, startSeconds, endSeconds })),
-    modulation: (who, path, order) => limited(who, (p) => p.run<ModulationFile>({ type: 'modulation', path, order })),
-    onsets: (who, task) => limited(who, (p) => p.run<OnsetSliceFrames[]>({ type: 'onsets', ...task })),
-    loops: (who, task) => limited(who, (p) => p.run<LoopFrames[]>({ type: 'loops', ...task })),
-    split: (who, task) => limited(who, (p) => p.run<SplitSegmentFrames[]>({ type: 'split', ...task })),
-    splitCopy: (who, task) => limited(who, (p) => p.run<SplitCopyResult[]>({ type: 'split-copy', ...task })),
+      limited(who, () => runAudioTask('measure', { path, startSeconds, endSeconds })),
+    modulation: (who, path, order) => limited(who, () => runAudioTask('modulation', { path, order })),
+    onsets: (who, task) => limited(who, () => runAudioTask('onsets', task)),
+    loops: (who, task) => limited(who, () => runAudioTask('loops', task)),
+    split: (who, task) => limited(who, () => runAudioTask('split', task)),
+    splitCopy: (who, task) => limited(who, () => runAudioTask('split-copy', task)),
     loopCycle: (who, task) =>
-      limited(who, async (p) => {
-        const bytes = await p.run<Uint8Array>({ type: 'loop-cycle', ...task })
+      limited(who, async () => {
+        const bytes = await runAudioTask('loop-cycle', task)
         return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength)
       }),
-    async close() {
-      await pool?.close()
-    },
   }
 }

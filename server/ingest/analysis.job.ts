@@ -1,8 +1,8 @@
 import type { Analysis, FileMetadata, WavFormat } from '@shared/schemas/analysis'
 import type { AppContext } from '../core/context'
 import { publicErrorText } from '../core/errors'
-import type { JobHandler } from '../jobs/job-runner'
-import type { AnalysisPool } from '../audio/pool'
+import type { JobWork, WorkEnv } from '../jobs/queue'
+import { runAudioTask } from '../work/audio-tasks'
 import { readPeaks } from '../audio/peaks'
 import { addEvent, findTake, updateTake } from '../takes/takes.service'
 import { prefillFromMetadata } from './prefill'
@@ -63,29 +63,68 @@ function labelsFromFile(
   }
 }
 
-/** Measures one take in the worker pool and stores every number with it. */
-export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
-  return {
-    concurrency: pool.size,
-    async run(job, progress) {
-      const take = await findTake(ctx.db, job.ref_id)
-      if (!take) return // deleted meanwhile
-      await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
-      let last = 0
-      const peaksPath = ctx.storage.peaksPath(take.id)
-      const { format, analysis } = await pool.run(ctx.storage.abs(take.audio_path), peaksPath, (p) => {
-        // A database write per 2 % is plenty for a live progress bar.
+/**
+ * A task that sends no progress for this long (a reader stuck on hostile metadata, say) is stopped
+ * and the take fails with that reason.
+ */
+export const ANALYSIS_SILENCE_MS = 120_000
+
+export interface AnalysisOrder {
+  takeId: number
+  /** Relative to the storage root. */
+  audioPath: string
+}
+
+export interface AnalysisResult {
+  format: WavFormat
+  analysis: Analysis
+  thumb: number[]
+}
+
+/** The work of measuring a take, wherever it runs: the audio-task pool, the peaks file in storage, the thumbnail. */
+export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<AnalysisResult> {
+  const peaksPath = env.storage.peaksPath(order.takeId)
+  let last = 0
+  const { format, analysis } = await runAudioTask(
+    'analyze',
+    { path: env.storage.abs(order.audioPath), peaksPath },
+    {
+      signal: env.signal,
+      silenceLimitMs: ANALYSIS_SILENCE_MS,
+      onProgress: (p) => {
+        // A write per 2 % is plenty for a live progress bar.
         if (p - last < 0.02) return
         last = p
-        void updateTake(ctx.db, take.id, { progress: p }).catch(() => undefined)
-        void progress(p).catch(() => undefined)
-      })
-      const thumb = await thumbnail(peaksPath)
+        env.progress(p)
+      },
+    },
+  )
+  return { format, analysis, thumb: await thumbnail(peaksPath) }
+}
+
+/**
+ * Measures one take and stores every number with it. Status and progress go to the take's row only
+ * (the one place the API reads them). `concurrency`: takes measured at once.
+ */
+export function analysisJob(ctx: AppContext, concurrency: number): JobWork<AnalysisOrder, AnalysisResult> {
+  return {
+    concurrency,
+    async prepare(job) {
+      const take = await findTake(ctx.db, job.ref_id)
+      if (!take) return null // deleted meanwhile
+      await updateTake(ctx.db, take.id, { status: 'analyzing', progress: 0, error: null })
+      return { takeId: take.id, audioPath: take.audio_path }
+    },
+    perform: measureTake,
+    progress(_job, order, p) {
+      void updateTake(ctx.db, order.takeId, { progress: p }).catch(() => undefined)
+    },
+    async record(_job, order, { format, analysis, thumb }) {
       await ctx.db.transaction().execute(async (trx) => {
-        const now = await findTake(trx, take.id)
+        const now = await findTake(trx, order.takeId)
         if (!now) return
         const labels = labelsFromFile(now, analysis.metadata)
-        await updateTake(trx, take.id, {
+        await updateTake(trx, order.takeId, {
           ...measuredColumns(format, analysis),
           ...labels,
           thumb_json: JSON.stringify(thumb),
@@ -95,7 +134,7 @@ export function analysisJob(ctx: AppContext, pool: AnalysisPool): JobHandler {
       })
       await addEvent(
         ctx.db,
-        take.id,
+        order.takeId,
         null,
         'measured',
         `Measured: ${fmt(analysis.loudness.integratedLufs, 'LUFS')}, true peak ${fmt(analysis.levels.truePeakDbtp, 'dBTP')}`,

@@ -1,6 +1,6 @@
 // The worker-thread side of the instrument tools: read a range of a take once,
 // run the pure detection (onsets.ts, loops.ts) and answer in frames of the
-// range. Called from server/core/heavy-worker.ts; imports no zod.
+// range. Called from server/work/audio-worker.ts; imports no zod.
 import { probeWav, readFrames } from '../audio/wav-reader'
 import { detectOnsets, hopFrames, type OnsetSliceFrames } from './onsets'
 import { findLoops, type LoopFrames } from './loops'

@@ -6,21 +6,35 @@ export type JobKind = 'analyze-take' | 'build-pack'
 
 export interface JobHandler {
   concurrency: number
-  /** Does the work; `progress` takes 0..1. Throwing marks the job failed with the error's message. */
-  run(job: JobRow, progress: (fraction: number) => Promise<void>): Promise<void>
+  /**
+   * Does the work. Throwing marks the job failed with the error's message. `signal` aborts when the
+   * runner stops; the handler passes it down to its tasks (server/work/) so they stop at once. Progress
+   * is the handler's to record, in the row the API reads (the take, the build): never on the job too.
+   */
+  run(job: JobRow, signal: AbortSignal): Promise<void>
   /** Called once when the job ends failed (after its last attempt); `err` is what `run` threw, when it threw. */
   failed?(job: JobRow, message: string, err?: unknown): Promise<void>
 }
 
 const MAX_ATTEMPTS = 3
 
+/** The reason a running job's signal aborts with when the runner stops. */
+export class JobsStopped extends Error {
+  constructor() {
+    super('the server is stopping; the job resumes at the next start')
+    this.name = 'JobsStopped'
+  }
+}
+
 /**
- * Durable jobs kept in SQLite. A job that was running when the server stopped
+ * Durable jobs kept in SQLite. The row is the queue's own bookkeeping (claimed, attempts, the
+ * failure); what the API shows of the work (status, progress) lives in the take or build row. A job that was running when the server stopped
  * (crash or restart) is queued again at start; after three interrupted attempts
  * it ends failed. Work is picked in id order, per kind up to its concurrency.
  */
 export class JobRunner {
   private running = new Map<number, Promise<void>>()
+  private controllers = new Map<number, AbortController>()
   private active: Record<string, number> = {}
   private stopped = false
   private timer: NodeJS.Timeout | null = null
@@ -66,27 +80,22 @@ export class JobRunner {
 
   private launch(job: JobRow, handler: JobHandler): void {
     this.active[job.kind] = (this.active[job.kind] ?? 0) + 1
+    const controller = new AbortController()
+    this.controllers.set(job.id, controller)
     const work = (async () => {
       const claimed = await this.db
         .updateTable('jobs')
-        .set({ status: 'running', started_at: nowIso(), attempts: job.attempts + 1, progress: 0 })
+        .set({ status: 'running', started_at: nowIso(), attempts: job.attempts + 1 })
         .where('id', '=', job.id)
         .where('status', '=', 'queued')
         .executeTakeFirst()
       if (Number(claimed.numUpdatedRows) !== 1) return
       const current = { ...job, attempts: job.attempts + 1 }
       try {
-        await handler.run(current, (p) =>
-          this.db
-            .updateTable('jobs')
-            .set({ progress: p })
-            .where('id', '=', job.id)
-            .execute()
-            .then(() => undefined),
-        )
+        await handler.run(current, controller.signal)
         await this.db
           .updateTable('jobs')
-          .set({ status: 'done', progress: 1, finished_at: nowIso() })
+          .set({ status: 'done', finished_at: nowIso() })
           .where('id', '=', job.id)
           .execute()
       } catch (err) {
@@ -99,6 +108,7 @@ export class JobRunner {
       .catch((err) => console.error(`[jobs] job ${job.id} could not be recorded`, err))
       .finally(() => {
         this.running.delete(job.id)
+        this.controllers.delete(job.id)
         this.active[job.kind] -= 1
         this.kick()
       })
@@ -119,14 +129,14 @@ export class JobRunner {
     while (this.running.size) await Promise.allSettled([...this.running.values()])
   }
 
-  /** Stops picking work and waits a little for running jobs; unfinished ones resume at the next start. */
+  /**
+   * Stops picking work and aborts the running jobs' signals (their tasks stop at once); waits a little
+   * for them to settle. Unfinished jobs stay 'running' and resume at the next start.
+   */
   async stop(graceMs = 3000): Promise<void> {
     this.stopped = true
     if (this.timer) clearInterval(this.timer)
+    for (const c of this.controllers.values()) c.abort(new JobsStopped())
     await Promise.race([this.idle(), new Promise((r) => setTimeout(r, graceMs).unref())])
-  }
-
-  get isStopped(): boolean {
-    return this.stopped
   }
 }

@@ -1,4 +1,4 @@
-// Runs on a heavy-work thread (server/core/heavy-worker.ts), never on the API's
+// Runs on a heavy-work thread (server/work/audio-worker.ts), never on the API's
 // event loop: reads the excerpt of the take block by block, feeds the curve's
 // tracker and writes the file in memory (at most MODULATION_LIMITS.maxPoints
 // points, so a few tens of MB at worst).

@@ -72,16 +72,54 @@ describe('mains hum in the side signal', () => {
     const r = addTones(noise(8, -60, 4), hum50, 0, 8, -1)
     const h = measure([l, r], { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum
     expect(h.hz).toBe(50)
-    expect(h.signals).toContain('L−R')
-    expect(h.signals).not.toContain('all channels')
+    expect(h.signals).toEqual(['L', 'R', 'L−R'])
   })
 
-  it('hum on one channel only is found in both the mix and the side signal', () => {
+  it('hum on one channel only is found in the mix, in that channel and in the side signal, not in the other channel', () => {
     const l = addTones(noise(8, -60, 7), hum50)
     const r = noise(8, -60, 8)
     const h = measure([l, r], { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum
     expect(h.hz).toBe(50)
-    expect(h.signals).toEqual(['all channels', 'L−R'])
+    expect(h.signals).toEqual(['all channels', 'L', 'L−R'])
+  })
+})
+
+describe('mains hum channel by channel', () => {
+  // Four coils, the third 25 dB quieter than the others: hum on it (−75 dBFS) is drowned
+  // in the mix of the four (the loud channels' noise dominates it) and stands only in its own.
+  const quadWithHumOn = (humChannel: number | null) =>
+    [-40, -40, -65, -40].map((db, ch) => {
+      const x = noise(8, db, 20 + ch)
+      return ch === humChannel
+        ? addTones(x, [
+            [50, -75],
+            [150, -81],
+            [250, -87],
+          ])
+        : x
+    })
+
+  it('hum on channel 3 of 4 only, too weak to stand in the mix, is found in channel 3', () => {
+    const h = measure(quadWithHumOn(2), { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum
+    expect(h.hz).toBe(50)
+    expect(h.signals).toEqual(['ch 3'])
+    expect(h.share).toBe(1)
+  })
+
+  it('the same four channels without hum: no verdict (the per-channel search does not invent hum in noise)', () => {
+    const h = measure(quadWithHumOn(null), { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum
+    expect(h.hz).toBeNull()
+    expect(h.signals).toEqual([])
+    expect(h.share).toBeNull()
+  })
+
+  it('hum in antiphase on L and R of a 4-channel take is found in L, R and L−R, not in the mix', () => {
+    const [l, r, c3, c4] = quadWithHumOn(null)
+    addTones(l, hum50)
+    addTones(r, hum50, 0, 8, -1)
+    const h = measure([l, r, c3, c4], { sampleRate: FS, channelMask: 0 }).spectrum.mainsHum
+    expect(h.hz).toBe(50)
+    expect(h.signals).toEqual(['L', 'R', 'L−R'])
   })
 })
 

@@ -7,6 +7,7 @@
 // The loudness meter's 100 ms momentary levels must be those of a plain
 // JavaScript K-weighting (the ITU-R BS.1770-4 filters of k-weighting.ts, run
 // sample by sample in f64), for one to six channels with their weights.
+// The chunk lows and highs the kernel hands back must be the samples' own.
 // And the committed binaries must be what the sources compile to.
 import { spawnSync } from 'node:child_process'
 import path from 'node:path'
@@ -14,6 +15,7 @@ import { describe, expect, it } from 'vitest'
 import { channelWeights } from '../../server/audio/channel-weights'
 import { preFilter, rlbHighPass } from '../../server/audio/k-weighting'
 import { LoudnessMeter } from '../../server/audio/loudness'
+import { PreciseTruePeakMeter } from '../../server/audio/precise-true-peak'
 import { TruePeakMeter } from '../../server/audio/true-peak'
 import { truePeakBruteForce } from '../helpers/signals'
 
@@ -69,6 +71,44 @@ describe('true peak in WebAssembly', () => {
     it(`${name}: the exact brute-force maximum, whatever the block sizes`, () => {
       const want = truePeakBruteForce(x)
       for (const sizes of [[65_536], [4096], [1, 3, 4, 5, 1000], [17], [2, 4099]]) expect(meter(x, sizes)).toBe(want)
+    })
+  }
+
+  // The measurement engine takes each 4-frame chunk's low and high from the kernel (meter.ts): they
+  // must be the plain minimum and maximum of the chunk's samples, for every signal and block size.
+  for (const [name, x] of signals) {
+    it(`${name}: the kernel's chunk lows and highs are the samples' minima and maxima`, () => {
+      const wrong: string[] = []
+      for (const sizes of [[65_536], [1, 3, 4, 5, 1000], [2, 4099]]) {
+        const m = new PreciseTruePeakMeter(2)
+        const y = x.map((v) => -0.5 * v) // a second channel, different from the first
+        for (let at = 0, k = 0; at < x.length; k++) {
+          const n = Math.min(x.length - at, sizes[k % sizes.length])
+          const chunks = Math.ceil(n / 4)
+          const extremes = {
+            lo: [new Float32Array(chunks).fill(9), new Float32Array(chunks).fill(9)],
+            hi: [new Float32Array(chunks).fill(-9), new Float32Array(chunks).fill(-9)],
+          }
+          m.push([x.slice(at, at + n), y.slice(at, at + n)], extremes)
+          for (const [ch, s] of [x, y].entries()) {
+            for (let c = 0; c < chunks; c++) {
+              let lo = Infinity
+              let hi = -Infinity
+              for (let i = at + 4 * c; i < Math.min(at + n, at + 4 * c + 4); i++) {
+                lo = Math.min(lo, s[i])
+                hi = Math.max(hi, s[i])
+              }
+              // + 0 makes −0 and 0 one value: a minimum of (−0, 0) may be either, and both are silence.
+              if (extremes.lo[ch][c] + 0 !== lo + 0 || extremes.hi[ch][c] + 0 !== hi + 0)
+                wrong.push(
+                  `ch ${ch}, frame ${at + 4 * c}: ${extremes.lo[ch][c]}..${extremes.hi[ch][c]}, not ${lo}..${hi}`,
+                )
+            }
+          }
+          at += n
+        }
+      }
+      expect(wrong.slice(0, 5)).toEqual([])
     })
   }
 

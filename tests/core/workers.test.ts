@@ -6,13 +6,16 @@ import { execFileSync } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
+import { pathToFileURL } from 'node:url'
 import { Worker } from 'node:worker_threads'
 import { describe, expect, it } from 'vitest'
 import { workerModule } from '../../server/core/workers'
-import { renderWorkerEntry } from '../../server/render/render-pool'
+
+/** The audio-task pool's worker entry (server/work/audio-worker.ts). */
+const entry = new URL('../../server/work/audio-worker.ts', import.meta.url)
 
 describe('bundled workers', () => {
-  const bundle = workerModule(renderWorkerEntry())
+  const bundle = workerModule(entry)
   const code = fs.readFileSync(bundle, 'utf8')
 
   it('import packages by absolute file URL and builtins by node: name, nothing bare', () => {
@@ -22,30 +25,35 @@ describe('bundled workers', () => {
     expect(code).not.toMatch(/from\s*"tsx|from\s*"zod/)
   })
 
-  it('run when copied outside the project, and answer a render request with an error for a missing file', async () => {
+  it('run when copied outside the project, and answer a render task with an error for a missing file', async () => {
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'sf-bundle-'))
-    const copy = path.join(dir, 'render-worker.mjs')
+    const copy = path.join(dir, 'audio-worker.mjs')
     fs.copyFileSync(bundle, copy)
-    const w = new Worker(copy)
+    // The way piscina runs a task: import the module, call its default export with the task.
+    const script = `
+      const { parentPort, workerData, MessageChannel } = require('node:worker_threads')
+      import(workerData.module).then(async (m) => {
+        const { port2 } = new MessageChannel()
+        parentPort.postMessage(await m.default({ kind: 'render', input: workerData.input, port: port2 }))
+      })`
+    const input = {
+      outPath: path.join(dir, 'out.wav'),
+      req: {
+        sourcePath: path.join(dir, 'missing.wav'),
+        startSeconds: null,
+        endSeconds: null,
+        kind: 'one-shot',
+        settings: {},
+        metadata: {},
+      },
+    }
+    const w = new Worker(script, { eval: true, workerData: { module: pathToFileURL(copy).href, input } })
     try {
-      const reply = await new Promise<{ type: string; error?: { code?: string } }>((resolve, reject) => {
+      const reply = await new Promise<{ ok: boolean; error?: { code?: string } }>((resolve, reject) => {
         w.once('message', resolve)
         w.once('error', reject)
-        w.postMessage({
-          type: 'render',
-          id: 1,
-          outPath: path.join(dir, 'out.wav'),
-          req: {
-            sourcePath: path.join(dir, 'missing.wav'),
-            startSeconds: null,
-            endSeconds: null,
-            kind: 'one-shot',
-            settings: {},
-            metadata: {},
-          },
-        })
       })
-      expect(reply.type).toBe('error')
+      expect(reply.ok).toBe(false)
       expect(reply.error?.code).toBe('ENOENT')
     } finally {
       await w.terminate()
@@ -54,8 +62,8 @@ describe('bundled workers', () => {
   })
 
   it('is the same file for the same code (named by its hash), however often it is asked for', () => {
-    expect(workerModule(renderWorkerEntry()).href).toBe(bundle.href)
-    expect(path.basename(bundle.pathname)).toMatch(/^render-worker-[0-9a-f]{16}\.mjs$/)
+    expect(workerModule(entry).href).toBe(bundle.href)
+    expect(path.basename(bundle.pathname)).toMatch(/^audio-worker-[0-9a-f]{16}\.mjs$/)
   })
 
   it("start without the parent's Node options: under tsx its loader would load into every worker", () => {

@@ -1,15 +1,15 @@
-// Run with plain `npx tsx` (no vitest): analyses the given files through the
-// worker pool and prints [{ file, lufs }] or [{ file, error }] as JSON.
-import { createAnalysisPool } from '../../server/audio/pool'
+// Run with plain `npx tsx` (no vitest): analyses the given files on the
+// audio-task pool and prints [{ file, lufs }] or [{ file, error }] as JSON.
+import { holdAudioTasks, runAudioTask } from '../../server/work/audio-tasks'
 
-const pool = createAnalysisPool(2)
+const release = holdAudioTasks(2)
 const out = await Promise.all(
   process.argv.slice(2).map((file) =>
-    pool.run(file).then(
+    runAudioTask('analyze', { path: file }).then(
       (r) => ({ file, lufs: r.analysis.loudness.integratedLufs }),
       (e: Error) => ({ file, error: `${e.name}: ${e.message}` }),
     ),
   ),
 )
-await pool.close()
+await release()
 process.stdout.write(JSON.stringify(out))

@@ -20,6 +20,8 @@ export async function startTestServer(overrides: Partial<Config> = {}): Promise<
       demo: true,
       demoAudio: false,
       clientDir: path.join(dir, 'no-client'),
+      // Jobs in this process even when the environment names a Redis (the scaled suite sets REDIS_URL).
+      redisUrl: null,
       ...overrides,
     },
     { ...process.env, SMTP_URL: overrides.smtpUrl ?? '', SESSION_SECRET: '' },

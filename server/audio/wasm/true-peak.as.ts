@@ -22,6 +22,24 @@ let innerAbsGain: f64 = 0
 let outerGain: f64 = 0
 let outerAbsGain: f64 = 0
 
+// Where scan stores each chunk's low and high (f32, one per chunk, chunk c at +4c), or 0 for not at
+// all. The measurement engine takes them from here instead of finding them again in JavaScript
+// (block-scan.ts), where choosing the smaller of two samples costs a mispredicted branch.
+let loOut: usize = 0
+let hiOut: usize = 0
+
+export function setExtremesOut(lo: usize, hi: usize): void {
+  loOut = lo
+  hiOut = hi
+}
+
+@inline function storeExtremes(c: i32, lo: f64, hi: f64): void {
+  if (loOut != 0) {
+    store<f32>(loOut + (<usize>c << 2), <f32>lo)
+    store<f32>(hiOut + (<usize>c << 2), <f32>hi)
+  }
+}
+
 export function setGains(ig: f64, iag: f64, og: f64, oag: f64): void {
   innerGain = ig
   innerAbsGain = iag
@@ -236,7 +254,12 @@ export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running:
   // Chunks before cs may have outputs before firstOutput: scalar path (only at the start of a take).
   let c = 0
   const cs = min(whole, max(0, (firstOutput - HISTORY + CHUNK - 1) / CHUNK))
-  for (; c < cs; c++) peak = scalarChunk(x, n, firstOutput, c, chunkExtremes(x, n, c, false), chunkExtremes(x, n, c, true), peak)
+  for (; c < cs; c++) {
+    const lo = chunkExtremes(x, n, c, false)
+    const hi = chunkExtremes(x, n, c, true)
+    storeExtremes(c, lo, hi)
+    peak = scalarChunk(x, n, firstOutput, c, lo, hi, peak)
+  }
 
   // Groups of four chunks (16 samples) in SIMD lanes.
   const ig = f32x4.splat(<f32>innerGain * SAFE)
@@ -264,6 +287,10 @@ export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running:
     const r3 = v128.shuffle<i32>(t1, t3, 2, 3, 6, 7)
     const lo = f32x4.min(f32x4.min(r0, r1), f32x4.min(r2, r3))
     const hi = f32x4.max(f32x4.max(r0, r1), f32x4.max(r2, r3))
+    if (loOut != 0) {
+      v128.store(loOut + (<usize>c << 2), lo)
+      v128.store(hiOut + (<usize>c << 2), hi)
+    }
     // Window of chunk k: chunks k−3..k.
     const wl = f32x4.min(
       f32x4.min(lo, v128.shuffle<i32>(prevLo, lo, 3, 4, 5, 6)),
@@ -306,7 +333,12 @@ export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running:
   l3 = <f64>f32x4.extract_lane(prevLo, 1)
   h3 = <f64>f32x4.extract_lane(prevHi, 1)
   // The rest (fewer than four chunks, the last maybe partial): scalar.
-  for (; c < chunks; c++) peak = scalarChunk(x, n, firstOutput, c, chunkExtremes(x, n, c, false), chunkExtremes(x, n, c, true), peak)
+  for (; c < chunks; c++) {
+    const lo = chunkExtremes(x, n, c, false)
+    const hi = chunkExtremes(x, n, c, true)
+    storeExtremes(c, lo, hi)
+    peak = scalarChunk(x, n, firstOutput, c, lo, hi, peak)
+  }
   return peak
 }
 
@@ -317,12 +349,17 @@ export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running:
  */
 export function scanStretches(x: usize, n: i32, realFrom: i32, firstOutput: i32, threshold: f64, stretch: i32, out: usize): void {
   const frames = n - HISTORY
+  const lo = loOut
+  const hi = hiOut
   let s: i32 = 0
   for (let from: i32 = 0; from < frames; from += stretch) {
     const len = min(stretch, frames - from)
     const rf = max(0, realFrom - from)
     const fo = max(HISTORY, firstOutput - from)
+    // Each stretch is scanned from its own start: its chunks' extremes go at its first chunk (stretch is a multiple of CHUNK).
+    if (lo != 0) setExtremesOut(lo + (<usize>(from / CHUNK) << 2), hi + (<usize>(from / CHUNK) << 2))
     store<f64>(out + (<usize>s << 3), scan(x + (<usize>from << 2), len + HISTORY, rf, fo, threshold))
     s++
   }
+  setExtremesOut(lo, hi)
 }

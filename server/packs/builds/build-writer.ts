@@ -1,27 +1,24 @@
 // Writes one build's zip: renders the frozen items in a streaming way, measuring
 // each rendered file on the samples it writes, and stores them with
-// manifest.json, manifest.csv and LICENSE.txt. It runs in the build process
-// (build-process.ts), away from the API, and knows nothing of the database: it
-// gets everything in a BuildOrder and gives back what the job records.
+// manifest.json, manifest.csv and LICENSE.txt. It runs as the 'pack-build' task
+// on the audio-task pool (server/work/), away from the API's event loop, and
+// knows nothing of the database: it gets everything in a BuildOrder and gives
+// back what the job records.
 //
-// Renders run ahead of the zip (one per render thread) while this thread writes
-// the zip in pack order, hashing each file as it reads it; each temp render is
-// deleted as soon as the zip has read it. A failure names the item (ItemFailure)
-// and leaves neither a zip nor a temp render behind.
+// Renders run ahead of the zip (`renderThreads` at a time, as 'render' tasks on
+// other threads of the same pool) while this thread writes the zip in pack
+// order, hashing each file as it reads it; each temp render is deleted as soon
+// as the zip has read it. A failure names the item (ItemFailure) and leaves
+// neither a zip nor a temp render behind. Stopping is the task's AbortSignal:
+// the pool stops this thread and the renders, and the job sweeps what they left.
 import fs from 'node:fs/promises'
 import path from 'node:path'
 import type { ManifestItem } from '@shared/schemas/packs'
 import { presetOf, profileSummary } from '@shared/schemas/packs-profiles'
-import {
-  renderItem,
-  RenderStopped,
-  type PlainRenderRequest,
-  type RenderRequest,
-  type RenderResult,
-} from '../../render/render'
-import { createRenderPool } from '../../render/render-pool'
+import type { PlainRenderRequest, RenderResult } from '../../render/render'
 import { round2 } from '../../render/settings'
-import { zipPath, type BuildSnapshot } from '../curation/item-spec'
+import { errorInfo, type ErrorInfo } from '../../core/thread-errors'
+import { expectedFrames, zipPath, type BuildSnapshot } from '../curation/item-spec'
 import { manifestCsv, PackZip, type ZipEntryResult } from './pack-zip'
 
 export interface BuildOrder {
@@ -35,10 +32,8 @@ export interface BuildOrder {
   tmpZip: string
   finalZip: string
   workDir: string
-  /** Render worker threads (0: render in the writer's own thread). */
+  /** Items rendered at once, ahead of the zip (at least one). */
   renderThreads: number
-  /** The render worker's module (server/core/workers.ts), when renderThreads > 0. */
-  renderWorker?: string
 }
 
 export interface BuiltItem {
@@ -56,9 +51,10 @@ export interface BuildOutput {
 }
 
 export interface WriterHooks {
-  /** Frames rendered so far of item k. */
-  onFrames(k: number, frames: number): void
-  shouldStop(): boolean
+  /** Renders one item to `outPath` (on another thread); `onFrames` gets the frames written so far. */
+  render(req: PlainRenderRequest, outPath: string, onFrames: (frames: number) => void): Promise<RenderResult>
+  /** Fraction 0..0.99 of the frames to render, at most every 1 % or second. */
+  onProgress(fraction: number): void
 }
 
 /** The item at `position` (1-based) failed; `cause` says why. */
@@ -71,29 +67,26 @@ export class ItemFailure extends Error {
   }
 }
 
-export class BuildStopped extends Error {
-  constructor() {
-    super('build stopped with the server; it resumes at the next start')
-  }
-}
-
 export function licenceFile(snap: BuildSnapshot, version: number): string {
   return `${snap.pack.name}, version ${version}\n\n${snap.pack.licenceText.trim()}\n`
 }
 
-interface Renderer {
-  render(req: RenderRequest, outPath: string, signal: { stopped: boolean }): Promise<RenderResult>
-  close(): Promise<void>
-}
-
-function rendererFor(order: BuildOrder): Renderer {
-  if (order.renderThreads > 0)
-    return createRenderPool(order.renderThreads, order.renderWorker ? new URL(order.renderWorker) : undefined)
-  return {
-    // Temp renders are read into the zip and deleted: only the zip is fsynced.
-    render: (req, outPath, signal) =>
-      renderItem({ ...req, shouldStop: () => signal.stopped }, outPath, { durable: false }),
-    close: async () => undefined,
+/** Turns the frames each item has written into one fraction, reported at most every 1 % or second. */
+function progressOf(snap: BuildSnapshot, report: (fraction: number) => void) {
+  const total = snap.items.reduce((n, s) => n + expectedFrames(s), 0)
+  const framesOf = new Float64Array(snap.items.length)
+  let done = 0
+  let lastReported = 0
+  let lastTime = 0
+  return (k: number, frames: number) => {
+    done += frames - framesOf[k]
+    framesOf[k] = frames
+    const p = Math.min(0.99, done / total)
+    const t = Date.now()
+    if (p - lastReported < 0.01 && t - lastTime < 1000) return
+    lastReported = p
+    lastTime = t
+    report(p)
   }
 }
 
@@ -105,11 +98,7 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
   await fs.mkdir(order.workDir, { recursive: true })
   await fs.mkdir(path.dirname(order.finalZip), { recursive: true })
 
-  const signal = { stopped: false }
-  const stopWatch = setInterval(() => {
-    if (hooks.shouldStop()) signal.stopped = true
-  }, 50)
-  const renderer = rendererFor(order)
+  const onFrames = progressOf(snap, hooks.onProgress)
   const zip = PackZip.create(order.tmpZip, order.finalZip, createdAt)
   const parallel = Math.max(1, order.renderThreads)
   const inflight: Promise<RenderResult>[] = []
@@ -117,8 +106,7 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
   const startNext = () => {
     if (next >= snap.items.length) return
     const k = next++
-    const req: RenderRequest = { ...order.requests[k], onFrames: (f) => hooks.onFrames(k, f) }
-    const p = renderer.render(req, path.join(order.workDir, snap.items[k].fileName), signal)
+    const p = hooks.render(order.requests[k], path.join(order.workDir, snap.items[k].fileName), (f) => onFrames(k, f))
     p.catch(() => undefined) // awaited in order below; this only keeps an early failure from being unhandled
     inflight.push(p)
   }
@@ -131,7 +119,7 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
       const spec = snap.items[k]
       current = spec.position
       const r = await inflight[k]
-      if (signal.stopped) throw new BuildStopped()
+      onFrames(k, expectedFrames(spec))
       startNext()
       const entry = await zip.addFile(zipPath(spec), r.path)
       await fs.rm(r.path, { force: true })
@@ -163,7 +151,6 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
       })
     }
     current = null
-    if (signal.stopped) throw new BuildStopped()
     const manifest = items.map((i) => i.manifest)
     const json = {
       pack: {
@@ -198,15 +185,23 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
     await fs.rm(order.workDir, { recursive: true, force: true })
     return { zip: done, items }
   } catch (err) {
-    signal.stopped = true
+    // Renders already asked for finish (or fail) before their files are swept.
     await Promise.allSettled(inflight)
     await zip.abort()
     await fs.rm(order.workDir, { recursive: true, force: true })
-    if (err instanceof BuildStopped || err instanceof RenderStopped) throw new BuildStopped()
     if (current !== null) throw new ItemFailure(current, err)
     throw err
-  } finally {
-    clearInterval(stopWatch)
-    await renderer.close()
+  }
+}
+
+/** What the 'pack-build' task answers: the output, or the failure with the item it names (errors cross threads as fields). */
+export type BuildAnswer = { ok: true; output: BuildOutput } | { ok: false; position: number | null; error: ErrorInfo }
+
+export async function buildTask(order: BuildOrder, hooks: WriterHooks): Promise<BuildAnswer> {
+  try {
+    return { ok: true, output: await writeBuild(order, hooks) }
+  } catch (err) {
+    if (err instanceof ItemFailure) return { ok: false, position: err.position, error: errorInfo(err.cause) }
+    return { ok: false, position: null, error: errorInfo(err) }
   }
 }
