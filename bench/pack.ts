@@ -165,9 +165,9 @@ async function child(work: string, levelsFile: string): Promise<void> {
   const { Storage } = await import('../server/core/storage')
   const { JobRunner } = await import('../server/jobs/job-runner')
   const { seedDemo } = await import('../server/demo/seed')
-  const { addItems } = await import('../server/packs/packs.service')
-  const { requestBuild } = await import('../server/packs/builds.service')
-  const { runBuild } = await import('../server/packs/build.job')
+  const { addItems } = await import('../server/packs/curation/packs.service')
+  const { requestBuild } = await import('../server/packs/builds/builds.service')
+  const { runBuild } = await import('../server/packs/builds/build.job')
   const { probeWav } = await import('../server/audio/wav-reader')
   const { createHeavyWork } = await import('../server/core/heavy-work')
   type Ctx = import('../server/core/context').AppContext

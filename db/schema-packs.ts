@@ -105,7 +105,7 @@ export interface PackFollowTable {
 export interface PackShareLinkTable {
   id: Generated<number>
   build_id: number
-  /** Random part of the token; the token is signed with the app's secret (see server/packs/share-tokens.ts). */
+  /** Random part of the token; the token is signed with the app's secret (see server/packs/delivery/share-tokens.ts). */
   nonce: string
   expires_at: string
   max_downloads: number | null

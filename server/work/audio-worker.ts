@@ -12,7 +12,7 @@ import { computeModulation } from '../modulation/modulation-compute'
 import { runLoopTask, runOnsetTask, runSplitTask } from '../instrument/instrument-task'
 import { runSplitCopyTask } from '../instrument/split-copy'
 import { runLoopCycleTask } from '../instrument/loop-cycle'
-import { buildTask } from '../packs/build-writer'
+import { buildTask } from '../packs/builds/build-writer'
 import type { FromTask, TaskAnswer, TaskEnvelope, ToTask } from './protocol'
 import type { AudioTaskInput, AudioTaskKind, AudioTaskOutput } from './task-kinds'
 

@@ -12,7 +12,7 @@ import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
 import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
-import type { BuildAnswer, BuildOrder } from '../packs/build-writer'
+import type { BuildAnswer, BuildOrder } from '../packs/builds/build-writer'
 
 /** Input and output of each kind; `progress` says what the numbers passed to onProgress mean. */
 export interface AudioTasks {

@@ -4,7 +4,7 @@
 import { execFileSync } from 'node:child_process'
 import { describe, expect, it } from 'vitest'
 import type { ManifestItem } from '@shared/schemas/packs'
-import { manifestCsv } from '../../server/packs/pack-zip'
+import { manifestCsv } from '../../server/packs/builds/pack-zip'
 
 const item = (o: Partial<ManifestItem>): ManifestItem => ({
   file: 'hum_01.wav',

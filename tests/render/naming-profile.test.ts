@@ -2,7 +2,7 @@
 // (case-insensitively, as the common desktop file systems compare), and still
 // readable. The shortening rules are common practice for small sampler displays.
 import { describe, expect, it } from 'vitest'
-import { itemNames, sanitizeName, shortenName, type NamingFacts } from '../../server/packs/naming'
+import { itemNames, sanitizeName, shortenName, type NamingFacts } from '../../server/packs/curation/naming'
 
 const facts = (o: Partial<NamingFacts>): NamingFacts => ({
   devices: [{ name: 'Bench supply', state: 'idle' }],

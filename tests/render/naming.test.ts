@@ -16,7 +16,7 @@ import {
   transliterate,
   uniquify,
   type NamingFacts,
-} from '../../server/packs/naming'
+} from '../../server/packs/curation/naming'
 
 const PORTABLE = /^[A-Za-z0-9_-]+$/
 

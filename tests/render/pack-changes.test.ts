@@ -1,9 +1,9 @@
-// The starting text of a build's "what changed" note (server/packs/changes.ts):
+// The starting text of a build's "what changed" note (server/packs/builds/changes.ts):
 // items matched by the pack item they were rendered from.
 import { describe, expect, it } from 'vitest'
 import { DEFAULT_RENDER_SETTINGS } from '@shared/schemas/packs'
-import { computeChanges } from '../../server/packs/changes'
-import type { BuildSnapshot, ItemSpec } from '../../server/packs/item-spec'
+import { computeChanges } from '../../server/packs/builds/changes'
+import type { BuildSnapshot, ItemSpec } from '../../server/packs/curation/item-spec'
 
 const item = (itemId: number, fileName: string, o: Partial<ItemSpec> = {}): ItemSpec => ({
   itemId,

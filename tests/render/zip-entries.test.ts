@@ -1,4 +1,4 @@
-// Finding a stored entry's bytes inside a zip (server/packs/zip-entries.ts), the
+// Finding a stored entry's bytes inside a zip (server/packs/delivery/zip-entries.ts), the
 // way single pack items are served. Zips made by Info-ZIP zip (Debian), plain and
 // with -fz (ZIP64 records, PKWARE APPNOTE 4.3.14–4.3.15, 4.5.3); the offsets
 // are checked against the files Info-ZIP unzip -p extracts.
@@ -8,7 +8,7 @@ import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { storedEntryRange, zipEntries } from '../../server/packs/zip-entries'
+import { storedEntryRange, zipEntries } from '../../server/packs/delivery/zip-entries'
 
 let dir: string
 const files = {

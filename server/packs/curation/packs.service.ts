@@ -26,16 +26,16 @@ import {
   type UpdateItemBody,
   type UpdatePackBody,
 } from '@shared/schemas/packs'
-import type { AppContext } from '../core/context'
-import type { Db } from '../core/database'
-import { AppError } from '../core/errors'
-import type { PackItemRow } from '../../db/schema-packs'
-import { planGain, round2 } from '../render/settings'
+import type { AppContext } from '../../core/context'
+import type { Db } from '../../core/database'
+import { AppError } from '../../core/errors'
+import type { PackItemRow } from '../../../db/schema-packs'
+import { planGain, round2 } from '../../render/settings'
 import { itemNames, type NamingFacts } from './naming'
 import { tooLongItem, tooLongText, type ItemSpec } from './item-spec'
-import * as repo from './packs.repository'
-import { buildToApi } from './builds.mapper'
-import { itemSeconds, newestPublished, publishedDetail, renderedOf, snapshotOf } from './published'
+import * as repo from '../packs.repository'
+import { buildToApi } from '../builds/builds.mapper'
+import { itemSeconds, newestPublished, publishedDetail, renderedOf, snapshotOf } from '../builds/published'
 
 export const managesPacks = (user: Pick<User, 'role'>) => can(user.role, 'packs:manage')
 

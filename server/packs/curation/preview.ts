@@ -7,7 +7,7 @@
 import { createHash } from 'node:crypto'
 import fs from 'node:fs/promises'
 import path from 'node:path'
-import type { AppContext } from '../core/context'
+import type { AppContext } from '../../core/context'
 import { renderRequest, type ItemSpec } from './item-spec'
 
 export const PREVIEW_KEEP = 40

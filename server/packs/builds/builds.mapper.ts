@@ -1,6 +1,6 @@
 import type { BuildStatus, PackBuild } from '@shared/schemas/packs'
-import type { BuildJoined } from './packs.repository'
-import { buildFileName } from './naming'
+import type { BuildJoined } from '../packs.repository'
+import { buildFileName } from '../curation/naming'
 
 export function buildToApi(b: BuildJoined): PackBuild {
   return {

@@ -2,7 +2,7 @@
 // starting text of the "what changed" note a designer writes when publishing.
 // Items are matched by the pack item they were rendered from.
 import type { BuildChanges } from '@shared/schemas/packs'
-import type { BuildSnapshot, ItemSpec } from './item-spec'
+import type { BuildSnapshot, ItemSpec } from '../curation/item-spec'
 
 /** Everything that shapes an item's samples (not its name or metadata). */
 const shaping = (s: ItemSpec) =>

@@ -17,7 +17,7 @@ import { PassThrough, Transform, type TransformCallback } from 'node:stream'
 import * as zlib from 'node:zlib'
 import { ZipArchive } from 'archiver'
 import type { ManifestItem } from '@shared/schemas/packs'
-import { csvCell } from '../core/csv'
+import { csvCell } from '../../core/csv'
 
 /** Read size of each entry's file (smaller chunks: less memory in flight between the streams). */
 const READ_CHUNK = 256 * 1024

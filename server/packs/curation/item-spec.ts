@@ -3,9 +3,9 @@
 // freeze these specs when they are asked for (BuildSnapshot), so a build renders
 // what the pack held at that moment, however the pack is edited afterwards.
 import type { ItemKind, RenderSettings } from '@shared/schemas/packs'
-import type { ItemMetadata } from '../render/metadata'
-import type { RenderRequest } from '../render/render'
-import type { SourceLevels } from '../render/settings'
+import type { ItemMetadata } from '../../render/metadata'
+import type { RenderRequest } from '../../render/render'
+import type { SourceLevels } from '../../render/settings'
 
 export interface ItemSpec {
   itemId: number | null

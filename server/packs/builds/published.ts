@@ -1,17 +1,14 @@
 // What everyone without 'packs:manage' sees of a pack: the newest published
 // build as it was frozen (name, description, licence, items, file names and the
 // numbers measured on the rendered files), never the draft a designer is editing.
-// Single items are served straight out of the build's stored zip (zip-entries.ts).
-import type { NextFunction, Response } from 'express'
+// Single items are served straight out of the build's stored zip (delivery/send-build-item.ts).
 import { effectiveSettings, type PackDetail, type PackItem, type PublishedItem } from '@shared/schemas/packs'
-import type { AppContext } from '../core/context'
-import type { Db } from '../core/database'
-import { AppError, fileError } from '../core/errors'
-import type { PackBuildItemRow } from '../../db/schema-packs'
-import { round2 } from '../render/settings'
-import { zipPath, type BuildSnapshot, type ItemSpec } from './item-spec'
-import * as repo from './packs.repository'
-import { storedEntryRange, ZipFormatError } from './zip-entries'
+import type { Db } from '../../core/database'
+import { AppError } from '../../core/errors'
+import type { PackBuildItemRow } from '../../../db/schema-packs'
+import { round2 } from '../../render/settings'
+import type { BuildSnapshot, ItemSpec } from '../curation/item-spec'
+import * as repo from '../packs.repository'
 
 /** A build's frozen snapshot (a damaged or empty one reads as a pack with no items). */
 export function snapshotOf(b: Pick<repo.BuildJoined, 'snapshot_json' | 'pack_name'>): BuildSnapshot {
@@ -152,66 +149,5 @@ export async function publishedItems(db: Db, build: repo.BuildJoined, base: stri
       auditionUrl: `${base}/items/${id}/audio`,
       downloadUrl: `${base}/items/${id}/download`,
     }
-  })
-}
-
-/** Sends one item of a finished build out of its zip, with Range support; 404 when the build holds no such item. */
-export async function sendBuildItem(
-  ctx: AppContext,
-  res: Response,
-  next: NextFunction,
-  build: repo.BuildJoined,
-  itemId: number,
-  how: 'inline' | 'attachment',
-): Promise<void> {
-  if (build.status !== 'done' || !build.zip_path)
-    throw new AppError(
-      409,
-      'BUILD_NOT_DONE',
-      `Version ${build.version} is ${build.status}; its items can be fetched once it is done`,
-    )
-  const spec = snapshotOf(build).items.find((s) => publishedItemId(s) === itemId)
-  if (!spec) throw publishedItemNotFound()
-  let zip = build.zip_path
-  let range: Awaited<ReturnType<typeof storedEntryRange>>
-  try {
-    zip = await ctx.storage.local(build.zip_path)
-    range = await storedEntryRange(zip, zipPath(spec))
-  } catch (err) {
-    if (err instanceof ZipFormatError) throw err
-    // Fixed words for file-system errors (FILE_MISSING…); the path goes to the server log only.
-    console.error(`[packs] build ${build.id}'s zip unreadable: ${zip}: ${(err as Error).message}`)
-    throw fileError(err)
-  }
-  if (!range) throw publishedItemNotFound()
-  const size = range.size
-  // send (under res.sendFile) serves [start, end] of the zip as if it were the whole file, Ranges relative to it.
-  // No ETag or Last-Modified: those would be the zip's, shared by every item in it.
-  res.set('Content-Disposition', `${how}; filename="${spec.fileName}"`)
-  const opts = {
-    start: range.start,
-    end: range.end,
-    acceptRanges: true,
-    etag: false,
-    lastModified: false,
-    headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, no-cache' },
-  }
-  res.sendFile(zip, opts, (err?: Error & { status?: number }) => {
-    if (!err || res.headersSent) return
-    if (err.status === 416) {
-      res.removeHeader('Content-Disposition')
-      res
-        .status(416)
-        .set('Content-Range', `bytes */${size}`)
-        .json({
-          error: {
-            code: 'RANGE_NOT_SATISFIABLE',
-            message: `The requested range lies outside the item's ${size} bytes`,
-            details: { sizeBytes: size },
-          },
-        })
-      return
-    }
-    next(err)
   })
 }
