@@ -33,70 +33,79 @@ const Span = z.object({ low: z.number().finite(), high: z.number().finite() })
 
 const Ms = z.number().finite().min(0).max(MODULATION_LIMITS.maxMs)
 
-export const ModulationBody = z
-  .object({
-    /** Excerpt of the take, seconds from its start (default: the whole take). */
-    startSeconds: z.number().finite().min(0).optional(),
-    endSeconds: z.number().finite().positive().optional(),
-    /** envelope: amplitude follower; centroid: spectral centroid; tone: strongest tonal component. */
-    source: ModulationSource,
-    /**
-     * envelope: the amplitude as it is (plain) or K-weighted as the BS.1770 loudness meter hears it
-     * (k; scaled so a 1 kHz tone reads the same in both). Ignored by centroid and tone.
-     */
-    weighting: ModulationWeighting.default('plain'),
-    /** Rise time constant (envelope; for centroid and tone a slew on the octave value), ms. */
-    attackMs: Ms,
-    /** Fall time constant, ms. */
-    releaseMs: Ms,
-    /** Points per second of the curve (the control file's sample rate). */
-    rateHz: z.number().int().min(MODULATION_LIMITS.rateHz.min).max(MODULATION_LIMITS.rateHz.max),
-    /** Where 0…1 of the control value lands: −1…1 for wav, 0…127 controller steps for midi; csv ignores it. */
-    range: Span,
-    format: ModulationFormat,
-    /** centroid and tone: the frequency of control value 0, Hz. */
-    referenceHz: z.number().finite().positive().max(20_000).default(20),
-    /** centroid and tone: octaves spanned by control values 0…1 (log2(f / referenceHz) / octaves). */
-    octaves: z.number().finite().positive().max(20).default(10),
-    /** midi: controller number, 0–119 (120–127 are channel mode messages in MIDI 1.0). */
-    controller: z.number().int().min(0).max(119).default(1),
-    /** midi: channel 1–16. */
-    channel: z.number().int().min(1).max(16).default(1),
-    /** wav: what the range becomes at the interface's outputs, written beside the scale (e.g. 0…5 V). */
-    volts: Span.optional(),
-  })
-  .superRefine((b, ctx) => {
-    if (b.startSeconds !== undefined && b.endSeconds !== undefined && b.endSeconds <= b.startSeconds) {
-      ctx.addIssue({ code: 'custom', path: ['endSeconds'], message: 'endSeconds must be after startSeconds' })
-    }
-    if (b.range.low === b.range.high)
-      ctx.addIssue({ code: 'custom', path: ['range'], message: 'range low and high must differ' })
-    if (b.format === 'wav' && [b.range.low, b.range.high].some((v) => v < -1 || v > 1)) {
+/** The curve's options without the excerpt: a take's export (ModulationBody) and a pack item's curve (ItemModulation) share them. */
+export const ModulationCurveFields = z.object({
+  /** envelope: amplitude follower; centroid: spectral centroid; tone: strongest tonal component. */
+  source: ModulationSource,
+  /**
+   * envelope: the amplitude as it is (plain) or K-weighted as the BS.1770 loudness meter hears it
+   * (k; scaled so a 1 kHz tone reads the same in both). Ignored by centroid and tone.
+   */
+  weighting: ModulationWeighting.default('plain'),
+  /** Rise time constant (envelope; for centroid and tone a slew on the octave value), ms. */
+  attackMs: Ms,
+  /** Fall time constant, ms. */
+  releaseMs: Ms,
+  /** Points per second of the curve (the control file's sample rate). */
+  rateHz: z.number().int().min(MODULATION_LIMITS.rateHz.min).max(MODULATION_LIMITS.rateHz.max),
+  /** Where 0…1 of the control value lands: −1…1 for wav, 0…127 controller steps for midi; csv ignores it. */
+  range: Span,
+  format: ModulationFormat,
+  /** centroid and tone: the frequency of control value 0, Hz. */
+  referenceHz: z.number().finite().positive().max(20_000).default(20),
+  /** centroid and tone: octaves spanned by control values 0…1 (log2(f / referenceHz) / octaves). */
+  octaves: z.number().finite().positive().max(20).default(10),
+  /** midi: controller number, 0–119 (120–127 are channel mode messages in MIDI 1.0). */
+  controller: z.number().int().min(0).max(119).default(1),
+  /** midi: channel 1–16. */
+  channel: z.number().int().min(1).max(16).default(1),
+  /** wav: what the range becomes at the interface's outputs, written beside the scale (e.g. 0…5 V). */
+  volts: Span.optional(),
+})
+
+type CurveFields = z.infer<typeof ModulationCurveFields>
+
+/** The checks across fields of a curve's options (range against format, MIDI's rate). */
+export function checkModulationCurve(b: CurveFields, ctx: z.RefinementCtx): void {
+  if (b.range.low === b.range.high)
+    ctx.addIssue({ code: 'custom', path: ['range'], message: 'range low and high must differ' })
+  if (b.format === 'wav' && [b.range.low, b.range.high].some((v) => v < -1 || v > 1)) {
+    ctx.addIssue({
+      code: 'custom',
+      path: ['range'],
+      message: 'a wav control signal spans at most −1…1 (full scale); use e.g. { low: 0, high: 1 }',
+    })
+  }
+  if (b.format === 'midi') {
+    if ([b.range.low, b.range.high].some((v) => v < 0 || v > 127)) {
       ctx.addIssue({
         code: 'custom',
         path: ['range'],
-        message: 'a wav control signal spans at most −1…1 (full scale); use e.g. { low: 0, high: 1 }',
+        message: 'a MIDI controller spans 0…127; use e.g. { low: 0, high: 127 }',
       })
     }
-    if (b.format === 'midi') {
-      if ([b.range.low, b.range.high].some((v) => v < 0 || v > 127)) {
-        ctx.addIssue({
-          code: 'custom',
-          path: ['range'],
-          message: 'a MIDI controller spans 0…127; use e.g. { low: 0, high: 127 }',
-        })
-      }
-      if (b.rateHz > MODULATION_LIMITS.midiMaxRateHz) {
-        ctx.addIssue({
-          code: 'custom',
-          path: ['rateHz'],
-          message: `MIDI carries at most ${MODULATION_LIMITS.midiMaxRateHz} controller messages a second; choose rateHz ≤ ${MODULATION_LIMITS.midiMaxRateHz}`,
-        })
-      }
+    if (b.rateHz > MODULATION_LIMITS.midiMaxRateHz) {
+      ctx.addIssue({
+        code: 'custom',
+        path: ['rateHz'],
+        message: `MIDI carries at most ${MODULATION_LIMITS.midiMaxRateHz} controller messages a second; choose rateHz ≤ ${MODULATION_LIMITS.midiMaxRateHz}`,
+      })
     }
-    if (b.volts && b.volts.low === b.volts.high)
-      ctx.addIssue({ code: 'custom', path: ['volts'], message: 'volts low and high must differ' })
-  })
+  }
+  if (b.volts && b.volts.low === b.volts.high)
+    ctx.addIssue({ code: 'custom', path: ['volts'], message: 'volts low and high must differ' })
+}
+
+export const ModulationBody = ModulationCurveFields.extend({
+  /** Excerpt of the take, seconds from its start (default: the whole take). */
+  startSeconds: z.number().finite().min(0).optional(),
+  endSeconds: z.number().finite().positive().optional(),
+}).superRefine((b, ctx) => {
+  if (b.startSeconds !== undefined && b.endSeconds !== undefined && b.endSeconds <= b.startSeconds) {
+    ctx.addIssue({ code: 'custom', path: ['endSeconds'], message: 'endSeconds must be after startSeconds' })
+  }
+  checkModulationCurve(b, ctx)
+})
 export type ModulationBody = z.infer<typeof ModulationBody>
 
 /** Response headers of the file: what was made. */

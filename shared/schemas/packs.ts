@@ -2,6 +2,7 @@
 // zip versions and delivered to producers or through share links.
 import { z } from 'zod'
 import { EXPORT_PRESETS, type ExportPresetKey as PresetKey } from './packs-profiles'
+import { checkModulationCurve, ModulationCurveFields, ModulationFormat, ModulationSource } from './modulation'
 
 export * from './packs-profiles'
 
@@ -88,7 +89,15 @@ export const DEFAULT_RENDER_SETTINGS: RenderSettings = {
 export const RenderSettingsPatch = RenderSettings.partial().strict()
 export type RenderSettingsPatch = z.infer<typeof RenderSettingsPatch>
 /** An item's override: the profile is the pack's alone (names and folders are decided pack-wide). */
-export const ItemSettingsPatch = RenderSettingsPatch.omit({ profile: true })
+/**
+ * A control curve written beside the item's audio in builds, over the item's own range (the options of
+ * `POST /api/takes/:id/modulation` without the excerpt). null or absent: audio only.
+ */
+export const ItemModulation = ModulationCurveFields.strict().superRefine(checkModulationCurve)
+export type ItemModulation = z.infer<typeof ItemModulation>
+export const ItemSettingsPatch = RenderSettingsPatch.omit({ profile: true }).extend({
+  modulation: ItemModulation.nullable().optional(),
+})
 export type ItemSettingsPatch = z.infer<typeof ItemSettingsPatch>
 
 /** An item's settings: the defaults, the pack's on top, the item's override on top of those; a profile sets the bit depth. */
@@ -515,6 +524,17 @@ export const ShareInfo = z.object({
 export type ShareInfo = z.infer<typeof ShareInfo>
 
 /** One row of manifest.json (manifest.csv has the same columns). */
+/** A control curve file in the zip: where, what it follows, its format, its rate and how its values read. */
+export const ManifestModulation = z.object({
+  file: z.string(),
+  source: ModulationSource,
+  format: ModulationFormat,
+  rateHz: z.number(),
+  /** wav and midi: the control values' meaning (e.g. "0..1 = envelope 0..1 of full scale"); csv: its unit. */
+  scale: z.string().nullable(),
+})
+export type ManifestModulation = z.infer<typeof ManifestModulation>
+
 export const ManifestItem = z.object({
   file: z.string(),
   durationSeconds: z.number(),
@@ -537,5 +557,7 @@ export const ManifestItem = z.object({
   originalName: z.string().optional(),
   /** The take's file name as it was uploaded. */
   sourceFile: z.string().optional(),
+  /** Control curves written beside the audio (absent in builds made before them). */
+  modulation: z.array(ManifestModulation).optional(),
 })
 export type ManifestItem = z.infer<typeof ManifestItem>

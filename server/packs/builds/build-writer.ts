@@ -20,6 +20,7 @@ import { round2 } from '../../render/settings'
 import { errorInfo, type ErrorInfo } from '../../core/thread-errors'
 import { expectedFrames, zipPath, type BuildSnapshot } from '../curation/item-spec'
 import { manifestCsv, PackZip, type ZipEntryResult } from './pack-zip'
+import { itemCurve, manifestModulation, modulationFileName } from '../../modulation/pack-modulation'
 
 export interface BuildOrder {
   buildId: number
@@ -112,6 +113,9 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
   }
 
   let current: number | null = null
+  // Curve files are named beside their audio, never over another entry.
+  const taken = new Set(snap.items.map((s) => zipPath(s).toLowerCase()))
+  const maxNameLength = snap.pack.settings.profile?.maxNameLength ?? null
   try {
     const items: BuiltItem[] = []
     for (let i = 0; i < parallel; i++) startNext()
@@ -123,6 +127,21 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
       startNext()
       const entry = await zip.addFile(zipPath(spec), r.path)
       await fs.rm(r.path, { force: true })
+      const modulation = []
+      if (spec.modulation) {
+        // On this thread, over the item's own range: the curve lines up with the audio beside it.
+        const made = await itemCurve({
+          path: order.requests[k].sourcePath,
+          startSeconds: spec.startSeconds ?? 0,
+          endSeconds: spec.endSeconds ?? spec.takeDurationSeconds,
+          modulation: spec.modulation,
+          label: `${snap.pack.name} item ${spec.position} (${spec.outputName})`,
+        })
+        const name = modulationFileName(spec.outputName, spec.modulation, maxNameLength, taken)
+        const file = zipPath({ folder: spec.folder, fileName: name })
+        await zip.addBuffer(file, Buffer.from(made.bytes))
+        modulation.push(manifestModulation(file, spec.modulation, made))
+      }
       items.push({
         manifest: {
           file: zipPath(spec),
@@ -142,6 +161,7 @@ export async function writeBuild(order: BuildOrder, hooks: WriterHooks): Promise
           sha256: entry.sha256,
           originalName: `${spec.fullName ?? spec.outputName}.wav`,
           sourceFile: spec.sourceFile,
+          modulation,
         },
         bytes: entry.bytes,
         gainDb: r.gainDb,

@@ -251,7 +251,11 @@ function manifestCell(item: ManifestItem, col: (typeof MANIFEST_COLUMNS)[number]
 }
 
 export function manifestCsv(items: ManifestItem[]): string {
-  const lines = [MANIFEST_COLUMNS.join(',')]
-  for (const it of items) lines.push(MANIFEST_COLUMNS.map((c) => manifestCell(it, c)).join(','))
+  // modulation_file: the control curves beside the item's audio, `;`-separated (empty: none).
+  const lines = [[...MANIFEST_COLUMNS, 'modulation_file'].join(',')]
+  for (const it of items) {
+    const curves = csvCell((it.modulation ?? []).map((m) => m.file).join(';') || null)
+    lines.push([...MANIFEST_COLUMNS.map((c) => manifestCell(it, c)), curves].join(','))
+  }
   return lines.join('\r\n') + '\r\n'
 }

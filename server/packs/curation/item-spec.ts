@@ -2,7 +2,7 @@
 // settings, the output name and the metadata written into the file. Builds
 // freeze these specs when they are asked for (BuildSnapshot), so a build renders
 // what the pack held at that moment, however the pack is edited afterwards.
-import type { ItemKind, RenderSettings } from '@shared/schemas/packs'
+import type { ItemKind, ItemModulation, RenderSettings } from '@shared/schemas/packs'
 import type { ItemMetadata } from '../../render/metadata'
 import type { RenderRequest } from '../../render/render'
 import type { SourceLevels } from '../../render/settings'
@@ -42,6 +42,8 @@ export interface ItemSpec {
   tags: string[]
   /** The source's bext time reference (samples since midnight), if it has one. */
   sourceTimeReference: number | null
+  /** A control curve to write beside the audio (absent in builds made before them). */
+  modulation?: ItemModulation | null
 }
 
 export interface BuildSnapshot {

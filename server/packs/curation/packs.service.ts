@@ -223,6 +223,7 @@ export async function itemSpecs(
       sources: e.naming.devices.map(sourceLabel),
       tags: e.naming.tags,
       sourceTimeReference: timeReferenceOf(e.take),
+      modulation: parsePatch(e.row.settings_json)?.modulation ?? null,
     }
     return { ...e, spec }
   })
