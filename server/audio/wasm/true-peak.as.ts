@@ -197,8 +197,8 @@ function interpolateOuter2(x: usize, from: i32, to: i32, running: f64): f64 {
 // running maximum, no exact output of the chunk can, and the f64 path is skipped without changing it.
 const APPROX_ERR: f64 = 7.62939453125e-6 // 2^-17
 
-/** Largest |output| over the four phases at positions i .. i + 3, in f32 (see above for its error). */
-function approxChunk(x: usize, i: i32): f32 {
+/** Per lane k, the largest |output| over the four phases at position i + k, in f32 (see above for its error). */
+@inline function approxLanes(x: usize, i: i32): v128 {
   const p = x + (<usize>(i - 11) << 2)
   const v0 = v128.load(p, 44)
   const v1 = v128.load(p, 40)
@@ -260,8 +260,26 @@ function approxChunk(x: usize, i: i32): f32 {
   y3 = f32x4.add(y3, f32x4.mul(f32x4.splat(-0.0196533203125), v9))
   y3 = f32x4.add(y3, f32x4.mul(f32x4.splat(0.010986328125), v10))
   y3 = f32x4.add(y3, f32x4.mul(f32x4.splat(0.001708984375), v11))
-  const m = f32x4.max(f32x4.max(f32x4.abs(y0), f32x4.abs(y1)), f32x4.max(f32x4.abs(y2), f32x4.abs(y3)))
-  return max(max(f32x4.extract_lane(m, 0), f32x4.extract_lane(m, 1)), max(f32x4.extract_lane(m, 2), f32x4.extract_lane(m, 3)))
+  return f32x4.max(f32x4.max(f32x4.abs(y0), f32x4.abs(y1)), f32x4.max(f32x4.abs(y2), f32x4.abs(y3)))
+}
+
+@inline function laneMax(v: v128): f32 {
+  return max(max(f32x4.extract_lane(v, 0), f32x4.extract_lane(v, 1)), max(f32x4.extract_lane(v, 2), f32x4.extract_lane(v, 3)))
+}
+
+/** Largest |output| over the four phases at positions i .. i + 3, in f32 (see above for its error). */
+function approxChunk(x: usize, i: i32): f32 {
+  return laneMax(approxLanes(x, i))
+}
+
+/** Whether any output of the 16 at i .. i + 15 may exceed the running maximum pk (all lanes alike), given each chunk's window extreme in wmax. */
+function groupOver(x: usize, i: i32, wmax: v128, pk: v128): bool {
+  const a = f32x4.max(
+    f32x4.max(approxLanes(x, i), approxLanes(x, i + 4)),
+    f32x4.max(approxLanes(x, i + 8), approxLanes(x, i + 12)),
+  )
+  const margin = f32x4.splat(laneMax(wmax) * <f32>(APPROX_ERR * innerAbsGain))
+  return v128.any_true(f32x4.gt(f32x4.add(a, margin), pk))
 }
 
 // The scalar path's state: lows and highs of the previous three chunks.
@@ -390,7 +408,14 @@ export function scan(x: usize, n: i32, realFrom: i32, firstOutput: i32, running:
     if (<f64>pkf > peak) pkf = reinterpret<f32>(reinterpret<u32>(pkf) - 1)
     const pk = f32x4.splat(pkf)
     const hot = v128.or(v128.or(f32x4.gt(inner, pk), f32x4.gt(outer, pk)), f32x4.gt(m, pk))
-    if (v128.any_true(hot)) {
+    // Where only the bound is over, the f32 screen of all 16 outputs decides, in lanes. Every tap of
+    // these outputs lies in the window of its chunk (the same reasoning as in scalarChunk), so the
+    // largest |sample| of the four windows sizes the margin; computed in f32, the margin and the sum
+    // round by about 2^-24 of themselves, far inside the factor of eight APPROX_ERR keeps spare.
+    if (
+      v128.any_true(hot) &&
+      (v128.any_true(f32x4.gt(m, pk)) || groupOver(x, HISTORY + c * CHUNK, f32x4.max(f32x4.abs(wl), f32x4.abs(wh)), pk))
+    ) {
       // Scalar path for these four chunks, from the same lows and highs.
       l1 = <f64>f32x4.extract_lane(prevLo, 3)
       h1 = <f64>f32x4.extract_lane(prevHi, 3)
