@@ -1,5 +1,6 @@
 import { sql, type RawBuilder } from 'kysely'
 import { normalizeTag } from '@shared/schemas/library'
+import { SUGGEST_FROM } from '@shared/schemas/character'
 import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
@@ -125,6 +126,13 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
     c.push({
       ids: sql`SELECT take_id AS id FROM take_tags WHERE tag = ${tag}`,
       holds: (id) => sql`EXISTS (SELECT 1 FROM take_tags WHERE take_id = ${id} AND tag = ${tag})`,
+    })
+  // Character the analysis heard at suggestion strength, accepted as a tag or not (index take_character_tag).
+  for (const tag of new Set(q.character ?? []))
+    c.push({
+      ids: sql`SELECT take_id AS id FROM take_character WHERE tag = ${tag} AND confidence >= ${SUGGEST_FROM}`,
+      holds: (id) =>
+        sql`EXISTS (SELECT 1 FROM take_character WHERE take_id = ${id} AND tag = ${tag} AND confidence >= ${SUGGEST_FROM})`,
     })
   // Listening notes' outcome ("takes with a keep note"), from the comments_outcome_take index.
   if (q.noteOutcome)
