@@ -15,8 +15,9 @@
 //
 // The search runs in WebAssembly (wasm/true-peak.as.ts, compiled by
 // `npm run build:wasm` into wasm/true-peak.wasm.ts): the lows, highs and bound
-// below for four chunks at once in SIMD lanes, then, where a bound can beat the
-// running maximum, the four phases term by term in f64 (the table's order, so
+// below for four chunks at once in SIMD lanes; where a bound can beat the running
+// maximum, an f32 look at the outputs with a proven rounding margin; only where
+// that can beat it, the four phases term by term in f64 (the table's order, so
 // tests/audio/wasm-kernels.test.ts finds the very maximum of a brute-force pass
 // over TRUE_PEAK_PHASES). On the pack benchmark's audio it takes about a fifth
 // of the time the same search took in JavaScript.

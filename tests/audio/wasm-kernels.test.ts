@@ -74,6 +74,29 @@ describe('true peak in WebAssembly', () => {
     })
   }
 
+  // The high-accuracy meter's screening pass runs every 256-frame stretch afresh from a threshold
+  // below the running peak, where the bound lets most chunks through to the f32 look at their
+  // outputs: whatever the threshold, the stretches' Annex peaks must top out at the exact maximum.
+  for (const [name, x] of signals) {
+    it(`${name}: stretch by stretch from a low threshold, still the exact brute-force maximum`, () => {
+      const want = truePeakBruteForce(x)
+      for (const fraction of [0, 0.5, 0.891, 0.999]) {
+        const m = new TruePeakMeter(1)
+        const thresholds = new Float64Array(1)
+        let top = 0
+        for (let at = 0; at < x.length; at += 4099) {
+          const block = x.slice(at, at + 4099)
+          const out = [new Float64Array(Math.ceil(block.length / 256))]
+          thresholds[0] = m.peak(0) * fraction
+          m.pushScreened([block], thresholds, 256, out)
+          for (const v of out[0]) top = Math.max(top, v)
+        }
+        expect(m.peak(0)).toBe(want)
+        expect(top).toBe(want)
+      }
+    })
+  }
+
   // The measurement engine takes each 4-frame chunk's low and high from the kernel (meter.ts): they
   // must be the plain minimum and maximum of the chunk's samples, for every signal and block size.
   for (const [name, x] of signals) {
