@@ -22,6 +22,7 @@ import { fileURLToPath } from 'node:url'
 import { startServer } from '../server/server'
 import { seedLibrary } from './library-seed'
 import { QUERIES, knownIds, type Answer } from './library-queries'
+import { seedSimilar, similarRow } from './similar-row'
 
 const SIZES = (process.env.BENCH_TAKES ?? '50000,1000000').split(',').map((n) => Number(n.replace(/_/g, '')))
 const RUNS = Number(process.env.BENCH_RUNS ?? 100)
@@ -134,6 +135,7 @@ async function benchSize(takes: number, tmp: string): Promise<SizeResult> {
   )
   const db = seeder.ctx.db
   if (!reuse) await seedLibrary(db, takes, true)
+  if (!reuse) await seedSimilar(db)
   const sourceCount = Number(
     (
       await db
@@ -173,6 +175,11 @@ async function benchSize(takes: number, tmp: string): Promise<SizeResult> {
         `${query.name.padEnd(48)} p50 ${r.p50.toFixed(1).padStart(6)} ms   p95 ${r.p95.toFixed(1).padStart(6)} ms   ${r.matches}`,
       )
     }
+    // More like this: its own row, timed over takes picked at random (bench/similar-row.ts).
+    const similar = await similarRow(server.url, headers, takes, RUNS, WARMUP, quantile)
+    console.log(
+      `${similar.name.padEnd(48)} p50 ${similar.p50.toFixed(1).padStart(6)} ms   p95 ${similar.p95.toFixed(1).padStart(6)} ms`,
+    )
     return { takes, sourceCount, loadBefore, loadAfter: os.loadavg()[0], timed }
   } finally {
     await server.stop()

@@ -5,6 +5,7 @@ import type { Generated, Insertable, Selectable, Updateable } from 'kysely'
 import type { LibraryTables } from './schema-library'
 import type { PackTables } from './schema-packs'
 import type { RemovalTables } from './schema-removals'
+import type { CharacterTables } from './schema-character'
 
 export interface UserTable {
   id: Generated<number>
@@ -169,7 +170,7 @@ export interface JobTable {
 }
 export type JobRow = Selectable<JobTable>
 
-export interface Database extends LibraryTables, PackTables, RemovalTables {
+export interface Database extends LibraryTables, PackTables, RemovalTables, CharacterTables {
   users: UserTable
   sessions: SessionTable
   settings: SettingTable

@@ -31,6 +31,8 @@ import { registerTakeExportRoutes } from './takes/takes.export'
 import { registerTagRoutes } from './tags/tags.routes'
 import { registerMentionRoutes } from './mentions/mentions.routes'
 import { registerModulationRoutes } from './modulation/modulation.routes'
+import { registerSimilarRoutes } from './similar/similar.routes'
+import { registerSuggestedTagRoutes } from './character/suggested-tags'
 
 export interface BuiltApp {
   app: Express
@@ -90,6 +92,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerCaptureRoutes(api, ctx)
   registerIngestRoutes(api, ctx)
   registerTusRoutes(api, ctx)
+  registerSuggestedTagRoutes(api, ctx) // before /takes/:id routes
   registerTakeRoutes(api, ctx)
   registerTakeRemovalRoutes(api, ctx)
   registerSpectrogramRoutes(api, ctx)
@@ -102,6 +105,7 @@ export async function createApp(ctx: AppContext): Promise<BuiltApp> {
   registerTagRoutes(api, ctx)
   registerMentionRoutes(api, ctx)
   registerModulationRoutes(api, ctx)
+  registerSimilarRoutes(api, ctx)
   app.use('/api', api.router)
   app.use('/api', apiNotFound)
 

@@ -12,6 +12,7 @@ import * as takeRemovals from './20261202130000_take_removals'
 import * as listeningNotes from './20261202150000_listening_notes'
 import * as packBuildNotes from './20261202160000_pack_build_notes'
 import * as regionKind from './20261202170500_region_kind'
+import * as character from './20261202190000_character'
 import * as jobsWithoutProgress from './20261202171000_jobs_without_progress'
 import * as searchIndexes from './20261202180000_search_indexes'
 
@@ -28,4 +29,5 @@ export const migrations: Record<string, Migration> = {
   '20261202170500_region_kind': regionKind,
   '20261202171000_jobs_without_progress': jobsWithoutProgress,
   '20261202180000_search_indexes': searchIndexes,
+  '20261202190000_character': character,
 }

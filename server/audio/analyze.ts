@@ -2,6 +2,7 @@
 // floor and spectrum, plus the waveform overview when a peaks path is given.
 import { open } from 'node:fs/promises'
 import type { Analysis, WavFormat } from '@shared/schemas/analysis'
+import { CharacterMeter, type TakeFeatures } from './character'
 import type { TakeGlyph } from '@shared/schemas/takes'
 import { GlyphMeter } from './glyph'
 import { Meter, type MeterResult } from './meter'
@@ -20,6 +21,8 @@ export interface AnalyzeResult {
   analysis: Analysis
   /** The library row's small spectrogram (glyph.ts). */
   glyph: TakeGlyph
+  /** The sounds-like features (kept apart from the analysis: the library never sends them). */
+  features?: TakeFeatures
 }
 
 /** Throws WavFormatError (from the reader) for files it cannot interpret. */
@@ -36,6 +39,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     encoding: format.encoding,
     validBitsPerSample: format.validBitsPerSample,
   })
+  const character = new CharacterMeter(format.sampleRate, format.frames)
   const peaks = opts.peaksPath
     ? new PeaksBuilder(opts.peaksPath, {
         sampleRate: format.sampleRate,
@@ -51,6 +55,7 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     // may refill the arrays of the block before last: no fresh arrays, less garbage collection.
     for await (const block of readFrames(path, info, { float64Scale: scale, recycle: 2 })) {
       meter.push(block)
+      character.push(block)
       glyph.push(block)
       peaks?.push(block, meter.lastScan)
       done += block[0]?.length ?? 0
@@ -64,7 +69,13 @@ export async function analyzeFile(path: string, opts: AnalyzeOptions = {}): Prom
     peaks?.finish()
     opts.onProgress?.(1)
     const measured = unscale(meter.finish(), scale)
-    return { format, analysis: { ...measured, metadata }, glyph: glyph.finish(measured.spectrum) }
+    const { character: described, features } = character.finish(measured.spectrum)
+    return {
+      format,
+      analysis: { ...measured, metadata, character: described },
+      glyph: glyph.finish(measured.spectrum),
+      features,
+    }
   } catch (err) {
     peaks?.abort()
     throw err

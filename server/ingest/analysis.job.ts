@@ -8,6 +8,8 @@ import { readPeaks } from '../audio/peaks'
 import { addEvent, findTake, updateTake } from '../takes/takes.service'
 import { prefillFromMetadata } from './prefill'
 import { failureText } from './remeasure'
+import { recordCharacter } from '../similar/similar.service'
+import { featuresFromJson, featuresToJson, type FeaturesJson } from '../audio/character'
 
 const THUMB_POINTS = 48
 
@@ -82,13 +84,15 @@ export interface AnalysisResult {
   analysis: Analysis
   glyph: TakeGlyph
   thumb: number[]
+  /** Sounds-like features as plain arrays (the result may cross a process boundary as JSON). */
+  features?: FeaturesJson
 }
 
 /** The work of measuring a take, wherever it runs: the audio-task pool, the peaks file in storage, the thumbnail. */
 export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<AnalysisResult> {
   const peaksPath = env.storage.peaksPath(order.takeId)
   let last = 0
-  const { format, analysis, glyph } = await runAudioTask(
+  const { format, analysis, glyph, features } = await runAudioTask(
     'analyze',
     // With S3 the audio is fetched into the working copy first (heavy work reads files by path).
     { path: await env.storage.local(order.audioPath), peaksPath },
@@ -105,7 +109,7 @@ export async function measureTake(order: AnalysisOrder, env: WorkEnv): Promise<A
   )
   const thumb = await thumbnail(peaksPath)
   await env.storage.persist(env.storage.peaksRelative(order.takeId))
-  return { format, analysis, glyph, thumb }
+  return { format, analysis, glyph, thumb, features: features && featuresToJson(features) }
 }
 
 /**
@@ -125,7 +129,7 @@ export function analysisJob(ctx: AppContext, concurrency: number): JobWork<Analy
     progress(_job, order, p) {
       void updateTake(ctx.db, order.takeId, { progress: p }).catch(() => undefined)
     },
-    async record(_job, order, { format, analysis, glyph, thumb }) {
+    async record(_job, order, { format, analysis, glyph, thumb, features }) {
       await ctx.db.transaction().execute(async (trx) => {
         const now = await findTake(trx, order.takeId)
         if (!now) return
@@ -138,6 +142,7 @@ export function analysisJob(ctx: AppContext, concurrency: number): JobWork<Analy
           progress: 1,
         })
       })
+      await recordCharacter(ctx, order.takeId, analysis.character, features && featuresFromJson(features))
       await addEvent(
         ctx.db,
         order.takeId,

@@ -5,6 +5,7 @@
 import { probeWav, readFrames } from '../audio/wav-reader'
 import { EnvelopeFollower, SpectralTracker, spectralContext, type CurveTracker } from './curves'
 import { curveFile, type ModulationFile, type ModulationOrder } from './modulation-files'
+import { KWeighting } from './k-weighted'
 
 export async function computeModulation(path: string, o: ModulationOrder): Promise<ModulationFile> {
   const info = await probeWav(path)
@@ -21,11 +22,12 @@ export async function computeModulation(path: string, o: ModulationOrder): Promi
     o.source === 'envelope'
       ? new EnvelopeFollower(rate, frames, timing)
       : new SpectralTracker(rate, frames, { kind: o.source, ...timing }, lead)
+  const weighting = o.source === 'envelope' && o.weighting === 'k' ? new KWeighting(rate, info.format.channels) : null
   for await (const block of readFrames(path, info, {
     startFrame: startFrame - lead,
     endFrame: endFrame + tail,
     recycle: 2,
   }))
-    tracker.push(block)
+    tracker.push(weighting ? weighting.apply(block) : block)
   return curveFile(tracker.finish(), o)
 }

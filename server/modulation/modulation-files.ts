@@ -38,7 +38,7 @@ export function scaleText(o: ModulationOrder): string {
   const span = `${num(low)}..${num(high)}`
   const meaning =
     o.source === 'envelope'
-      ? 'envelope 0..1 of full scale'
+      ? `${o.weighting === 'k' ? 'K-weighted ' : ''}envelope 0..1 of full scale`
       : `${o.source} ${num(o.referenceHz)}..${num(o.referenceHz * 2 ** o.octaves)} Hz, log2(f/${num(o.referenceHz)} Hz)/${num(o.octaves)}`
   const unit = o.format === 'midi' ? `CC${o.controller} ch${o.channel} ` : ''
   const volts = o.volts && o.format === 'wav' ? `; ${span} = ${num(o.volts.low)}..${num(o.volts.high)} V` : ''

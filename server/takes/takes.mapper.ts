@@ -3,6 +3,7 @@ import type { SourceKind } from '@shared/schemas/sources'
 import type { Take, TakeGlyph, TakeStatus } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { sourcesOf, tagsOf, type TakeJoined } from './takes.repository'
+import { suggestedTags } from '@shared/schemas/character'
 
 export interface MapOptions {
   /** Leave the file's own metadata out of the analysis (library lists). */
@@ -20,6 +21,7 @@ export async function takeRowsToTakes(db: Db, rows: TakeJoined[], opts: MapOptio
     const analysis = stored ? (rest as Analysis) : null
     if (analysis && opts.withoutFileMetadata)
       analysis.metadata = { bext: null, ixml: null, info: {}, cues: [], loops: [], tags: {}, dropped: [] }
+    const own = tags.filter((t) => t.take_id === r.id).map((t) => t.tag)
     return {
       id: r.id,
       sessionId: r.session_id,
@@ -39,11 +41,13 @@ export async function takeRowsToTakes(db: Db, rows: TakeJoined[], opts: MapOptio
       sources: links
         .filter((l) => l.take_id === r.id)
         .map((l) => ({ sourceId: l.source_id, name: l.name, kind: l.kind as SourceKind, state: l.state })),
-      tags: tags.filter((t) => t.take_id === r.id).map((t) => t.tag),
+      tags: own,
       thumb: r.thumb_json ? (JSON.parse(r.thumb_json) as number[]) : [],
       glyph,
       format: r.format_json ? (JSON.parse(r.format_json) as WavFormat) : null,
       analysis,
+      character: analysis?.character ?? null,
+      suggestedTags: suggestedTags(analysis?.character, own),
     }
   })
 }

@@ -1,5 +1,6 @@
 import { sql, type RawBuilder } from 'kysely'
 import { normalizeTag } from '@shared/schemas/library'
+import { SUGGEST_FROM } from '@shared/schemas/character'
 import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
@@ -59,6 +60,21 @@ const DRIVER_MAX = 10_000
  * library; past this many the count is a floor and the page says "N+".
  */
 const COUNT_BUDGET = 20_000
+
+/**
+ * Relevance ranks at most this many matches: the newest ones. Scoring a match
+ * reads its word positions and column sizes, so ranking every one of 150,000
+ * matches for a common word takes most of a second; past this many the page
+ * already says "10,000+", and the newest matches are the ones most looked for.
+ */
+const RANK_CAP = COUNT_CAP
+
+/**
+ * How many text matches are read, newest first, to find where the ranked set
+ * starts. Where the other conditions pass few of them, relevance ranks the
+ * passing takes among these newest matches and the page says "N+".
+ */
+const RANK_BUDGET = 20_000
 
 /** How far each condition's takes are counted to choose where the count reads from. */
 const SIZE_PROBE = 10_000
@@ -126,6 +142,13 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
       ids: sql`SELECT take_id AS id FROM take_tags WHERE tag = ${tag}`,
       holds: (id) => sql`EXISTS (SELECT 1 FROM take_tags WHERE take_id = ${id} AND tag = ${tag})`,
     })
+  // Character the analysis heard at suggestion strength, accepted as a tag or not (index take_character_tag).
+  for (const tag of new Set(q.character ?? []))
+    c.push({
+      ids: sql`SELECT take_id AS id FROM take_character WHERE tag = ${tag} AND confidence >= ${SUGGEST_FROM}`,
+      holds: (id) =>
+        sql`EXISTS (SELECT 1 FROM take_character WHERE take_id = ${id} AND tag = ${tag} AND confidence >= ${SUGGEST_FROM})`,
+    })
   // Listening notes' outcome ("takes with a keep note"), from the comments_outcome_take index.
   if (q.noteOutcome)
     c.push({
@@ -188,6 +211,29 @@ async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
   return Number(r.rows[0].n)
 }
 
+/**
+ * Where relevance starts ranking: the lowest take id of the `cap` newest takes
+ * that meet every condition, when more than `cap` do. Reads the text matches
+ * newest first (FTS5 walks its id order), at most `most` of them; when those
+ * run out before `cap` takes pass, the ranked set is the passing takes among
+ * them and `found` says how many (older matches may exist). No floor when
+ * every text match was read: all are ranked.
+ */
+async function rankFloor(db: Db, conds: Condition[], text: Condition, fts: string, cap: number, most = RANK_BUDGET) {
+  const budget = Math.max(most, cap)
+  const newest = sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} ORDER BY rowid DESC LIMIT ${budget}`
+  const r = await sql<{ n: number; low: number | null }>`SELECT count(*) AS n, min(m.id) AS low FROM (
+      SELECT m.id FROM (${newest}) m ${whereAll(checks(conds, M, text))} LIMIT ${cap}) m`.execute(db)
+  const found = Number(r.rows[0].n)
+  if (found >= cap) return { floor: Number(r.rows[0].low) }
+  const e = await sql<{
+    seen: number
+    edge: number | null
+  }>`SELECT count(*) AS seen, min(id) AS edge FROM (${newest})`.execute(db)
+  if (Number(e.rows[0].seen) < budget) return { floor: null }
+  return { floor: Number(e.rows[0].edge), found }
+}
+
 export interface SearchResult {
   rows: TakeJoined[]
   /** Matches: exact unless `totalCapped`, then a floor (at least this many). */
@@ -201,6 +247,10 @@ export interface SearchOptions {
   countUpTo?: number
   /** Most takes a count reads (default COUNT_BUDGET); never fewer than `countUpTo` + 1. */
   countBudget?: number
+  /** Most text matches relevance ranks, newest first (default RANK_CAP). */
+  rankCap?: number
+  /** Most text matches read to find them (default RANK_BUDGET). */
+  rankBudget?: number
   /** Largest id set that drives the query (default DRIVER_MAX); tests set it to 0 or Infinity to check both ways of finding a page. */
   driverMax?: number
 }
@@ -247,12 +297,16 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
 
   let ids: number[]
+  let ranked: { floor: number | null; found?: number } | undefined
   if (sort === 'relevance') {
-    // bm25 is smaller for better matches; the words yield the ids, so every match is ranked once.
-    ids = await pageOf(sql`SELECT m.id AS id
-      FROM (SELECT rowid AS id, bm25(take_fts) AS score FROM take_fts WHERE take_fts MATCH ${fts}) m
-      ${whereAll(checks(conds, M, text))}
-      ORDER BY m.score ${order}, m.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
+    const cap = Math.max(opts.rankCap ?? RANK_CAP, offset + q.pageSize)
+    ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
+    // bm25 is smaller for better matches. The other conditions are tested first, so only takes that pass are scored.
+    const tid = sql.ref('take_fts.rowid')
+    const floor = ranked.floor === null ? [] : [sql`${tid} >= ${ranked.floor}`]
+    ids = await pageOf(sql`SELECT take_fts.rowid AS id FROM take_fts
+      ${whereAll([sql`take_fts MATCH ${fts}`, ...floor, ...checks(conds, tid, text)])}
+      ORDER BY bm25(take_fts) ${order}, ${tid} ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
   } else if (driverIds) {
     // Few takes: check them all, then sort them.
     const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
@@ -273,8 +327,11 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
   let total = ids.length
   let totalCapped = false
-  // A short first page is the whole list: nothing more to count.
-  if (!(offset === 0 && ids.length < q.pageSize)) {
+  // A ranked window is what the pages list, so it is the count: at least that many match.
+  if (ranked?.found !== undefined) {
+    total = ranked.found
+    totalCapped = true
+  } else if (!(offset === 0 && ids.length < q.pageSize)) {
     const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
     const source = driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`
     const test = sql.join(checks(conds, M, driver ?? smallest), sql` AND `)

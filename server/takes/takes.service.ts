@@ -32,7 +32,17 @@ import {
 } from './takes.repository'
 
 // What other features may use of the takes table directly (ingest records new takes, analysis writes results).
-export { addEvent, findTake, findTakeBySha, insertTake, updateTake, type TakeJoined } from './takes.repository'
+export {
+  addEvent,
+  findTake,
+  findTakeBySha,
+  findTakesByIds,
+  insertTake,
+  missingTakeIds,
+  replaceTags,
+  updateTake,
+  type TakeJoined,
+} from './takes.repository'
 import { takeRowToTake, takeRowsToTakes } from './takes.mapper'
 
 /** A take's history entry, written with the user who caused it. */

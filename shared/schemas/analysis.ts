@@ -2,6 +2,7 @@
 // serves inside a take, what the client draws and what the CLI prints.
 // Field names are fixed by the product's public API; keep them.
 import { z } from 'zod'
+import { Character } from './character'
 
 /** A level in dB, or null where it is undefined (silence, below a gate). Never ±Infinity or NaN. */
 const Db = z.number().finite().nullable()
@@ -207,6 +208,8 @@ export const Analysis = z.object({
   noiseFloor: NoiseFloor.optional(),
   spectrum: Spectrum,
   metadata: FileMetadata,
+  /** Character descriptors and tag confidences (absent from analyses stored before them). */
+  character: Character.optional(),
 })
 export type Analysis = z.infer<typeof Analysis>
 

@@ -23,6 +23,9 @@ export const MODULATION_LIMITS = {
 export const ModulationSource = z.enum(['envelope', 'centroid', 'tone'])
 export type ModulationSource = z.infer<typeof ModulationSource>
 
+export const ModulationWeighting = z.enum(['plain', 'k'])
+export type ModulationWeighting = z.infer<typeof ModulationWeighting>
+
 export const ModulationFormat = z.enum(['wav', 'midi', 'csv'])
 export type ModulationFormat = z.infer<typeof ModulationFormat>
 
@@ -37,6 +40,11 @@ export const ModulationBody = z
     endSeconds: z.number().finite().positive().optional(),
     /** envelope: amplitude follower; centroid: spectral centroid; tone: strongest tonal component. */
     source: ModulationSource,
+    /**
+     * envelope: the amplitude as it is (plain) or K-weighted as the BS.1770 loudness meter hears it
+     * (k; scaled so a 1 kHz tone reads the same in both). Ignored by centroid and tone.
+     */
+    weighting: ModulationWeighting.default('plain'),
     /** Rise time constant (envelope; for centroid and tone a slew on the octave value), ms. */
     attackMs: Ms,
     /** Fall time constant, ms. */

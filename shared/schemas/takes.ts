@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { Analysis, WavFormat } from './analysis'
+import { Character, CharacterTag, TagConfidence } from './character'
 import { NoteOutcome } from './notes'
 import { SourceKind } from './sources'
 
@@ -60,6 +61,10 @@ export const Take = z.object({
   glyph: TakeGlyph.nullable(),
   format: WavFormat.nullable(),
   analysis: Analysis.nullable(),
+  /** The analysis's character descriptors (null before measuring or for analyses stored before them). */
+  character: Character.nullable(),
+  /** Character tags the analysis suggests that the take does not carry yet, strongest first. */
+  suggestedTags: z.array(TagConfidence),
 })
 export type Take = z.infer<typeof Take>
 
@@ -124,6 +129,8 @@ export const TakeQuery = z.object({
   hum: z.enum(['50', '60', 'none']).optional(),
   /** Takes with at least one listening note carrying this outcome. */
   noteOutcome: NoteOutcome.optional(),
+  /** Takes whose analysis finds this character (a suggestion-strength tag), accepted or not. */
+  character: many(CharacterTag),
   status: TakeStatus.optional(),
   sort: TakeSort.optional(),
   order: z.enum(['asc', 'desc']).optional(),

@@ -21,6 +21,7 @@ export const QUERY_KEYS = [
   'maxLra',
   'hum',
   'noteOutcome',
+  'character',
   'status',
   'sort',
   'order',

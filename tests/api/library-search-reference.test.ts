@@ -203,6 +203,49 @@ describe('each benchmark search equals a plain reading of a 3,000-take library',
     })
   }
 
+  it('ranks only the newest matches when asked to rank few, and says how many it ranked when the read runs out', async () => {
+    // rankCap 30 and rankBudget 200 stand in for 10,000 and 20,000 on a million takes.
+    const [cap, budget] = [30, 200]
+    const ranked = searches.filter((b) => new URLSearchParams(b.takesQuery!(known)).has('q'))
+    let windows = 0
+    for (const bench of ranked) {
+      const base = TakeQuery.parse(Object.fromEntries(new URLSearchParams(bench.takesQuery!(known))))
+      if (base.sort && base.sort !== 'relevance') continue
+      const full = await reference(base)
+      const inFull = new Set(full)
+      const textIds = (
+        await sql<{
+          id: number
+        }>`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${ftsQuery(base.q!)} ORDER BY rowid DESC`.execute(
+          server.ctx.db,
+        )
+      ).rows.map((r) => r.id)
+      const passing = textIds.slice(0, budget).filter((id) => inFull.has(id))
+      let keep: Set<number> = inFull
+      let count: { total: number; totalCapped: boolean } | undefined
+      if (passing.length >= cap) keep = new Set(passing.slice(0, cap))
+      else if (textIds.length > budget) {
+        keep = new Set(passing)
+        count = { total: passing.length, totalCapped: true }
+      }
+      if (keep !== inFull) windows++
+      const want = full.filter((id) => keep.has(id))
+      for (const page of [1, 2]) {
+        const got = await searchTakeRows(
+          server.ctx.db,
+          { ...base, page, pageSize: 10 },
+          { rankCap: cap, rankBudget: budget },
+        )
+        expect(
+          got.rows.map((r) => r.id),
+          `${bench.name}, page ${page}`,
+        ).toEqual(want.slice((page - 1) * 10, page * 10))
+        if (count) expect({ total: got.total, totalCapped: got.totalCapped }).toEqual(count)
+      }
+    }
+    expect(windows, 'some benchmark text search should rank a window').toBeGreaterThan(0)
+  })
+
   it('pages past the end of a list with unmeasured takes in it, and past its measured part', async () => {
     // Sorting by loudness puts the unmeasured (queued, failed) takes last: pages that straddle and pass that seam.
     const base = TakeQuery.parse({ sort: 'integratedLufs', order: 'desc', minDuration: '0' })
