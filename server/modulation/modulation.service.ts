@@ -51,7 +51,8 @@ export async function planModulation(db: Db, takeId: number, b: ModulationBody):
     )
   }
   const seconds = end - start
-  if (seconds > MODULATION_LIMITS.maxSeconds) {
+  // A microsecond of slack: times arrive as decimals, and their difference is not exact in binary.
+  if (seconds > MODULATION_LIMITS.maxSeconds + 1e-6) {
     throw new AppError(
       400,
       'EXCERPT_TOO_LONG',

@@ -116,7 +116,8 @@ export function registerSpectrogramRoutes(api: Api, ctx: AppContext) {
     const duration = row.duration_seconds ?? 0
     if (q.start !== undefined && q.end !== undefined) {
       const length = q.end - q.start
-      if (length > MAX_EXCERPT_SECONDS) {
+      // A microsecond of slack: times arrive as decimals, and 30.37 − 0.37 is 30.000000000000004 in binary.
+      if (length > MAX_EXCERPT_SECONDS + 1e-6) {
         throw new AppError(
           400,
           'EXCERPT_TOO_LONG',

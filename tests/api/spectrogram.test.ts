@@ -216,6 +216,10 @@ describe('GET /api/takes/:id/spectrogram.png?start&end (excerpt)', () => {
     expect(res.body.error.message).toMatch(/30 s/)
   })
 
+  it('takes exactly 30 s written as decimals (30.37 − 0.37 is not exactly 30 in binary)', async () => {
+    await png(producer, `/api/takes/${takeId}/spectrogram.png?start=0.37&end=30.37&width=512&height=64`).expect(200)
+  })
+
   it('refuses an excerpt past the end of the take', async () => {
     const res = await producer.get(`/api/takes/${takeId}/spectrogram.png?start=30&end=36`).expect(400)
     expect(res.body.error.code).toBe('EXCERPT_OUT_OF_RANGE')
