@@ -8,6 +8,7 @@ import { AppError, fileError } from '../../core/errors'
 import { publishedItemId, publishedItemNotFound, snapshotOf } from '../builds/published'
 import { zipPath } from '../curation/item-spec'
 import type * as repo from '../packs.repository'
+import { rangeAwareDone } from './send-with-ranges'
 import { storedEntryRange, ZipFormatError } from './zip-entries'
 
 /** Sends one item of a finished build out of its zip, with Range support; 404 when the build holds no such item. */
@@ -51,22 +52,5 @@ export async function sendBuildItem(
     lastModified: false,
     headers: { 'Content-Type': 'audio/wav', 'Cache-Control': 'private, no-cache' },
   }
-  res.sendFile(zip, opts, (err?: Error & { status?: number }) => {
-    if (!err || res.headersSent) return
-    if (err.status === 416) {
-      res.removeHeader('Content-Disposition')
-      res
-        .status(416)
-        .set('Content-Range', `bytes */${size}`)
-        .json({
-          error: {
-            code: 'RANGE_NOT_SATISFIABLE',
-            message: `The requested range lies outside the item's ${size} bytes`,
-            details: { sizeBytes: size },
-          },
-        })
-      return
-    }
-    next(err)
-  })
+  res.sendFile(zip, opts, rangeAwareDone(res, next, size, 'item'))
 }

@@ -16,7 +16,17 @@ export interface SendOptions {
  */
 export function sendWithRanges(res: Response, next: NextFunction, file: string, size: number, o: SendOptions): void {
   const opts = { acceptRanges: true, headers: { 'Content-Type': o.contentType, 'Cache-Control': o.cache } }
-  const done = (err?: Error & { status?: number }) => {
+  const done = rangeAwareDone(res, next, size, 'file')
+  if (o.downloadName) res.download(file, o.downloadName, opts, done)
+  else res.sendFile(file, opts, done)
+}
+
+/**
+ * The callback for Express's file sender: a 416 becomes the API's error shape with
+ * Content-Range: bytes * /size (`what` names the thing in the message), anything else goes on.
+ */
+export function rangeAwareDone(res: Response, next: NextFunction, size: number, what: string) {
+  return (err?: Error & { status?: number }) => {
     if (!err || res.headersSent) return
     if (err.status === 416) {
       // send set the file's headers before it looked at the range: take them back.
@@ -27,7 +37,7 @@ export function sendWithRanges(res: Response, next: NextFunction, file: string, 
         .json({
           error: {
             code: 'RANGE_NOT_SATISFIABLE',
-            message: `The requested range lies outside the file's ${size} bytes`,
+            message: `The requested range lies outside the ${what}'s ${size} bytes`,
             details: { sizeBytes: size },
           },
         })
@@ -35,6 +45,4 @@ export function sendWithRanges(res: Response, next: NextFunction, file: string, 
     }
     next(err)
   }
-  if (o.downloadName) res.download(file, o.downloadName, opts, done)
-  else res.sendFile(file, opts, done)
 }
