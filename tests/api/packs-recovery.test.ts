@@ -79,6 +79,8 @@ describe('a build interrupted by a restart', () => {
       demo: true,
       demoAudio: false,
       clientDir: path.join(dir, 'no-client'),
+      // Jobs in this process even under the scaled suite's REDIS_URL: the restart is what is tested.
+      redisUrl: null,
     }
     const env = { ...process.env, SMTP_URL: '', SESSION_SECRET: '' }
     let first: RunningServer | null = await startServer(overrides, env)
