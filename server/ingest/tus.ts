@@ -67,11 +67,22 @@ class FinishedUploadsS3Store extends S3Store {
   }
 }
 
+/**
+ * An upload nobody has continued for a week is given up: its bytes would otherwise stay on disk or in the
+ * bucket for ever. A week covers a recordist who resumes after a field trip.
+ */
+const ABANDONED_AFTER_MS = 7 * 24 * 3600 * 1000
+
 function tusStore(ctx: AppContext): DataStore {
-  if (!ctx.config.storageUrl) return new FileStore({ directory: path.join(ctx.storage.root, 'tus') })
+  if (!ctx.config.storageUrl)
+    return new FileStore({
+      directory: path.join(ctx.storage.root, 'tus'),
+      expirationPeriodInMilliseconds: ABANDONED_AFTER_MS,
+    })
   const { bucket } = parseS3Url(ctx.config.storageUrl)
   return new FinishedUploadsS3Store({
     partSize: 8 * 2 ** 20,
+    expirationPeriodInMilliseconds: ABANDONED_AFTER_MS,
     s3ClientConfig: {
       bucket,
       region: ctx.config.s3Region || 'us-east-1',
@@ -144,5 +155,7 @@ export function createTusServer(ctx: AppContext): Server {
       }
     },
   })
+  // Sweep abandoned uploads hourly; the timer never keeps the process alive.
+  setInterval(() => void server.cleanUpExpiredUploads().catch(() => undefined), 3600 * 1000).unref()
   return server
 }
