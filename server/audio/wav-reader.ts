@@ -319,6 +319,9 @@ export async function readMetadata(path: string, info: WavInfo, opts: ReadMetada
     budget.note("general tags: not read (the file's metadata is over the limits above)")
     return { ...meta, tags: mergeInfoTags(tags, meta.info), dropped: budget.dropped }
   }
+  // Loading music-metadata costs a fresh process 0.1–0.2 s, most of a short take's analysis: a file
+  // with no chunk it takes tags from would only give back {} for it.
+  if (!mayHoldTags(info)) return { ...meta, tags: mergeInfoTags(tags, meta.info), dropped: budget.dropped }
   try {
     // Loaded on first use: the measuring path never needs it, and it costs ~0.2 s to load.
     const { parseFile } = await import('music-metadata')
@@ -339,6 +342,18 @@ export async function readMetadata(path: string, info: WavInfo, opts: ReadMetada
 }
 
 class TagsTimeout extends Error {}
+
+/** The chunks music-metadata draws WAVE tags from (LIST/INFO, ID3 in either spelling, bext). */
+const TAG_CHUNK_IDS = new Set(['LIST', 'id3 ', 'ID3 ', 'bext'])
+
+/**
+ * Whether music-metadata could find tags: a tag chunk was listed, or the chunk walk may have missed
+ * one (it stopped at a data chunk running to the end of the file, or at the chunk-count bound).
+ */
+function mayHoldTags(info: WavInfo): boolean {
+  if (info.format.recovered || info.chunks.length >= MAX_CHUNKS) return true
+  return info.chunks.some((c) => TAG_CHUNK_IDS.has(c.id))
+}
 
 /** Metadata bytes up to which music-metadata is asked for general tags. */
 const TAGS_MAX_BYTES = 4 * 2 ** 20
