@@ -298,3 +298,30 @@ describe('tags when music-metadata refuses the file', () => {
     expect(meta).toMatchObject({ bext: null, ixml: null, info: {}, cues: [], loops: [] })
   })
 })
+
+describe('tags only from files that can hold them', () => {
+  /** An ID3v2.3 tag with one text frame (ID3v2.3.0 informal standard: 10-byte header, syncsafe size). */
+  function id3Title(title: string): Buffer {
+    const text = Buffer.concat([Buffer.from([0]), Buffer.from(title, 'latin1')]) // encoding 0: ISO-8859-1
+    const frameHead = Buffer.alloc(10)
+    frameHead.write('TIT2', 0, 'latin1')
+    frameHead.writeUInt32BE(text.length, 4)
+    const body = Buffer.concat([frameHead, text])
+    const head = Buffer.from([0x49, 0x44, 0x33, 3, 0, 0, 0, 0, 0, 0])
+    for (let i = 0; i < 4; i++) head[9 - i] = (body.length >> (7 * i)) & 0x7f
+    return Buffer.concat([head, body])
+  }
+
+  it('an id3 chunk is a tag source: its title comes through, as ffprobe and music-metadata read it', async () => {
+    const p = file([fmt, data, { id: 'id3 ', payload: id3Title('Bench supply idle') }])
+    const meta = await readMetadata(p, await probeWav(p))
+    expect(meta.tags.title).toBe('Bench supply idle')
+    expect(ffprobe(p).format.tags?.title).toBe('Bench supply idle')
+  })
+
+  it('a file of fmt and data only gets tags = {}, what music-metadata finds in it too', async () => {
+    const p = file([fmt, data])
+    expect((await readMetadata(p, await probeWav(p))).tags).toEqual({})
+    expect((await parseFile(p, { skipCovers: true, duration: false })).common.title).toBeUndefined()
+  })
+})
