@@ -31,10 +31,24 @@ export interface PowerSpectrum {
   windowEnergy: number
 }
 
-/** dst[at..] = sum over channels of planar[·][from..to) (the 1/channels of the mean is applied with the window). */
-function mixInto(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
+/**
+ * dst[at..] = sum over channels of planar[·][from..to) (the 1/channels of the mean is applied with the
+ * window); returns `total` plus the written values, added in order, so a segment's running total is
+ * the same number its mean would be summed to afterwards, without another pass over the segment.
+ */
+function mixInto(
+  dst: Float64Array,
+  at: number,
+  planar: Float32Array[],
+  from: number,
+  to: number,
+  total: number,
+): number {
+  if (planar.length === 1) return copySummed(dst, at, planar[0], from, to, total)
+  if (planar.length === 2) return pairSummed(dst, at, planar[0], planar[1], from, to, total)
   copyInto(dst, at, planar[0], from, to)
   for (let ch = 1; ch < planar.length; ch++) addInto(dst, at, planar[ch], from, to)
+  return sumInto(dst, at, at + to - from, total)
 }
 
 // One loop per function: a function with two long loops, called a few hundred times, was compiled
@@ -49,6 +63,40 @@ function copyInto(dst: Float64Array, at: number, src: Float32Array, from: number
 /** dst[at..] += src[from..to). */
 function addInto(dst: Float64Array, at: number, src: Float32Array, from: number, to: number): void {
   for (let i = from, j = at; i < to; i++, j++) dst[j] += src[i]
+}
+
+/** copyInto, returning total + Σ of the copied values (in order). */
+function copySummed(dst: Float64Array, at: number, src: Float32Array, from: number, to: number, total: number): number {
+  for (let i = from, j = at; i < to; i++, j++) {
+    const v = src[i]
+    dst[j] = v
+    total += v
+  }
+  return total
+}
+
+/** Two channels in one pass: dst[at..] = a[from..to) + b[from..to) (as a copy then an add would), and the running total. */
+function pairSummed(
+  dst: Float64Array,
+  at: number,
+  a: Float32Array,
+  b: Float32Array,
+  from: number,
+  to: number,
+  total: number,
+): number {
+  for (let i = from, j = at; i < to; i++, j++) {
+    const v = a[i] + b[i]
+    dst[j] = v
+    total += v
+  }
+  return total
+}
+
+/** total + Σ b[from..to), in order. */
+function sumInto(b: Float64Array, from: number, to: number, total: number): number {
+  for (let i = from; i < to; i++) total += b[i]
+  return total
 }
 
 export function fftSizeFor(sampleRate: number): number {
@@ -66,6 +114,8 @@ export function segmentStarts(frames: number, size: number): number[] {
 interface Segment {
   start: number
   filled: number
+  /** Σ of buffer[0 .. filled), summed in order as the samples arrive (for the segment's mean). */
+  total: number
   buffer: Float64Array
   /** Per channel (two or more channels): the segment's first `hum.size` samples. */
   channels: Float64Array[] | null
@@ -222,13 +272,13 @@ export class SpectrumMeter {
       const channels = hum
         ? (this.spareChannels.pop() ?? Array.from({ length: this.channels }, () => new Float64Array(hum.size)))
         : null
-      this.active.push({ start: this.starts[this.nextStart++], filled: 0, buffer, channels })
+      this.active.push({ start: this.starts[this.nextStart++], filled: 0, total: 0, buffer, channels })
     }
     for (const seg of this.active) {
       const from = Math.max(0, seg.start + seg.filled - this.position)
       const to = Math.min(n, seg.start + this.length - this.position)
       if (to <= from) continue
-      mixInto(seg.buffer, seg.filled, planar, from, to)
+      seg.total = mixInto(seg.buffer, seg.filled, planar, from, to, seg.total)
       if (seg.channels && hum && seg.filled < hum.size) {
         const end = Math.min(to, from + hum.size - seg.filled)
         for (let ch = 0; ch < this.channels; ch++) copyInto(seg.channels[ch], seg.filled, planar[ch], from, end)
@@ -251,7 +301,7 @@ export class SpectrumMeter {
     const b = seg.buffer
     const w = this.hann(len)
     // The mono mix is the mean of the channels: 1/channels goes with the window.
-    windowInPlace(b, len, meanOf(b, len), w, 1 / this.channels)
+    windowInPlace(b, len, seg.total / len, w, 1 / this.channels)
     this.fft.realTransform(this.out, b)
     addPower(this.out, this.mixPower, this.sum)
     let hz = readHum(this.spectrumOf(this.mixPower, 1), SEGMENT_HUM_DB).hz
