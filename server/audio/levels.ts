@@ -67,21 +67,26 @@ export class LevelsMeter {
   add(planar: Float32Array[], scan: BlockScan): void {
     const t = this.threshold
     for (let ch = 0; ch < this.channels; ch++) {
-      const lo = scan.lo[ch]
-      const hi = scan.hi[ch]
-      let peak = this.peak[ch]
-      for (let c = 0; c < scan.chunks; c++) {
-        const m = Math.max(hi[c], -lo[c])
-        peak = m > peak ? m : peak
-        // Full scale is rare: only chunks that reach it are looked at sample by sample.
-        if (m >= t) this.scanClips(ch, planar[ch], c * CHUNK, Math.min(scan.frames, (c + 1) * CHUNK))
-        else this.run[ch] = 0
-      }
-      this.peak[ch] = peak
+      const m = largestMagnitude(scan.lo[ch], scan.hi[ch], scan.chunks)
+      if (m > this.peak[ch]) this.peak[ch] = m
+      // Full scale is rare: only a block that reaches it is walked chunk by chunk (clipsInBlock).
+      if (m >= t) this.clipsInBlock(ch, planar[ch], scan)
+      else if (scan.chunks > 0) this.run[ch] = 0
       this.sum[ch] += scan.sum[ch]
       this.sumSquares[ch] += scan.sumSquares[ch]
     }
     this.frames += scan.frames
+  }
+
+  /** Looks sample by sample at the chunks of the block that reach full scale; a chunk that does not ends any run. */
+  private clipsInBlock(ch: number, x: Float32Array, scan: BlockScan): void {
+    const lo = scan.lo[ch]
+    const hi = scan.hi[ch]
+    for (let c = 0; c < scan.chunks; c++) {
+      if (Math.max(hi[c], -lo[c]) >= this.threshold)
+        this.scanClips(ch, x, c * CHUNK, Math.min(scan.frames, (c + 1) * CHUNK))
+      else this.run[ch] = 0
+    }
   }
 
   private scanClips(ch: number, x: Float32Array, from: number, to: number): void {
@@ -118,4 +123,14 @@ export class LevelsMeter {
       overFullScale: this.over[channel],
     }
   }
+}
+
+/** max over chunks c < chunks of max(hi[c], −lo[c]); 0 for none. */
+function largestMagnitude(lo: Float32Array, hi: Float32Array, chunks: number): number {
+  let peak = 0
+  for (let c = 0; c < chunks; c++) {
+    const m = Math.max(hi[c], -lo[c])
+    peak = m > peak ? m : peak
+  }
+  return peak
 }

@@ -69,13 +69,11 @@ export class NoiseFloorMeter {
     const channels = this.channels
     let c = 0
     while (c < scan.chunks) {
-      // Chunks up to the window's end, channel by channel.
-      let end = c
-      let frames = 0
-      while (end < scan.chunks && this.position + frames < this.nextBoundary) {
-        frames += Math.min(CHUNK, scan.frames - end * CHUNK)
-        end++
-      }
+      // Chunks up to the window's end (the first chunk boundary at or past it), channel by channel.
+      // Only the block's last chunk can be partial, so the count follows from the frames still wanted.
+      const wanted = Math.max(0, Math.ceil((this.nextBoundary - this.position) / CHUNK))
+      const end = Math.min(scan.chunks, c + wanted)
+      const frames = Math.min(end * CHUNK, scan.frames) - c * CHUNK
       for (let ch = 0; ch < channels; ch++) {
         const cs = scan.chunkSum[ch]
         const ce = scan.chunkEnergy[ch]
