@@ -12,7 +12,7 @@ import { fileURLToPath } from 'node:url'
 const root = join(dirname(fileURLToPath(import.meta.url)), '..')
 const check = process.argv.includes('--check')
 const asc = join(root, 'node_modules', '.bin', 'asc')
-const sources = ['true-peak', 'k-weighting'].map((name) => join(root, 'server', 'audio', 'wasm', `${name}.as.ts`))
+const sources = ['true-peak', 'k-weighting', 'fft'].map((name) => join(root, 'server', 'audio', 'wasm', `${name}.as.ts`))
 const tmp = mkdtempSync(join(tmpdir(), 'strayfield-wasm-'))
 let stale = 0
 try {

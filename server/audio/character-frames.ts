@@ -3,7 +3,7 @@
 // frames (≈ 2.7 ms: a data chirp's frequency moves between them), the 20 ms
 // level every 5 ms (bursts), and clicks in the first difference. All on the
 // mono mix of one excerpt; the caller combines excerpts.
-import FFT from 'fft.js'
+import { RealFft } from './real-fft'
 
 export const MEL_BANDS = 24
 const MEL_LOW_HZ = 40
@@ -27,26 +27,21 @@ function hann(n: number): Float64Array {
 /** One FFT size with its window and buffers, reused for every frame. */
 class Spectra {
   readonly size: number
-  private readonly fft: FFT
+  private readonly fft: RealFft
   private readonly w: Float64Array
-  private readonly inp: Float64Array
-  private readonly out: Float64Array
   readonly power: Float64Array
   constructor(size: number) {
     this.size = size
-    this.fft = new FFT(size)
+    this.fft = new RealFft(size)
     this.w = hann(size)
-    this.inp = new Float64Array(size)
-    this.out = new Float64Array(2 * size)
     this.power = new Float64Array(size / 2 + 1)
   }
   /** Power spectrum of x[from .. from+size), mean removed. */
   of(x: Float32Array, from: number): Float64Array {
     const n = this.size
     const mean = sumOf(x, from, n) / n
-    windowInto(this.inp, x, from, mean, this.w)
-    this.fft.realTransform(this.out, this.inp)
-    powerInto(this.power, this.out)
+    windowInto(this.fft.input, x, from, mean, this.w)
+    powerInto(this.power, this.fft.transform())
     return this.power
   }
 }

@@ -10,7 +10,7 @@
 // them can be missed; the glyph is a picture, not a measurement. The hum and
 // the whine are not found again here: they come from the analysis's averaged
 // spectrum, which is the figure the library filters on.
-import FFT from 'fft.js'
+import { RealFft } from './real-fft'
 import type { Spectrum } from '@shared/schemas/analysis'
 import type { TakeGlyph } from '@shared/schemas/takes'
 
@@ -63,8 +63,7 @@ export class GlyphMeter {
   private position = 0
   private readonly active: Window[] = []
   private readonly spare: Float64Array[] = []
-  private readonly fft: FFT
-  private readonly out: Float64Array
+  private readonly fft: RealFft
   private readonly window: Float64Array
   private readonly bands: ReturnType<typeof glyphBands>
   /** Summed band power per cell, and how many windows each column got. */
@@ -76,8 +75,7 @@ export class GlyphMeter {
     this.size = 2 ** Math.ceil(Math.log2(sampleRate / 12))
     this.length = Math.max(1, Math.min(this.size, frames))
     this.channels = channels
-    this.fft = new FFT(this.size)
-    this.out = new Float64Array(2 * this.size)
+    this.fft = new RealFft(this.size)
     this.bands = glyphBands(sampleRate, this.size)
     this.window = new Float64Array(this.length)
     for (let i = 0; i < this.length; i++)
@@ -127,8 +125,8 @@ export class GlyphMeter {
     mean /= len
     for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * this.window[i]
     b.fill(0, len)
-    this.fft.realTransform(this.out, b)
-    const o = this.out
+    this.fft.input.set(b)
+    const o = this.fft.transform()
     const half = this.size / 2
     const row = w.column * GLYPH_BANDS
     this.bands.bins.forEach((band, i) => {

@@ -15,7 +15,7 @@
 // floor; more would cost FFT time without changing any reported feature. The
 // positions are known up front from the frame count, which keeps this a
 // single streaming pass.
-import FFT from 'fft.js'
+import { RealFft } from './real-fft'
 import type { Spectrum } from '@shared/schemas/analysis'
 import type { MainsHum, TimeSpan } from '@shared/schemas/analysis'
 import { describeSpectrum, readHum } from './spectrum-features'
@@ -135,10 +135,17 @@ function meanOf(b: Float64Array, len: number): number {
   return mean / len
 }
 
-/** b[i] = (b[i] − mean)·w[i]·scale for i < len; zeros after. */
-function windowInPlace(b: Float64Array, len: number, mean: number, w: Float64Array, scale: number): void {
-  for (let i = 0; i < len; i++) b[i] = (b[i] - mean) * w[i] * scale
-  if (len < b.length) b.fill(0, len)
+/** dst[i] = (b[i] − mean)·w[i]·scale for i < len; zeros after (dst: the FFT's input). */
+function windowInto(
+  dst: Float64Array,
+  b: Float64Array,
+  len: number,
+  mean: number,
+  w: Float64Array,
+  scale: number,
+): void {
+  for (let i = 0; i < len; i++) dst[i] = (b[i] - mean) * w[i] * scale
+  if (len < dst.length) dst.fill(0, len)
 }
 
 /** power[k] = |o_k|², sum[k] += it, for k < power.length (o interleaved re, im). */
@@ -188,7 +195,7 @@ export function channelName(ch: number): string {
  */
 class ChannelSpectra {
   readonly size: number
-  private readonly fft: FFT
+  private readonly fft: RealFft
   /** Per channel, then the side signal: summed power, and this segment's. */
   readonly sums: Float64Array[]
   readonly current: Float64Array[]
@@ -199,11 +206,11 @@ class ChannelSpectra {
 
   constructor(size: number, channels: number) {
     this.size = size
-    this.fft = new FFT(size)
+    this.fft = new RealFft(size)
     const bins = size / 2 + 1
     this.sums = Array.from({ length: channels + 1 }, () => new Float64Array(bins))
     this.current = Array.from({ length: channels + 1 }, () => new Float64Array(bins))
-    this.out = Array.from({ length: channels }, () => new Float64Array(2 * size))
+    this.out = Array.from({ length: 2 }, () => new Float64Array(size + 2))
   }
 
   /** Transforms each channel's buffer (first `len` samples; mean removed, Hann window) and adds the powers. */
@@ -216,9 +223,10 @@ class ChannelSpectra {
     const channels = buffers.length
     for (let ch = 0; ch < channels; ch++) {
       const b = buffers[ch]
-      windowInPlace(b, len, meanOf(b, len), this.window, 1)
-      this.fft.realTransform(this.out[ch], b)
-      addPower(this.out[ch], this.current[ch], this.sums[ch])
+      windowInto(this.fft.input, b, len, meanOf(b, len), this.window, 1)
+      const o = this.fft.transform()
+      addPower(o, this.current[ch], this.sums[ch])
+      if (ch < 2) this.out[ch].set(o) // the first two channels' spectra make the side signal's
     }
     addPowerOfDifference(this.out[0], this.out[1], this.current[channels], this.sums[channels])
     this.segments++
@@ -234,8 +242,7 @@ export class SpectrumMeter {
   private readonly active: Segment[] = []
   private readonly spare: Float64Array[] = []
   private readonly spareChannels: Float64Array[][] = []
-  private readonly fft: FFT
-  private readonly out: Float64Array
+  private readonly fft: RealFft
   private readonly sum: Float64Array
   private segments = 0
   private windowEnergy = 0
@@ -255,8 +262,7 @@ export class SpectrumMeter {
     this.size = fftSizeFor(sampleRate)
     this.length = Math.max(1, Math.min(this.size, frames))
     this.starts = segmentStarts(frames, this.size)
-    this.fft = new FFT(this.size)
-    this.out = new Float64Array(2 * this.size)
+    this.fft = new RealFft(this.size)
     this.sum = new Float64Array(this.size / 2 + 1)
     this.mixPower = new Float64Array(this.size / 2 + 1)
     this.hum = channels >= 2 ? new ChannelSpectra(this.size / 4, channels) : null
@@ -301,9 +307,8 @@ export class SpectrumMeter {
     const b = seg.buffer
     const w = this.hann(len)
     // The mono mix is the mean of the channels: 1/channels goes with the window.
-    windowInPlace(b, len, seg.total / len, w, 1 / this.channels)
-    this.fft.realTransform(this.out, b)
-    addPower(this.out, this.mixPower, this.sum)
+    windowInto(this.fft.input, b, len, seg.total / len, w, 1 / this.channels)
+    addPower(this.fft.transform(), this.mixPower, this.sum)
     let hz = readHum(this.spectrumOf(this.mixPower, 1), SEGMENT_HUM_DB).hz
     const hum = this.hum
     if (seg.channels && hum) {

@@ -8,14 +8,19 @@
 // JavaScript K-weighting (the ITU-R BS.1770-4 filters of k-weighting.ts, run
 // sample by sample in f64), for one to six channels with their weights.
 // The chunk lows and highs the kernel hands back must be the samples' own.
+// The real FFT (fft.as.ts) must give NumPy's numpy.fft.rfft (Debian python3-numpy,
+// pocketfft) to rounding, and the DFT's definition on a short signal.
 // And the committed binaries must be what the sources compile to.
-import { spawnSync } from 'node:child_process'
+import { execFileSync, spawnSync } from 'node:child_process'
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { describe, expect, it } from 'vitest'
 import { channelWeights } from '../../server/audio/channel-weights'
 import { preFilter, rlbHighPass } from '../../server/audio/k-weighting'
 import { LoudnessMeter } from '../../server/audio/loudness'
 import { PreciseTruePeakMeter } from '../../server/audio/precise-true-peak'
+import { RealFft } from '../../server/audio/real-fft'
 import { TruePeakMeter } from '../../server/audio/true-peak'
 import { truePeakBruteForce } from '../helpers/signals'
 
@@ -199,4 +204,62 @@ describe('true peak in WebAssembly', () => {
       expect(r.status).toBe(0)
     },
   )
+})
+
+describe('real FFT in WebAssembly', () => {
+  /** Largest |ours − reference| over every bin, relative to the largest bin. */
+  function relativeError(got: Float64Array, want: ArrayLike<number>, bins: number): number {
+    let err = 0
+    let top = 0
+    for (let i = 0; i < 2 * bins; i++) {
+      err = Math.max(err, Math.abs(got[i] - want[i]))
+      top = Math.max(top, Math.abs(want[i]))
+    }
+    return err / top
+  }
+
+  it('X[k] = Σ x[n]·e^(−2πikn/N), the definition, for N = 8', () => {
+    const x = [0.5, -1, 0.25, 0.75, 0, -0.5, 1, 0.125]
+    const fft = new RealFft(8)
+    fft.input.set(x)
+    const want: number[] = []
+    for (let k = 0; k <= 4; k++) {
+      let re = 0
+      let im = 0
+      for (let n = 0; n < 8; n++) {
+        re += x[n] * Math.cos((2 * Math.PI * k * n) / 8)
+        im -= x[n] * Math.sin((2 * Math.PI * k * n) / 8)
+      }
+      want.push(re, im)
+    }
+    expect(relativeError(fft.transform(), want, 5)).toBeLessThan(1e-15)
+  })
+
+  it('numpy.fft.rfft gives the same bins to rounding, N = 4 to 65536 (tone, noise and DC)', () => {
+    const dir = mkdtempSync(path.join(tmpdir(), 'sf-fft-'))
+    try {
+      for (const n of [4, 32, 256, 4096, 16384, 65536]) {
+        const x = new Float64Array(n)
+        for (let i = 0; i < n; i++) x[i] = 0.3 + Math.sin((2 * Math.PI * 1000 * i) / 48000) + (rnd() - 0.5)
+        const file = path.join(dir, `x${n}.f64`)
+        writeFileSync(file, x)
+        const out = execFileSync(
+          '/usr/bin/python3',
+          [
+            '-c',
+            'import numpy, sys; X = numpy.fft.rfft(numpy.fromfile(sys.argv[1], "<f8")); sys.stdout.buffer.write(numpy.column_stack([X.real, X.imag]).astype("<f8").tobytes())',
+            file,
+          ],
+          { maxBuffer: 1 << 24 },
+        )
+        const want = new Float64Array(Uint8Array.from(out).buffer) // a copy: the output's offset need not be 8-aligned
+        const fft = new RealFft(n)
+        fft.input.set(x)
+        expect(want.length).toBe(n + 2)
+        expect(relativeError(fft.transform(), want, n / 2 + 1)).toBeLessThan(1e-13)
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true })
+    }
+  })
 })
