@@ -57,6 +57,25 @@ function excerptStarts(frames: number, length: number): number[] {
   return Array.from({ length: MAX_EXCERPTS }, (_, i) => Math.round((i * (frames - length)) / (MAX_EXCERPTS - 1)))
 }
 
+/**
+ * dst[at..] = the mean of the channels over planar[·][from..to). Its own function with a stereo path:
+ * a per-sample loop over the channels inside push stayed unoptimised (it runs a few times per take).
+ */
+function meanOfChannels(dst: Float32Array, at: number, planar: Float32Array[], from: number, to: number): void {
+  const channels = planar.length
+  if (channels === 2) {
+    const l = planar[0]
+    const r = planar[1]
+    for (let i = from, j = at; i < to; i++, j++) dst[j] = (l[i] + r[i]) / 2
+    return
+  }
+  for (let i = from, j = at; i < to; i++, j++) {
+    let s = 0
+    for (let ch = 0; ch < channels; ch++) s += planar[ch][i]
+    dst[j] = s / channels
+  }
+}
+
 export class CharacterMeter {
   private readonly analyser: ExcerptAnalyser
   private readonly excerpts: Excerpt[]
@@ -76,18 +95,13 @@ export class CharacterMeter {
   /** Planar blocks in order; only samples inside an excerpt are kept. */
   push(planar: Float32Array[]): void {
     const n = planar[0]?.length ?? 0
-    const channels = planar.length
     for (const ex of this.excerpts) {
       if (ex.filled >= ex.buffer.length) continue
       const from = Math.max(0, ex.start + ex.filled - this.position)
       const to = Math.min(n, ex.start + ex.buffer.length - this.position)
       if (to <= from) continue
       const b = ex.buffer
-      for (let i = from, j = ex.filled; i < to; i++, j++) {
-        let s = 0
-        for (let ch = 0; ch < channels; ch++) s += planar[ch][i]
-        b[j] = s / channels
-      }
+      meanOfChannels(b, ex.filled, planar, from, to)
       ex.filled += to - from
       if (ex.filled >= b.length) this.measureExcerpt(ex)
     }

@@ -54,6 +54,25 @@ export function glyphBands(sampleRate: number, fftSize: number) {
   return { centres, bins }
 }
 
+/**
+ * dst[at..] = the mean of the channels over planar[·][from..to). Its own function with a stereo path:
+ * a per-sample loop over the channels inside the caller stayed unoptimised and cost as much as the FFTs.
+ */
+function meanOfChannels(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
+  const channels = planar.length
+  if (channels === 2) {
+    const l = planar[0]
+    const r = planar[1]
+    for (let i = from, j = at; i < to; i++, j++) dst[j] = (l[i] + r[i]) / 2
+    return
+  }
+  for (let i = from, j = at; i < to; i++, j++) {
+    let v = 0
+    for (let ch = 0; ch < channels; ch++) v += planar[ch][i]
+    dst[j] = v / channels
+  }
+}
+
 export class GlyphMeter {
   private readonly size: number
   private readonly length: number
@@ -102,11 +121,7 @@ export class GlyphMeter {
       const w = this.active[a]
       const from = Math.max(0, w.start + w.filled - this.position)
       const to = Math.min(n, w.start + this.length - this.position)
-      for (let i = from, j = w.filled; i < to; i++, j++) {
-        let v = 0
-        for (let ch = 0; ch < planar.length; ch++) v += planar[ch][i]
-        w.buffer[j] = v / this.channels
-      }
+      meanOfChannels(w.buffer, w.filled, planar, from, to)
       w.filled += Math.max(0, to - from)
       if (w.filled >= this.length) {
         this.accumulate(w)
