@@ -1,7 +1,7 @@
 // The one pass over every sample that the cheap measurements share. Per block
 // and channel it computes the sum and sum of squares, and the low and high of
 // each 4-frame chunk (chunk c = frames 4c..4c+3 of the block; the last may be
-// partial); per chunk it also sums the squares over all channels. Levels, the
+// partial), with each chunk's sum and sum of squares. Levels, the
 // true-peak bound, the noise floor and the waveform overview read these
 // summaries instead of reading the samples again.
 
@@ -44,8 +44,6 @@ export class BlockScan {
   readonly sumSquares: Float64Array
   lo: Float32Array[]
   hi: Float32Array[]
-  /** Σx² over all channels per chunk. */
-  energy: Float64Array
   /** Per channel and chunk: Σx and Σx². */
   chunkSum: Float64Array[]
   chunkEnergy: Float64Array[]
@@ -63,7 +61,6 @@ export class BlockScan {
     this.sumSquares = new Float64Array(channels)
     this.lo = Array.from({ length: channels }, () => new Float32Array(0))
     this.hi = Array.from({ length: channels }, () => new Float32Array(0))
-    this.energy = new Float64Array(0)
     this.chunkSum = Array.from({ length: channels }, () => new Float64Array(0))
     this.chunkEnergy = Array.from({ length: channels }, () => new Float64Array(0))
   }
@@ -71,31 +68,27 @@ export class BlockScan {
   scan(planar: Float32Array[]): void {
     const n = planar[0]?.length ?? 0
     const chunks = Math.ceil(n / CHUNK)
-    if (this.energy.length < chunks) {
+    if ((this.chunkSum[0]?.length ?? chunks) < chunks) {
       this.lo = this.lo.map(() => new Float32Array(chunks))
       this.hi = this.hi.map(() => new Float32Array(chunks))
-      this.energy = new Float64Array(chunks)
       this.chunkSum = this.chunkSum.map(() => new Float64Array(chunks))
       this.chunkEnergy = this.chunkEnergy.map(() => new Float64Array(chunks))
     }
     this.frames = n
     this.chunks = chunks
-    // Channels go two at a time: independent chains for the CPU, and one store per chunk energy.
+    // Channels go two at a time: independent chains for the CPU.
     let ch = 0
     if (this.findsExtremes) {
-      for (; ch + 1 < this.channels; ch += 2) this.scanPair(ch, ch + 1, planar[ch], planar[ch + 1], n, ch > 0)
-      if (ch < this.channels) this.scanPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
+      for (; ch + 1 < this.channels; ch += 2) this.scanPair(ch, ch + 1, planar[ch], planar[ch + 1], n)
+      if (ch < this.channels) this.scanPair(ch, -1, planar[ch], planar[ch], n)
     } else {
-      for (; ch + 1 < this.channels; ch += 2) this.sumPair(ch, ch + 1, planar[ch], planar[ch + 1], n, ch > 0)
-      if (ch < this.channels) this.sumPair(ch, -1, planar[ch], planar[ch], n, ch > 0)
+      for (; ch + 1 < this.channels; ch += 2) this.sumPair(ch, ch + 1, planar[ch], planar[ch + 1], n)
+      if (ch < this.channels) this.sumPair(ch, -1, planar[ch], planar[ch], n)
     }
   }
 
   /** scanPair without the lows and highs (the same sums, in the same order). */
-  private sumPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
-    const e = this.energy
-    if (!accumulate) e.fill(0, 0, Math.ceil(n / CHUNK))
-    const both = b >= 0 ? 1 : 0
+  private sumPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number): void {
     const sumA = this.chunkSum[a],
       nrgA = this.chunkEnergy[a]
     const sumB = b < 0 ? sumA : this.chunkSum[b],
@@ -127,23 +120,16 @@ export class BlockScan {
       nrgA[c] = ea
       qa += ea
       qb += eb
-      e[c] += ea + both * eb
     }
     this.finishPair(a, b, xa, xb, i, n, c, sa, qa, sb, qb)
   }
 
-  /** Scans channels a and b (b = −1: a only); adds to the chunk energies when `accumulate`, else sets them. */
-  private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number, accumulate: boolean): void {
-    const e = this.energy
-    // The first pair sets the chunk energies, later pairs add to them: zeroing first lets the loop
-    // always add (0 + x is x exactly). A choice between the two inside the loop made V8 keep the
-    // running sums as heap numbers, allocating on every chunk.
-    if (!accumulate) e.fill(0, 0, Math.ceil(n / CHUNK))
+  /** Scans channels a and b (b = −1: a only). */
+  private scanPair(a: number, b: number, xa: Float32Array, xb: Float32Array, n: number): void {
     const loA = this.lo[a],
       hiA = this.hi[a]
     const loB = b < 0 ? loA : this.lo[b],
       hiB = b < 0 ? hiA : this.hi[b]
-    const both = b >= 0 ? 1 : 0
     const sumA = this.chunkSum[a],
       nrgA = this.chunkEnergy[a]
     const sumB = b < 0 ? sumA : this.chunkSum[b],
@@ -176,8 +162,6 @@ export class BlockScan {
       nrgA[c] = ea
       qa += ea
       qb += eb
-      const ec = ea + both * eb
-      e[c] += ec
       // Selects, not branches: on noise a branch here mispredicts half the time.
       const la = a0 < a1 ? a0 : a1,
         ha = a0 < a1 ? a1 : a0,
@@ -209,19 +193,15 @@ export class BlockScan {
     sb: number,
     qb: number,
   ): void {
-    const e = this.energy
     if (i < n) {
       const ta = tailChunk(xa, i, n, c, this.lo[a], this.hi[a], this.chunkSum[a], this.chunkEnergy[a])
       sa += ta.s
       qa += ta.q
-      let ec = ta.q
       if (b >= 0) {
         const tb = tailChunk(xb, i, n, c, this.lo[b], this.hi[b], this.chunkSum[b], this.chunkEnergy[b])
         sb += tb.s
         qb += tb.q
-        ec += tb.q
       }
-      e[c] += ec
     }
     this.sum[a] = sa
     this.sumSquares[a] = qa
