@@ -297,26 +297,27 @@ export class PreciseTruePeakMeter {
     const val = this.crestVal
     val.fill(0)
     const between = PreciseTruePeakMeter.between
-    // Walk the values in order (sample, four outputs, sample…), positions in eighths of a sample.
+    // Walk the values in order (sample, four outputs, sample…), positions in eighths of a sample;
+    // each value is looked at once the next is known. In one loop, not a closure: numbers a closure
+    // updates live on the heap, one allocation per value.
     let prev2 = between(x, from - 1, 3)
     let prev = Math.abs(x[from])
     let prevAt = from * 8
-    const consider = (v: number, at: number) => {
-      if (prev >= threshold && prev >= prev2 && prev >= v) {
-        let weakest = 0
-        for (let c = 1; c < CRESTS; c++) if (val[c] < val[weakest]) weakest = c
-        if (prev > val[weakest]) {
-          val[weakest] = prev
-          pos[weakest] = prevAt
-        }
-      }
-      prev2 = prev
-      prev = v
-      prevAt = at
-    }
     for (let n = from; n < to; n++) {
-      for (let m = 0; m < 4; m++) consider(between(x, n, m), n * 8 + 2 * m + 1)
-      consider(Math.abs(x[n + 1]), (n + 1) * 8)
+      for (let m = 0; m <= 4; m++) {
+        const v = m < 4 ? between(x, n, m) : Math.abs(x[n + 1])
+        if (prev >= threshold && prev >= prev2 && prev >= v) {
+          let weakest = 0
+          for (let c = 1; c < CRESTS; c++) if (val[c] < val[weakest]) weakest = c
+          if (prev > val[weakest]) {
+            val[weakest] = prev
+            pos[weakest] = prevAt
+          }
+        }
+        prev2 = prev
+        prev = v
+        prevAt = m < 4 ? n * 8 + 2 * m + 1 : (n + 1) * 8
+      }
     }
     let best = 0
     for (let c = 0; c < CRESTS; c++) if (val[c] > 0) best = Math.max(best, refine(x, (pos[c] * PHASES) / 8))
