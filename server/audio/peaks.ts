@@ -111,6 +111,22 @@ class LevelWriter {
   }
 }
 
+/**
+ * Widens channel c of the level's current pixel by lo[from..to) and hi[from..to) (chunk lows and
+ * highs, or the samples themselves as both). A function of its own: with both loops inline in push,
+ * V8 kept push unoptimised and this ran at a quarter of the speed.
+ */
+function extend(level: LevelWriter, c: number, lo: Float32Array, hi: Float32Array, from: number, to: number): void {
+  let l = level.min[c]
+  let h = level.max[c]
+  for (let k = from; k < to; k++) {
+    if (lo[k] < l) l = lo[k]
+    if (hi[k] > h) h = hi[k]
+  }
+  level.min[c] = l
+  level.max[c] = h
+}
+
 function clamp(v: number): number {
   return v > 1 ? 1 : v < -1 ? -1 : v
 }
@@ -145,26 +161,9 @@ export class PeaksBuilder {
     while (offset < n) {
       const end = Math.min(n, offset + BASE_SAMPLES_PER_PIXEL - this.inPixel)
       for (let c = 0; c < this.f.channels; c++) {
-        let lo = finest.min[c]
-        let hi = finest.max[c]
-        if (fromChunks) {
-          // offset is a multiple of CHUNK here; a partial last chunk covers exactly the block's end.
-          const l = scan.lo[c]
-          const h = scan.hi[c]
-          for (let k = offset / CHUNK, last = Math.ceil(end / CHUNK); k < last; k++) {
-            if (l[k] < lo) lo = l[k]
-            if (h[k] > hi) hi = h[k]
-          }
-        } else {
-          const x = planar[c]
-          for (let i = offset; i < end; i++) {
-            const v = x[i]
-            if (v < lo) lo = v
-            if (v > hi) hi = v
-          }
-        }
-        finest.min[c] = lo
-        finest.max[c] = hi
+        // offset is a multiple of CHUNK here; a partial last chunk covers exactly the block's end.
+        if (fromChunks) extend(finest, c, scan.lo[c], scan.hi[c], offset / CHUNK, Math.ceil(end / CHUNK))
+        else extend(finest, c, planar[c], planar[c], offset, end)
       }
       this.inPixel += end - offset
       this.frames += end - offset
