@@ -60,25 +60,25 @@ const align = (byte: number) => Math.ceil(byte / 16) * 16
 
 /** Bit reversal of M indices, the butterflies' twiddles and the real split's (see wasm/fft.as.ts). */
 function fillTables(m: number, rev: Int32Array, tw: Float64Array, post: Float64Array): void {
-  const bits = Math.log2(m)
-  for (let n = 0; n < m; n++) {
-    let r = 0
-    for (let b = 0, v = n; b < bits; b++, v >>= 1) r = (r << 1) | (v & 1)
-    rev[n] = r
+  const top = m >> 1
+  rev[0] = 0
+  for (let n = 1; n < m; n++) rev[n] = (rev[n >> 1] >> 1) | (n & 1 ? top : 0)
+  for (let k = 0; k <= m; k++) {
+    post[2 * k] = Math.cos((Math.PI * k) / m)
+    post[2 * k + 1] = -Math.sin((Math.PI * k) / m)
   }
+  // A span-h twiddle's angle πj/h is the split's πk/M at k = j·M/h (the same number: h and M are
+  // powers of two, so the scalings are exact), so it is read from that table instead of recomputed.
   for (let h = 1; h < m; h <<= 1) {
+    const step = m / h
     for (let j = 0; j < h; j++) {
-      const c = Math.cos((Math.PI * j) / h)
-      const s = Math.sin((Math.PI * j) / h)
+      const c = post[2 * j * step]
+      const s = -post[2 * j * step + 1]
       const at = 4 * (h + j)
       tw[at] = c
       tw[at + 1] = c
       tw[at + 2] = s
       tw[at + 3] = -s
     }
-  }
-  for (let k = 0; k <= m; k++) {
-    post[2 * k] = Math.cos((Math.PI * k) / m)
-    post[2 * k + 1] = -Math.sin((Math.PI * k) / m)
   }
 }
