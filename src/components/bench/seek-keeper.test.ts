@@ -109,6 +109,23 @@ describe('seeks on the field strip', () => {
     expect(media.currentTime).toBe(18.5)
   })
 
+  it("the player's own repeat of a held seek (at 'canplay') is not taken for another control's, so later steps still count", () => {
+    const { media, keeper } = bench(19)
+    // Two quick presses at the end: the second is held by the player while the element seeks.
+    keeper.seek(20)
+    keeper.seek(20)
+    media.deliver()
+    // The seek lands; at 'canplay' the player applies its held time again: a second seek to 20 s.
+    media.land()
+    expect(media.seeking).toBe(true)
+    // Three quick steps back during that repeat.
+    for (let i = 0; i < 3; i++) keeper.seek(keeper.position() - 2)
+    expect(keeper.position()).toBe(14)
+    media.settle()
+    expect(media.currentTime).toBe(14)
+    expect(keeper.position()).toBe(14)
+  })
+
   it('a seek made elsewhere on the same element (the now-playing strip) wins over a step still on its way', () => {
     const { media, keeper } = bench(8.5)
     keeper.seek(9)

@@ -31,28 +31,35 @@ export interface SeekKeeper {
 const NEAR = 0.01
 /** Times the same ask is repeated before the keeper accepts where the element stopped. */
 const MAX_RETRIES = 3
+/** Times remembered as ours: more than quick presses can queue up while one seek runs. */
+const RECENT = 32
 
 export function keepSeeks(
   media: SeekMedia,
   player: { setTime: (t: number) => void; position: () => number },
 ): SeekKeeper {
   let asked: number | null = null
-  // Every time handed to the player since the last landing: a 'seeking' to one of
-  // them is ours on its way; to anything else, another control moved the media.
-  let sent: number[] = []
+  // The last times handed to the player, landed or not: a 'seeking' to one of them is
+  // ours, to anything else another control moved the media. Kept past a landing, because
+  // the player repeats a held seek at 'canplay', after the first one has landed.
+  const recent: number[] = []
   let retries = 0
   const near = (a: number, b: number) => Math.abs(a - b) <= NEAR
   const forget = () => {
     asked = null
-    sent = []
   }
   const send = (t: number) => {
-    sent.push(t)
+    recent.push(t)
+    if (recent.length > RECENT) recent.shift()
     player.setTime(t)
   }
 
   const onSeeking = () => {
-    if (asked !== null && !sent.some((t) => near(t, media.currentTime))) forget()
+    if (asked !== null && !recent.some((t) => near(t, media.currentTime))) forget()
+  }
+  const onEmptied = () => {
+    forget()
+    recent.length = 0
   }
   const onSeeked = () => {
     if (asked === null || media.seeking) return
@@ -62,7 +69,7 @@ export function keepSeeks(
   }
   media.addEventListener('seeking', onSeeking)
   media.addEventListener('seeked', onSeeked)
-  media.addEventListener('emptied', forget)
+  media.addEventListener('emptied', onEmptied)
   media.addEventListener('error', forget)
 
   return {
@@ -78,9 +85,9 @@ export function keepSeeks(
     stop() {
       media.removeEventListener('seeking', onSeeking)
       media.removeEventListener('seeked', onSeeked)
-      media.removeEventListener('emptied', forget)
+      media.removeEventListener('emptied', onEmptied)
       media.removeEventListener('error', forget)
-      forget()
+      onEmptied()
     },
   }
 }
