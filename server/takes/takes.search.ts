@@ -38,6 +38,29 @@ const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: strin
   status: { col: 'status', index: 'takes_status' },
 }
 
+/**
+ * The take's own columns that filters test. Every sort index above carries
+ * them after its sort column and the id (migration walk_indexes), so a page
+ * walking one checks them on the entry it is on, with no seek per take;
+ * tests/api/library-search.test.ts checks the indexes hold them all.
+ */
+export const FILTERED_COLUMNS = [
+  'status',
+  'hum_hz',
+  'sample_rate',
+  'channels',
+  'session_id',
+  'uploader_id',
+  'duration_seconds',
+  'integrated_lufs',
+  'true_peak_dbtp',
+  'loudness_range_lu',
+] as const
+type Filtered = (typeof FILTERED_COLUMNS)[number]
+
+/** The sort indexes a page walks (every sort but the session's). */
+export const SORT_INDEXES = Object.values(SORTS).flatMap((s) => (s.index ? [s.index] : []))
+
 /** Columns that are never NULL: they sort without the "unmeasured last" part. */
 const NOT_NULL = new Set<TakeSort>(['createdAt', 'title', 'filename', 'session', 'status'])
 
@@ -95,15 +118,16 @@ interface Condition {
 }
 
 const col = (t: string, name: string) => sql.ref(`${t}.${name}`)
+const filtered = (t: string, name: Filtered) => col(t, name)
 
 /** A range filter on one measured column: one condition for min and max together. */
-function range(name: string, min: number | undefined, max: number | undefined): Condition[] {
+function range(name: Filtered, min: number | undefined, max: number | undefined): Condition[] {
   if (min === undefined && max === undefined) return []
   const test = (t: string) =>
     sql.join(
       [
-        ...(min !== undefined ? [sql`${col(t, name)} >= ${min}`] : []),
-        ...(max !== undefined ? [sql`${col(t, name)} <= ${max}`] : []),
+        ...(min !== undefined ? [sql`${filtered(t, name)} >= ${min}`] : []),
+        ...(max !== undefined ? [sql`${filtered(t, name)} <= ${max}`] : []),
       ],
       sql` AND `,
     )
@@ -111,9 +135,9 @@ function range(name: string, min: number | undefined, max: number | undefined): 
 }
 
 /** An equality filter on an indexed column of takes. */
-const equal = (name: string, value: number | string): Condition => ({
+const equal = (name: Filtered, value: number | string): Condition => ({
   ids: sql`SELECT id FROM takes WHERE ${sql.ref(name)} = ${value}`,
-  column: (t) => sql`${col(t, name)} = ${value}`,
+  column: (t) => sql`${filtered(t, name)} = ${value}`,
 })
 
 function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
@@ -170,23 +194,32 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
       // The hum index alone (status would need each row): the unmeasured takes it adds are checked out.
       ids: sql`SELECT id FROM takes WHERE hum_hz IS NULL`,
       idsWider: true,
-      column: (t) => sql`${col(t, 'hum_hz')} IS NULL AND ${col(t, 'status')} = 'ready'`,
+      column: (t) => sql`${filtered(t, 'hum_hz')} IS NULL AND ${filtered(t, 'status')} = 'ready'`,
     })
   if (q.status) c.push(equal('status', q.status))
   return c
 }
 
-/** Every condition but `except`, for the take whose id is `id`; takes in the Removed list never match (see takes.removal.ts). */
-function checks(conds: Condition[], id: RawBuilder<unknown>, except?: Condition): RawBuilder<unknown>[] {
+/**
+ * Every condition but `except`, for the take whose id is `id`; takes in the Removed list never match (see takes.removal.ts).
+ * `walked`: the query walks a sort index, which carries the FILTERED_COLUMNS: the take's own numbers are tested there.
+ */
+function checks(
+  conds: Condition[],
+  id: RawBuilder<unknown>,
+  except?: Condition,
+  walked?: string,
+): RawBuilder<unknown>[] {
   const rest = conds.filter((c) => c !== except || c.idsWider)
-  const columns = rest.filter((c) => c.column).map((c) => c.column!('t'))
+  const columns = rest.filter((c) => c.column).map((c) => c.column!(walked ?? 't'))
+  const own = walked
+    ? columns
+    : [
+        sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
+      ]
   return [
-    // The take's own numbers first: one seek in the narrow index, and most takes stop there.
-    ...(columns.length
-      ? [
-          sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
-        ]
-      : []),
+    // The take's own numbers first (in place, or one seek in the narrow index): most takes stop there.
+    ...(columns.length ? own : []),
     ...rest.filter((c) => c.holds).map((c) => c.holds!(id)),
     sql`${id} NOT IN (SELECT take_id FROM take_removals)`,
   ]
@@ -217,7 +250,7 @@ async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
  * newest first (FTS5 walks its id order), at most `most` of them; when those
  * run out before `cap` takes pass, the ranked set is the passing takes among
  * them and `found` says how many (older matches may exist). No floor when
- * every text match was read: all are ranked.
+ * every text match was read: all are ranked, and `all` is how many pass (the exact count).
  */
 async function rankFloor(db: Db, conds: Condition[], text: Condition, fts: string, cap: number, most = RANK_BUDGET) {
   const budget = Math.max(most, cap)
@@ -230,7 +263,7 @@ async function rankFloor(db: Db, conds: Condition[], text: Condition, fts: strin
     seen: number
     edge: number | null
   }>`SELECT count(*) AS seen, min(id) AS edge FROM (${newest})`.execute(db)
-  if (Number(e.rows[0].seen) < budget) return { floor: null }
+  if (Number(e.rows[0].seen) < budget) return { floor: null, all: found }
   return { floor: Number(e.rows[0].edge), found }
 }
 
@@ -297,7 +330,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
 
   let ids: number[]
-  let ranked: { floor: number | null; found?: number } | undefined
+  let ranked: { floor: number | null; found?: number; all?: number } | undefined
   if (sort === 'relevance') {
     const cap = Math.max(opts.rankCap ?? RANK_CAP, offset + q.pageSize)
     ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
@@ -319,7 +352,15 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   } else if (sort === 'session') {
     ids = await walkSessions(db, desc, checks(conds, ID), q.pageSize, offset)
   } else {
-    ids = await walkSortIndex(db, SORTS[sort], !NOT_NULL.has(sort), order, checks(conds, ID), q.pageSize, offset)
+    ids = await walkSortIndex(
+      db,
+      SORTS[sort],
+      !NOT_NULL.has(sort),
+      order,
+      checks(conds, ID, undefined, 'takes'),
+      q.pageSize,
+      offset,
+    )
   }
 
   // The count reads the driver's or the smallest condition's takes, at most COUNT_BUDGET of them, and checks the rest.
@@ -331,6 +372,10 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   if (ranked?.found !== undefined) {
     total = ranked.found
     totalCapped = true
+  } else if (ranked?.all !== undefined) {
+    // Every text match was read while finding the ranked set: the passing ones are already counted.
+    total = Math.min(ranked.all, countUpTo)
+    totalCapped = ranked.all > countUpTo
   } else if (!(offset === 0 && ids.length < q.pageSize)) {
     const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
     const source = driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`

@@ -2,6 +2,8 @@
 // filter, each sort column in both orders, paging, full-text search over every
 // field that feeds it, and hostile search strings.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { sql } from 'kysely'
+import { FILTERED_COLUMNS, SORT_INDEXES } from '../../server/takes/takes.search'
 import { TAKE_SORTS, TakePage, type TakeSort } from '@shared/schemas/takes'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { FIXTURE_SESSIONS, FIXTURE_TAKES, seedLibrary, type FixtureTake, type SeededLibrary } from './library-fixtures'
@@ -338,5 +340,19 @@ describe('hostile search strings', () => {
     const res = await reader.get(`/api/takes?q=${'y'.repeat(501)}`)
     expect(res.status).toBe(400)
     expect(res.body.error.code).toBe('VALIDATION_FAILED')
+  })
+})
+
+describe('the indexes a sorted page walks', () => {
+  it('carry every column a filter tests, after the sort column and the id', async () => {
+    // A walk tests filters on the index entry it is on; a missing column would make SQLite read each wide take row.
+    expect(SORT_INDEXES.length).toBeGreaterThan(10)
+    for (const index of SORT_INDEXES) {
+      const cols = (
+        await sql<{ name: string }>`SELECT name FROM pragma_index_info(${index}) ORDER BY seqno`.execute(server.ctx.db)
+      ).rows.map((r) => r.name)
+      expect(cols[1], index).toBe('id')
+      for (const c of FILTERED_COLUMNS) if (c !== cols[0]) expect(cols, index).toContain(c)
+    }
   })
 })
