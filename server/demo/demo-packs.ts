@@ -96,7 +96,7 @@ async function ensureDemoPacks(ctx: AppContext, signal: AbortSignal): Promise<vo
   const started = Date.now()
   const s = (ms: number) => `${(ms / 1000).toFixed(1)} s`
   for (const p of DEMO_PACKS) {
-    const packId = (await findPackId(ctx, p.body.name)) ?? (await makePack(ctx, designer, p, signal))
+    const packId = await makePack(ctx, designer, p, signal)
     if (packId === null) return
     if (!p.publishNote) continue
     const made = Date.now()
@@ -123,8 +123,17 @@ async function findPackId(ctx: AppContext, name: string): Promise<number | null>
   return r?.id ?? null
 }
 
-/** Waits for the pack's takes to be measured, then creates it with its items in one go; null when a take failed or the run was stopped. */
+/**
+ * The pack as an earlier start left it, or made now: waits for its takes to be measured, then creates
+ * it and adds its items (also to a pack of that name a stopped start left empty); null when a take
+ * failed or the run was stopped.
+ */
 async function makePack(ctx: AppContext, designer: User, p: DemoPack, signal: AbortSignal): Promise<number | null> {
+  const found = await findPackId(ctx, p.body.name)
+  if (found !== null) {
+    const item = await ctx.db.selectFrom('pack_items').select('id').where('pack_id', '=', found).executeTakeFirst()
+    if (item) return found
+  }
   const takes = await measuredTakes(ctx, [...new Set(p.items.map((i) => i.file))], signal)
   if (!takes) return null
   const items: AddItemBody[] = []
@@ -148,9 +157,9 @@ async function makePack(ctx: AppContext, designer: User, p: DemoPack, signal: Ab
     )
   }
   if (signal.aborted) return null
-  const pack = await createPack(ctx, designer, p.body)
-  await addItems(ctx, designer, pack.id, items)
-  return pack.id
+  const packId = found ?? (await createPack(ctx, designer, p.body)).id
+  await addItems(ctx, designer, packId, items)
+  return packId
 }
 
 /** The demo takes by file name once all are measured; null when one failed or is missing, or the run was stopped. */
