@@ -61,7 +61,9 @@ describe('the shortest selection', () => {
     expect(await page.locator('[data-test=quick-export-download]').isDisabled()).toBe(false)
     await page.locator('[data-test=add-to-pack-button]').click()
     await expect
-      .poll(async () => (await designer.get(`/api/packs/${pack.id}`).expect(200)).body.pack.items.length)
+      .poll(async () => (await designer.get(`/api/packs/${pack.id}`).expect(200)).body.pack.items.length, {
+        timeout: 15_000,
+      })
       .toBe(1)
     const [item] = (await designer.get(`/api/packs/${pack.id}`)).body.pack.items
     expect(item.endSeconds - item.startSeconds).toBeGreaterThanOrEqual(0.02)
