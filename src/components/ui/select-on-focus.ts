@@ -13,15 +13,15 @@ const onFocus = (e: Event) => {
   fresh.add(el)
   el.select()
 }
-// The browser collapses the selection on mouseup; taking that default once keeps the whole name selected.
+// A press inside selected text collapses the selection only on mouseup (the
+// browser waits to see whether the text is dragged away); taking that default
+// once keeps the whole name selected. A press that placed a caret selects all again.
 const onMouseUp = (e: MouseEvent) => {
   const el = e.target as Field
   if (!fresh.has(el)) return
   fresh.delete(el)
-  if (el.selectionStart === el.selectionEnd) {
-    e.preventDefault()
-    el.select()
-  }
+  e.preventDefault()
+  if (el.selectionStart === el.selectionEnd) el.select()
 }
 const onInput = (e: Event) => fresh.delete(e.target as Field)
 
