@@ -196,7 +196,7 @@ describe('the listening bench on a phone', () => {
 
     await page.locator('[data-test=save-region]').click()
     const name = page.locator('[data-test=region-name]')
-    await name.waitFor()
+    await name.waitFor({ timeout: 15_000 })
     expect(await name.inputValue()).toBe('Region 1')
     // A click into the field keeps the suggestion selected, so typing replaces it.
     await name.click()
@@ -208,7 +208,7 @@ describe('the listening bench on a phone', () => {
     // Add the selection to a pack: the notice shows in the flow under the row, over no button.
     const add = page.locator('[data-test=add-to-pack]')
     await add.locator('.el-select').first().click()
-    await page.locator('.el-select-dropdown__item:visible', { hasText: 'Hallway beds' }).click()
+    await page.locator('.el-select-dropdown__item:visible', { hasText: 'Hallway beds' }).click({ timeout: 15_000 })
     await add.getByRole('button', { name: /Add selection to pack/ }).click()
     const notice = page.locator('[data-test=notice-slot-bench-selection] [data-test=notice]')
     await screenshot(page, 'phone-forms-bench-adding')
@@ -223,10 +223,9 @@ describe('the listening bench on a phone', () => {
     await screenshot(page, 'phone-forms-bench-notice')
 
     // The keys panel fits the phone.
-    await page.locator('body').click({ position: { x: 5, y: 5 } })
     await page.keyboard.press('?')
     const keys = page.locator('.el-dialog', { hasText: 'Keys on the listening bench' })
-    await keys.waitFor()
+    await keys.waitFor({ timeout: 15_000 })
     // Polled: the dialog grows into place.
     await expect.poll(() => inside(page, keys)).toBe(true)
     await expect.poll(() => inside(page, keys.locator('.el-dialog__headerbtn'), true)).toBe(true)
@@ -278,6 +277,17 @@ describe('pickers in our own look', () => {
         expect(await page.locator(`[data-test=${t}]`).evaluate((e) => getComputedStyle(e).backgroundImage), t).toBe(
           caret,
         )
+
+      // The light theme: the same shapes, its own caret ink.
+      if (size === DESKTOP) {
+        await page.locator('[data-test=theme-toggle]').click()
+        await expect.poll(() => page.evaluate(() => document.documentElement.classList.contains('dark'))).toBe(false)
+        const light = await source.locator('.el-select__caret').evaluate((e) => getComputedStyle(e).backgroundImage)
+        expect(light).not.toBe(caret)
+        await page.locator('[data-test=filter-tag]').click()
+        await page.locator('.el-select__popper:visible').waitFor({ timeout: 15_000 })
+        await screenshot(page, 'phone-forms-picker-1440-light')
+      }
       await page.context().close()
     })
   }
