@@ -64,6 +64,10 @@ async function inside(page: Page, loc: Locator, vertical = false) {
   return vertical ? across && b.y >= 0 && b.y + b.height <= vp.height + 0.5 : across
 }
 
+/** Waits until an opened list or calendar has finished growing into place (no running transition), for its screenshot. */
+const settled = (loc: Locator) =>
+  expect.poll(() => loc.evaluate((e) => (e.closest('.el-popper') ?? e).getAnimations({ subtree: true }).length)).toBe(0)
+
 describe('capture session forms on a phone', () => {
   it('New capture session: every field and Save inside the screen; typed and saved', async () => {
     const page = await pageAs('recordist@example.test', PHONE)
@@ -90,6 +94,7 @@ describe('capture session forms on a phone', () => {
     // The chosen day: a rounded square in the accent, not the stock circle.
     const chosen = panel.locator('td.current .el-date-table-cell__text')
     expect(await chosen.evaluate((e) => getComputedStyle(e).borderRadius)).toBe('6px')
+    await settled(panel)
     await screenshot(page, 'phone-forms-calendar')
     await page.keyboard.press('Escape')
     await panel.waitFor({ state: 'hidden' })
@@ -115,6 +120,19 @@ describe('capture session forms on a phone', () => {
     await save.scrollIntoViewIfNeeded()
     expect(await inside(page, save, true)).toBe(true)
     await screenshot(page, 'phone-forms-edit-session')
+    await page.context().close()
+  })
+  it('on a desktop the form keeps its columns at 640 px', async () => {
+    const page = await pageAs('recordist@example.test', DESKTOP)
+    await page.goto(`${server.url}/captures`)
+    await page.locator('[data-test=new-session]').click()
+    const dialog = page.locator('.el-dialog', { hasText: 'New capture session' })
+    await dialog.waitFor()
+    await expect.poll(async () => Math.round((await dialog.boundingBox())!.width)).toBe(640)
+    const title = (await dialog.locator('input[name=title]').boundingBox())!
+    const date = (await dialog.locator('input[name=date]').boundingBox())!
+    expect(Math.abs(title.y - date.y), 'title and date share a line').toBeLessThan(4)
+    await screenshot(page, 'phone-forms-new-session-desktop')
     await page.context().close()
   })
 })
@@ -263,6 +281,7 @@ describe('pickers in our own look', () => {
       // Its tag in the field: a capsule.
       const tag = source.locator('.el-tag').first()
       expect(await tag.evaluate((e) => getComputedStyle(e).borderRadius)).toBe('999px')
+      await settled(list)
       await screenshot(page, `phone-forms-picker-${size.width}`)
 
       // A name that matches nothing gets our own words.
@@ -285,7 +304,9 @@ describe('pickers in our own look', () => {
         const light = await source.locator('.el-select__caret').evaluate((e) => getComputedStyle(e).backgroundImage)
         expect(light).not.toBe(caret)
         await page.locator('[data-test=filter-tag]').click()
-        await page.locator('.el-select__popper:visible').waitFor({ timeout: 15_000 })
+        const tags = page.locator('.el-select__popper:visible')
+        await tags.waitFor({ timeout: 15_000 })
+        await settled(tags)
         await screenshot(page, 'phone-forms-picker-1440-light')
       }
       await page.context().close()
