@@ -16,7 +16,7 @@ const onFocus = (e: Event) => {
 // A press inside selected text collapses the selection only on mouseup (the
 // browser waits to see whether the text is dragged away); taking that default
 // once keeps the whole name selected. A press that placed a caret selects all again.
-const onMouseUp = (e: MouseEvent) => {
+const onMouseUp = (e: Event) => {
   const el = e.target as Field
   if (!fresh.has(el)) return
   fresh.delete(el)
