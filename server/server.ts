@@ -5,6 +5,7 @@ import { migrateToLatest, openDatabase } from './core/database'
 import { createMailer } from './mail/mailer'
 import { createApp } from './app'
 import { seedDemo } from './demo/seed'
+import { startDemoPacks } from './demo/demo-packs'
 import type { AppContext } from './core/context'
 import { openStorage } from './core/storage'
 import { lockData, type DataLock } from './core/data-lock'
@@ -22,6 +23,8 @@ export interface RunningServer {
   port: number
   ctx: AppContext
   http: http.Server
+  /** Settles once the demo's packs are in place (at once when there is no demo library). */
+  demoPacks: Promise<void>
   stop(): Promise<void>
 }
 
@@ -64,6 +67,9 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
       })
   if (config.demo) await seedDemo(ctx)
   if (config.runJobs) await ctx.jobs.start()
+  // The demo's published and draft packs need measured takes and a build job, so they come after
+  // the jobs start and the server does not wait for them.
+  const demoPacks = config.demo && config.demoAudio && config.runJobs ? startDemoPacks(ctx) : null
   // Removed takes older than 30 days are purged with their files, at start and daily.
   const stopRemovalSweep = startRemovalSweep(db, storage)
   const built = await createApp(ctx)
@@ -83,8 +89,10 @@ async function startLocked(config: Config, lock: DataLock): Promise<RunningServe
     port,
     ctx,
     http: server,
+    demoPacks: demoPacks?.done ?? Promise.resolve(),
     async stop() {
       try {
+        await demoPacks?.stop()
         await new Promise<void>((resolve) => {
           server.close(() => resolve())
           server.closeAllConnections()

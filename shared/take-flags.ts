@@ -70,16 +70,14 @@ function clippingOf(analysis: Rec, format: FlaggableTake['format']): Clipping | 
   return { share: count / total, longestSeconds }
 }
 
-/** The highest true peak the analysis holds: the plain figure or any more accurate one beside it. */
+/**
+ * The take's true peak: the BS.1770-4 Annex 2 figure (`levels.truePeakDbtp`), the one every list
+ * shows, so the flag's words repeat the number beside it. The high-accuracy figure beside it assumes
+ * silence around the take (an abrupt start reads higher) and is a different quantity.
+ */
 function truePeakOf(analysis: Rec): number | null {
   const levels = isRec(analysis.levels) ? analysis.levels : null
-  if (!levels) return null
-  let best: number | null = null
-  for (const [key, value] of Object.entries(levels)) {
-    const v = num(value)
-    if (v !== null && /^truePeak.*Dbtp$/.test(key) && (best === null || v > best)) best = v
-  }
-  return best
+  return levels ? num(levels.truePeakDbtp) : null
 }
 
 /** Every flag of one take, in a fixed order (clipped, over the ceiling, too quiet). Unmeasured takes have none. */

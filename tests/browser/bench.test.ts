@@ -45,6 +45,39 @@ afterAll(async () => {
 const secondsOf = (text: string) => parseRulerTime(text.split('/')[0].trim())
 const box = async (sel: string) => (await page.locator(sel).first().boundingBox())!
 
+/**
+ * The playhead where the strip's media element has landed: no seek running and data to play from there.
+ * Read only then, as a person looks once the line stops: a lost seek shows as the position it fell back to.
+ */
+async function landedPlayhead() {
+  const settled = () =>
+    page.evaluate(() => {
+      const m = document.querySelector<HTMLAudioElement>('[data-test=field-strip] audio')!
+      return !m.seeking && m.readyState >= HTMLMediaElement.HAVE_FUTURE_DATA
+    })
+  await expect.poll(settled, { timeout: 15_000 }).toBe(true)
+  return secondsOf(await page.locator('[data-test=playhead]').innerText())
+}
+
+/**
+ * Chromium's CPU throttling (DevTools' slowdown; common practice for a slower computer): a seek then
+ * outlasts the gap between quick presses, so they arrive while the media element is still seeking.
+ */
+async function onASlowerComputer(run: () => Promise<void>) {
+  const cdp = await context.newCDPSession(page)
+  await cdp.send('Emulation.setCPUThrottlingRate', { rate: 6 })
+  try {
+    await run()
+  } finally {
+    await cdp.send('Emulation.setCPUThrottlingRate', { rate: 1 })
+    await cdp.detach()
+  }
+}
+/** Quick presses of one key, one after the other without waiting for anything between them. */
+async function press(key: string, times: number) {
+  for (let i = 0; i < times; i++) await page.keyboard.press(key)
+}
+
 async function openBench() {
   await page.goto(`${server.url}/takes/${whineId}`)
   await page.locator('[data-test=waveform] canvas').first().waitFor({ timeout: 20_000 })
@@ -95,7 +128,8 @@ describe('field strip', () => {
     await page.keyboard.press('Enter')
     const lane = page.locator('[data-test=region-lane]')
     await expect.poll(() => lane.innerText()).toContain('Clean whine')
-    expect(await name.count()).toBe(0)
+    // The name field closes once the save has also reloaded the take's history (a second request).
+    await expect.poll(() => name.count()).toBe(0)
     // Its name sits in the lane under the strip, from 20 % of the strip on.
     const label = await lane.getByRole('button', { name: /Clean whine/ }).boundingBox()
     expect(Math.abs(label!.x - (w.x + w.width * 0.2))).toBeLessThan(w.width * 0.02)
@@ -103,6 +137,8 @@ describe('field strip', () => {
   })
 
   it('a click seeks; + zooms with the ruler and the spectrogram on the same range; arrows nudge a tenth of it', async () => {
+    // Its own page load, so it runs alone too (vitest -t nudge).
+    await openBench()
     const asked: { start: number; end: number }[] = []
     page.on('request', (r) => {
       const u = new URL(r.url())
@@ -177,21 +213,70 @@ describe('field strip', () => {
     // [ and ] set the selection's ends at the playhead.
     const at = secondsOf(await page.locator('[data-test=playhead]').innerText())
     await page.keyboard.press('[')
-    await page.keyboard.press('ArrowRight')
-    // A seek lands when the media element says so: wait for the playhead to get there, as a person would look.
-    await expect
-      .poll(async () => secondsOf(await page.locator('[data-test=playhead]').innerText()))
-      .toBeCloseTo(at + (view.end - view.start) / 10, 1)
-    await page.keyboard.press(']')
+    await onASlowerComputer(async () => {
+      await press('ArrowRight', 3)
+      // A seek lands when the media element says so: wait for the playhead to get there, as a person would look.
+      await expect.poll(landedPlayhead).toBeCloseTo(at + (3 * (view.end - view.start)) / 10, 1)
+      await page.keyboard.press(']')
+    })
     expect(secondsOf(await page.locator('[data-test=selection-start]').innerText())).toBeCloseTo(at, 1)
     expect(secondsOf(await page.locator('[data-test=selection-end]').innerText())).toBeCloseTo(
-      at + (view.end - view.start) / 10,
+      at + (3 * (view.end - view.start)) / 10,
       1,
     )
 
     await page.getByRole('button', { name: 'Taller waveform (vertical zoom in)' }).click()
     await expect.poll(() => page.locator('.amp-top').innerText()).toBe('\u22126 dBFS')
     await screenshot(page, 'bench-zoomed-1440')
+  })
+})
+
+describe('quick arrow nudges', () => {
+  const ruler = () => page.locator('[data-test=ruler]')
+  const range = async () => ({
+    start: Number(await ruler().getAttribute('data-start')),
+    end: Number(await ruler().getAttribute('data-end')),
+  })
+  const clickAt = async (fraction: number) => {
+    const w = await box('[data-test=waveform]')
+    await page.mouse.click(w.x + w.width * fraction, w.y + w.height / 2)
+  }
+
+  it("every press counts, both ways and past the edges of a zoomed view, and the playhead stops at the take's ends", async () => {
+    await openBench()
+    await expect.poll(async () => (await range()).end - (await range()).start).toBeCloseTo(DURATION, 1)
+    // The whole take in view: a press is a tenth of it, 2 s.
+    await clickAt(0.95)
+    await expect.poll(landedPlayhead).toBeCloseTo(DURATION * 0.95, 0)
+    await onASlowerComputer(async () => {
+      await press('ArrowRight', 3)
+      await expect.poll(landedPlayhead).toBeCloseTo(DURATION, 1)
+      await press('ArrowLeft', 3)
+      await expect.poll(landedPlayhead).toBeCloseTo(DURATION - 3 * 2, 1)
+    })
+
+    // Zoomed in twice around 1 s: a 5 s view, a press is 0.5 s.
+    await clickAt(0.05)
+    await expect.poll(landedPlayhead).toBeCloseTo(DURATION * 0.05, 0)
+    await press('+', 2)
+    await expect.poll(async () => (await range()).end - (await range()).start).toBeCloseTo(DURATION / 4, 1)
+    const span = (await range()).end - (await range()).start
+    let first = await range()
+    await onASlowerComputer(async () => {
+      await press('ArrowLeft', 3)
+      await expect.poll(landedPlayhead).toBe(0)
+      first = await range()
+      // Thirteen steps right carry the playhead past the view's right edge; the view follows it.
+      await press('ArrowRight', 13)
+      await expect.poll(landedPlayhead).toBeCloseTo((13 * span) / 10, 1)
+    })
+    const head = await landedPlayhead()
+    await expect.poll(async () => (await range()).start).toBeLessThanOrEqual(head + 0.01)
+    await expect.poll(async () => (await range()).end).toBeGreaterThanOrEqual(head)
+    // It left the place it had: the playhead went past its right edge.
+    expect(head).toBeGreaterThan(first.end)
+    expect((await range()).start).toBeGreaterThan(first.start)
+    await screenshot(page, 'bench-nudged-1440')
   })
 })
 

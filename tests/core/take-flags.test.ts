@@ -74,10 +74,12 @@ describe('takeFlags', () => {
     ])
   })
 
-  it('reads a more accurate true-peak figure beside the plain one', () => {
-    const flags = takeFlags(take({ truePeak: -1.2, extraLevels: { truePeakHighAccuracyDbtp: -0.8 } }))
-    expect(flags.map((f) => f.kind)).toEqual(['over-ceiling'])
-    expect(flags[0].detail).toContain('−0.8 dBTP')
+  it('reads the take\u2019s one true peak (BS.1770-4 Annex 2), not the figure played from silence beside it', () => {
+    // The high-accuracy figure assumes silence around the take, so an abrupt start reads higher; the
+    // flag repeats the number every list shows.
+    expect(takeFlags(take({ truePeak: -1.2, extraLevels: { preciseTruePeakDbtp: -0.8 } }))).toEqual([])
+    const flags = takeFlags(take({ truePeak: -0.6, extraLevels: { preciseTruePeakDbtp: -0.2 } }))
+    expect(flags[0].detail).toContain('−0.6 dBTP')
   })
 
   it('spells out the −70 LUFS gate of ITU-R BS.1770-4 for takes with no integrated loudness', () => {
