@@ -51,6 +51,8 @@ afterAll(async () => {
 async function pageAs(email: string, size: { width: number; height: number }): Promise<Page> {
   const context = await browser.newContext({ viewport: size })
   const page = await context.newPage()
+  // A step that cannot happen fails by name well inside the test's own time limit.
+  page.setDefaultTimeout(15_000)
   await signInThroughForm(page, server.url, email)
   return page
 }
@@ -198,6 +200,7 @@ describe('the listening bench on a phone', () => {
     await page.goto(`${server.url}/takes/${ids.fridge_hum}`)
     const wave = page.locator('[data-test=waveform]')
     await wave.locator('canvas').first().waitFor({ timeout: 20_000 })
+    await page.locator('img[data-test=spectrogram]').waitFor({ timeout: 20_000 })
     await wave.scrollIntoViewIfNeeded()
     const w = (await wave.boundingBox())!
     const y = w.y + w.height / 2
@@ -206,6 +209,7 @@ describe('the listening bench on a phone', () => {
     await page.mouse.move(w.x + w.width * 0.4, y, { steps: 5 })
     await page.mouse.move(w.x + w.width * 0.6, y, { steps: 5 })
     await page.mouse.up()
+    await page.locator('[data-test=selection-start]').waitFor()
 
     // Air between the player box and the selection row.
     const player = (await page.locator('[data-test=now-playing]').first().boundingBox())!
@@ -301,8 +305,9 @@ describe('pickers in our own look', () => {
       if (size === DESKTOP) {
         await page.locator('[data-test=theme-toggle]').click()
         await expect.poll(() => page.evaluate(() => document.documentElement.classList.contains('dark'))).toBe(false)
-        const light = await source.locator('.el-select__caret').evaluate((e) => getComputedStyle(e).backgroundImage)
-        expect(light).not.toBe(caret)
+        await expect
+          .poll(() => source.locator('.el-select__caret').evaluate((e) => getComputedStyle(e).backgroundImage))
+          .not.toBe(caret)
         await page.locator('[data-test=filter-tag]').click()
         const tags = page.locator('.el-select__popper:visible')
         await tags.waitFor({ timeout: 15_000 })
