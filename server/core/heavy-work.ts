@@ -15,6 +15,7 @@ import type { SplitCopyResult, SplitCopyTask } from '../instrument/split-copy'
 import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
+import type { RangeFrames } from '../audio/range-frames'
 import { runAudioTask } from '../work/audio-tasks'
 import { AppError } from './errors'
 
@@ -23,6 +24,8 @@ export interface HeavyWork {
   render(who: string, req: RenderRequest, outPath: string): Promise<RenderResult>
   measure(who: string, path: string, startSeconds: number | null, endSeconds: number | null): Promise<LevelReading>
   modulation(who: string, path: string, order: ModulationOrder): Promise<ModulationFile>
+  /** Mel frames of a region the analysis's excerpts missed (server/similar/). */
+  rangeFrames(who: string, path: string, startSeconds: number, endSeconds: number): Promise<RangeFrames>
   /** The instrument tools' proposals (server/instrument/). */
   onsets(who: string, task: OnsetTask): Promise<OnsetSliceFrames[]>
   loops(who: string, task: LoopTask): Promise<LoopFrames[]>
@@ -78,6 +81,8 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
     measure: (who, path, startSeconds, endSeconds) =>
       limited(who, () => runAudioTask('measure', { path, startSeconds, endSeconds })),
     modulation: (who, path, order) => limited(who, () => runAudioTask('modulation', { path, order })),
+    rangeFrames: (who, path, startSeconds, endSeconds) =>
+      limited(who, () => runAudioTask('range-frames', { path, startSeconds, endSeconds })),
     onsets: (who, task) => limited(who, () => runAudioTask('onsets', task)),
     loops: (who, task) => limited(who, () => runAudioTask('loops', task)),
     split: (who, task) => limited(who, () => runAudioTask('split', task)),

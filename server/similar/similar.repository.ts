@@ -59,3 +59,25 @@ export async function removedTakeIds(db: Db): Promise<Set<number>> {
   const rows = await db.selectFrom('take_removals').select('take_id').execute()
   return new Set(rows.map((r) => r.take_id))
 }
+
+/**
+ * Adds frames of a stretch the excerpts missed to a take's stored frames, in time order (one
+ * transaction, so two regions covered at once both keep theirs). The take's own vector is unchanged.
+ */
+export async function addFrames(db: Db, takeId: number, times: number[], mel: number[], bands: number) {
+  await db.transaction().execute(async (trx) => {
+    const [f] = await featuresOf(trx, [takeId])
+    if (!f) return
+    const all = [
+      ...Array.from(f.frameTimes, (at, i) => ({ at, mel: f.frameMel.subarray(i * bands, (i + 1) * bands) })),
+      ...times.map((at, i) => ({ at, mel: Float32Array.from(mel.slice(i * bands, (i + 1) * bands)) })),
+    ].sort((a, b) => a.at - b.at)
+    const frameMel = new Float32Array(all.length * bands)
+    all.forEach((x, i) => frameMel.set(x.mel, i * bands))
+    await trx
+      .updateTable('take_features')
+      .set({ frame_times: toBlob(Float32Array.from(all, (x) => x.at)), frame_mel: toBlob(frameMel) })
+      .where('take_id', '=', takeId)
+      .execute()
+  })
+}

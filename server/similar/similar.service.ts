@@ -12,7 +12,7 @@ import { melVector, type TakeFeatures } from '../audio/character'
 import { findTake, findTakesByIds } from '../takes/takes.service'
 import { takeRowsToTakes } from '../takes/takes.mapper'
 import { SimilarIndex } from './similar-index'
-import { featuresOf, removedTakeIds, saveCharacter, type StoredFeatures } from './similar.repository'
+import { addFrames, featuresOf, removedTakeIds, saveCharacter, type StoredFeatures } from './similar.repository'
 
 const indexes = new WeakMap<AppContext, Promise<SimilarIndex>>()
 
@@ -41,6 +41,38 @@ export async function recordCharacter(
   } catch {
     // The stored vector stands; the index takes it when it is next rebuilt.
   }
+  // Measured again, the take's frames were replaced: its regions in the stretches between excerpts need theirs again.
+  coverRegionsLater(ctx, takeId)
+}
+
+const covered = (f: StoredFeatures, start: number, end: number) => f.frameTimes.some((at) => at >= start && at < end)
+
+/**
+ * Gives each region of a take that the analysis's excerpts missed frames of its own (read from
+ * its middle on the audio-task pool), so every region has a sounds-like vector. One region at a
+ * time; a take not measured yet is left to its measurement, which calls this again.
+ */
+export async function coverRegions(ctx: AppContext, takeId: number): Promise<void> {
+  const [f] = await featuresOf(ctx.db, [takeId])
+  const take = f && (await findTake(ctx.db, takeId))
+  if (!take) return
+  const regions = await ctx.db
+    .selectFrom('regions')
+    .select(['start_seconds', 'end_seconds'])
+    .where('take_id', '=', takeId)
+    .execute()
+  const missing = regions.filter((r) => !covered(f, r.start_seconds, r.end_seconds))
+  if (!missing.length) return
+  const path = await ctx.storage.local(take.audio_path)
+  for (const r of missing) {
+    const got = await ctx.heavy.rangeFrames(`regions:${takeId}`, path, r.start_seconds, r.end_seconds)
+    await addFrames(ctx.db, takeId, got.frameTimes, got.frameMel, MEL_BANDS)
+  }
+}
+
+/** coverRegions after the answer has gone; a failure leaves the region without a vector, never the request failed. */
+export function coverRegionsLater(ctx: AppContext, takeId: number): void {
+  coverRegions(ctx, takeId).catch((err) => console.warn(`regions of take ${takeId} got no sound frames:`, err))
 }
 
 const distance = (a: Float32Array, b: Float32Array) => {

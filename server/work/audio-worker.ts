@@ -7,6 +7,7 @@ import { renderSpectrogram } from '../audio/spectrogram'
 import { probeWav } from '../audio/wav-reader'
 import { WavFormatError } from '../audio/wav-errors'
 import { measureRange } from '../render/level-meter'
+import { rangeFrames } from '../audio/range-frames'
 import { renderItem } from '../render/render'
 import { computeModulation } from '../modulation/modulation-compute'
 import { runLoopTask, runOnsetTask, runSplitTask } from '../instrument/instrument-task'
@@ -52,6 +53,7 @@ const handlers: Handlers = {
       i.endSeconds === null ? info.format.frames : Math.min(info.format.frames, Math.round(i.endSeconds * rate))
     return measureRange(i.path, info, start, end)
   },
+  'range-frames': (i) => rangeFrames(i.path, i.startSeconds, i.endSeconds),
   modulation: (i) => computeModulation(i.path, i.order),
   onsets: (i) => runOnsetTask(i),
   loops: (i) => runLoopTask(i),

@@ -13,6 +13,7 @@ import type { LoopCycleTask } from '../instrument/loop-cycle'
 import type { LoopFrames } from '../instrument/loops'
 import type { OnsetSliceFrames } from '../instrument/onsets'
 import type { BuildAnswer, BuildOrder } from '../packs/builds/build-writer'
+import type { RangeFrames } from '../audio/range-frames'
 
 /** Input and output of each kind; `progress` says what the numbers passed to onProgress mean. */
 export interface AudioTasks {
@@ -24,6 +25,8 @@ export interface AudioTasks {
   spectrogram: { input: { path: string; opts: SpectrogramOptions }; output: Uint8Array }
   /** Loudness and true peak of a range of a take (an item added to a pack). */
   measure: { input: { path: string; startSeconds: number | null; endSeconds: number | null }; output: LevelReading }
+  /** Mel frames of a stretch the analysis's excerpts missed (a region's sounds-like vector). */
+  'range-frames': { input: { path: string; startSeconds: number; endSeconds: number }; output: RangeFrames }
   /** A take's control curve as a csv, wav or MIDI file (server/modulation/). */
   modulation: { input: { path: string; order: ModulationOrder }; output: ModulationFile }
   /** The instrument tools' proposals (server/instrument/). */

@@ -26,6 +26,21 @@ function mixed(): Float32Array {
   return out
 }
 
+/**
+ * A minute of hiss with three seconds of whine at 4.5 s: longer than the 8 × 4 s the analysis reads for
+ * character, and the whine falls between two of its excerpts (at 0 and 8 s).
+ */
+function longWithWhine(): Float32Array {
+  const out = new Float32Array(60 * RATE)
+  for (let at = 0, k = 0; at < out.length; k++) {
+    const piece = soundMember('hiss', 100 + k).subarray(0, out.length - at)
+    out.set(piece, at)
+    at += piece.length
+  }
+  out.set(soundMember('whine', 41), Math.round(4.5 * RATE))
+  return out
+}
+
 beforeAll(async () => {
   server = await startTestServer()
   recordist = await signedIn(server.url, 'recordist')
@@ -41,6 +56,7 @@ beforeAll(async () => {
     bursts1: soundMember('noise bursts', 1),
     bursts2: soundMember('noise bursts', 2),
     mixed: mixed(),
+    long: longWithWhine(),
   }
   for (const [key, x] of Object.entries(files)) {
     const res = await uploadTake(recordist, session.id, wav(x), `${key}.wav`)
@@ -127,6 +143,25 @@ describe('more like this', () => {
     const items = (await producer.get(`/api/takes/${ids.whine2}/similar?limit=10`).expect(200)).body.items
     const hit = items.find((i: { take: { id: number } }) => i.take.id === ids.mixed)
     expect(hit.region).toMatchObject({ name: 'tone half', startSeconds: 0, endSeconds: 3 })
+  })
+
+  it('gives a region between the excerpts of a long take a vector of its own', async () => {
+    const region = await recordist.post(`/api/takes/${ids.long}/regions`, {
+      name: 'whine inside',
+      startSeconds: 4.5,
+      endSeconds: 7.5,
+    })
+    expect(region.status).toBe(201)
+    // Its frames are read after the answer, on the audio-task pool.
+    await expect
+      .poll(
+        async () => {
+          const items = (await producer.get(`/api/takes/${ids.whine2}/similar?limit=20`).expect(200)).body.items
+          return items.find((i: { take: { id: number } }) => i.take.id === ids.long)?.region?.name ?? null
+        },
+        { timeout: 20_000, interval: 250 },
+      )
+      .toBe('whine inside')
   })
 
   it('never offers a removed take; 404 for an unknown one', async () => {
