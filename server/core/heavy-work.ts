@@ -3,8 +3,8 @@
 // instrument and modulation tasks) runs on the one audio-task pool
 // (server/work/audio-tasks.ts), never on the API's event loop. This layer adds
 // admission per member: each may have at most `perUser` tasks running or
-// waiting, and one more answers 429, so one member cannot fill the queue for
-// everybody. The pool's size is the concurrency limit; tasks beyond it wait.
+// waiting (spectrograms counted apart from the rest), and one more answers 429,
+// so one member cannot fill the queue for everybody. The pool's size is the concurrency limit; tasks beyond it wait.
 import type { SpectrogramOptions } from '../audio/spectrogram'
 import type { LevelReading } from '../render/level-meter'
 import type { PlainRenderRequest, RenderRequest, RenderResult } from '../render/render'
@@ -68,8 +68,10 @@ export function createHeavyWork(opts: HeavyWorkOptions = {}): HeavyWork {
   }
 
   return {
+    // Pictures have an allowance of their own: zooming the bench asks for several at once, and that must never
+    // leave a member's "add to pack" or export answering 429 behind them.
     spectrogram: (who, path, o) =>
-      limited(who, async () => {
+      limited(`${who}:pictures`, async () => {
         const bytes = await runAudioTask('spectrogram', { path, opts: o })
         return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength)
       }),

@@ -11,6 +11,7 @@
 // comes first. Common practice for percussive material, tuned here on synthetic
 // bursts and clicks (tests/audio/instrument-onsets.test.ts holds it against known
 // times and aubioonset).
+import { MIN_SELECTION_SECONDS } from '@shared/schemas/common'
 import { nearestRisingCrossing } from '../render/zero-crossing'
 
 export interface OnsetSliceFrames {
@@ -32,9 +33,10 @@ export const HOP_SECONDS = 0.001
 const AHEAD_HOPS = 3
 const BEFORE_HOPS = 20
 const MIN_GAP_SECONDS = 0.03
-const MIN_SLICE_SECONDS = 0.003
+/** A proposal is kept only if it can be saved as a region (the shortest one the schemas accept). */
+const MIN_SLICE_SECONDS = MIN_SELECTION_SECONDS
 /** A slice is at least this long unless the next onset comes first: a one-shot needs room to ring. */
-const SHORTEST_SLICE_SECONDS = 0.01
+const SHORTEST_SLICE_SECONDS = MIN_SELECTION_SECONDS
 const DECAY_DB = 40
 /** Half a period of 50 Hz hum, the usual background: a crossing is nearly always this close. */
 const CROSSING_SEARCH_SECONDS = 0.01

@@ -1,5 +1,6 @@
 import { formatTakeTime, type CreateRegionBody, type Region, type UpdateRegionBody } from '@shared/schemas/library'
 import type { User } from '@shared/schemas/auth'
+import { longEnough, MIN_SELECTION_SECONDS, TOO_SHORT_MESSAGE } from '@shared/schemas/common'
 import type { Db } from '../core/database'
 import { AppError, notFound } from '../core/errors'
 import { assertMayEditTake, loadTake, recordEvent } from '../takes/takes.service'
@@ -30,7 +31,7 @@ const toRegion = (r: RegionJoined): Region => ({
 
 const span = (start: number, end: number) => `${formatTakeTime(start)}\u2013${formatTakeTime(end)}`
 
-/** 0 ≤ start < end ≤ duration (the duration is known from the file's header once uploaded). */
+/** 0 ≤ start < end ≤ duration, at least MIN_SELECTION_SECONDS long (the duration is known from the file's header once uploaded). */
 function checkRange(take: TakeJoined, start: number, end: number) {
   if (!(start >= 0 && start < end)) {
     throw new AppError(400, 'OUT_OF_RANGE', 'A region starts at 0 s or later and ends after it starts', {
@@ -38,6 +39,12 @@ function checkRange(take: TakeJoined, start: number, end: number) {
       endSeconds: end,
     })
   }
+  if (!longEnough(start, end))
+    throw new AppError(400, 'RANGE_TOO_SHORT', TOO_SHORT_MESSAGE, {
+      startSeconds: start,
+      endSeconds: end,
+      minSeconds: MIN_SELECTION_SECONDS,
+    })
   const d = take.duration_seconds
   if (d !== null && end > d) {
     throw new AppError(400, 'OUT_OF_RANGE', `The region ends at ${end} s, after the end of the take (${d} s)`, {

@@ -28,6 +28,18 @@ export function paged<T extends z.ZodTypeAny>(item: T) {
   return z.object({ items: z.array(item), total: z.number().int(), page: z.number().int(), pageSize: z.number().int() })
 }
 
+/**
+ * Shortest region, pack item or exported selection, in seconds. 20 ms is common practice for the
+ * shortest useful one-shot: shorter plays as a click rather than a sound, and leaves no room for the
+ * render's fades (5 ms in and out by default). Integrated loudness needs more still (one 400 ms
+ * gating block, ITU-R BS.1770-4), so items between this and 0.4 s show "too short to measure".
+ */
+export const MIN_SELECTION_SECONDS = 0.02
+export const MIN_SELECTION_MS = Math.round(MIN_SELECTION_SECONDS * 1000)
+/** Times travel rounded to the millisecond: 17.820 − 17.800 must count as 20 ms. */
+export const longEnough = (start: number, end: number) => end - start >= MIN_SELECTION_SECONDS - 1e-6
+export const TOO_SHORT_MESSAGE = `A selection must be at least ${MIN_SELECTION_MS} ms long; shorter plays as a click, not a sound`
+
 /** Control characters (C0, DEL, C1: CR, LF, tab, escape…), which no name may hold. */
 export const CONTROL_CHARS = /\p{Cc}/u
 export const noControlChars = (s: string) => !CONTROL_CHARS.test(s)

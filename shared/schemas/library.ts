@@ -1,7 +1,7 @@
 // The library around a take: edits, bulk edits, tag and state suggestions,
 // history, regions and comments. Field names are part of the public API.
 import { z } from 'zod'
-import { Id } from './common'
+import { Id, longEnough, TOO_SHORT_MESSAGE } from './common'
 import { NoteOutcome } from './notes'
 import { TakeSourceLink } from './sources'
 import { Take } from './takes'
@@ -170,6 +170,10 @@ const regionName = text(120).min(1, 'Give the region a name')
 export const CreateRegionBody = z
   .object({ name: regionName, startSeconds: seconds, endSeconds: seconds, kind: RegionKind.nullable().optional() })
   .refine((r) => r.startSeconds < r.endSeconds, { message: 'A region ends after it starts', path: ['endSeconds'] })
+  .refine((r) => r.startSeconds >= r.endSeconds || longEnough(r.startSeconds, r.endSeconds), {
+    message: TOO_SHORT_MESSAGE,
+    path: ['endSeconds'],
+  })
 export type CreateRegionBody = z.infer<typeof CreateRegionBody>
 
 /** The result must still satisfy 0 ≤ start < end ≤ duration; the server checks it against the stored region. */

@@ -1,6 +1,7 @@
 // Sample packs: curated items of takes, rendered to a spec, built into numbered
 // zip versions and delivered to producers or through share links.
 import { z } from 'zod'
+import { longEnough, TOO_SHORT_MESSAGE } from './common'
 import { EXPORT_PRESETS, type ExportPresetKey as PresetKey } from './packs-profiles'
 import { checkModulationCurve, ModulationCurveFields, ModulationFormat, ModulationSource } from './modulation'
 
@@ -220,6 +221,13 @@ export const UpdatePackBody = z
   .strict()
 export type UpdatePackBody = z.infer<typeof UpdatePackBody>
 
+/** A range given with both ends is checked here; one end against the take's length, by the service. */
+const rangeLongEnough = (r: { startSeconds?: number | null; endSeconds?: number | null }) =>
+  r.startSeconds == null ||
+  r.endSeconds == null ||
+  r.endSeconds <= r.startSeconds ||
+  longEnough(r.startSeconds, r.endSeconds)
+
 export const AddItemBody = z
   .object({
     takeId: z.number().int().positive(),
@@ -234,6 +242,7 @@ export const AddItemBody = z
     settings: ItemSettingsPatch.optional(),
   })
   .strict()
+  .refine(rangeLongEnough, { message: TOO_SHORT_MESSAGE, path: ['endSeconds'] })
 export type AddItemBody = z.infer<typeof AddItemBody>
 
 export const AddItemsBody = z.object({ items: z.array(AddItemBody).min(1).max(500) }).strict()
@@ -252,6 +261,7 @@ export const UpdateItemBody = z
   })
   .partial()
   .strict()
+  .refine(rangeLongEnough, { message: TOO_SHORT_MESSAGE, path: ['endSeconds'] })
 export type UpdateItemBody = z.infer<typeof UpdateItemBody>
 
 export const ReorderItemsBody = z.object({ itemIds: z.array(z.number().int().positive()).max(5000) }).strict()
@@ -294,22 +304,27 @@ export type NamingPreview = z.infer<typeof NamingPreview>
 
 const num = z.coerce.number().finite()
 /** GET /api/takes/:id/export: a range, and a pack's settings (or the defaults) with any field overridden. */
-export const QuickExportQuery = z.object({
-  start: num.min(0).optional(),
-  end: num.min(0).optional(),
-  packId: z.coerce.number().int().positive().optional(),
-  kind: ItemKind.optional(),
-  name: text(200).optional(),
-  normalize: NormalizeMode.optional(),
-  loudnessTargetLufs: num.min(-60).max(0).optional(),
-  peakTargetDbtp: num.min(-60).max(0).optional(),
-  truePeakCeilingDbtp: num.min(-60).max(0).optional(),
-  bitDepth: z.coerce.number().pipe(BitDepth).optional(),
-  fadeInMs: num.min(0).max(10_000).optional(),
-  fadeOutMs: num.min(0).max(10_000).optional(),
-  /** A named export profile (EXPORT_PRESETS); 'none' for no profile even when the pack has one. */
-  preset: z.union([ExportPresetKey, z.literal('none')]).optional(),
-})
+export const QuickExportQuery = z
+  .object({
+    start: num.min(0).optional(),
+    end: num.min(0).optional(),
+    packId: z.coerce.number().int().positive().optional(),
+    kind: ItemKind.optional(),
+    name: text(200).optional(),
+    normalize: NormalizeMode.optional(),
+    loudnessTargetLufs: num.min(-60).max(0).optional(),
+    peakTargetDbtp: num.min(-60).max(0).optional(),
+    truePeakCeilingDbtp: num.min(-60).max(0).optional(),
+    bitDepth: z.coerce.number().pipe(BitDepth).optional(),
+    fadeInMs: num.min(0).max(10_000).optional(),
+    fadeOutMs: num.min(0).max(10_000).optional(),
+    /** A named export profile (EXPORT_PRESETS); 'none' for no profile even when the pack has one. */
+    preset: z.union([ExportPresetKey, z.literal('none')]).optional(),
+  })
+  .refine((q) => q.start === undefined || q.end === undefined || q.end <= q.start || longEnough(q.start, q.end), {
+    message: TOO_SHORT_MESSAGE,
+    path: ['end'],
+  })
 export type QuickExportQuery = z.infer<typeof QuickExportQuery>
 
 // ---- answers ----

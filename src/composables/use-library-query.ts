@@ -54,9 +54,12 @@ export function useLibraryQuery() {
       const v = next[k]
       if (v === undefined || v === '' || (Array.isArray(v) && !v.length)) delete next[k]
     }
-    void router.replace({ query: next })
+    void router.replace({ query: { ...viewKeys(), ...next } })
   }
-  const clear = () => void router.replace({ query: {} })
+  // Keys that are not filters (the grouping) say how to look, not what to find: a new sort or a cleared search keeps them.
+  const viewKeys = () =>
+    Object.fromEntries(Object.entries(route.query).filter(([k]) => !(QUERY_KEYS as readonly string[]).includes(k)))
+  const clear = () => void router.replace({ query: viewKeys() })
   const one = (k: QueryKey) => {
     const v = query.value[k]
     return Array.isArray(v) ? v[0] : v

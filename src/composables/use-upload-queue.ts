@@ -38,6 +38,36 @@ function uploadError(err: Error): ApiError {
   )
 }
 
+/** The server's own refusal: a body in the one error shape (duplicate, not a WAV, too large, session gone…). */
+function isRefusal(res: tus.HttpResponse): boolean {
+  try {
+    return typeof (JSON.parse(res.getBody()) as Partial<ApiErrorBody>).error?.code === 'string'
+  } catch {
+    return false
+  }
+}
+
+/**
+ * Whether tus-js-client sends again. A refusal is final: the same bytes get the same answer, and the
+ * server has already dropped the upload (a retry would find its address gone, start a new upload and
+ * send the whole file again, over and over). Tried again, as the protocol needs: no answer at all (the
+ * network), a 5xx or 423 (locked) from the tus layer itself, and its 409 "Upload-Offset conflict"
+ * (plain text), after which a HEAD finds the offset the server kept.
+ */
+function shouldRetry(err: Error): boolean {
+  const res = (err as tus.DetailedError).originalResponse
+  if (!res) return true
+  const status = res.getStatus()
+  if (isRefusal(res)) return false
+  return status >= 500 || status === 423 || status === 409
+}
+
+/** Forgets the kept address of a refused file, so dropping it again starts afresh instead of asking for a removed upload. */
+async function forget(upload: tus.Upload) {
+  const storage = tus.defaultOptions.urlStorage
+  for (const p of await upload.findPreviousUploads()) await storage.removeUpload(p.urlStorageKey)
+}
+
 /**
  * Sends dropped files a few at a time through the tus protocol, each with its own progress and
  * its own error. A file cut off (network, closed tab, reload) resumes where the server stopped:
@@ -81,6 +111,7 @@ export function useUploadQueue(sessionId: () => number, onUploaded: (takeId: num
         endpoint: '/api/files',
         chunkSize: CHUNK_BYTES,
         retryDelays: RETRY_DELAYS_MS,
+        onShouldRetry: shouldRetry,
         metadata: { captureSessionId: String(session), filename: file.name, filetype: file.type },
         headers: { 'x-csrf-token': token },
         // The same file dropped on another capture session is another upload.
@@ -99,6 +130,8 @@ export function useUploadQueue(sessionId: () => number, onUploaded: (takeId: num
         onError: (err) => {
           item.state = 'failed'
           item.error = uploadError(err).message
+          const res = (err as tus.DetailedError).originalResponse
+          if (res && isRefusal(res)) void forget(upload).catch(() => undefined)
           finish(item)
         },
       })

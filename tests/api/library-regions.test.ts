@@ -1,6 +1,6 @@
 // Regions of a take: named time ranges, checked against the take's duration.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { RegionResponse, RegionsResponse } from '@shared/schemas/library'
+import { CreateRegionBody, RegionResponse, RegionsResponse } from '@shared/schemas/library'
 import { signedIn, startTestServer, type Client, type TestServer } from '../helpers/server'
 import { insertSession, insertTakeRow, userIds } from './library-fixtures'
 
@@ -84,16 +84,23 @@ describe('regions', () => {
       [{ name: 'n'.repeat(121), startSeconds: 1, endSeconds: 2 }, 'VALIDATION_FAILED'],
       [{ name: 'Text times', startSeconds: '1', endSeconds: '2' }, 'VALIDATION_FAILED'],
       [{ startSeconds: 1, endSeconds: 2 }, 'VALIDATION_FAILED'],
+      // Shorter than MIN_SELECTION_SECONDS (20 ms, common practice for the shortest one-shot): a click, not a sound.
+      [{ name: 'Ten ms', startSeconds: 17.8, endSeconds: 17.81 }, 'VALIDATION_FAILED'],
+      [{ name: 'Nineteen ms', startSeconds: 1, endSeconds: 1.019 }, 'VALIDATION_FAILED'],
     ]
     for (const [body, code] of bad) {
       const res = await designer.post(`/api/takes/${take}/regions`, body)
       expect(res.status, JSON.stringify(body)).toBe(400)
       expect(res.body.error.code, JSON.stringify(body)).toBe(code)
     }
+    const short = await designer.post(`/api/takes/${take}/regions`, { name: 'Tick', startSeconds: 1, endSeconds: 1.01 })
+    expect(short.body.error.message).toContain('at least 20 ms')
     expect(
       (await designer.post(`/api/takes/${take}/regions`, { name: 'n'.repeat(120), startSeconds: 1, endSeconds: 2 }))
         .status,
     ).toBe(201)
+    // Exactly 20 ms, as the bench sends it (times to the millisecond), is long enough.
+    expect(CreateRegionBody.safeParse({ name: 'Shortest', startSeconds: 17.8, endSeconds: 17.82 }).success).toBe(true)
     expect(await regions()).toHaveLength(4)
   })
 
@@ -119,6 +126,9 @@ describe('regions', () => {
     expect(crossed.body.error.code).toBe('OUT_OF_RANGE')
     const past = await designer.patch(`/api/takes/${take}/regions/${first.id}`, { endSeconds: 31 })
     expect(past.status).toBe(400)
+    const tooShort = await designer.patch(`/api/takes/${take}/regions/${first.id}`, { endSeconds: 0.01 })
+    expect(tooShort.status).toBe(400)
+    expect(tooShort.body.error.code).toBe('RANGE_TOO_SHORT')
     expect((await regions()).find((r) => r.id === first.id)).toMatchObject({
       name: 'Click',
       startSeconds: 0,

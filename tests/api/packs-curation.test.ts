@@ -219,6 +219,22 @@ describe('items', () => {
     expect(
       (await designer.post(`/api/packs/${pack.id}/items`, { takeId: hum.id, startSeconds: 50 })).body.error.code,
     ).toBe('RANGE_INVALID')
+    // Shorter than 20 ms (MIN_SELECTION_SECONDS, common practice for the shortest one-shot): refused by the schema,
+    // and by the service when one end is the take's own.
+    const tick = await designer.post(`/api/packs/${pack.id}/items`, {
+      takeId: hum.id,
+      startSeconds: 1,
+      endSeconds: 1.01,
+    })
+    expect(tick.status).toBe(400)
+    expect(tick.body.error).toMatchObject({ code: 'VALIDATION_FAILED' })
+    expect(tick.body.error.message).toContain('at least 20 ms')
+    const tail = await designer.post(`/api/packs/${pack.id}/items`, {
+      takeId: hum.id,
+      startSeconds: hum.durationSeconds - 0.01,
+    })
+    expect(tail.status).toBe(400)
+    expect(tail.body.error.code).toBe('RANGE_INVALID')
     const unknown = await designer.post(`/api/packs/${pack.id}/items`, { takeId: 999999 })
     expect(unknown.status).toBe(404)
     expect(unknown.body.error.code).toBe('TAKE_NOT_FOUND')
@@ -305,6 +321,12 @@ describe('items', () => {
     })
     expect(c.body.item.source.measuredFrom).toBe('range')
     expect((await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, { endSeconds: 500 })).status).toBe(400)
+    const tick = await designer.patch(`/api/packs/${pack.id}/items/${items[1].id}`, {
+      startSeconds: 1,
+      endSeconds: 1.01,
+    })
+    expect(tick.status).toBe(400)
+    expect(tick.body.error.message).toContain('at least 20 ms')
     expect((await designer.patch(`/api/packs/${pack.id}/items/999999`, { name: 'x' })).status).toBe(404)
   })
 
@@ -408,6 +430,9 @@ describe('audition and quick export', () => {
     expect(Math.abs(ffmpegEbur128(f2).integratedLufs - -24)).toBeLessThanOrEqual(0.2)
 
     expect((await designer.get(`/api/takes/${hum.id}/export?start=3&end=1`)).status).toBe(400)
+    const tick = await designer.get(`/api/takes/${hum.id}/export?start=1&end=1.01`)
+    expect(tick.status).toBe(400)
+    expect(tick.body.error.message).toContain('at least 20 ms')
     expect((await designer.get(`/api/takes/${hum.id}/export?bitDepth=12`)).status).toBe(400)
   })
 })

@@ -162,7 +162,7 @@ describe('publishing with a "what changed" note', () => {
       sinceVersion: null,
       added: ['Doorbell_transformer_hum_01.wav', 'Bench_charger_Switch_burst_02.wav'],
     })
-    expect(changes.text).toBe('First published version: 2 items.')
+    expect(changes.text).toBe('First published version: 2 items.\n\n')
     const pub = await designer
       .post(`/api/pack-builds/${v1.id}/publish`, { note: 'Two first sounds: a doorbell hum and a charger burst.' })
       .expect(200)
@@ -193,7 +193,7 @@ describe('publishing with a "what changed" note', () => {
     expect(changes.removed).toEqual([])
     expect(changes.renamed).toEqual([{ from: 'Doorbell_transformer_hum_01.wav', to: 'Doorbell_low_hum.wav' }])
     expect(changes.rerendered).toEqual(['Bench_charger_Switch_burst_02.wav'])
-    expect(changes.text.split('\n')).toEqual([
+    expect(changes.text.trimEnd().split('\n')).toEqual([
       `Added: ${added.fileName}`,
       'Renamed: Doorbell_transformer_hum_01.wav → Doorbell_low_hum.wav',
       'Re-rendered: Bench_charger_Switch_burst_02.wav',

@@ -157,6 +157,11 @@ describe('library look', () => {
     expect(box.width).toBeLessThanOrEqual(390)
     expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390)
     await screenshot(page, 'library-grouped-phone')
+    // Sorting is a new order within the same way of looking: the grouping stays.
+    await page.locator('[data-test=sort-by]').selectOption('title')
+    await expect.poll(() => new URL(page.url()).searchParams.get('sort')).toBe('title')
+    expect(new URL(page.url()).searchParams.get('group')).toBe('device')
+    expect(await heads.count()).toBe(3)
     await page.context().close()
   })
 

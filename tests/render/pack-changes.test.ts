@@ -55,7 +55,7 @@ describe('what changed between two builds', () => {
       renamed: [{ from: 'b.wav', to: 'b_renamed.wav' }],
       rerendered: ['c.wav'],
     })
-    expect(c.text.split('\n')).toEqual([
+    expect(c.text.trimEnd().split('\n')).toEqual([
       'Added: e.wav',
       'Removed: d.wav',
       'Renamed: b.wav → b_renamed.wav',
@@ -72,11 +72,19 @@ describe('what changed between two builds', () => {
     ])
     expect(computeChanges(before, after, 1).rerendered).toEqual(['a.wav', 'b.wav'])
     expect(computeChanges(before, snap([item(1, 'a.wav', { tags: ['x'] }), item(2, 'b.wav')]), 1).text).toBe(
-      'No changes to the items since version 1.',
+      'No changes to the items since version 1.\n\n',
     )
   })
 
   it('says so for a first version', () => {
-    expect(computeChanges(null, snap([item(1, 'a.wav')]), null).text).toBe('First published version: 1 item.')
+    expect(computeChanges(null, snap([item(1, 'a.wav')]), null).text).toBe('First published version: 1 item.\n\n')
+  })
+
+  it('leaves a blank line after the computed text, so words typed at its end start their own paragraph', () => {
+    // The publish dialog prefills this text; a designer clicks into the box and types on.
+    const first = computeChanges(null, snap([item(1, 'a.wav')]), null).text + 'First cut: one steady 50 Hz bed.'
+    expect(first).toBe('First published version: 1 item.\n\nFirst cut: one steady 50 Hz bed.')
+    const later = computeChanges(snap([item(1, 'a.wav')]), snap([item(1, 'a.wav'), item(2, 'b.wav')]), 1)
+    expect(later.text + 'A second bed.').toBe('Added: b.wav\n\nA second bed.')
   })
 })

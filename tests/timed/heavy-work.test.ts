@@ -85,4 +85,15 @@ describe('heavy work off the event loop', () => {
     expect(body.error.code).toBe('TOO_BUSY')
     expect(body.error.message).toMatch(/wait/)
   }, 120_000)
+
+  it("counts spectrograms apart: a member's three pictures leave their pack preview free to run", async () => {
+    const answers = await Promise.all([
+      ...[1, 2, 3].map((k) => excerpt(designer, k + 0.25)),
+      designer
+        .get(`/api/packs/${packId}/items/${itemId}/preview`)
+        .buffer(true)
+        .parse(binary as never),
+    ])
+    expect(answers.map((r) => r.status)).toEqual([200, 200, 200, 200])
+  }, 120_000)
 })

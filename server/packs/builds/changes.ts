@@ -8,6 +8,13 @@ import type { BuildSnapshot, ItemSpec } from '../curation/item-spec'
 const shaping = (s: ItemSpec) =>
   JSON.stringify([s.takeId, s.audioPath, s.startSeconds, s.endSeconds, s.kind, s.settings])
 
+/**
+ * The computed lines, then a blank line: the designer's own words typed after the prefilled text
+ * start a paragraph of their own instead of running on from the last sentence. Publishing trims
+ * the note, so an untouched one is stored without the blank line.
+ */
+const forNote = (lines: string[]) => `${lines.join('\n')}\n\n`
+
 export function computeChanges(
   prev: BuildSnapshot | null,
   next: BuildSnapshot,
@@ -21,7 +28,7 @@ export function computeChanges(
       removed: [],
       renamed: [],
       rerendered: [],
-      text: `First published version: ${n} item${n === 1 ? '' : 's'}.`,
+      text: forNote([`First published version: ${n} item${n === 1 ? '' : 's'}.`]),
     }
   }
   const before = new Map(prev.items.filter((s) => s.itemId !== null).map((s) => [s.itemId, s]))
@@ -47,5 +54,5 @@ export function computeChanges(
   ]
   if (prev.pack.licenceText.trim() !== next.pack.licenceText.trim()) lines.push('The licence text changed.')
   if (!lines.length) lines.push(`No changes to the items since version ${sinceVersion}.`)
-  return { sinceVersion, added, removed, renamed, rerendered, text: lines.join('\n') }
+  return { sinceVersion, added, removed, renamed, rerendered, text: forNote(lines) }
 }

@@ -6,6 +6,7 @@
 import { can } from '@shared/permissions'
 import type { User } from '@shared/schemas/auth'
 import type { Analysis } from '@shared/schemas/analysis'
+import { longEnough, MIN_SELECTION_MS } from '@shared/schemas/common'
 import {
   DEFAULT_NAMING_TEMPLATE,
   DEFAULT_RENDER_SETTINGS,
@@ -41,9 +42,6 @@ export const managesPacks = (user: Pick<User, 'role'>) => can(user.role, 'packs:
 
 export const packNotFound = () => new AppError(404, 'PACK_NOT_FOUND', 'No pack with that id')
 export const itemNotFound = () => new AppError(404, 'ITEM_NOT_FOUND', 'No item with that id in this pack')
-
-/** Shortest item accepted (common practice: shorter cuts are clicks, not sounds). */
-export const MIN_ITEM_SECONDS = 0.01
 
 const parseSettings = (json: string | null): RenderSettings =>
   effectiveSettings(json ? (JSON.parse(json) as object) : null)
@@ -385,8 +383,9 @@ function checkRange(take: TakeFact, r: RangeInput, label = ''): RangeInput {
     throw bad(`the start (${start} s) is not inside take ${take.id}, which lasts ${duration.toFixed(3)} s`)
   if (end > duration + 1e-6)
     throw bad(`the end (${end} s) is past the end of take ${take.id}, which lasts ${duration.toFixed(3)} s`)
-  if (end - start < MIN_ITEM_SECONDS)
-    throw bad(`the range must be at least ${MIN_ITEM_SECONDS * 1000} ms long and end after it starts`)
+  // The schema checks ranges given with both ends; this covers one end against the take's length.
+  if (!longEnough(start, end))
+    throw bad(`the range must be at least ${MIN_SELECTION_MS} ms long and end after it starts`)
   const whole = start === 0 && Math.abs(end - duration) < 1e-6
   if (whole) return { startSeconds: null, endSeconds: null }
   return {

@@ -22,6 +22,8 @@ export interface Notice {
   /** Document coordinates of the notice's top-left corner. */
   top: number
   left: number
+  /** The NoticeSlot.vue it shows in, in the page's flow, when its action sits in a row marked data-notice-slot. */
+  slot?: string
 }
 
 export const noticeState = reactive({ items: [] as Notice[] })
@@ -75,11 +77,15 @@ export function holdNotice(id: number, hold: boolean) {
 export function showNotice(text: string, tone: NoticeTone = 'done', opts: NoticeOptions = {}): number {
   const id = nextId++
   const anchor = opts.near === undefined ? lastUsed : opts.near
-  // One notice per place: a new one beside the same control replaces the old.
-  const at = place(anchor)
+  const slot = anchor?.isConnected
+    ? (anchor.closest('[data-notice-slot]')?.getAttribute('data-notice-slot') ?? undefined)
+    : undefined
+  // One notice per place: a new one beside the same control (or in the same slot) replaces the old.
+  const at = slot ? { top: 0, left: 0 } : place(anchor)
   for (const n of noticeState.items)
-    if (Math.abs(n.top - at.top) < 4 && Math.abs(n.left - at.left) < 4) dismissNotice(n.id)
-  noticeState.items.push({ id, text, tone, undo: opts.undo, ...at })
+    if (slot ? n.slot === slot : !n.slot && Math.abs(n.top - at.top) < 4 && Math.abs(n.left - at.left) < 4)
+      dismissNotice(n.id)
+  noticeState.items.push({ id, text, tone, undo: opts.undo, ...at, slot })
   const ms = opts.ms ?? (opts.undo ? 10000 : tone === 'error' ? 8000 : 5000)
   timers.set(
     id,
