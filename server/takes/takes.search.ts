@@ -267,6 +267,14 @@ async function rankFloor(db: Db, conds: Condition[], text: Condition, fts: strin
   return { floor: Number(e.rows[0].edge), found }
 }
 
+/** The lowest id of the newest `most` text matches (null when there are no more than that: every match). */
+async function rankWindow(db: Db, fts: string, cap: number, most = RANK_BUDGET) {
+  const budget = Math.max(most, cap)
+  const e = await sql<{ seen: number; edge: number | null }>`SELECT count(*) AS seen, min(id) AS edge FROM (
+      SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} ORDER BY rowid DESC LIMIT ${budget})`.execute(db)
+  return { floor: Number(e.rows[0].seen) < budget ? null : Number(e.rows[0].edge) }
+}
+
 export interface SearchResult {
   rows: TakeJoined[]
   /** Matches: exact unless `totalCapped`, then a floor (at least this many). */
@@ -333,13 +341,31 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   let ranked: { floor: number | null; found?: number; all?: number } | undefined
   if (sort === 'relevance') {
     const cap = Math.max(opts.rankCap ?? RANK_CAP, offset + q.pageSize)
-    ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
     // bm25 is smaller for better matches. The other conditions are tested first, so only takes that pass are scored.
     const tid = sql.ref('take_fts.rowid')
-    const floor = ranked.floor === null ? [] : [sql`${tid} >= ${ranked.floor}`]
-    ids = await pageOf(sql`SELECT take_fts.rowid AS id FROM take_fts
-      ${whereAll([sql`take_fts MATCH ${fts}`, ...floor, ...checks(conds, tid, text)])}
-      ORDER BY bm25(take_fts) ${order}, ${tid} ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
+    const rankedPage = async (floor: number | null) => {
+      const from = floor === null ? [] : [sql`${tid} >= ${floor}`]
+      // bm25 is scored inside (FTS5 allows it only there); the window counts every passing match before the page is cut.
+      const r = await sql<{ id: number; n: number }>`SELECT id, count(*) OVER () AS n FROM (
+          SELECT take_fts.rowid AS id, bm25(take_fts) AS score FROM take_fts
+          ${whereAll([sql`take_fts MATCH ${fts}`, ...from, ...checks(conds, tid, text)])})
+        ORDER BY score ${order}, id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`.execute(db)
+      return { ids: r.rows.map((x) => x.id), passing: r.rows.length ? Number(r.rows[0].n) : undefined }
+    }
+    // Where few matches may pass (other conditions, or few text matches at all) rank the newest RANK_BUDGET
+    // matches straight away, counting those that pass as they are scored; only when more than `cap` pass is the
+    // floor raised to the newest `cap` of them (rankFloor) and the page ranked again. Common words alone pass
+    // nearly every match, so there the floor is found first.
+    const fewMatches = sizes[sized.indexOf(text!)] <= SIZE_PROBE
+    const quick = conds.length > 1 || fewMatches ? await rankWindow(db, fts!, cap, opts.rankBudget) : undefined
+    const first = quick ? await rankedPage(quick.floor) : undefined
+    if (quick && first?.passing !== undefined && first.passing < cap) {
+      ids = first.ids
+      ranked = quick.floor === null ? { floor: null, all: first.passing } : { floor: quick.floor, found: first.passing }
+    } else {
+      ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
+      ids = (await rankedPage(ranked.floor)).ids
+    }
   } else if (driverIds) {
     // Few takes: check them all, then sort them.
     const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
