@@ -8,6 +8,7 @@
 import type { Spectrum } from '@shared/schemas/analysis'
 import type { Character, CharacterTag, TagConfidence } from '@shared/schemas/character'
 import { ExcerptAnalyser, MEL_BANDS, type ExcerptMeasures, type LongFrame } from './character-frames'
+import { meanOfChannels } from './mix-down'
 
 const EXCERPT_SECONDS = 4
 const MAX_EXCERPTS = 8
@@ -55,25 +56,6 @@ function excerptStarts(frames: number, length: number): number[] {
     return out
   }
   return Array.from({ length: MAX_EXCERPTS }, (_, i) => Math.round((i * (frames - length)) / (MAX_EXCERPTS - 1)))
-}
-
-/**
- * dst[at..] = the mean of the channels over planar[·][from..to). Its own function with a stereo path:
- * a per-sample loop over the channels inside push stayed unoptimised (it runs a few times per take).
- */
-function meanOfChannels(dst: Float32Array, at: number, planar: Float32Array[], from: number, to: number): void {
-  const channels = planar.length
-  if (channels === 2) {
-    const l = planar[0]
-    const r = planar[1]
-    for (let i = from, j = at; i < to; i++, j++) dst[j] = (l[i] + r[i]) / 2
-    return
-  }
-  for (let i = from, j = at; i < to; i++, j++) {
-    let s = 0
-    for (let ch = 0; ch < channels; ch++) s += planar[ch][i]
-    dst[j] = s / channels
-  }
 }
 
 export class CharacterMeter {

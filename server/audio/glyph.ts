@@ -13,6 +13,7 @@
 import { RealFft } from './real-fft'
 import type { Spectrum } from '@shared/schemas/analysis'
 import type { TakeGlyph } from '@shared/schemas/takes'
+import { meanOfChannels } from './mix-down'
 
 export const GLYPH_COLUMNS = 48
 export const GLYPH_BANDS = 20
@@ -52,25 +53,6 @@ export function glyphBands(sampleRate: number, fftSize: number) {
     }
   }
   return { centres, bins }
-}
-
-/**
- * dst[at..] = the mean of the channels over planar[·][from..to). Its own function with a stereo path:
- * a per-sample loop over the channels inside the caller stayed unoptimised and cost as much as the FFTs.
- */
-function meanOfChannels(dst: Float64Array, at: number, planar: Float32Array[], from: number, to: number): void {
-  const channels = planar.length
-  if (channels === 2) {
-    const l = planar[0]
-    const r = planar[1]
-    for (let i = from, j = at; i < to; i++, j++) dst[j] = (l[i] + r[i]) / 2
-    return
-  }
-  for (let i = from, j = at; i < to; i++, j++) {
-    let v = 0
-    for (let ch = 0; ch < channels; ch++) v += planar[ch][i]
-    dst[j] = v / channels
-  }
 }
 
 export class GlyphMeter {

@@ -4,6 +4,7 @@
 // (server/similar/), so without these a region there would have none.
 import { probeWav, readFrames } from './wav-reader'
 import { ExcerptAnalyser } from './character-frames'
+import { meanOfChannels } from './mix-down'
 
 /** At most this much of the stretch is read, from its middle: as much as one analysis excerpt. */
 const MOST_SECONDS = 4
@@ -25,8 +26,7 @@ export async function rangeFrames(path: string, startSeconds: number, endSeconds
   const mono = new Float32Array(Math.max(0, end - start))
   let at = 0
   for await (const block of readFrames(path, info, { startFrame: start, endFrame: end })) {
-    const k = 1 / block.length
-    for (const ch of block) for (let i = 0; i < ch.length; i++) mono[at + i] += ch[i] * k
+    meanOfChannels(mono, at, block, 0, block[0].length)
     at += block[0].length
   }
   const frames = new ExcerptAnalyser(rate).measure(mono, start / rate).frames
