@@ -124,11 +124,10 @@ describe('delivery in the browser', () => {
     await page.goto(`${server.url}/packs/${packId}`)
     await page.locator(`[data-build="${v2Id}"] [data-test=publish]`).click()
     const note = page.getByLabel('What changed')
-    // Prefilled with what changed since version 1.
-    await expect.poll(() => note.inputValue()).toMatch(/^Added: .*fan_buzz.*\.wav$/)
+    // Prefilled with what changed since version 1, and a blank line for the designer's own words.
+    await expect.poll(() => note.inputValue()).toMatch(/^Added: .*fan_buzz.*\.wav\n\n$/)
     await note.click()
-    await page.keyboard.press('End')
-    await page.keyboard.press('Enter')
+    await page.keyboard.press('Control+End')
     await page.keyboard.type('A fan buzz joins the hums; nothing else moved.')
     await screenshot(page, 'delivery-publish-dialog')
     await page.getByRole('button', { name: 'Publish version 2' }).click()
@@ -139,7 +138,7 @@ describe('delivery in the browser', () => {
     const mail = await smtp.waitFor('producer@example.test')
     expect(mail.subject).toContain('version 2')
     expect(mail.text).toMatch(
-      /What changed in version 2:\nAdded: .*fan_buzz.*\.wav\nA fan buzz joins the hums; nothing else moved\./,
+      /What changed in version 2:\nAdded: .*fan_buzz.*\.wav\n+A fan buzz joins the hums; nothing else moved\./,
     )
     await screenshot(page, 'delivery-pack-designer-1440')
     await page.setViewportSize(PHONE)
