@@ -70,9 +70,22 @@ export async function coverRegions(ctx: AppContext, takeId: number): Promise<voi
   }
 }
 
-/** coverRegions after the answer has gone; a failure leaves the region without a vector, never the request failed. */
+const covering = new WeakMap<AppContext, Map<number, Promise<void>>>()
+
+/**
+ * coverRegions after the answer has gone; a failure leaves the region without a vector, never the request failed.
+ * One at a time per take: two quick region saves would otherwise both read the same missing stretch.
+ */
 export function coverRegionsLater(ctx: AppContext, takeId: number): void {
-  coverRegions(ctx, takeId).catch((err) => console.warn(`regions of take ${takeId} got no sound frames:`, err))
+  let queue = covering.get(ctx)
+  if (!queue) covering.set(ctx, (queue = new Map()))
+  const run = (queue.get(takeId) ?? Promise.resolve())
+    .then(() => coverRegions(ctx, takeId))
+    .catch((err) => console.warn(`regions of take ${takeId} got no sound frames:`, err))
+  queue.set(takeId, run)
+  void run.finally(() => {
+    if (queue.get(takeId) === run) queue.delete(takeId)
+  })
 }
 
 const distance = (a: Float32Array, b: Float32Array) => {

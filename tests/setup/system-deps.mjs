@@ -1,7 +1,6 @@
 // Installs the system programs the test suite drives (Debian packages), when
 // they are missing and we run as root; otherwise stops with the exact command.
-import { execFileSync, spawnSync } from 'node:child_process'
-import fs from 'node:fs'
+import { installMissing } from './debian-packages.mjs'
 
 const NEEDED = [
   { program: '/usr/bin/chromium', pkg: 'chromium' },
@@ -18,23 +17,4 @@ const NEEDED = [
   { program: '/usr/share/sounds/alsa/Front_Center.wav', pkg: 'alsa-utils' },
 ]
 
-const missing = [...new Set(NEEDED.filter((n) => !fs.existsSync(n.program)).map((n) => n.pkg))]
-if (missing.length === 0) process.exit(0)
-
-const command = `apt-get update && apt-get install -y --no-install-recommends ${missing.join(' ')}`
-const isRoot = typeof process.getuid === 'function' && process.getuid() === 0
-if (!isRoot) {
-  console.error(`The tests need these Debian packages: ${missing.join(', ')}.\nInstall them with:\n  sudo ${command}`)
-  process.exit(1)
-}
-console.log(`Installing test programs: ${missing.join(', ')}`)
-const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' }
-execFileSync('apt-get', ['update', '-qq'], { stdio: 'inherit', env })
-const res = spawnSync('apt-get', ['install', '-y', '-qq', '--no-install-recommends', ...missing], {
-  stdio: 'inherit',
-  env,
-})
-if (res.status !== 0) {
-  console.error(`Installing failed. Run by hand:\n  ${command}`)
-  process.exit(1)
-}
+installMissing(NEEDED, 'The test suite')

@@ -2,36 +2,13 @@
 // a Ceph S3 gateway on 127.0.0.1, runs the scaled suite and the ingest, library and packs API
 // tests against them (STORAGE_URL=s3://…), and stops every service it started, also on failure
 // or Ctrl-C.
-import { execFileSync, spawn, spawnSync } from 'node:child_process'
+import { spawn } from 'node:child_process'
 import { randomBytes } from 'node:crypto'
-import fs from 'node:fs'
 import { CreateBucketCommand, S3Client } from '@aws-sdk/client-s3'
 import { PROGRAMS, startServices } from './services.mjs'
+import { installMissing } from '../../setup/debian-packages.mjs'
 
-function installMissing() {
-  const missing = [...new Set(PROGRAMS.filter((p) => !fs.existsSync(p.program)).map((p) => p.pkg))]
-  if (!missing.length) return
-  const command = `apt-get update && apt-get install -y --no-install-recommends ${missing.join(' ')}`
-  if (process.getuid?.() !== 0) {
-    console.error(
-      `The scaled suite needs these Debian packages: ${missing.join(', ')}.\nInstall them with:\n  sudo ${command}`,
-    )
-    process.exit(1)
-  }
-  console.log(`Installing services for the scaled suite: ${missing.join(', ')}`)
-  const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' }
-  execFileSync('apt-get', ['update', '-qq'], { stdio: 'inherit', env })
-  const res = spawnSync('apt-get', ['install', '-y', '-qq', '--no-install-recommends', ...missing], {
-    stdio: 'inherit',
-    env,
-  })
-  if (res.status !== 0) {
-    console.error(`Installing failed. Run by hand:\n  ${command}`)
-    process.exit(1)
-  }
-}
-
-installMissing()
+installMissing(PROGRAMS, 'The scaled suite')
 const services = await startServices()
 let child = null
 let exiting = false
