@@ -16,6 +16,7 @@ import * as character from './20261202190000_character'
 import * as jobsWithoutProgress from './20261202171000_jobs_without_progress'
 import * as searchIndexes from './20261202180000_search_indexes'
 import * as walkIndexes from './20261202200000_walk_indexes'
+import * as searchTerms from './20261202210000_search_terms'
 
 export const migrations: Record<string, Migration> = {
   '20261201120000_foundation': foundation,
@@ -32,4 +33,5 @@ export const migrations: Record<string, Migration> = {
   '20261202180000_search_indexes': searchIndexes,
   '20261202190000_character': character,
   '20261202200000_walk_indexes': walkIndexes,
+  '20261202210000_search_terms': searchTerms,
 }

@@ -4,21 +4,7 @@ import { SUGGEST_FROM } from '@shared/schemas/character'
 import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
-
-/**
- * User text to an FTS5 query that is always valid: every run of letters or
- * digits becomes a quoted prefix term ("whin"*), joined with AND. Quotes,
- * operators (NEAR, AND, -, *), parentheses and SQL never reach FTS5 syntax.
- * Returns null when the text holds no word at all.
- */
-export function ftsQuery(q: string): string | null {
-  const words = q.normalize('NFKC').match(/[\p{L}\p{N}]+/gu)
-  if (!words?.length) return null
-  return words
-    .slice(0, 32)
-    .map((w) => `"${w.replace(/"/g, '""')}"*`)
-    .join(' ')
-}
+import { searchWords } from './takes.words'
 
 /** Each sort: the column, and the index that lists takes in its order (none for the session's title, a joined table). */
 const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: string }> = {
@@ -314,7 +300,7 @@ const M = sql.ref('m.id')
  * of the page asked for).
  */
 export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions = {}): Promise<SearchResult> {
-  const fts = q.q?.trim() ? ftsQuery(q.q) : undefined
+  const fts = q.q?.trim() ? await searchWords(db, q.q) : undefined
   if (fts === null) return { rows: [], total: 0, totalCapped: false }
 
   const conds = conditions(q, fts)

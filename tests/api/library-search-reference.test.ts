@@ -10,7 +10,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { sql } from 'kysely'
 import { TakeQuery, type TakeSort } from '@shared/schemas/takes'
 import { normalizeTag } from '@shared/schemas/library'
-import { searchTakeRows, ftsQuery, type SearchOptions } from '../../server/takes/takes.search'
+import { searchTakeRows, type SearchOptions } from '../../server/takes/takes.search'
+import { ftsQuery, searchWords } from '../../server/takes/takes.words'
 import { seedLibrary } from '../../bench/library-seed'
 import { QUERIES, knownIds, type Known } from '../../bench/library-queries'
 import { startTestServer, type TestServer } from '../helpers/server'
@@ -98,7 +99,8 @@ const SORT_VALUE: Record<Exclude<TakeSort, 'relevance'>, (r: Row) => string | nu
 async function reference(q: TakeQuery): Promise<number[]> {
   const within = (v: number | null, min?: number, max?: number) =>
     (min === undefined || (v !== null && v >= min)) && (max === undefined || (v !== null && v <= max))
-  const words = q.q?.trim() ? ftsQuery(q.q) : undefined
+  // Ranked by bm25 of the words as the search spells them out (the matches are those of the prefix form: see the test below).
+  const words = q.q?.trim() ? await searchWords(server.ctx.db, q.q) : undefined
   const score = new Map<number, number>()
   if (words)
     for (const r of (
@@ -143,6 +145,52 @@ async function reference(q: TakeQuery): Promise<number[]> {
     })
     .map((r) => r.id)
 }
+
+describe('typed words spelled out as whole terms', () => {
+  const matches = async (fts: string | null) =>
+    fts === null
+      ? []
+      : (
+          await sql<{
+            id: number
+          }>`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} ORDER BY rowid`.execute(server.ctx.db)
+        ).rows.map((r) => r.id)
+
+  it('match exactly the takes the prefix form matches', async () => {
+    // Single letters and digits stand for many terms (past the limit they stay prefixes); the rest for one or a few.
+    const typed = [
+      'hum',
+      'whin',
+      'power supply 60',
+      'drone',
+      'p',
+      'a',
+      '6',
+      '60',
+      'Po',
+      'WHINE',
+      'sup 6',
+      'zzzz',
+      'Störung',
+      'brumm 5',
+    ]
+    let some = 0
+    for (const q of typed) {
+      const prefix = await matches(ftsQuery(q))
+      expect(await matches(await searchWords(server.ctx.db, q)), q).toEqual(prefix)
+      if (prefix.length) some++
+    }
+    expect(some, 'most of these words should match something in the seeded library').toBeGreaterThan(8)
+  })
+
+  it('spell a word out as the terms that begin with it, and say when nothing can match', async () => {
+    expect(await searchWords(server.ctx.db, 'WHIN')).toBe('"whine"')
+    expect(await searchWords(server.ctx.db, 'zzzzq')).toBeNull()
+    expect(await searchWords(server.ctx.db, '"*')).toBeNull()
+    // Accented words keep the prefix form: the index folds them itself.
+    expect(await searchWords(server.ctx.db, 'Störung')).toBe('"Störung"*')
+  })
+})
 
 const WAYS: [string, SearchOptions][] = [
   ['as the search chooses', {}],

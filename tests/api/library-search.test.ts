@@ -245,6 +245,9 @@ describe('text search', () => {
     ['a description', 'lead', 'H'],
     ['a prefix ("whin" finds "whine")', 'whin', 'AD'],
     ['any case', 'WHINE', 'AD'],
+    ['a prefix of two words ("trans": transformer, transmitting)', 'trans', 'BE'],
+    ['two prefixes', 'trans hand', 'E'],
+    ['accents, folded as the index folds them', 'whîne', 'AD'],
     ['a device linked to two takes', 'laptop charger', 'AF'],
     ['words that occur nowhere together', 'transformer radio', ''],
   ]
