@@ -101,9 +101,12 @@ interface Condition {
   idsWider?: boolean
   holds?: (id: RawBuilder<unknown>) => RawBuilder<unknown>
   column?: (t: string) => RawBuilder<unknown>
+  /** The sort index led by the tested column: it carries the other FILTERED_COLUMNS, so they can be tested on its entries. */
+  index?: string
 }
 
 const col = (t: string, name: string) => sql.ref(`${t}.${name}`)
+const INDEX_OF = new Map(Object.values(SORTS).flatMap((s) => (s.index ? [[s.col, s.index] as const] : [])))
 const filtered = (t: string, name: Filtered) => col(t, name)
 
 /** A range filter on one measured column: one condition for min and max together. */
@@ -117,13 +120,14 @@ function range(name: Filtered, min: number | undefined, max: number | undefined)
       ],
       sql` AND `,
     )
-  return [{ ids: sql`SELECT id FROM takes WHERE ${test('takes')}`, column: test }]
+  return [{ ids: sql`SELECT id FROM takes WHERE ${test('takes')}`, column: test, index: INDEX_OF.get(name) }]
 }
 
 /** An equality filter on an indexed column of takes. */
 const equal = (name: Filtered, value: number | string): Condition => ({
   ids: sql`SELECT id FROM takes WHERE ${sql.ref(name)} = ${value}`,
   column: (t) => sql`${filtered(t, name)} = ${value}`,
+  index: INDEX_OF.get(name),
 })
 
 function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
@@ -181,6 +185,7 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
       ids: sql`SELECT id FROM takes WHERE hum_hz IS NULL`,
       idsWider: true,
       column: (t) => sql`${filtered(t, 'hum_hz')} IS NULL AND ${filtered(t, 'status')} = 'ready'`,
+      index: INDEX_OF.get('hum_hz'),
     })
   if (q.status) c.push(equal('status', q.status))
   return c
@@ -203,13 +208,15 @@ function checks(
     : [
         sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
       ]
-  return [
-    // The take's own numbers first (in place, or one seek in the narrow index): most takes stop there.
-    ...(columns.length ? own : []),
-    ...rest.filter((c) => c.holds).map((c) => c.holds!(id)),
-    sql`${id} NOT IN (SELECT take_id FROM take_removals)`,
-  ]
+  // The take's own numbers first (in place, or one seek in the narrow index): most takes stop there.
+  return [...(columns.length ? own : []), ...held(rest, id)]
 }
+
+/** The conditions a take's own columns cannot decide (links, tags, words), and not being in the Removed list. */
+const held = (conds: Condition[], id: RawBuilder<unknown>) => [
+  ...conds.filter((c) => c.holds).map((c) => c.holds!(id)),
+  sql`${id} NOT IN (SELECT take_id FROM take_removals)`,
+]
 
 const whereAll = (conds: RawBuilder<unknown>[]) => (conds.length ? sql`WHERE ${sql.join(conds, sql` AND `)}` : sql``)
 
@@ -390,10 +397,22 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
     totalCapped = ranked.all > countUpTo
   } else if (!(offset === 0 && ids.length < q.pageSize)) {
     const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
-    const source = driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`
-    const test = sql.join(checks(conds, M, driver ?? smallest), sql` AND `)
-    const r = await sql<{ seen: number; n: number }>`SELECT count(*) AS seen, coalesce(sum(${test}), 0) AS n
-      FROM (SELECT id FROM (${source}) LIMIT ${budget + 1}) m`.execute(db)
+    // Where every condition yields many takes and none is words (whose matches are the costly list to test
+    // against), the count reads a condition on a take's own column from its sort index, and tests the other
+    // columns on the entries it reads: no seek per take.
+    const inPlace = !driverIds && !text && least > SIZE_PROBE ? sized.find((c) => c.index) : undefined
+    const r = inPlace
+      ? await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
+            coalesce(sum(CASE WHEN m.own THEN ${sql.join(held(conds, M), sql` AND `)} ELSE 0 END), 0) AS n
+          FROM (SELECT takes.id AS id, ${sql.join([sql`1`, ...conds.filter((c) => c !== inPlace && c.column).map((c) => c.column!('takes'))], sql` AND `)} AS own
+            FROM takes INDEXED BY ${sql.raw(inPlace.index!)} WHERE ${inPlace.column!('takes')} LIMIT ${budget + 1}) m`.execute(
+          db,
+        )
+      : await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
+            coalesce(sum(${sql.join(checks(conds, M, driver ?? smallest), sql` AND `)}), 0) AS n
+          FROM (SELECT id FROM (${driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`}) LIMIT ${budget + 1}) m`.execute(
+          db,
+        )
     const { seen, n } = { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n) }
     total = Math.min(n, countUpTo)
     totalCapped = n > countUpTo || seen > budget
