@@ -4,6 +4,7 @@ import SQLite from 'better-sqlite3'
 import { Kysely, Migrator, SqliteDialect } from 'kysely'
 import type { Database } from '../../db/schema'
 import { migrations } from '../../db/migrations'
+import { addIdSetFunction } from './id-sets'
 
 export type Db = Kysely<Database>
 
@@ -19,6 +20,7 @@ export function openDatabase(file: string): Db {
   // map skips a copy per page, and a larger page cache keeps the indexes it walks at hand (64 MiB per connection).
   sqlite.pragma('mmap_size = 1073741824')
   sqlite.pragma('cache_size = -65536')
+  addIdSetFunction(sqlite)
   return new Kysely<Database>({ dialect: new SqliteDialect({ database: sqlite }) })
 }
 

@@ -5,6 +5,7 @@ import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
 import { searchWords } from './takes.words'
+import { holdIds } from '../core/id-sets'
 
 /** Each sort: the column, and the index that lists takes in its order (none for the session's title, a joined table). */
 const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: string }> = {
@@ -287,6 +288,8 @@ export interface SearchOptions {
   rankBudget?: number
   /** Largest id set that drives the query (default DRIVER_MAX); tests set it to 0 or Infinity to check both ways of finding a page. */
   driverMax?: number
+  /** How far each condition is sized (default SIZE_PROBE); tests set it low to take a large library's paths on a small one. */
+  sizeProbe?: number
 }
 
 const ID = sql.ref('takes.id')
@@ -313,7 +316,8 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
   const conds = conditions(q, fts)
   const text = fts ? conds[0] : undefined
   const sized = conds.filter((c) => c.ids)
-  const sizes = await Promise.all(sized.map((c) => sizeOf(db, c, SIZE_PROBE)))
+  const probe = opts.sizeProbe ?? SIZE_PROBE
+  const sizes = await Promise.all(sized.map((c) => sizeOf(db, c, probe)))
   const least = Math.min(...sizes)
   if (least === 0) return { rows: [], total: 0, totalCapped: false }
   const smallest = sized.length ? sized[sizes.indexOf(least)] : undefined
@@ -329,100 +333,142 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
       ? sql`SELECT value AS id FROM json_each(${JSON.stringify((await sql<{ id: number }>`${driver.ids}`.execute(db)).rows.map((r) => r.id))})`
       : undefined
   const pageOf = (query: RawBuilder<{ id: number }>) => query.execute(db).then((r) => r.rows.map((x) => x.id))
-
-  let ids: number[]
-  let ranked: { floor: number | null; found?: number; all?: number } | undefined
-  if (sort === 'relevance') {
-    const cap = Math.max(opts.rankCap ?? RANK_CAP, offset + q.pageSize)
-    // bm25 is smaller for better matches. The other conditions are tested first, so only takes that pass are scored.
-    const tid = sql.ref('take_fts.rowid')
-    const rankedPage = async (floor: number | null) => {
-      const from = floor === null ? [] : [sql`${tid} >= ${floor}`]
-      // bm25 is scored inside (FTS5 allows it only there); the window counts every passing match before the page is cut.
-      const r = await sql<{ id: number; n: number }>`SELECT id, count(*) OVER () AS n FROM (
+  // Words matching many takes, tested take by take (a walk, a driver's takes, a count), are read into memory once
+  // (server/core/id-sets.ts): each test is then a bit read, and a count may read another condition's index in place.
+  const words =
+    text && sort !== 'relevance' && driver !== text && sizes[sized.indexOf(text)] > probe
+      ? await holdIds(db, text.ids!)
+      : undefined
+  if (words) text!.holds = words.has
+  try {
+    let ids: number[]
+    let ranked: { floor: number | null; found?: number; all?: number } | undefined
+    if (sort === 'relevance') {
+      const cap = Math.max(opts.rankCap ?? RANK_CAP, offset + q.pageSize)
+      // bm25 is smaller for better matches. The other conditions are tested first, so only takes that pass are scored.
+      const tid = sql.ref('take_fts.rowid')
+      const rankedPage = async (floor: number | null) => {
+        const from = floor === null ? [] : [sql`${tid} >= ${floor}`]
+        // bm25 is scored inside (FTS5 allows it only there); the window counts every passing match before the page is cut.
+        const r = await sql<{ id: number; n: number }>`SELECT id, count(*) OVER () AS n FROM (
           SELECT take_fts.rowid AS id, bm25(take_fts) AS score FROM take_fts
           ${whereAll([sql`take_fts MATCH ${fts}`, ...from, ...checks(conds, tid, text)])})
         ORDER BY score ${order}, id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`.execute(db)
-      return { ids: r.rows.map((x) => x.id), passing: r.rows.length ? Number(r.rows[0].n) : undefined }
-    }
-    // Where few matches may pass (other conditions, or few text matches at all) rank the newest RANK_BUDGET
-    // matches straight away, counting those that pass as they are scored; only when more than `cap` pass is the
-    // floor raised to the newest `cap` of them (rankFloor) and the page ranked again. Common words alone pass
-    // nearly every match, so there the floor is found first.
-    const fewMatches = sizes[sized.indexOf(text!)] <= SIZE_PROBE
-    const quick = conds.length > 1 || fewMatches ? await rankWindow(db, fts!, cap, opts.rankBudget) : undefined
-    const first = quick ? await rankedPage(quick.floor) : undefined
-    if (quick && first?.passing !== undefined && first.passing < cap) {
-      ids = first.ids
-      ranked = quick.floor === null ? { floor: null, all: first.passing } : { floor: quick.floor, found: first.passing }
-    } else {
-      ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
-      ids = (await rankedPage(ranked.floor)).ids
-    }
-  } else if (driverIds) {
-    // Few takes: check them all, then sort them.
-    const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
-    const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
-    ids = await pageOf(sql`SELECT takes.id AS id
+        return { ids: r.rows.map((x) => x.id), passing: r.rows.length ? Number(r.rows[0].n) : undefined }
+      }
+      // Where few matches may pass (other conditions, or few text matches at all) rank the newest RANK_BUDGET
+      // matches straight away, counting those that pass as they are scored; only when more than `cap` pass is the
+      // floor raised to the newest `cap` of them (rankFloor) and the page ranked again. Common words alone pass
+      // nearly every match, so there the floor is found first.
+      const fewMatches = sizes[sized.indexOf(text!)] <= probe
+      const quick = conds.length > 1 || fewMatches ? await rankWindow(db, fts!, cap, opts.rankBudget) : undefined
+      const first = quick ? await rankedPage(quick.floor) : undefined
+      if (quick && first?.passing !== undefined && first.passing < cap) {
+        ids = first.ids
+        ranked =
+          quick.floor === null ? { floor: null, all: first.passing } : { floor: quick.floor, found: first.passing }
+      } else {
+        ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
+        ids = (await rankedPage(ranked.floor)).ids
+      }
+    } else if (driverIds) {
+      // Few takes: check them all, then sort them.
+      const by = sort === 'session' ? sql.ref('capture_sessions.title') : col('takes', SORTS[sort].col)
+      const nullsLast = NOT_NULL.has(sort) ? sql`` : sql`${by} IS NULL, `
+      ids = await pageOf(sql`SELECT takes.id AS id
       FROM (${driverIds}) m CROSS JOIN takes INDEXED BY takes_by_id ON takes.id = m.id
       JOIN capture_sessions ON capture_sessions.id = takes.session_id
       ${whereAll(checks(conds, ID, driver))}
       ORDER BY ${nullsLast}${by} ${order}, takes.id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`)
-  } else if (sort === 'session') {
-    ids = await walkSessions(db, desc, checks(conds, ID), q.pageSize, offset)
-  } else {
-    ids = await walkSortIndex(
-      db,
-      SORTS[sort],
-      !NOT_NULL.has(sort),
-      order,
-      checks(conds, ID, undefined, 'takes'),
-      q.pageSize,
-      offset,
-    )
-  }
+    } else if (sort === 'session') {
+      ids = await walkSessions(db, desc, checks(conds, ID), q.pageSize, offset)
+    } else {
+      ids = await walkSortIndex(
+        db,
+        SORTS[sort],
+        !NOT_NULL.has(sort),
+        order,
+        checks(conds, ID, undefined, 'takes'),
+        q.pageSize,
+        offset,
+      )
+    }
 
-  // The count reads the driver's or the smallest condition's takes, at most COUNT_BUDGET of them, and checks the rest.
-  // Exact when that list ends within the budget; past it, what was found is a floor ("N+").
-  const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
-  let total = ids.length
-  let totalCapped = false
-  // A ranked window is what the pages list, so it is the count: at least that many match.
-  if (ranked?.found !== undefined) {
-    total = ranked.found
-    totalCapped = true
-  } else if (ranked?.all !== undefined) {
-    // Every text match was read while finding the ranked set: the passing ones are already counted.
-    total = Math.min(ranked.all, countUpTo)
-    totalCapped = ranked.all > countUpTo
-  } else if (!(offset === 0 && ids.length < q.pageSize)) {
-    const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
-    // Where every condition yields many takes and none is words (whose matches are the costly list to test
-    // against), the count reads a condition on a take's own column from its sort index, and tests the other
-    // columns on the entries it reads: no seek per take.
-    const inPlace = !driverIds && !text && least > SIZE_PROBE ? sized.find((c) => c.index) : undefined
-    const r = inPlace
-      ? await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
-            coalesce(sum(CASE WHEN m.own THEN ${sql.join(held(conds, M), sql` AND `)} ELSE 0 END), 0) AS n
-          FROM (SELECT takes.id AS id, ${sql.join([sql`1`, ...conds.filter((c) => c !== inPlace && c.column).map((c) => c.column!('takes'))], sql` AND `)} AS own
-            FROM takes INDEXED BY ${sql.raw(inPlace.index!)} WHERE ${inPlace.column!('takes')} LIMIT ${budget + 1}) m`.execute(
-          db,
-        )
-      : await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
-            coalesce(sum(${sql.join(checks(conds, M, driver ?? smallest), sql` AND `)}), 0) AS n
-          FROM (SELECT id FROM (${driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`}) LIMIT ${budget + 1}) m`.execute(
-          db,
-        )
-    const { seen, n } = { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n) }
-    total = Math.min(n, countUpTo)
-    totalCapped = n > countUpTo || seen > budget
-    if (totalCapped) total = Math.max(total, offset + ids.length)
-  }
-  if (!ids.length) return { rows: [], total, totalCapped }
+    // The count reads the driver's or the smallest condition's takes, at most COUNT_BUDGET of them, and checks the rest.
+    // Exact when that list ends within the budget; past it, what was found is a floor ("N+").
+    const countUpTo = Math.max(opts.countUpTo ?? COUNT_CAP, offset + q.pageSize)
+    let total = ids.length
+    let totalCapped = false
+    // A ranked window is what the pages list, so it is the count: at least that many match.
+    if (ranked?.found !== undefined) {
+      total = ranked.found
+      totalCapped = true
+    } else if (ranked?.all !== undefined) {
+      // Every text match was read while finding the ranked set: the passing ones are already counted.
+      total = Math.min(ranked.all, countUpTo)
+      totalCapped = ranked.all > countUpTo
+    } else if (!(offset === 0 && ids.length < q.pageSize)) {
+      const budget = Math.max(opts.countBudget ?? COUNT_BUDGET, countUpTo + 1)
+      // Where every condition yields many takes, the count reads a condition on a take's own column in place.
+      // Not where words are tested from their index (their list of matches would be built again), only when they
+      // are held in memory.
+      const inPlace = !driverIds && (!text || words) && least > probe ? sized.find((c) => c.index) : undefined
+      const { seen, n, read } = inPlace
+        ? await countInPlace(db, conds, inPlace, budget)
+        : await countFrom(
+            db,
+            conds,
+            driverIds ?? smallest?.ids ?? sql`SELECT id FROM takes`,
+            driver ?? smallest,
+            budget,
+          )
+      total = Math.min(n, countUpTo)
+      totalCapped = n > countUpTo || seen > read
+      if (totalCapped) total = Math.max(total, offset + ids.length)
+    }
+    if (!ids.length) return { rows: [], total, totalCapped }
 
-  const rows = await selectTakes(db).where('takes.id', 'in', ids).execute()
-  const byId = new Map(rows.map((r) => [r.id, r]))
-  return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total, totalCapped }
+    const rows = await selectTakes(db).where('takes.id', 'in', ids).execute()
+    const byId = new Map(rows.map((r) => [r.id, r]))
+    return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total, totalCapped }
+  } finally {
+    words?.release()
+  }
+}
+
+/**
+ * How many of the first `budget` takes `source` yields meet every condition
+ * but `read` (the condition `source` lists; none for every take): one seek per
+ * take into the narrow index for its own numbers, then the rest.
+ * `seen` past `read` means the list went on.
+ */
+async function countFrom(
+  db: Db,
+  conds: Condition[],
+  source: RawBuilder<unknown>,
+  listed: Condition | undefined,
+  budget: number,
+) {
+  const r = await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
+      coalesce(sum(${sql.join(checks(conds, M, listed), sql` AND `)}), 0) AS n
+    FROM (SELECT id FROM (${source}) LIMIT ${budget + 1}) m`.execute(db)
+  return { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n), read: budget }
+}
+
+/**
+ * The same, reading the takes that meet `source` (a condition on a take's own
+ * column) from that column's sort index: it carries the other filtered
+ * columns, so they are tested on the entry read, with no seek per take.
+ */
+async function countInPlace(db: Db, conds: Condition[], source: Condition, budget: number) {
+  const columns = conds.filter((c) => c !== source && c.column).map((c) => c.column!('takes'))
+  const r = await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
+      coalesce(sum(CASE WHEN m.own THEN ${sql.join(held(conds, M), sql` AND `)} ELSE 0 END), 0) AS n
+    FROM (SELECT takes.id AS id, ${sql.join([sql`1`, ...columns], sql` AND `)} AS own
+      FROM takes INDEXED BY ${sql.raw(source.index!)} WHERE ${source.column!('takes')} LIMIT ${budget + 1}) m`.execute(
+    db,
+  )
+  return { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n), read: budget }
 }
 
 /**
