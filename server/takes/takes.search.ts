@@ -5,7 +5,7 @@ import type { TakeQuery, TakeSort } from '@shared/schemas/takes'
 import type { Db } from '../core/database'
 import { selectTakes, type TakeJoined } from './takes.repository'
 import { searchWords } from './takes.words'
-import { holdIds } from '../core/id-sets'
+import { holdIds, type HeldIds } from '../core/id-sets'
 
 /** Each sort: the column, and the index that lists takes in its order (none for the session's title, a joined table). */
 const SORTS: Record<Exclude<TakeSort, 'relevance'>, { col: string; index?: string }> = {
@@ -104,6 +104,8 @@ interface Condition {
   column?: (t: string) => RawBuilder<unknown>
   /** The sort index led by the tested column: it carries the other FILTERED_COLUMNS, so they can be tested on its entries. */
   index?: string
+  /** One value of the column: its takes lie in `index` in id order, so those from an id on are one stretch of it. */
+  equality?: boolean
 }
 
 const col = (t: string, name: string) => sql.ref(`${t}.${name}`)
@@ -129,6 +131,7 @@ const equal = (name: Filtered, value: number | string): Condition => ({
   ids: sql`SELECT id FROM takes WHERE ${sql.ref(name)} = ${value}`,
   column: (t) => sql`${filtered(t, name)} = ${value}`,
   index: INDEX_OF.get(name),
+  equality: true,
 })
 
 function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
@@ -187,6 +190,7 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
       idsWider: true,
       column: (t) => sql`${filtered(t, 'hum_hz')} IS NULL AND ${filtered(t, 'status')} = 'ready'`,
       index: INDEX_OF.get('hum_hz'),
+      equality: true,
     })
   if (q.status) c.push(equal('status', q.status))
   return c
@@ -194,21 +198,26 @@ function conditions(q: TakeQuery, fts: string | undefined): Condition[] {
 
 /**
  * Every condition but `except`, for the take whose id is `id`; takes in the Removed list never match (see takes.removal.ts).
- * `walked`: the query walks a sort index, which carries the FILTERED_COLUMNS: the take's own numbers are tested there.
+ * The take's own numbers are tested where `walked` says: on the entry of the sort index a query walks (each carries
+ * the FILTERED_COLUMNS), in a set of the takes that meet them all (`ownHeld`, see ownFrom), or else by one seek each
+ * into the narrow index takes_by_id.
  */
 function checks(
   conds: Condition[],
   id: RawBuilder<unknown>,
   except?: Condition,
   walked?: string,
+  ownHeld?: HeldIds,
 ): RawBuilder<unknown>[] {
   const rest = conds.filter((c) => c !== except || c.idsWider)
   const columns = rest.filter((c) => c.column).map((c) => c.column!(walked ?? 't'))
   const own = walked
     ? columns
-    : [
-        sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
-      ]
+    : ownHeld
+      ? [ownHeld.has(id)]
+      : [
+          sql`EXISTS (SELECT 1 FROM takes t INDEXED BY takes_by_id WHERE t.id = ${id} AND ${sql.join(columns, sql` AND `)})`,
+        ]
   // The take's own numbers first (in place, or one seek in the narrow index): most takes stop there.
   return [...(columns.length ? own : []), ...held(rest, id)]
 }
@@ -246,11 +255,19 @@ async function sizeOf(db: Db, c: Condition, upTo: number): Promise<number> {
  * them and `found` says how many (older matches may exist). No floor when
  * every text match was read: all are ranked, and `all` is how many pass (the exact count).
  */
-async function rankFloor(db: Db, conds: Condition[], text: Condition, fts: string, cap: number, most = RANK_BUDGET) {
+async function rankFloor(
+  db: Db,
+  conds: Condition[],
+  text: Condition,
+  fts: string,
+  cap: number,
+  most = RANK_BUDGET,
+  own?: HeldIds,
+) {
   const budget = Math.max(most, cap)
   const newest = sql`SELECT rowid AS id FROM take_fts WHERE take_fts MATCH ${fts} ORDER BY rowid DESC LIMIT ${budget}`
   const r = await sql<{ n: number; low: number | null }>`SELECT count(*) AS n, min(m.id) AS low FROM (
-      SELECT m.id FROM (${newest}) m ${whereAll(checks(conds, M, text))} LIMIT ${cap}) m`.execute(db)
+      SELECT m.id FROM (${newest}) m ${whereAll(checks(conds, M, text, undefined, own))} LIMIT ${cap}) m`.execute(db)
   const found = Number(r.rows[0].n)
   if (found >= cap) return { floor: Number(r.rows[0].low) }
   const e = await sql<{
@@ -259,6 +276,24 @@ async function rankFloor(db: Db, conds: Condition[], text: Condition, fts: strin
   }>`SELECT count(*) AS seen, min(id) AS edge FROM (${newest})`.execute(db)
   if (Number(e.rows[0].seen) < budget) return { floor: null, all: found }
   return { floor: Number(e.rows[0].edge), found }
+}
+
+/**
+ * The takes from id `floor` on that meet every condition on their own
+ * columns, held in memory; none where no equality is among those conditions.
+ * They are read in place from the equality's sort index, which lists one
+ * value's takes in id order: ranking the newest text matches then tests each
+ * with a bit read, where a seek each into takes_by_id costs about 1 µs.
+ */
+async function ownFrom(db: Db, conds: Condition[], floor: number): Promise<HeldIds | undefined> {
+  const lead = conds.find((c) => c.equality && c.index)
+  if (!lead) return undefined
+  const columns = conds.filter((c) => c.column).map((c) => c.column!('takes'))
+  return holdIds(
+    db,
+    sql`SELECT takes.id AS id FROM takes INDEXED BY ${sql.raw(lead.index!)}
+      WHERE ${sql.join([...columns, sql`takes.id >= ${floor}`], sql` AND `)}`,
+  )
 }
 
 /** The lowest id of the newest `most` text matches (null when there are no more than that: every match). */
@@ -340,6 +375,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
       ? await holdIds(db, text.ids!)
       : undefined
   if (words) text!.holds = words.has
+  let own: HeldIds | undefined
   try {
     let ids: number[]
     let ranked: { floor: number | null; found?: number; all?: number } | undefined
@@ -352,7 +388,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
         // bm25 is scored inside (FTS5 allows it only there); the window counts every passing match before the page is cut.
         const r = await sql<{ id: number; n: number }>`SELECT id, count(*) OVER () AS n FROM (
           SELECT take_fts.rowid AS id, bm25(take_fts) AS score FROM take_fts
-          ${whereAll([sql`take_fts MATCH ${fts}`, ...from, ...checks(conds, tid, text)])})
+          ${whereAll([sql`take_fts MATCH ${fts}`, ...from, ...checks(conds, tid, text, undefined, own)])})
         ORDER BY score ${order}, id ${order} LIMIT ${q.pageSize} OFFSET ${offset}`.execute(db)
         return { ids: r.rows.map((x) => x.id), passing: r.rows.length ? Number(r.rows[0].n) : undefined }
       }
@@ -362,13 +398,14 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
       // nearly every match, so there the floor is found first.
       const fewMatches = sizes[sized.indexOf(text!)] <= probe
       const quick = conds.length > 1 || fewMatches ? await rankWindow(db, fts!, cap, opts.rankBudget) : undefined
+      own = quick?.floor != null ? await ownFrom(db, conds, quick.floor) : undefined
       const first = quick ? await rankedPage(quick.floor) : undefined
       if (quick && first?.passing !== undefined && first.passing < cap) {
         ids = first.ids
         ranked =
           quick.floor === null ? { floor: null, all: first.passing } : { floor: quick.floor, found: first.passing }
       } else {
-        ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget)
+        ranked = await rankFloor(db, conds, text!, fts!, cap, opts.rankBudget, own)
         ids = (await rankedPage(ranked.floor)).ids
       }
     } else if (driverIds) {
@@ -433,6 +470,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
     return { rows: ids.map((id) => byId.get(id)).filter((r): r is TakeJoined => !!r), total, totalCapped }
   } finally {
     words?.release()
+    own?.release()
   }
 }
 
