@@ -21,7 +21,8 @@ export function ftsQuery(q: string): string | null {
 
 /**
  * A typed word stands for at most this many whole terms; past it the word stays a prefix.
- * FTS5 reads each term's list in full to list it, so a one-letter word is not worth spelling out.
+ * Listing a term reads its whole list of takes (to count them), so one-letter words, which begin
+ * hundreds of terms, are not looked up at all.
  */
 const MOST_TERMS = 16
 
@@ -36,10 +37,10 @@ const MOST_TERMS = 16
  * over the same words, so they are spelled out once, from the index's term
  * list (migration search_terms).
  *
- * Only words of ASCII letters and digits are spelled out: the index folds
- * case and accents its own way (unicode61), and for those the folding is
- * plain lower case. Other words, and words covering more than MOST_TERMS
- * terms, stay prefixes. Returns null when there is no word, or a word that
+ * Only words of two or more ASCII letters and digits are spelled out: the
+ * index folds case and accents its own way (unicode61), and for those the
+ * folding is plain lower case. Other words, and words covering more than
+ * MOST_TERMS terms, stay prefixes. Returns null when there is no word, or a word that
  * no term begins with (nothing can match).
  */
 export async function searchWords(db: Db, q: string): Promise<string | null> {
@@ -47,7 +48,7 @@ export async function searchWords(db: Db, q: string): Promise<string | null> {
   if (!words.length) return null
   const parts: string[] = []
   for (const word of new Set(words.map((w) => (/^[A-Za-z0-9]+$/.test(w) ? w.toLowerCase() : w)))) {
-    if (!/^[a-z0-9]+$/.test(word)) {
+    if (!/^[a-z0-9]{2,}$/.test(word)) {
       parts.push(`${quoted(word)}*`)
       continue
     }

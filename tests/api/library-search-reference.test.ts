@@ -189,6 +189,8 @@ describe('typed words spelled out as whole terms', () => {
     expect(await searchWords(server.ctx.db, '"*')).toBeNull()
     // Accented words keep the prefix form: the index folds them itself.
     expect(await searchWords(server.ctx.db, 'Störung')).toBe('"Störung"*')
+    // One letter begins too many terms to list: it stays a prefix, beside a spelled-out word.
+    expect(await searchWords(server.ctx.db, 'p whin')).toBe('"p"* AND "whine"')
   })
 })
 
