@@ -2,7 +2,8 @@
 // click has its text selected, so typing replaces it (as in a spreadsheet) instead of landing in the
 // middle; a misspelt device followed by more typing and Enter makes no device by accident (the question
 // keeps the focus on its confirm button and sets stray keys aside); Escape goes back to the cell with the
-// text; a new device made on purpose still is. Desktop and phone sizes.
+// text, which says it is not saved once the cell is left; a new device made on purpose still is.
+// Desktop and phone sizes.
 import path from 'node:path'
 import { describe, expect, it } from 'vitest'
 import { screenshot, signInThroughForm, useBrowserServer } from '../helpers/browser'
@@ -80,6 +81,29 @@ describe('typing on the logging sheet', () => {
       .poll(async () => (await rec.get(`/api/takes/${take.id}`).expect(200)).body.take.sources[0]?.name)
       .toBe(`Bench laptop ${c.size}`)
     await screenshot(page, `logsheet-typing-${c.size}-made`)
+
+    // Escape on the question, then a click away: the cell keeps the typed text and says it is not saved.
+    const made = await catalogue()
+    await cell.click()
+    await page.keyboard.type('Bench lapz')
+    await page.keyboard.press('Enter')
+    await expect.poll(() => prompt.innerText()).toContain('No device called “Bench lapz” yet')
+    await page.keyboard.press('Escape')
+    await expect.poll(() => prompt.count()).toBe(0)
+    const note = page.locator('[data-test=log-row]').first().locator('[data-test=log-unsaved]')
+    expect(await note.count(), 'no note while the cell is being edited').toBe(0)
+    await page.locator('[data-test=log-row] .format').first().click()
+    await expect
+      .poll(() => note.innerText())
+      .toContain(`Not saved: in the cell, Enter keeps it, Escape puts back “Bench laptop ${c.size}”`)
+    expect(await cell.inputValue()).toBe('Bench lapz')
+    await screenshot(page, `logsheet-typing-${c.size}-unsaved`)
+    // Back in the cell, Escape puts the saved device back and the note goes.
+    await cell.click()
+    await page.keyboard.press('Escape')
+    await expect.poll(() => note.count()).toBe(0)
+    expect(await cell.inputValue()).toBe(`Bench laptop ${c.size}`)
+    expect(await catalogue()).toEqual(made)
     await page.close()
   })
 })
