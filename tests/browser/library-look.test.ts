@@ -197,4 +197,40 @@ describe('library look', () => {
     expect(await strip.locator('[data-test=now-playing-caution]').isVisible()).toBe(true)
     await page.context().close()
   })
+
+  it('shows a long device name and state whole, and a tag of two words on one line, on a laptop', async () => {
+    const admin = await signedIn(server.url, 'admin')
+    const radio = (
+      await admin.post('/api/sources', { name: 'Handheld two-way radio, long antenna', kind: 'radio-link' }).expect(201)
+    ).body.source.id
+    const id = ids.tone_unlogged
+    await admin
+      .patch(`/api/takes/${id}`, {
+        title: 'Radio bursts at the bench with the long antenna, second pass',
+        sources: [{ sourceId: radio, state: 'transmitting' }],
+        tags: ['data burst', 'loud'],
+      })
+      .expect(200)
+    const page = await designerPage(1366, 768)
+    await page.goto(`${server.url}/library`)
+    const row = page.locator(`[data-take="${id}"]`)
+    await row.waitFor({ timeout: 15_000 })
+    const word = row.locator('.sf-kind-chip .word')
+    expect(await word.innerText()).toBe('Handheld two-way radio, long antenna (transmitting)')
+    // Whole: nothing of the words is cut off inside the chip.
+    expect(await word.evaluate((el) => el.scrollWidth <= el.clientWidth + 1)).toBe(true)
+    const tag = row.locator('.tag', { hasText: 'data burst' })
+    expect(await tag.evaluate((el) => el.getClientRects().length)).toBe(1)
+    const [h, line] = await tag.evaluate((el) => [
+      el.getBoundingClientRect().height,
+      parseFloat(getComputedStyle(el).fontSize),
+    ])
+    expect(h, 'one line of the tag').toBeLessThan(line * 2)
+    await screenshot(page, 'library-long-names-laptop')
+    // The table still fits the page: its last column is on screen.
+    const state = row.locator('td').last()
+    const box = (await state.boundingBox())!
+    expect(box.x + box.width).toBeLessThanOrEqual(1366)
+    await page.context().close()
+  })
 })
