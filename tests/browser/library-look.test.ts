@@ -165,6 +165,19 @@ describe('library look', () => {
     await page.context().close()
   })
 
+  it('opens at the top on a phone, and the row cursor scrolls the page only when the keys move it', async () => {
+    const page = await designerPage(390, 844)
+    await page.goto(`${server.url}/library`)
+    await page.locator('[data-test=library-table] [data-take]').first().waitFor({ timeout: 15_000 })
+    await page.waitForTimeout(300)
+    expect(await page.evaluate(() => window.scrollY), 'the page opens at its title').toBe(0)
+    await expect.poll(() => page.locator('h1').first().isVisible()).toBe(true)
+    // A keyboard on a tablet or phone: ↓ walks the cards and brings the cursor's card into view.
+    for (let i = 0; i < 3; i++) await page.keyboard.press('ArrowDown')
+    await expect.poll(() => page.evaluate(() => window.scrollY)).toBeGreaterThan(0)
+    await page.context().close()
+  })
+
   it('folds the now-playing strip to one line on a phone and opens it', async () => {
     const page = await designerPage(390, 844)
     await page.goto(`${server.url}/library`)
