@@ -76,3 +76,23 @@ export function matchCountText(total: number, capped = false): string {
   const n = total.toLocaleString('en')
   return capped ? `${n}+ takes` : `${n} take${total === 1 ? '' : 's'}`
 }
+
+/** Keys that say how to list, not what to find. */
+const LISTING = new Set<QueryKey>(['sort', 'order', 'page', 'pageSize'])
+
+/** The query's filters (words included), without the keys that only say how to list. */
+export const filterKeys = (query: LibraryQuery) => (Object.keys(query) as QueryKey[]).filter((k) => !LISTING.has(k))
+
+/**
+ * What an empty list says. Words alone that find nothing are most often a spelling (each word
+ * matches the start of a word); with filters, a range too narrow or one filter too many.
+ */
+export function emptyListText(query: LibraryQuery): string {
+  const words = (Array.isArray(query.q) ? query.q.join(' ') : (query.q ?? '')).trim()
+  const filtered = filterKeys(query).some((k) => k !== 'q')
+  if (words && !filtered)
+    return `No take has words beginning with “${words}”. Check the spelling, or search for fewer words.`
+  if (words)
+    return `No take has words beginning with “${words}” and passes the filters. Clear a filter, or search for fewer words.`
+  return 'No take matches these filters. Widen a range or clear a filter.'
+}

@@ -1,5 +1,5 @@
 // The sound designer's daily loop in the library, in Debian's Chromium, done
-// the way a person does it: typing a loudness range, auditioning with N/N/P
+// the way a person does it: typing words into the search, typing a loudness range, auditioning with N/N/P
 // while the now-playing strip moves, walking rows with Up/Down/Enter, tagging
 // three tags with Enter, renaming a tag in the tag manager, and a recordist's
 // bulk bar that says when the selection holds takes of others.
@@ -88,6 +88,34 @@ const toSeconds = (t: string) => {
   const [m, s] = t.split(':')
   return Number(m) * 60 + Number(s)
 }
+
+describe('searching by words', () => {
+  it('types the start of a word and sees the takes it begins, says why nothing matched, and clears back to all', async () => {
+    await page.goto(`${server.url}/library`)
+    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    const box = page.locator('input[data-test=library-search]')
+    await box.click()
+    // "moni" begins "monitor" in the title "mid_monitor" (the index splits at the underscore).
+    await page.keyboard.type('moni')
+    const monitor = takes.find((t) => t.title === 'mid_monitor')!
+    await expect.poll(shownIds, { timeout: 10_000 }).toEqual([monitor.id])
+    expect(new URL(page.url()).searchParams.get('q')).toBe('moni')
+    expect(await page.locator('[data-test=library-total]').innerText()).toBe('1 take')
+    // Two words that no one take holds: nothing, and the words say to check the spelling.
+    await page.keyboard.type(' fan')
+    await page.keyboard.press('Enter')
+    await expect.poll(shownIds, { timeout: 10_000 }).toEqual([])
+    expect(await page.locator('[data-test=library-empty]').innerText()).toBe(
+      'No take has words beginning with “moni fan”. Check the spelling, or search for fewer words.',
+    )
+    await screenshot(page, 'library-words-none')
+    // Select the words and delete them: every take again, and no q in the URL.
+    await page.keyboard.press('Control+A')
+    await page.keyboard.press('Backspace')
+    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    expect(new URL(page.url()).searchParams.has('q')).toBe(false)
+  })
+})
 
 describe('range filters', () => {
   it('takes −20 and −10 typed into the loudness range (with Enter) and shows only the takes between them', async () => {
