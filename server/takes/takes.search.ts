@@ -450,7 +450,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
       // Not where words are tested from their index (their list of matches would be built again), only when they
       // are held in memory.
       const inPlace = !driverIds && (!text || words) && least > probe ? sized.find((c) => c.index) : undefined
-      const { seen, n, read } = inPlace
+      const { seen, n } = inPlace
         ? await countInPlace(db, conds, inPlace, budget)
         : await countFrom(
             db,
@@ -460,7 +460,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
             budget,
           )
       total = Math.min(n, countUpTo)
-      totalCapped = n > countUpTo || seen > read
+      totalCapped = n > countUpTo || seen > budget
       if (totalCapped) total = Math.max(total, offset + ids.length)
     }
     if (!ids.length) return { rows: [], total, totalCapped }
@@ -478,7 +478,7 @@ export async function searchTakeRows(db: Db, q: TakeQuery, opts: SearchOptions =
  * How many of the first `budget` takes `source` yields meet every condition
  * but `read` (the condition `source` lists; none for every take): one seek per
  * take into the narrow index for its own numbers, then the rest.
- * `seen` past `read` means the list went on.
+ * `seen` past `budget` means the list went on.
  */
 async function countFrom(
   db: Db,
@@ -490,7 +490,7 @@ async function countFrom(
   const r = await sql<{ seen: number; n: number }>`SELECT count(*) AS seen,
       coalesce(sum(${sql.join(checks(conds, M, listed), sql` AND `)}), 0) AS n
     FROM (SELECT id FROM (${source}) LIMIT ${budget + 1}) m`.execute(db)
-  return { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n), read: budget }
+  return { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n) }
 }
 
 /**
@@ -506,7 +506,7 @@ async function countInPlace(db: Db, conds: Condition[], source: Condition, budge
       FROM takes INDEXED BY ${sql.raw(source.index!)} WHERE ${source.column!('takes')} LIMIT ${budget + 1}) m`.execute(
     db,
   )
-  return { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n), read: budget }
+  return { seen: Number(r.rows[0].seen), n: Number(r.rows[0].n) }
 }
 
 /**

@@ -89,10 +89,15 @@ const toSeconds = (t: string) => {
   return Number(m) * 60 + Number(s)
 }
 
+/** The library with every take of the test listed. */
+async function openWholeLibrary() {
+  await page.goto(`${server.url}/library`)
+  await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+}
+
 describe('searching by words', () => {
   it('types the start of a word and sees the takes it begins, says why nothing matched, and clears back to all', async () => {
-    await page.goto(`${server.url}/library`)
-    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    await openWholeLibrary()
     const box = page.locator('input[data-test=library-search]')
     await box.click()
     // "moni" begins "monitor" in the title "mid_monitor" (the index splits at the underscore).
@@ -119,8 +124,7 @@ describe('searching by words', () => {
 
 describe('range filters', () => {
   it('takes −20 and −10 typed into the loudness range (with Enter) and shows only the takes between them', async () => {
-    await page.goto(`${server.url}/library`)
-    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    await openWholeLibrary()
     const min = page.locator('[data-test=filter-min-lufs]')
     await min.click()
     await page.keyboard.type('-20')
@@ -272,8 +276,7 @@ describe('auditioning with the keyboard', () => {
 
 describe('Enter on a focused control', () => {
   it('presses that control (here a column heading sorts) instead of opening the bench', async () => {
-    await page.goto(`${server.url}/library`)
-    await expect.poll(shownIds, { timeout: 10_000 }).toHaveLength(5)
+    await openWholeLibrary()
     await page.getByRole('button', { name: 'Integrated' }).focus()
     await page.keyboard.press('Enter')
     await expect.poll(() => new URL(page.url()).searchParams.get('sort'), { timeout: 10_000 }).toBe('integratedLufs')
