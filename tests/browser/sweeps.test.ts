@@ -138,15 +138,18 @@ describe('loop audition', () => {
     const now = page.locator('[data-test=loop-time]')
     await now.waitFor({ timeout: 10_000 })
     expect(await cycle.getAttribute('aria-pressed')).toBe('true')
-    // Sample the position until it has wrapped at least once, and see it go back.
+    // Sample the position until it has wrapped at least once, and see it go back. Both numbers are read in one
+    // step: read one after the other, a wrap could fall between them and pair the new count with the old time.
     const seen: { s: number; w: number }[] = []
     await expect
       .poll(
         async () => {
-          seen.push({
-            s: Number(await now.getAttribute('data-seconds')),
-            w: Number(await now.getAttribute('data-wraps')),
-          })
+          seen.push(
+            await now.evaluate((el) => ({
+              s: Number(el.getAttribute('data-seconds')),
+              w: Number(el.getAttribute('data-wraps')),
+            })),
+          )
           return seen.at(-1)!.w
         },
         { timeout: 20_000, interval: 50 },
